@@ -1,0 +1,46 @@
+#pragma once
+// The `triaxcal` command: one file a subcommand, each registering itself on the app.
+
+#include <CLI/CLI.hpp>
+
+#include <functional>
+#include <string>
+#include <vector>
+
+namespace triaxcal::cli {
+
+/// Exit codes of every subcommand.
+enum ExitCode : int {
+  exit_ok = 0,
+  exit_internal = 1,        ///< a bug: please report
+  exit_bad_input = 2,       ///< a file, key or option is wrong; the message names it
+  exit_simulation_failed = 3,  ///< a simulation could not be completed
+  exit_nothing_usable = 4,  ///< an optimiser found nothing usable
+};
+
+/// The caution every summary carries.
+inline constexpr const char* kCaution =
+    "Caution: these parameters are for numerical analysis. They must be reviewed by a qualified "
+    "geotechnical engineer; design values follow local codes and licensed practice.";
+
+/// A subcommand sets this to the function that runs it; main() calls it after parsing.
+using Action = std::function<int()>;
+
+/// Each subcommand file registers itself with a static CommandRegistration, so adding a command
+/// touches no shared file: `static const CommandRegistration reg{"fit", 30, &add_fit_command};`.
+/// main() adds them to the app sorted by `order` (the order --help lists them in).
+using AddCommand = void (*)(CLI::App& app, Action& action);
+
+struct CommandRegistration {
+  CommandRegistration(const char* name, int order, AddCommand add);
+};
+
+struct RegisteredCommand {
+  const char* name;
+  int order;
+  AddCommand add;
+};
+
+std::vector<RegisteredCommand>& registered_commands();
+
+}  // namespace triaxcal::cli

@@ -1,0 +1,46 @@
+#include <iomanip>
+#include <iostream>
+
+#include "commands.hpp"
+#include "triaxcal/models/registry.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal::cli {
+
+namespace {
+
+void add_models_command(CLI::App& app, Action& action) {
+  auto* cmd = app.add_subcommand("models", "List the constitutive models, or one model's parameters");
+  auto name = std::make_shared<std::string>();
+  cmd->add_option("name", *name, "Model to describe (e.g. mohr_coulomb)");
+  cmd->callback([&action, name] {
+    action = [name] {
+      if (name->empty()) {
+        for (const ModelEntry& e : model_registry())
+          std::cout << std::left << std::setw(24) << e.info().name << e.info().title << "\n";
+        std::cout << "\n'triaxcal models NAME' lists a model's parameters.\n";
+        return int(exit_ok);
+      }
+      const ModelInfo& info = find_model(*name).info();
+      std::cout << info.name << ": " << info.title << "\n\n";
+      std::cout << std::left << std::setw(26) << "parameter" << std::setw(7) << "unit" << std::setw(12) << "default"
+                << std::setw(18) << "bounds" << "description\n";
+      for (const ParameterInfo& p : info.parameters)
+        std::cout << std::left << std::setw(26) << p.name << std::setw(7) << p.unit << std::setw(12)
+                  << (std::isnan(p.default_value) ? std::string("required") : format_number(p.default_value))
+                  << std::setw(18) << format_bounds(p) << p.description << "\n";
+      if (!info.state_names.empty()) {
+        std::cout << "\nstate variables:";
+        for (const auto& s : info.state_names) std::cout << " " << s;
+        std::cout << "\n";
+      }
+      return int(exit_ok);
+    };
+  });
+}
+
+const CommandRegistration registration{"models", 90, &add_models_command};
+
+}  // namespace
+
+}  // namespace triaxcal::cli

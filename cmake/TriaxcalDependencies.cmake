@@ -1,0 +1,21 @@
+# Every dependency is a Debian 12 package; a missing one stops the configure step with the
+# package name to install.
+macro(triaxcal_require package debian_package)
+  find_package(${package} ${ARGN} QUIET)
+  if(NOT ${package}_FOUND)
+    message(FATAL_ERROR "triaxcal needs ${package}: install it with 'apt-get install ${debian_package}'")
+  endif()
+endmacro()
+
+triaxcal_require(Eigen3 libeigen3-dev 3.4 NO_MODULE)
+triaxcal_require(nlohmann_json nlohmann-json3-dev 3.10)
+triaxcal_require(CLI11 libcli11-dev)
+triaxcal_require(NLopt libnlopt-cxx-dev CONFIG PATHS /usr/lib/x86_64-linux-gnu/cmake/nlopt_cxx)
+triaxcal_require(HDF5 libhdf5-dev COMPONENTS C)
+find_package(Threads REQUIRED)
+if(TRIAXCAL_BUILD_TESTS)
+  triaxcal_require(Catch2 catch2 2)
+endif()
+if(TRIAXCAL_BUILD_BENCHMARKS)
+  triaxcal_require(benchmark libbenchmark-dev)
+endif()

@@ -1,0 +1,79 @@
+#pragma once
+// The single material-point driver: one general 6-component state under mixed control.
+
+#include <string>
+#include <vector>
+
+#include "triaxcal/core_export.hpp"
+#include "triaxcal/model.hpp"
+#include "triaxcal/protocol.hpp"
+
+namespace triaxcal {
+
+struct DriverOptions {
+  int max_newton_iterations = 25;      ///< per (sub)increment on the stress-controlled rows
+  double newton_tolerance = 1e-10;     ///< relative to the largest stress component (floor 1 kPa)
+  int max_cuts = 12;                   ///< bisections of one increment before the run gives up
+  int max_total_cuts = 10000;          ///< over the whole protocol
+
+  /// Throws InputError naming the field, its value and the rule it broke.
+  void validate() const;
+};
+
+/// One converged step, in the units of conventions.hpp.
+struct StepRecord {
+  int stage = 0;                   ///< index into TestProtocol::stages
+  int step = 0;                    ///< 1-based within the stage (0 = initial state)
+  double axial_strain = 0.0;       ///< eps_11 since the start of the protocol
+  double radial_strain = 0.0;      ///< (eps_22 + eps_33) / 2
+  double volumetric_strain = 0.0;  ///< eps_11 + eps_22 + eps_33 (= dV/V0)
+  double axial_stress = 0.0;       ///< s_a' (kPa)
+  double radial_stress = 0.0;      ///< s_r' (kPa)
+  double p = 0.0;                  ///< p' (kPa)
+  double q = 0.0;                  ///< s_a' - s_r' (kPa, signed)
+  double excess_pore_pressure = 0.0;  ///< u - back pressure (kPa)
+  double void_ratio = kNotGiven;   ///< e0 - (1 + e0) eps_v, NaN when e0 is unknown
+  double stress_ratio = 0.0;       ///< s_a' / s_r'
+  int cuts = 0;                    ///< bisections needed by this step
+  std::array<double, kMaxStateVariables> state{};  ///< model internal variables
+};
+
+struct StageSummary {
+  int stage = 0;
+  int first = 0;                   ///< index of its first record in SimulationResult::steps
+  int last = -1;                   ///< index of its last record
+  bool stopped_early = false;      ///< a stop criterion ended it
+  double peak_q = 0.0;             ///< largest |q| in the stage (kPa, signed as reached)
+  double end_q = 0.0;
+};
+
+enum class Termination { completed, failed, not_run };
+
+struct SimulationResult {
+  Termination termination = Termination::not_run;
+  std::string message;             ///< where and why it stopped, with the numbers
+  std::vector<StepRecord> steps;   ///< record 0 is the initial state
+  std::vector<StageSummary> stages;
+  int total_cuts = 0;
+  long newton_iterations = 0;
+  long model_calls = 0;
+  int failed_stage = -1;
+  int failed_step = -1;
+
+  bool ok() const { return termination == Termination::completed; }
+  std::string brief() const;
+};
+
+/// Simulate every stage of `protocol` with `model`. Never throws for numerical failure: the
+/// result says where and why. Throws InputError for a protocol that cannot be run (e.g. a stage
+/// without its target), naming the stage and key.
+TRIAXCAL_CORE_EXPORT SimulationResult simulate(const DriverOptions& options, const Model& model,
+                                               const TestProtocol& protocol);
+
+/// Checks that every stage has what it needs; throws InputError "stages[i]: ...".
+TRIAXCAL_CORE_EXPORT void validate_protocol(const TestProtocol& protocol);
+
+TRIAXCAL_CORE_EXPORT std::string to_string(StageType type);
+TRIAXCAL_CORE_EXPORT std::string to_string(StopCriterion stop);
+
+}  // namespace triaxcal

@@ -1,0 +1,509 @@
+#include "triaxcal/driver.hpp"
+
+#include <Eigen/LU>
+
+#include <algorithm>
+#include <cmath>
+#include <sstream>
+
+#include "triaxcal/error.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal {
+
+std::string to_string(StageType type) {
+  switch (type) {
+    case StageType::isotropic_consolidation: return "isotropic_consolidation";
+    case StageType::anisotropic_consolidation: return "anisotropic_consolidation";
+    case StageType::k0_consolidation: return "k0_consolidation";
+    case StageType::oedometer: return "oedometer";
+    case StageType::shear: return "shear";
+    case StageType::constant_p_shear: return "constant_p_shear";
+    case StageType::unload_reload: return "unload_reload";
+  }
+  return "unknown";
+}
+
+std::string to_string(StopCriterion stop) {
+  switch (stop) {
+    case StopCriterion::none: return "none";
+    case StopCriterion::peak_deviator: return "peak_deviator";
+    case StopCriterion::peak_stress_ratio: return "peak_stress_ratio";
+    case StopCriterion::axial_strain: return "axial_strain";
+  }
+  return "unknown";
+}
+
+void DriverOptions::validate() const {
+  auto fail = [](const std::string& field, double value, const std::string& rule) {
+    throw InputError("driver options: " + field + " = " + format_number(value) + " " + rule);
+  };
+  if (max_newton_iterations < 1) fail("max_newton_iterations", max_newton_iterations, "must be at least 1");
+  if (!(newton_tolerance > 0.0 && newton_tolerance < 1e-2))
+    fail("newton_tolerance", newton_tolerance, "must be in (0, 0.01)");
+  if (max_cuts < 0 || max_cuts > 40) fail("max_cuts", max_cuts, "must be in [0, 40]");
+  if (max_total_cuts < 0) fail("max_total_cuts", max_total_cuts, "must be at least 0");
+}
+
+std::string SimulationResult::brief() const {
+  std::ostringstream out;
+  if (termination == Termination::completed) {
+    out << "completed: " << (steps.empty() ? 0 : steps.size() - 1) << " steps in " << stages.size()
+        << " stages, " << total_cuts << " increment cuts, " << model_calls << " model calls";
+  } else {
+    out << "failed: " << message;
+  }
+  return out.str();
+}
+
+namespace {
+
+bool given(double v) { return !std::isnan(v); }
+
+void require(bool ok, int stage, const std::string& key, const std::string& what) {
+  if (!ok) throw InputError("stages[" + std::to_string(stage) + "]: " + key + " " + what);
+}
+
+}  // namespace
+
+void validate_protocol(const TestProtocol& protocol) {
+  if (!std::isfinite(protocol.back_pressure)) throw InputError("back_pressure must be a finite number (kPa)");
+  if (!(protocol.pore_fluid_stiffness > 0.0))
+    throw InputError("pore_fluid_stiffness = " + format_number(protocol.pore_fluid_stiffness) +
+                     " must be positive (kPa)");
+  for (int i = 0; i < 6; ++i)
+    if (!std::isfinite(protocol.initial.stress[i])) throw InputError("initial stress must be finite (kPa)");
+  if (protocol.stages.empty()) throw InputError("stages: the protocol has no stage");
+  for (std::size_t k = 0; k < protocol.stages.size(); ++k) {
+    const Stage& s = protocol.stages[k];
+    const int i = static_cast<int>(k);
+    require(s.steps >= 1 && s.steps <= 10000000, i, "steps", "= " + std::to_string(s.steps) + " must be in [1, 10000000]");
+    switch (s.type) {
+      case StageType::isotropic_consolidation:
+        require(given(s.target_p) && s.target_p > 0.0, i, "p", "(target mean effective stress, kPa) must be given and positive");
+        break;
+      case StageType::anisotropic_consolidation:
+        require(given(s.target_axial) && s.target_axial > 0.0, i, "axial_stress", "(kPa) must be given and positive");
+        require(given(s.target_radial) && s.target_radial > 0.0, i, "radial_stress", "(kPa) must be given and positive");
+        break;
+      case StageType::k0_consolidation:
+        require(given(s.target_axial) && s.target_axial > 0.0, i, "axial_stress", "(kPa) must be given and positive");
+        break;
+      case StageType::oedometer:
+        require(given(s.target_axial) != given(s.axial_strain), i, "axial_stress",
+                "(kPa) or axial_strain (decimal): exactly one must be given");
+        if (given(s.target_axial)) require(s.target_axial > 0.0, i, "axial_stress", "(kPa) must be positive");
+        break;
+      case StageType::shear:
+      case StageType::constant_p_shear:
+        require(given(s.axial_strain) && s.axial_strain != 0.0 && std::abs(s.axial_strain) < 1.0, i,
+                "axial_strain", "(decimal, signed: positive = compression) must be given, non-zero and below 1 in magnitude");
+        if (s.type == StageType::constant_p_shear)
+          require(s.drainage == Drainage::drained, i, "drainage", "must be drained for a constant-p' shear");
+        if (s.stop == StopCriterion::axial_strain)
+          require(given(s.stop_value) && s.stop_value > 0.0, i, "stop.value", "(decimal axial strain) must be given and positive");
+        break;
+      case StageType::unload_reload:
+        require(given(s.target_deviator), i, "deviator_stress", "(kPa, q at the bottom of the loop) must be given");
+        break;
+    }
+    const bool consolidation = s.type != StageType::shear && s.type != StageType::unload_reload;
+    if (consolidation)
+      require(s.drainage == Drainage::drained, i, "drainage", "must be drained for a " + to_string(s.type) + " stage");
+  }
+}
+
+namespace {
+
+// One step under mixed control: row i reads a_i . d_eps + c_i . sigma_new = b_i, with d_eps the
+// strain increment of the step. Rows with `pure[i]` prescribe d_eps_i = b_i; the others are solved
+// by Newton on the strain components of the same index.
+struct Control {
+  Mat6 a = Mat6::Zero();
+  Mat6 c = Mat6::Zero();
+  Vec6 b = Vec6::Zero();
+  std::array<bool, 6> pure{};
+  std::array<int, 6> free{};
+  int nfree = 0;
+
+  void reset() {
+    a.setZero();
+    c.setZero();
+    b.setZero();
+    pure.fill(true);
+    for (int i = 0; i < 6; ++i) a(i, i) = 1.0;
+  }
+  void strain(int i, double d) {
+    a.row(i).setZero();
+    c.row(i).setZero();
+    a(i, i) = 1.0;
+    b[i] = d;
+    pure[i] = true;
+  }
+  void mixed(int i, const Vec6& arow, const Vec6& crow, double bi) {
+    a.row(i) = arow.transpose();
+    c.row(i) = crow.transpose();
+    b[i] = bi;
+    pure[i] = false;
+  }
+  void effective_stress(int i, double target) { mixed(i, Vec6::Zero(), Vec6::Unit(i), target); }
+  void finish() {
+    nfree = 0;
+    for (int i = 0; i < 6; ++i)
+      if (!pure[i]) free[nfree++] = i;
+  }
+};
+
+using SmallMatrix = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, 0, 6, 6>;
+using SmallVector = Eigen::Matrix<double, Eigen::Dynamic, 1, 0, 6, 1>;
+
+class Runner {
+ public:
+  Runner(const DriverOptions& options, const Model& model, const TestProtocol& protocol, SimulationResult& result)
+      : opt_(options), model_(model), protocol_(protocol), result_(result) {}
+
+  void run();
+
+ private:
+  // Stage constants, fixed at the start of a stage.
+  struct StageStart {
+    Vec6 stress;         // effective
+    double u = 0.0;      // absolute pore pressure
+    Vec6 cell;           // total stress on the boundary (effective + u) at stage start
+    double p = 0.0;
+    double q = 0.0;
+  };
+
+  bool run_stage(int index);
+  bool step(int stage, int step_in_stage, const Control& control, Drainage drainage);
+  bool substep(const Control& control, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc,
+               Vec6& d_eps, MaterialState& out, Mat6& tangent);
+  void record(int stage, int step, int cuts);
+  void fail(int stage, int step, const std::string& why);
+  void build_control(const Stage& stage, const StageStart& start, int n, int phase, Control& control) const;
+
+  const DriverOptions& opt_;
+  const Model& model_;
+  const TestProtocol& protocol_;
+  SimulationResult& result_;
+
+  MaterialState state_;
+  Vec6 strain_ = Vec6::Zero();  // total strain since the start of the protocol
+  Mat6 tangent_ = Mat6::Zero(); // last converged tangent (predictor)
+  double u_ = 0.0;              // absolute pore pressure
+  double e0_ = kNotGiven;
+  bool incompressible_ = true;
+  StageStart start_;
+};
+
+void Runner::record(int stage, int step_in_stage, int cuts) {
+  StepRecord r;
+  r.stage = stage;
+  r.step = step_in_stage;
+  r.axial_strain = strain_[0];
+  r.radial_strain = 0.5 * (strain_[1] + strain_[2]);
+  r.volumetric_strain = volumetric_strain(strain_);
+  const TriaxialInvariants t = triaxial_invariants(state_.stress);
+  r.axial_stress = t.axial;
+  r.radial_stress = t.radial;
+  r.p = t.p;
+  r.q = t.q;
+  r.excess_pore_pressure = u_ - protocol_.back_pressure;
+  r.void_ratio = given(e0_) ? e0_ - (1.0 + e0_) * r.volumetric_strain : kNotGiven;
+  r.stress_ratio = t.radial != 0.0 ? t.axial / t.radial : kNotGiven;
+  r.cuts = cuts;
+  r.state = state_.internal;
+  result_.steps.push_back(r);
+}
+
+void Runner::fail(int stage, int step_in_stage, const std::string& why) {
+  std::ostringstream m;
+  m << "stage " << stage << " (" << to_string(protocol_.stages[stage].type) << "), step " << step_in_stage
+    << " of " << protocol_.stages[stage].steps << ", axial strain " << format_number(strain_[0]) << ": " << why;
+  result_.termination = Termination::failed;
+  result_.message = m.str();
+  result_.failed_stage = stage;
+  result_.failed_step = step_in_stage;
+}
+
+// Control of step n (1-based) of a stage; `phase` is 0, or 1 for the reload half of a loop.
+void Runner::build_control(const Stage& stage, const StageStart& s, int n, int phase, Control& c) const {
+  c.reset();  // all rows: zero strain increment
+  const double f = static_cast<double>(n) / stage.steps;
+  const Vec6 m = identity_voigt();
+  const double kf = protocol_.pore_fluid_stiffness;
+  auto interpolate = [&](double from, double to) { return from + f * (to - from); };
+  // Undrained boundary with constant total radial stress: sigma'_i + u = cell_i, with
+  // u = u_step_start + K_f/n * d_eps_v for a compressible pore fluid.
+  // The specimen is axisymmetric and the models are isotropic, so the radial directions share one
+  // strain: row 2 keeps eps_22 = eps_33 and row 1 controls the mean radial stress. (Controlling
+  // s_22' and s_33' separately is singular on the triaxial edges of a perfectly plastic model,
+  // where the split of the flow between the two planes is indeterminate.)
+  Vec6 radial_mean = Vec6::Zero();
+  radial_mean[1] = radial_mean[2] = 0.5;
+  const Vec6 radial_split = Vec6::Unit(1) - Vec6::Unit(2);
+  const double cell_radial = 0.5 * (s.cell[1] + s.cell[2]);
+  auto equal_radial_strains = [&] { c.mixed(2, radial_split, Vec6::Zero(), 0.0); };
+  auto drained_radial = [&](double target) {
+    c.mixed(1, Vec6::Zero(), radial_mean, target);
+    equal_radial_strains();
+  };
+  // Undrained boundary with constant total radial stress: s_r' + u = cell, with
+  // u = u_step_start + K_f/n * d_eps_v for a compressible pore fluid.
+  auto undrained_radial = [&] {
+    c.mixed(1, kf * m, radial_mean, cell_radial - u_);
+    equal_radial_strains();
+  };
+  const double radial0 = 0.5 * (s.stress[1] + s.stress[2]);
+  switch (stage.type) {
+    case StageType::isotropic_consolidation:
+      c.effective_stress(0, interpolate(s.stress[0], stage.target_p));
+      drained_radial(interpolate(radial0, stage.target_p));
+      break;
+    case StageType::anisotropic_consolidation:
+      c.effective_stress(0, interpolate(s.stress[0], stage.target_axial));
+      drained_radial(interpolate(radial0, stage.target_radial));
+      break;
+    case StageType::k0_consolidation:
+    case StageType::oedometer:
+      if (given(stage.target_axial))
+        c.effective_stress(0, interpolate(s.stress[0], stage.target_axial));
+      else
+        c.strain(0, stage.axial_strain / stage.steps);
+      break;
+    case StageType::shear: {
+      const double de = stage.axial_strain / stage.steps;
+      c.strain(0, de);
+      if (stage.drainage == Drainage::drained) {
+        drained_radial(radial0);
+      } else if (incompressible_) {
+        // No volume change and equal radial strains: fully strain-controlled, no iteration.
+        c.strain(1, -0.5 * de);
+        c.strain(2, -0.5 * de);
+      } else {
+        undrained_radial();
+      }
+      break;
+    }
+    case StageType::constant_p_shear: {
+      c.strain(0, stage.axial_strain / stage.steps);
+      Vec6 third = Vec6::Zero();
+      third.head<3>().setConstant(1.0 / 3.0);
+      c.mixed(1, Vec6::Zero(), third, s.p);
+      equal_radial_strains();
+      break;
+    }
+    case StageType::unload_reload: {
+      const double q = phase == 0 ? interpolate(s.q, stage.target_deviator) : interpolate(stage.target_deviator, s.q);
+      Vec6 qrow = Vec6::Zero();
+      qrow << 1.0, -0.5, -0.5, 0.0, 0.0, 0.0;
+      if (stage.drainage == Drainage::drained) {
+        c.effective_stress(0, radial0 + q);
+        drained_radial(radial0);
+      } else if (incompressible_) {
+        c.mixed(0, Vec6::Zero(), qrow, q);
+        c.mixed(1, m, Vec6::Zero(), 0.0);
+        equal_radial_strains();
+      } else {
+        // Total axial stress = cell radial + q, total radial stress = cell.
+        c.mixed(0, kf * m, Vec6::Unit(0), cell_radial + q - u_);
+        undrained_radial();
+      }
+      break;
+    }
+  }
+  c.finish();
+}
+
+bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc, Vec6& d,
+                     MaterialState& out, Mat6& tangent) {
+  // Targets move linearly over the step: b(s) = C sigma_step_start + s (b - C sigma_step_start).
+  const Vec6 target = cs_start + s1 * (c.b - cs_start);
+  const double ds = s1 - s0;
+  for (int i = 0; i < 6; ++i) d[i] = c.pure[i] ? ds * c.b[i] : 0.0;
+  if (c.nfree == 0) {
+    ++result_.model_calls;
+    return model_.integrate(state_, d, out, tangent).status == Status::ok;
+  }
+  const int k = c.nfree;
+  SmallMatrix jac(k, k);
+  SmallVector r(k);
+  double tol[6];
+  const double scale = std::max(1.0, state_.stress.cwiseAbs().maxCoeff());
+  for (int ii = 0; ii < k; ++ii) {
+    const int i = c.free[ii];
+    tol[ii] = opt_.newton_tolerance * c.c.row(i).cwiseAbs().sum() * scale + 1e-12 * c.a.row(i).cwiseAbs().sum();
+  }
+  // Predictor with the last converged tangent, linearised about the substep start.
+  const Mat6* dmat = &tangent_;
+  bool have_stress = false;
+  for (int iter = 0; iter <= opt_.max_newton_iterations; ++iter) {
+    const Vec6 total = d_acc + d;
+    const Vec6 sig = have_stress ? out.stress : Vec6(state_.stress + tangent_ * d);
+    double worst = 0.0;
+    for (int ii = 0; ii < k; ++ii) {
+      const int i = c.free[ii];
+      r[ii] = c.a.row(i).dot(total) + c.c.row(i).dot(sig) - target[i];
+      worst = std::max(worst, std::abs(r[ii]) / tol[ii]);
+    }
+    if (have_stress && worst <= 1.0) return true;
+    if (iter == opt_.max_newton_iterations) break;
+    for (int ii = 0; ii < k; ++ii) {
+      const int i = c.free[ii];
+      for (int jj = 0; jj < k; ++jj) {
+        const int j = c.free[jj];
+        jac(ii, jj) = c.a(i, j) + c.c.row(i).dot(dmat->col(j));
+      }
+    }
+    Eigen::PartialPivLU<SmallMatrix> lu(jac);
+    const double det = lu.determinant();
+    if (!std::isfinite(det) || det == 0.0) return false;
+    const SmallVector dx = lu.solve(r);
+    for (int ii = 0; ii < k; ++ii) d[c.free[ii]] -= dx[ii];
+    ++result_.newton_iterations;
+    ++result_.model_calls;
+    if (model_.integrate(state_, d, out, tangent).status != Status::ok) return false;
+    if (!out.stress.allFinite()) return false;
+    have_stress = true;
+    dmat = &tangent;
+  }
+  return false;
+}
+
+bool Runner::step(int stage, int n, const Control& c, Drainage drainage) {
+  const Vec6 cs_start = c.c * state_.stress;
+  const Vec6 strain_start = strain_;
+  const double u_start = u_;
+  Vec6 d_acc = Vec6::Zero();
+  Vec6 d;
+  MaterialState out;
+  Mat6 tangent;
+  double s0 = 0.0;
+  double ds = 1.0;
+  int cuts = 0;
+  while (s0 < 1.0) {
+    const double s1 = (1.0 - s0 - ds < 1e-12) ? 1.0 : s0 + ds;
+    if (substep(c, cs_start, s0, s1, d_acc, d, out, tangent)) {
+      state_ = out;
+      tangent_ = tangent;
+      d_acc += d;
+      strain_ = strain_start + d_acc;
+      s0 = s1;
+    } else {
+      ++cuts;
+      ++result_.total_cuts;
+      ds *= 0.5;
+      if (cuts > opt_.max_cuts || result_.total_cuts > opt_.max_total_cuts) {
+        strain_ = strain_start + d_acc;
+        fail(stage, n, "the increment could not be completed after " + std::to_string(cuts - 1) +
+                           " cuts (substep " + format_number(ds * 2.0) + " of the increment at fraction " +
+                           format_number(s0) + ")");
+        return false;
+      }
+    }
+  }
+  if (drainage == Drainage::drained) {
+    u_ = protocol_.back_pressure;
+  } else if (incompressible_) {
+    u_ = 0.5 * (start_.cell[1] + start_.cell[2]) - 0.5 * (state_.stress[1] + state_.stress[2]);
+  } else {
+    u_ = u_start + protocol_.pore_fluid_stiffness * volumetric_strain(d_acc);
+  }
+  record(stage, n, cuts);
+  return true;
+}
+
+bool Runner::run_stage(int index) {
+  const Stage& stage = protocol_.stages[index];
+  // A drained stage starts with the excess pore pressure dissipated.
+  if (stage.drainage == Drainage::drained) u_ = protocol_.back_pressure;
+  start_.stress = state_.stress;
+  start_.u = u_;
+  start_.cell = state_.stress;
+  for (int i = 0; i < 3; ++i) start_.cell[i] += u_;
+  const TriaxialInvariants t = triaxial_invariants(state_.stress);
+  start_.p = t.p;
+  start_.q = t.q;
+
+  StageSummary summary;
+  summary.stage = index;
+  summary.first = static_cast<int>(result_.steps.size());
+  const double axial_start = strain_[0];
+  const double sign = (stage.type == StageType::shear || stage.type == StageType::constant_p_shear) && stage.axial_strain < 0 ? -1.0 : 1.0;
+  const int phases = stage.type == StageType::unload_reload ? 2 : 1;
+  Control control;
+  int counter = 0;
+  double best_q = -std::numeric_limits<double>::infinity();
+  double best_ratio = -std::numeric_limits<double>::infinity();
+  bool stop = false;
+  for (int phase = 0; phase < phases && !stop; ++phase) {
+    for (int n = 1; n <= stage.steps; ++n) {
+      build_control(stage, start_, n, phase, control);
+      ++counter;
+      if (!step(index, counter, control, stage.drainage)) return false;
+      const StepRecord& r = result_.steps.back();
+      if (std::abs(r.q) > std::abs(summary.peak_q)) summary.peak_q = r.q;
+      const double q_dir = sign * r.q;
+      const double ratio = sign > 0 ? r.stress_ratio : 1.0 / r.stress_ratio;
+      switch (stage.stop) {
+        case StopCriterion::none: break;
+        case StopCriterion::peak_deviator:
+          stop = n > 1 && q_dir <= best_q + 1e-9 * std::max(1.0, std::abs(best_q));
+          break;
+        case StopCriterion::peak_stress_ratio:
+          stop = n > 1 && ratio <= best_ratio + 1e-12 * std::max(1.0, std::abs(best_ratio));
+          break;
+        case StopCriterion::axial_strain:
+          stop = std::abs(strain_[0] - axial_start) >= stage.stop_value * (1.0 - 1e-12);
+          break;
+      }
+      best_q = std::max(best_q, q_dir);
+      best_ratio = std::max(best_ratio, ratio);
+      if (stop) {
+        summary.stopped_early = n < stage.steps;
+        break;
+      }
+    }
+  }
+  summary.last = static_cast<int>(result_.steps.size()) - 1;
+  summary.end_q = result_.steps.back().q;
+  result_.stages.push_back(summary);
+  return true;
+}
+
+void Runner::run() {
+  e0_ = protocol_.initial.void_ratio;
+  incompressible_ = std::isinf(protocol_.pore_fluid_stiffness);
+  u_ = protocol_.back_pressure;
+  model_.initialise(protocol_.initial, state_);
+  {
+    MaterialState probe;
+    ++result_.model_calls;
+    if (model_.integrate(state_, Vec6::Zero(), probe, tangent_).status != Status::ok) {
+      result_.termination = Termination::failed;
+      result_.message = "the model could not evaluate its tangent at the initial state";
+      return;
+    }
+  }
+  std::size_t total = 1;
+  for (const Stage& s : protocol_.stages) total += static_cast<std::size_t>(s.steps) * (s.type == StageType::unload_reload ? 2 : 1);
+  result_.steps.reserve(total);
+  result_.stages.reserve(protocol_.stages.size());
+  record(0, 0, 0);
+  for (std::size_t i = 0; i < protocol_.stages.size(); ++i)
+    if (!run_stage(static_cast<int>(i))) return;
+  result_.termination = Termination::completed;
+  result_.message = "all " + std::to_string(protocol_.stages.size()) + " stages completed";
+}
+
+}  // namespace
+
+SimulationResult simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol) {
+  options.validate();
+  validate_protocol(protocol);
+  SimulationResult result;
+  Runner(options, model, protocol, result).run();
+  return result;
+}
+
+}  // namespace triaxcal

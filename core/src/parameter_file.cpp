@@ -1,0 +1,57 @@
+#include "triaxcal/parameter_file.hpp"
+
+#include "json_checks.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal {
+
+using detail::json;
+
+ParameterFile parse_parameter_file(const std::string& text, const std::string& source) {
+  const json root = detail::parse_json(text, source);
+  detail::check_format(root, kParameterFormat, kParameterVersion, source);
+  detail::check_keys(root, {"format", "version", "model", "parameters", "description", "provenance", "fit", "caution"},
+                     source, "");
+  ParameterFile file;
+  file.source = source;
+  file.model = detail::get_string(root, "model", source, "");
+  if (!root.contains("parameters")) throw InputError(source + ": parameters: missing (an object of values is required)");
+  const json& params = root.at("parameters");
+  detail::require_object(params, source, "parameters");
+  for (const auto& item : params.items()) {
+    const std::string path = "parameters." + item.key();
+    if (item.value().is_number()) {
+      file.values[item.key()] = item.value().get<double>();
+    } else if (item.value().is_object()) {
+      detail::check_keys(item.value(),
+                         {"value", "unit", "status", "description", "standard_error", "interval_95", "tied_to",
+                          "lower_bound", "upper_bound"},
+                         source, path);
+      file.values[item.key()] = detail::get_number(item.value(), "value", source, path);
+      if (item.value().contains("unit")) file.units[item.key()] = detail::get_string(item.value(), "unit", source, path);
+    } else {
+      throw InputError(source + ": " + path + ": expected a number or an object with \"value\", found " +
+                       item.value().dump());
+    }
+  }
+  return file;
+}
+
+ParameterFile read_parameter_file(const std::string& path) {
+  return parse_parameter_file(detail::read_text_file(path), path);
+}
+
+ParameterValues resolve_parameter_file(const ModelInfo& info, const ParameterFile& file) {
+  if (file.model != info.name)
+    throw InputError(file.source + ": model: the file is for \"" + file.model + "\", not \"" + info.name + "\"");
+  for (const auto& [name, unit] : file.units) {
+    const int i = parameter_index(info, name);
+    if (i >= 0 && info.parameters[i].unit != unit)
+      throw InputError(file.source + ": parameters." + name + ".unit: expected \"" + info.parameters[i].unit +
+                       "\", found \"" + unit + "\"");
+  }
+  return resolve_parameters(info, file.values, file.source);
+}
+
+}  // namespace triaxcal

@@ -1,0 +1,245 @@
+#include "mohr_coulomb/mohr_coulomb.hpp"
+
+#include <Eigen/Eigenvalues>
+#include <Eigen/LU>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+
+#include "triaxcal/error.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal {
+
+namespace {
+constexpr double inf = std::numeric_limits<double>::infinity();
+}
+
+const ModelInfo& MohrCoulomb::model_info() {
+  static const ModelInfo info{
+      "mohr_coulomb",
+      "Mohr-Coulomb, linear elastic perfectly plastic, non-associated flow and tension cut-off",
+      {
+          {"youngs_modulus", "kPa", 20000.0, 0.0, inf, true, true, "Young's modulus E' (drained, constant)"},
+          {"poissons_ratio", "-", 0.3, -1.0, 0.5, true, true, "Poisson's ratio nu' (drained)"},
+          {"cohesion", "kPa", 0.0, 0.0, inf, false, true, "effective cohesion c'"},
+          {"friction_angle", "deg", 30.0, 0.0, 90.0, true, true, "effective friction angle phi'"},
+          {"dilation_angle", "deg", 0.0, 0.0, 90.0, false, true, "dilation angle psi (psi <= phi'); 0 = no plastic volume change"},
+          {"tensile_strength", "kPa", 0.0, 0.0, inf, false, false,
+           "largest tensile principal effective stress (tension cut-off); capped at c' cot(phi')"},
+      },
+      {"accumulated_plastic_multiplier", "active_surfaces"},
+  };
+  return info;
+}
+
+std::unique_ptr<Model> MohrCoulomb::create(const ParameterValues& v, const std::string& where) {
+  const ModelInfo& info = model_info();
+  if (v.size() != info.parameters.size())
+    throw InputError(where + ": mohr_coulomb: expected " + std::to_string(info.parameters.size()) +
+                     " parameter values, found " + std::to_string(v.size()));
+  for (std::size_t i = 0; i < v.size(); ++i) check_bounds(info, info.parameters[i], v[i], where);
+  if (v[dilation_angle] > v[friction_angle])
+    throw InputError(where + ": mohr_coulomb: dilation_angle = " + format_number(v[dilation_angle]) +
+                     " deg must not exceed friction_angle = " + format_number(v[friction_angle]) + " deg");
+  return std::make_unique<MohrCoulomb>(v);
+}
+
+MohrCoulomb::MohrCoulomb(const ParameterValues& v) {
+  const double e = v[youngs_modulus];
+  const double nu = v[poissons_ratio];
+  bulk_ = e / (3.0 * (1.0 - 2.0 * nu));
+  shear_ = e / (2.0 * (1.0 + nu));
+  const double sphi = std::sin(degrees_to_radians(v[friction_angle]));
+  const double spsi = std::sin(degrees_to_radians(v[dilation_angle]));
+  k_phi_ = (1.0 + sphi) / (1.0 - sphi);
+  k_psi_ = (1.0 + spsi) / (1.0 - spsi);
+  strength_ = 2.0 * v[cohesion] * std::sqrt(k_phi_);
+  const double apex = v[cohesion] / std::tan(degrees_to_radians(v[friction_angle]));
+  tension_ = std::min(v[tensile_strength], apex);
+  const double lame = bulk_ - 2.0 * shear_ / 3.0;
+  elastic_principal_.setConstant(lame);
+  elastic_principal_.diagonal().array() += 2.0 * shear_;
+  elastic_ = isotropic_elastic_stiffness(bulk_, shear_);
+}
+
+void MohrCoulomb::initialise(const InitialConditions& conditions, MaterialState& state) const {
+  state = MaterialState{};
+  state.stress = conditions.stress;
+}
+
+namespace {
+
+// Linear surfaces a . s <= k in sorted principal space with flow direction b.
+struct Surface {
+  Vec3 a;
+  double k;
+  Vec3 b;
+};
+
+enum SurfaceId { main_plane, compression_edge, extension_edge, tension_c, tension_b, tension_a, surface_count };
+
+// Active sets to try, smallest first. In sorted space the main plane (A-C) is the most critical
+// Mohr-Coulomb plane and s_C the most critical for tension, so single-surface returns need only
+// those two; edges, apex and tension corners follow.
+constexpr int kCandidates = 10;
+constexpr int kCandidateSets[kCandidates][3] = {
+    {main_plane, -1, -1},
+    {tension_c, -1, -1},
+    {main_plane, compression_edge, -1},
+    {main_plane, extension_edge, -1},
+    {main_plane, tension_c, -1},
+    {tension_c, tension_b, -1},
+    {main_plane, compression_edge, extension_edge},
+    {main_plane, tension_c, tension_b},
+    {main_plane, extension_edge, tension_c},
+    {tension_c, tension_b, tension_a},
+};
+
+}  // namespace
+
+int MohrCoulomb::return_principal(const Vec3& trial, Vec3& stress, Mat3& tangent, double& multiplier) const {
+  const Surface surfaces[surface_count] = {
+      {Vec3(1.0, 0.0, -k_phi_), strength_, Vec3(1.0, 0.0, -k_psi_)},
+      {Vec3(1.0, -k_phi_, 0.0), strength_, Vec3(1.0, -k_psi_, 0.0)},
+      {Vec3(0.0, 1.0, -k_phi_), strength_, Vec3(0.0, 1.0, -k_psi_)},
+      {Vec3(0.0, 0.0, -1.0), tension_, Vec3(0.0, 0.0, -1.0)},
+      {Vec3(0.0, -1.0, 0.0), tension_, Vec3(0.0, -1.0, 0.0)},
+      {Vec3(-1.0, 0.0, 0.0), tension_, Vec3(-1.0, 0.0, 0.0)},
+  };
+  const double scale = std::max(1.0, trial.cwiseAbs().maxCoeff());
+  const double ftol = 1e-11 * scale;
+  auto admissible = [&](const Vec3& s) {
+    for (const Surface& f : surfaces)
+      if (f.a.dot(s) - f.k > ftol * (1.0 + k_phi_)) return false;
+    return s[0] >= s[1] - ftol && s[1] >= s[2] - ftol;
+  };
+  multiplier = 0.0;
+  if (admissible(trial)) {
+    stress = trial;
+    tangent = elastic_principal_;
+    return 0;
+  }
+  for (const auto& set : kCandidateSets) {
+    int n = 0;
+    const Surface* active[3];
+    for (int id : set)
+      if (id >= 0) active[n++] = &surfaces[id];
+    // Sum_i (a_j . D b_i) lambda_i = a_j . trial - k_j for every active j.
+    Eigen::Matrix<double, 3, 3> db;  // columns D b_i
+    for (int i = 0; i < n; ++i) db.col(i) = elastic_principal_ * active[i]->b;
+    Eigen::Matrix<double, 3, 3> m = Eigen::Matrix<double, 3, 3>::Identity();
+    Vec3 rhs = Vec3::Zero();
+    for (int j = 0; j < n; ++j) {
+      rhs[j] = active[j]->a.dot(trial) - active[j]->k;
+      for (int i = 0; i < n; ++i) m(j, i) = active[j]->a.dot(db.col(i));
+    }
+    Eigen::PartialPivLU<Mat3> lu(m);
+    if (!(std::abs(lu.determinant()) > 1e-12 * std::pow(m.cwiseAbs().maxCoeff(), n))) continue;
+    const Vec3 lambda = lu.solve(rhs);
+    bool positive = true;
+    for (int i = 0; i < n; ++i) positive = positive && lambda[i] >= -1e-14 * scale;
+    if (!positive) continue;
+    Vec3 s = trial;
+    for (int i = 0; i < n; ++i) s -= lambda[i] * db.col(i);
+    if (!admissible(s)) continue;
+    stress = s;
+    // D_ep = D - (D B) M^-1 (A^T D), restricted to the active set.
+    Eigen::Matrix<double, 3, 3> at_d = Eigen::Matrix<double, 3, 3>::Zero();  // rows a_j^T D
+    for (int j = 0; j < n; ++j) at_d.row(j) = (elastic_principal_ * active[j]->a).transpose();
+    const Mat3 minv = lu.inverse();
+    tangent = elastic_principal_;
+    for (int i = 0; i < n; ++i)
+      for (int j = 0; j < n; ++j) tangent -= minv(i, j) * db.col(i) * at_d.row(j);
+    for (int i = 0; i < n; ++i) multiplier += lambda[i];
+    return n;
+  }
+  return -1;
+}
+
+namespace {
+
+// Voigt (stress-type) vector of sym(u v^T).
+Vec6 sym_outer(const Vec3& u, const Vec3& v) {
+  Vec6 r;
+  r << u[0] * v[0], u[1] * v[1], u[2] * v[2], 0.5 * (u[0] * v[1] + u[1] * v[0]), 0.5 * (u[1] * v[2] + u[2] * v[1]),
+      0.5 * (u[2] * v[0] + u[0] * v[2]);
+  return r;
+}
+
+}  // namespace
+
+IntegrationResult MohrCoulomb::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
+                                         Mat6& tangent) const {
+  const Vec6 trial = in.stress + elastic_ * de;
+  out = in;
+  if (!trial.allFinite()) return {Status::numerical_issue, 0};
+
+  // Principal values (sorted descending: A, B, C) and directions of the trial stress. When the
+  // shear components vanish (every triaxial path) the axes are the coordinate axes: no
+  // eigen-decomposition.
+  const double scale = std::max(1.0, trial.cwiseAbs().maxCoeff());
+  const bool diagonal = std::abs(trial[3]) + std::abs(trial[4]) + std::abs(trial[5]) <= 1e-14 * scale;
+  Vec3 principal;
+  Mat3 axes;  // columns: unit directions of A, B, C
+  if (diagonal) {
+    int order[3] = {0, 1, 2};
+    std::sort(order, order + 3, [&](int x, int y) { return trial[x] > trial[y]; });
+    axes.setZero();
+    for (int i = 0; i < 3; ++i) {
+      principal[i] = trial[order[i]];
+      axes(order[i], i) = 1.0;
+    }
+  } else {
+    Mat3 t;
+    t << trial[0], trial[3], trial[5], trial[3], trial[1], trial[4], trial[5], trial[4], trial[2];
+    Eigen::SelfAdjointEigenSolver<Mat3> es(t);
+    if (es.info() != Eigen::Success) return {Status::numerical_issue, 0};
+    for (int i = 0; i < 3; ++i) {  // eigenvalues ascending
+      principal[i] = es.eigenvalues()[2 - i];
+      axes.col(i) = es.eigenvectors().col(2 - i);
+    }
+  }
+
+  Vec3 returned;
+  Mat3 dp;
+  double multiplier = 0.0;
+  const int active = return_principal(principal, returned, dp, multiplier);
+  if (active < 0) return {Status::no_convergence, 0};
+  if (active == 0) {
+    out.stress = trial;
+    tangent = elastic_;
+    out.internal[1] = 0.0;
+    return {Status::ok, 0};
+  }
+
+  Vec6 n[3];
+  for (int i = 0; i < 3; ++i) n[i] = sym_outer(axes.col(i), axes.col(i));
+  out.stress = returned[0] * n[0] + returned[1] * n[1] + returned[2] * n[2];
+  out.internal[0] = in.internal[0] + multiplier;
+  out.internal[1] = active;
+
+  // Consistent tangent of an isotropic tensor function (de Souza Neto, Peric & Owen 2008,
+  // "Computational Methods for Plasticity", eq. A.46): the principal tangent on the principal
+  // dyads, plus 2 (s_a - s_b)/(e_a - e_b) on each sym(n_a n_b) pair, where e_a - e_b =
+  // (trial_a - trial_b) / 2G; for coincident trial values the limit from the principal tangent.
+  tangent.setZero();
+  for (int a = 0; a < 3; ++a)
+    for (int b = 0; b < 3; ++b) tangent += dp(a, b) * n[a] * n[b].transpose();
+  for (int a = 0; a < 3; ++a) {
+    for (int b = a + 1; b < 3; ++b) {
+      const double gap = principal[a] - principal[b];
+      double coef;
+      if (std::abs(gap) > 1e-9 * scale)
+        coef = 2.0 * shear_ * (returned[a] - returned[b]) / gap;
+      else
+        coef = 0.5 * (dp(a, a) - dp(a, b) + dp(b, b) - dp(b, a));
+      const Vec6 s = sym_outer(axes.col(a), axes.col(b));
+      tangent += 2.0 * coef * s * s.transpose();
+    }
+  }
+  return {Status::ok, 1};
+}
+
+}  // namespace triaxcal

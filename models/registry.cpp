@@ -1,0 +1,24 @@
+#include "triaxcal/models/registry.hpp"
+
+#include "mohr_coulomb/mohr_coulomb.hpp"
+#include "triaxcal/error.hpp"
+
+namespace triaxcal {
+
+const std::vector<ModelEntry>& model_registry() {
+  static const std::vector<ModelEntry> entries = {
+      {&MohrCoulomb::model_info, &MohrCoulomb::create},
+  };
+  return entries;
+}
+
+const ModelEntry& find_model(const std::string& name) {
+  std::string known;
+  for (const ModelEntry& e : model_registry()) {
+    if (e.info().name == name) return e;
+    known += (known.empty() ? "" : ", ") + e.info().name;
+  }
+  throw InputError("unknown model '" + name + "' (known: " + known + ")");
+}
+
+}  // namespace triaxcal
