@@ -1,0 +1,179 @@
+#pragma once
+// A test series: specimens, their stages and their measured curves, read from a test-series JSON
+// (format "triaxcal-test-series", version 1, docs/test-series-format.md) and the CSV data files it
+// points to. Units are converted once, where the files are read: inside, stresses are kPa, strains
+// decimals (compression positive), lengths mm, forces N, volumes mm^3 (conventions.hpp).
+//
+// Strain zero of a specimen's curves: every point's axial and volumetric strain is measured from
+// the specimen's *data zero*, the state at the start of the first stage that has data points
+// (usually the first shear stage). The reference height and area of the reduction are those at the
+// data zero (see Specimen::reference_height / reference_area). specimen_protocol() starts at the
+// state after saturation, so a comparison subtracts the simulated strain at the start of
+// SpecimenProtocol::data_zero_stage from the simulated strains.
+
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "triaxcal/core_export.hpp"
+#include "triaxcal/model.hpp"
+#include "triaxcal/protocol.hpp"
+
+namespace triaxcal {
+
+inline constexpr const char* kTestSeriesFormat = "triaxcal-test-series";
+inline constexpr int kTestSeriesVersion = 1;
+
+enum class SpecimenStageType { saturation, consolidation, shear };
+enum class ConsolidationPath { isotropic, k0, anisotropic };
+/// CU: consolidated undrained, CD: consolidated drained, UU: unconsolidated undrained.
+enum class ShearType { cu, cd, uu };
+enum class ShearDirection { compression, extension };
+
+/// An axial-strain range (decimal, same zero as the curves) in which a shear stage unloads and
+/// reloads; the axial strain may go backwards only inside a declared loop.
+struct UnloadReloadLoop {
+  double from_strain = kNotGiven;  ///< axial strain where unloading starts
+  double to_strain = kNotGiven;    ///< axial strain where the reload has passed the start again
+};
+
+/// One stage of a specimen's history, as the lab declared it. Fields not of its type stay NaN.
+struct SpecimenStage {
+  SpecimenStageType type = SpecimenStageType::shear;
+  std::string label;  ///< free text
+
+  // saturation
+  double b_value = kNotGiven;        ///< Skempton's B = du / d(sigma_cell) measured at the end (-)
+  double cell_pressure = kNotGiven;  ///< total cell pressure at the end of saturation (kPa)
+  double back_pressure = kNotGiven;  ///< back pressure (kPa)
+
+  // consolidation (targets are effective stresses)
+  ConsolidationPath path = ConsolidationPath::isotropic;
+  double axial_stress = kNotGiven;   ///< target s_a' (kPa); equals radial_stress when isotropic
+  double radial_stress = kNotGiven;  ///< target s_r' (kPa); NaN for K0 until measured
+  double end_axial_strain = kNotGiven;       ///< measured at the end, from the saturated state (decimal)
+  double end_volumetric_strain = kNotGiven;  ///< measured at the end, from the saturated state (decimal)
+
+  // shear
+  ShearType shear = ShearType::cu;
+  ShearDirection direction = ShearDirection::compression;
+  std::vector<UnloadReloadLoop> loops;
+
+  // which data points belong to the stage
+  int data_stage = -1;                 ///< value of the stage column that marks its points, or -1
+  double strain_from = kNotGiven;      ///< declared axial-strain range when there is no stage column
+  double strain_to = kNotGiven;
+};
+
+/// Reduced measured curves of one specimen, one entry a data row (struct of arrays, equal sizes).
+struct ReducedCurves {
+  std::vector<int> stage;                     ///< index into Specimen::stages
+  std::vector<int> line;                      ///< 1-based line in the data file
+  std::vector<double> axial_strain;           ///< from the data zero (decimal)
+  std::vector<double> volumetric_strain;      ///< from the data zero (decimal; 0 when undrained)
+  std::vector<double> deviator_stress;        ///< q = s_a - s_r (kPa, signed), corrected
+  std::vector<double> excess_pore_pressure;   ///< u - back pressure (kPa)
+  std::vector<double> axial_stress;           ///< s_a' (kPa)
+  std::vector<double> radial_stress;          ///< s_r' (kPa)
+  std::vector<double> mean_stress;            ///< p' (kPa)
+  std::vector<double> void_ratio;             ///< NaN when the void ratio is not known
+
+  std::size_t size() const { return axial_strain.size(); }
+};
+
+/// How a data file is laid out and what its columns hold (docs/test-series-format.md).
+struct DataFileSpec {
+  std::string path;         ///< resolved against the series file's folder
+  bool raw = false;         ///< raw readings (load, displacement, gauges) rather than reduced values
+  char delimiter = 0;       ///< ',', ';', '\t', or 0 = detect from the header row
+  char decimal = '.';       ///< '.' or ','
+  int skip_rows = 0;        ///< lines before the header row
+  struct Column {
+    std::string quantity;   ///< our quantity key, e.g. "axial_strain", "axial_load"
+    std::string header;     ///< the column's name in the header row
+    std::string unit;       ///< as declared, e.g. "%", "kN", "MPa"
+  };
+  std::vector<Column> columns;
+  double membrane_thickness = kNotGiven;  ///< mm; with membrane_modulus enables the correction
+  double membrane_modulus = kNotGiven;    ///< kPa
+};
+
+struct Specimen {
+  std::string id;
+  std::string depth;     ///< free text, as in the lab report
+  std::string borehole;  ///< free text
+  std::string description;
+  double height = kNotGiven;    ///< initial height after set-up (mm)
+  double diameter = kNotGiven;  ///< initial diameter after set-up (mm)
+  double void_ratio = kNotGiven;        ///< e0 after set-up (given, or w Gs / Sr)
+  double water_content = kNotGiven;     ///< decimal
+  double specific_gravity = kNotGiven;  ///< Gs (-)
+  double degree_of_saturation = kNotGiven;  ///< Sr (decimal)
+  double relative_density = kNotGiven;  ///< I_D (decimal), sands
+  double initial_effective_stress = kNotGiven;  ///< p' after set-up and saturation (kPa), if known
+  std::vector<SpecimenStage> stages;
+  DataFileSpec data;
+  ReducedCurves curves;
+
+  // Derived when read.
+  double back_pressure = 0.0;          ///< from the saturation stage (kPa)
+  double b_value = kNotGiven;          ///< from the saturation stage
+  int data_zero_stage = -1;            ///< index of the first stage with data points
+  double reference_height = kNotGiven; ///< mm, at the data zero
+  double reference_area = kNotGiven;   ///< mm^2, at the data zero
+  double reference_void_ratio = kNotGiven;  ///< at the data zero, NaN when e0 is unknown
+
+  /// Indices of the shear stages, in order.
+  std::vector<int> shear_stages() const;
+  /// Point indices [first, last] of one stage's points; empty range (first > last) when none.
+  std::pair<int, int> stage_points(int stage) const;
+};
+
+/// A finding that does not stop the run.
+struct SeriesWarning {
+  std::string specimen;  ///< id, or empty for the whole series
+  std::string message;   ///< names the file or key, the value found and what was expected
+};
+
+struct TestSeries {
+  std::string source;       ///< path of the series file
+  std::string name;
+  std::string description;
+  std::vector<Specimen> specimens;
+  std::vector<SeriesWarning> warnings;
+};
+
+/// Reads the series file and every data file, reduces raw data and checks it. Throws InputError on
+/// the first error (file, line and column or JSON path, value found, what was expected). Warnings
+/// are collected in TestSeries::warnings.
+TRIAXCAL_CORE_EXPORT TestSeries read_test_series(const std::string& path);
+
+/// What `triaxcal check` reports: every error found (one per specimen data file at most, since a
+/// bad file stops its own reading), and the warnings.
+struct SeriesCheck {
+  TestSeries series;                 ///< the specimens that could be read
+  std::vector<std::string> errors;   ///< messages, each naming file and line/column or JSON path
+};
+
+/// Like read_test_series, but collects data-file errors per specimen instead of stopping at the
+/// first. A malformed series JSON still gives a single error.
+TRIAXCAL_CORE_EXPORT SeriesCheck check_test_series(const std::string& path);
+
+/// The simulation protocol of a specimen's history (initial state, consolidation, shear stages, unload-reload
+/// loops, multi-stage sequences) so that a model can be run on it and compared at the measured points.
+/// Shear stages run to the axial strain their data reach (steps_per_shear_stage increments each,
+/// shared between the segments around unload-reload loops); the protocol starts after saturation.
+TRIAXCAL_CORE_EXPORT TestProtocol specimen_protocol(const Specimen& specimen, int steps_per_shear_stage /* e.g. 300 */);
+
+/// specimen_protocol with the map back to the specimen's stages.
+struct SpecimenProtocol {
+  TestProtocol protocol;
+  std::vector<int> origin;   ///< for each protocol stage, the index of the specimen stage it comes from
+  int data_zero_stage = -1;  ///< protocol stage at whose start the curves' strains are zero
+};
+TRIAXCAL_CORE_EXPORT SpecimenProtocol specimen_protocol_with_map(const Specimen& specimen, int steps_per_shear_stage);
+
+TRIAXCAL_CORE_EXPORT std::string to_string(ShearType type);       ///< "CU", "CD", "UU"
+TRIAXCAL_CORE_EXPORT std::string to_string(ConsolidationPath path);  ///< "isotropic", "K0", "anisotropic"
+
+}  // namespace triaxcal
