@@ -21,10 +21,10 @@ const ModelInfo& MohrCoulomb::model_info() {
       "mohr_coulomb",
       "Mohr-Coulomb, linear elastic perfectly plastic, non-associated flow and tension cut-off",
       {
-          {"youngs_modulus", "kPa", 20000.0, 0.0, inf, true, true, "Young's modulus E' (drained, constant)"},
+          {"youngs_modulus", "kPa", kNotGiven, 0.0, inf, true, true, "Young's modulus E' (drained, constant)"},
           {"poissons_ratio", "-", 0.3, -1.0, 0.5, true, true, "Poisson's ratio nu' (drained)"},
           {"cohesion", "kPa", 0.0, 0.0, inf, false, true, "effective cohesion c'"},
-          {"friction_angle", "deg", 30.0, 0.0, 90.0, true, true, "effective friction angle phi'"},
+          {"friction_angle", "deg", kNotGiven, 0.0, 90.0, true, true, "effective friction angle phi'"},
           {"dilation_angle", "deg", 0.0, 0.0, 90.0, false, true, "dilation angle psi (psi <= phi'); 0 = no plastic volume change"},
           {"tensile_strength", "kPa", 0.0, 0.0, inf, false, false,
            "largest tensile principal effective stress (tension cut-off); capped at c' cot(phi')"},
