@@ -177,7 +177,7 @@ class Runner {
   bool run_stage(int index);
   bool step(int stage, int step_in_stage, const Control& control, Drainage drainage);
   bool substep(const Control& control, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc,
-               Vec6& d_eps, MaterialState& out, Mat6& tangent);
+               Vec6& d_eps, MaterialState& out, Mat6& tangent, bool elastic_predictor);
   void record(int stage, int step, int cuts);
   void fail(int stage, int step, const std::string& why);
   void build_control(const Stage& stage, const StageStart& start, int n, int phase, Control& control) const;
@@ -190,6 +190,7 @@ class Runner {
   MaterialState state_;
   Vec6 strain_ = Vec6::Zero();  // total strain since the start of the protocol
   Mat6 tangent_ = Mat6::Zero(); // last converged tangent (predictor)
+  Mat6 restart_tangent_ = Mat6::Zero();  // tangent of a zero increment (fallback predictor)
   double u_ = 0.0;              // absolute pore pressure
   double e0_ = kNotGiven;
   bool incompressible_ = true;
@@ -316,7 +317,7 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int n, int p
 }
 
 bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc, Vec6& d,
-                     MaterialState& out, Mat6& tangent) {
+                     MaterialState& out, Mat6& tangent, bool elastic_predictor) {
   // Targets move linearly over the step: b(s) = C sigma_step_start + s (b - C sigma_step_start).
   const Vec6 target = cs_start + s1 * (c.b - cs_start);
   const double ds = s1 - s0;
@@ -334,12 +335,19 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
     const int i = c.free[ii];
     tol[ii] = opt_.newton_tolerance * c.c.row(i).cwiseAbs().sum() * scale + 1e-12 * c.a.row(i).cwiseAbs().sum();
   }
-  // Predictor with the last converged tangent, linearised about the substep start.
+  // Predictor with the last converged tangent, linearised about the substep start. Where that
+  // tangent is singular for this control (a perfectly plastic state under stress control) or a
+  // previous try failed, the tangent of a zero increment (elastic for every model here) is used.
   const Mat6* dmat = &tangent_;
+  if (elastic_predictor) {
+    ++result_.model_calls;
+    if (model_.integrate(state_, Vec6::Zero(), out, restart_tangent_).status != Status::ok) return false;
+    dmat = &restart_tangent_;
+  }
   bool have_stress = false;
   for (int iter = 0; iter <= opt_.max_newton_iterations; ++iter) {
     const Vec6 total = d_acc + d;
-    const Vec6 sig = have_stress ? out.stress : Vec6(state_.stress + tangent_ * d);
+    const Vec6 sig = have_stress ? out.stress : Vec6(state_.stress + *dmat * d);
     double worst = 0.0;
     for (int ii = 0; ii < k; ++ii) {
       const int i = c.free[ii];
@@ -357,7 +365,10 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
     }
     Eigen::PartialPivLU<SmallMatrix> lu(jac);
     const double det = lu.determinant();
-    if (!std::isfinite(det) || det == 0.0) return false;
+    if (!std::isfinite(det) || std::abs(det) <= 1e-13 * std::pow(jac.cwiseAbs().maxCoeff(), k)) {
+      if (have_stress || elastic_predictor) return false;
+      return substep(c, cs_start, s0, s1, d_acc, d, out, tangent, true);
+    }
     const SmallVector dx = lu.solve(r);
     for (int ii = 0; ii < k; ++ii) d[c.free[ii]] -= dx[ii];
     ++result_.newton_iterations;
@@ -383,7 +394,7 @@ bool Runner::step(int stage, int n, const Control& c, Drainage drainage) {
   int cuts = 0;
   while (s0 < 1.0) {
     const double s1 = (1.0 - s0 - ds < 1e-12) ? 1.0 : s0 + ds;
-    if (substep(c, cs_start, s0, s1, d_acc, d, out, tangent)) {
+    if (substep(c, cs_start, s0, s1, d_acc, d, out, tangent, cuts > 0)) {
       state_ = out;
       tangent_ = tangent;
       d_acc += d;

@@ -1,0 +1,245 @@
+// The material-point driver: mixed control, drainage, stages, stop criteria, failure reports.
+#include <catch2/catch.hpp>
+
+#include <atomic>
+#include <cmath>
+#include <cstdlib>
+#include <new>
+
+#include "tolerances.hpp"
+#include "triaxcal/driver.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/models/registry.hpp"
+#include "triaxcal/parameters.hpp"
+
+// Count every heap allocation in this test program, to check that the step loop allocates nothing.
+static std::atomic<long> g_allocations{0};
+void* operator new(std::size_t n) {
+  ++g_allocations;
+  if (void* p = std::malloc(n ? n : 1)) return p;
+  throw std::bad_alloc();
+}
+void operator delete(void* p) noexcept { std::free(p); }
+void operator delete(void* p, std::size_t) noexcept { std::free(p); }
+
+using namespace triaxcal;
+
+namespace {
+
+std::unique_ptr<Model> elastic_mc(double e, double nu) {
+  // Strength so large that nothing yields: linear isotropic elasticity.
+  const ModelEntry& m = find_model("mohr_coulomb");
+  return m.create(resolve_parameters(m.info(), {{"youngs_modulus", e}, {"poissons_ratio", nu}, {"cohesion", 1e9},
+                                                {"friction_angle", 30.0}, {"tensile_strength", 1e9}},
+                                     "test"),
+                  "test");
+}
+
+Stage stage(StageType type, int steps = 50) {
+  Stage s;
+  s.type = type;
+  s.steps = steps;
+  return s;
+}
+
+TestProtocol start_at(double axial, double radial) {
+  TestProtocol p;
+  p.initial.stress = triaxial_stress(axial, radial);
+  p.initial.void_ratio = 0.8;
+  return p;
+}
+
+// A model that is elastic but reports no convergence once the axial strain passes a limit.
+class BreaksAt final : public Model {
+ public:
+  explicit BreaksAt(double limit) : limit_(limit), inner_(elastic_mc(1e4, 0.3)) {}
+  const ModelInfo& info() const override { return inner_->info(); }
+  void initialise(const InitialConditions& c, MaterialState& s) const override { inner_->initialise(c, s); }
+  IntegrationResult integrate(const MaterialState& in, const Vec6& d, MaterialState& out, Mat6& t) const override {
+    const IntegrationResult r = inner_->integrate(in, d, out, t);
+    out.internal[7] = in.internal[7] + d[0];
+    if (out.internal[7] > limit_) return {Status::no_convergence, 0};
+    return r;
+  }
+
+ private:
+  double limit_;
+  std::unique_ptr<Model> inner_;
+};
+
+}  // namespace
+
+TEST_CASE("isotropic consolidation of an elastic specimen: eps_v = dp'/K, void ratio e0 - (1 + e0) eps_v") {
+  const double e = 12000, nu = 0.2, k = e / (3 * (1 - 2 * nu));
+  auto p = start_at(20, 20);
+  Stage s = stage(StageType::isotropic_consolidation);
+  s.target_p = 220;
+  p.stages = {s};
+  const auto r = simulate(DriverOptions{}, *elastic_mc(e, nu), p);
+  REQUIRE(r.ok());
+  const auto& end = r.steps.back();
+  CHECK(end.p == Approx(220).epsilon(test::kExact));
+  CHECK(end.q == Approx(0).margin(1e-8));
+  CHECK(end.volumetric_strain == Approx(200 / k).epsilon(test::kExact));
+  CHECK(end.axial_strain == Approx(end.radial_strain).epsilon(test::kExact));
+  CHECK(end.void_ratio == Approx(0.8 - 1.8 * end.volumetric_strain).epsilon(1e-12));
+}
+
+TEST_CASE("K0 consolidation of an elastic specimen: s_r'/s_a' increments at nu/(1 - nu), no radial strain") {
+  // Elastic oedometric loading, from Hooke's law with zero lateral strain.
+  const double nu = 0.3;
+  auto p = start_at(10, 10);
+  Stage s = stage(StageType::k0_consolidation);
+  s.target_axial = 210;
+  p.stages = {s};
+  const auto r = simulate(DriverOptions{}, *elastic_mc(1e4, nu), p);
+  REQUIRE(r.ok());
+  const auto& end = r.steps.back();
+  CHECK((end.radial_stress - 10) / (end.axial_stress - 10) == Approx(nu / (1 - nu)).epsilon(test::kExact));
+  CHECK(end.radial_strain == Approx(0).margin(test::kStrainFloor));
+  // Oedometric modulus E (1 - nu)/((1 + nu)(1 - 2 nu)).
+  const double eoed = 1e4 * (1 - nu) / ((1 + nu) * (1 - 2 * nu));
+  CHECK(end.axial_strain == Approx(200 / eoed).epsilon(test::kExact));
+}
+
+TEST_CASE("an elastic unload-reload loop closes: back to the start q and strain, bottom at the target q") {
+  auto p = start_at(100, 100);
+  Stage shear = stage(StageType::shear, 100);
+  shear.axial_strain = 0.01;
+  Stage loop = stage(StageType::unload_reload, 40);
+  loop.target_deviator = 20;
+  p.stages = {shear, loop};
+  const auto r = simulate(DriverOptions{}, *elastic_mc(1e4, 0.3), p);
+  REQUIRE(r.ok());
+  const auto& before = r.steps[r.stages[1].first - 1];
+  const auto& bottom = r.steps[r.stages[1].first + 39];
+  const auto& after = r.steps.back();
+  CHECK(bottom.q == Approx(20).epsilon(test::kExact));
+  CHECK(after.q == Approx(before.q).epsilon(test::kExact));
+  CHECK(after.axial_strain == Approx(before.axial_strain).epsilon(1e-9));
+  CHECK(r.stages[1].last - r.stages[1].first + 1 == 80);
+}
+
+TEST_CASE("constant-p' shear keeps p' and equal radial stresses") {
+  auto p = start_at(150, 150);
+  Stage s = stage(StageType::constant_p_shear, 100);
+  s.axial_strain = 0.02;
+  p.stages = {s};
+  const auto r = simulate(DriverOptions{}, *elastic_mc(1e4, 0.3), p);
+  REQUIRE(r.ok());
+  for (const auto& st : r.steps) CHECK(st.p == Approx(150).epsilon(test::kExact));
+  // Elastic: q = 3 G eps_q with eps_q = 2 (eps_a - eps_r)/3 at constant p' (no volume change).
+  const double g = 1e4 / (2 * 1.3);
+  const auto& end = r.steps.back();
+  CHECK(end.q == Approx(3 * g * 2 * (end.axial_strain - end.radial_strain) / 3).epsilon(test::kExact));
+}
+
+TEST_CASE("undrained shear with a compressible pore fluid: du = B dq/3 with B = K_f/(K' + K_f) for an elastic skeleton") {
+  // Skempton (1954), "The pore-pressure coefficients A and B", with A = 1/3 for an elastic skeleton.
+  const double e = 1e4, nu = 0.3, k = e / (3 * (1 - 2 * nu));
+  const double kf = 2 * k;
+  auto p = start_at(100, 100);
+  p.pore_fluid_stiffness = kf;
+  Stage s = stage(StageType::shear, 100);
+  s.drainage = Drainage::undrained;
+  s.axial_strain = 0.005;
+  p.stages = {s};
+  const auto r = simulate(DriverOptions{}, *elastic_mc(e, nu), p);
+  REQUIRE(r.ok());
+  const auto& end = r.steps.back();
+  CHECK(end.excess_pore_pressure == Approx(kf / (k + kf) * end.q / 3).epsilon(test::kExact));
+  CHECK(end.excess_pore_pressure + end.radial_stress == Approx(100).epsilon(test::kExact));  // total radial constant
+  CHECK(end.volumetric_strain == Approx(end.excess_pore_pressure / kf).epsilon(test::kExact));
+}
+
+TEST_CASE("undrained unload-reload keeps the volume and the total radial stress") {
+  auto p = start_at(100, 100);
+  Stage shear = stage(StageType::shear, 50);
+  shear.drainage = Drainage::undrained;
+  shear.axial_strain = 0.004;
+  Stage loop = stage(StageType::unload_reload, 20);
+  loop.drainage = Drainage::undrained;
+  loop.target_deviator = 5;
+  p.stages = {shear, loop};
+  const auto r = simulate(DriverOptions{}, *elastic_mc(1e4, 0.3), p);
+  REQUIRE(r.ok());
+  for (const auto& st : r.steps) {
+    CHECK(st.volumetric_strain == Approx(0).margin(1e-12));
+    CHECK(st.radial_stress + st.excess_pore_pressure == Approx(100).epsilon(test::kExact));
+  }
+  CHECK(r.steps[r.stages[1].first + 19].q == Approx(5).epsilon(test::kExact));
+}
+
+TEST_CASE("multi-stage: a shear stage stops at peak deviator stress, the next stage continues from there") {
+  const ModelEntry& m = find_model("mohr_coulomb");
+  const auto mc = m.create(resolve_parameters(m.info(), {{"youngs_modulus", 2e4}, {"friction_angle", 30.0}}, "t"), "t");
+  auto p = start_at(50, 50);
+  Stage s1 = stage(StageType::shear, 400);
+  s1.axial_strain = 0.2;
+  s1.stop = StopCriterion::peak_deviator;
+  Stage c2 = stage(StageType::isotropic_consolidation, 20);
+  c2.target_p = 100;
+  Stage s2 = s1;
+  p.stages = {s1, c2, s2};
+  const auto r = simulate(DriverOptions{}, *mc, p);
+  INFO(r.message);
+  REQUIRE(r.ok());
+  REQUIRE(r.stages.size() == 3);
+  CHECK(r.stages[0].stopped_early);
+  CHECK(r.stages[2].stopped_early);
+  // Peak of a perfectly plastic drained test: q_f = 6 s3' sin phi/(3 ... ) = 2 s3' sin phi/(1 - sin phi)
+  CHECK(r.stages[0].peak_q == Approx(2 * 50 * 0.5 / 0.5).epsilon(test::kExact));
+  CHECK(r.stages[2].peak_q == Approx(2 * 100 * 0.5 / 0.5).epsilon(test::kExact));
+  // It stops on the first step after failure, long before 20 % strain.
+  CHECK(r.steps[r.stages[0].last].axial_strain < 0.01);
+  CHECK(r.steps[r.stages[1].last].p == Approx(100).epsilon(test::kExact));
+}
+
+TEST_CASE("a failing model ends the run with the stage, step and strain where it gave up") {
+  const BreaksAt model(0.0105);
+  auto p = start_at(100, 100);
+  Stage s = stage(StageType::shear, 100);
+  s.axial_strain = 0.02;
+  p.stages = {s};
+  const auto r = simulate(DriverOptions{}, model, p);
+  CHECK_FALSE(r.ok());
+  CHECK(r.failed_stage == 0);
+  CHECK(r.failed_step == 53);
+  CHECK(r.message.rfind("stage 0 (shear), step 53 of 100, axial strain 0.0105", 0) == 0);
+  CHECK(r.message.find("could not be completed after 12 cuts") != std::string::npos);
+  CHECK(r.steps.size() == 53);  // initial state + 52 converged steps
+}
+
+TEST_CASE("the step loop allocates nothing: 100 and 2000 steps cost the same number of allocations") {
+  const auto mc = elastic_mc(1e4, 0.3);
+  auto count = [&](int steps, Drainage d) {
+    auto p = start_at(100, 100);
+    Stage s = stage(StageType::shear, steps);
+    s.axial_strain = 0.05;
+    s.drainage = d;
+    p.stages = {s};
+    const long before = g_allocations.load();
+    const auto r = simulate(DriverOptions{}, *mc, p);
+    REQUIRE(r.ok());
+    return g_allocations.load() - before;
+  };
+  CHECK(count(100, Drainage::drained) == count(2000, Drainage::drained));
+  CHECK(count(100, Drainage::undrained) == count(2000, Drainage::undrained));
+}
+
+TEST_CASE("protocol validation names the stage and key") {
+  auto p = start_at(100, 100);
+  Stage s = stage(StageType::isotropic_consolidation);
+  p.stages = {s};
+  CHECK_THROWS_WITH(validate_protocol(p), "stages[0]: p (target mean effective stress, kPa) must be given and positive");
+  Stage u = stage(StageType::shear);
+  u.axial_strain = 0.1;
+  Stage c = stage(StageType::k0_consolidation);
+  c.target_axial = 100;
+  c.drainage = Drainage::undrained;
+  p.stages = {u, c};
+  CHECK_THROWS_WITH(validate_protocol(p), "stages[1]: drainage must be drained for a k0_consolidation stage");
+  DriverOptions o;
+  o.max_cuts = 99;
+  CHECK_THROWS_WITH(o.validate(), "driver options: max_cuts = 99 must be in [0, 40]");
+}
