@@ -1,0 +1,127 @@
+// `triaxcal simulate`, `models`, `--version`: exit codes, exact messages, atomic output.
+#include <catch2/catch.hpp>
+
+#include <filesystem>
+#include <fstream>
+
+#include "cli_run.hpp"
+
+using namespace triaxcal::test;
+namespace fs = std::filesystem;
+
+namespace {
+
+std::string write(const std::string& name, const std::string& text) {
+  std::ofstream(name) << text;
+  return name;
+}
+
+const char* kParams = R"({"format": "triaxcal-parameters", "version": 1, "model": "mohr_coulomb",
+  "parameters": {"youngs_modulus": 20000, "friction_angle": 30, "cohesion": 5, "dilation_angle": 2}})";
+
+const char* kProtocol = R"({"format": "triaxcal-protocol", "version": 1, "name": "T1",
+  "initial": {"p": 100},
+  "stages": [{"type": "shear", "drainage": "drained", "axial_strain": 0.05, "steps": 50}]})";
+
+std::string sim(const std::string& params, const std::string& protocol, const std::string& out) {
+  return "simulate --model mohr_coulomb --params " + params + " --protocol " + protocol + " --out " + out;
+}
+
+}  // namespace
+
+TEST_CASE("simulate on the bundled example prints a table per test and writes the curves") {
+  fs::remove("sim_ok.csv");
+  const auto r = run_cli("simulate --model mohr_coulomb --params " + source_path("examples/simulate/mohr_coulomb_sand.json") +
+                             " --protocol " + source_path("examples/simulate/cd_100.json") + " --protocol " +
+                             source_path("examples/simulate/cu_200.json") + " --out sim_ok.csv",
+                         "ok");
+  INFO(r.err);
+  CHECK(r.exit_code == 0);
+  CHECK(r.out.find("CD-100") != std::string::npos);
+  CHECK(r.out.find("CU-200") != std::string::npos);
+  CHECK(r.out.find("reviewed by a qualified") != std::string::npos);
+  const std::string csv = slurp("sim_ok.csv");
+  CHECK(csv.rfind("test,stage,step,axial_strain[-]", 0) == 0);
+  // 1 header + 2 x (1 initial + 20 consolidation + 1000 shear) rows.
+  CHECK(std::count(csv.begin(), csv.end(), '\n') == 1 + 2 * 1021);
+}
+
+TEST_CASE("simulate: malformed JSON gives exit 2, the file, line and column, and writes nothing") {
+  fs::remove("bad_out.csv");
+  const auto params = write("bad_json_params.json", "{\"format\": \"triaxcal-parameters\",\n  \"version\": 1,,\n}");
+  const auto protocol = write("ok_protocol.json", kProtocol);
+  const auto r = run_cli(sim(params, protocol, "bad_out.csv"), "json");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err ==
+        "triaxcal: error: bad_json_params.json: line 2, column 16: malformed JSON (syntax error while parsing object "
+        "key - unexpected ','; expected string literal)\n");
+  CHECK_FALSE(fs::exists("bad_out.csv"));
+}
+
+TEST_CASE("simulate: a missing required parameter gives exit 2 and names it") {
+  fs::remove("bad_out.csv");
+  const auto params = write("missing_params.json",
+                            R"({"format": "triaxcal-parameters", "version": 1, "model": "mohr_coulomb",
+                                "parameters": {"friction_angle": 30}})");
+  const auto r = run_cli(sim(params, write("ok_protocol.json", kProtocol), "bad_out.csv"), "missing");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err == "triaxcal: error: missing_params.json: mohr_coulomb: parameter 'youngs_modulus' (kPa) is required "
+                 "and has no default\n");
+  CHECK_FALSE(fs::exists("bad_out.csv"));
+}
+
+TEST_CASE("simulate: an out-of-range parameter gives exit 2 and the admissible interval") {
+  const auto params = write("range_params.json",
+                            R"({"format": "triaxcal-parameters", "version": 1, "model": "mohr_coulomb",
+                                "parameters": {"youngs_modulus": 20000, "friction_angle": 30, "poissons_ratio": 0.7}})");
+  const auto r = run_cli(sim(params, write("ok_protocol.json", kProtocol), "bad_out.csv"), "range");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err == "triaxcal: error: range_params.json: mohr_coulomb: poissons_ratio = 0.7 is outside (-1, 0.5) (-)\n");
+  CHECK_FALSE(fs::exists("bad_out.csv"));
+}
+
+TEST_CASE("simulate: an unknown stage type gives exit 2 and the list of known types") {
+  const auto protocol = write("bad_stage.json", R"({"format": "triaxcal-protocol", "version": 1, "initial": {"p": 50},
+    "stages": [{"type": "isotropic_consolidation", "p": 100}, {"type": "sheer", "axial_strain": 0.1}]})");
+  const auto r = run_cli(sim(write("ok_params.json", kParams), protocol, "bad_out.csv"), "stage");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err == "triaxcal: error: bad_stage.json: stages[1].type: unknown stage type \"sheer\" (expected "
+                 "isotropic_consolidation, anisotropic_consolidation, k0_consolidation, oedometer, shear, "
+                 "constant_p_shear or unload_reload)\n");
+  CHECK_FALSE(fs::exists("bad_out.csv"));
+}
+
+TEST_CASE("simulate: an unknown key is rejected with its path") {
+  const auto protocol = write("bad_key.json", R"({"format": "triaxcal-protocol", "version": 1, "initial": {"p": 50},
+    "stages": [{"type": "shear", "axial_strain": 0.1, "drainge": "undrained"}]})");
+  const auto r = run_cli(sim(write("ok_params.json", kParams), protocol, "bad_out.csv"), "key");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err == "triaxcal: error: bad_key.json: stages[0].drainge: unknown key 'drainge' (expected one of: type, "
+                 "label, steps, axial_strain, direction, drainage, stop)\n");
+}
+
+TEST_CASE("simulate: an unknown model gives exit 2 and the known models") {
+  const auto r = run_cli("simulate --model cam_clay --params " + write("ok_params.json", kParams) + " --protocol " +
+                             write("ok_protocol.json", kProtocol),
+                         "model");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err.rfind("triaxcal: error: unknown model 'cam_clay' (known: mohr_coulomb", 0) == 0);
+}
+
+TEST_CASE("models lists every model; models NAME lists its parameters with units and bounds") {
+  const auto all = run_cli("models", "models");
+  CHECK(all.exit_code == 0);
+  CHECK(all.out.find("mohr_coulomb") != std::string::npos);
+  const auto one = run_cli("models mohr_coulomb", "models1");
+  CHECK(one.exit_code == 0);
+  CHECK(one.out.find("friction_angle            deg    required    (0, 90)") != std::string::npos);
+}
+
+TEST_CASE("--version and --help answer with exit 0") {
+  const auto v = run_cli("--version", "version");
+  CHECK(v.exit_code == 0);
+  CHECK(v.out.rfind("triaxcal ", 0) == 0);
+  const auto h = run_cli("simulate --help", "help");
+  CHECK(h.exit_code == 0);
+  CHECK(h.out.find("--protocol") != std::string::npos);
+}
