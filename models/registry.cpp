@@ -1,5 +1,6 @@
 #include "triaxcal/models/registry.hpp"
 
+#include "modified_cam_clay/modified_cam_clay.hpp"
 #include "mohr_coulomb/mohr_coulomb.hpp"
 #include "triaxcal/error.hpp"
 
@@ -8,6 +9,7 @@ namespace triaxcal {
 const std::vector<ModelEntry>& model_registry() {
   static const std::vector<ModelEntry> entries = {
       {&MohrCoulomb::model_info, &MohrCoulomb::create},
+      {&ModifiedCamClay::model_info, &ModifiedCamClay::create},
   };
   return entries;
 }
