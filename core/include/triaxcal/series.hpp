@@ -44,7 +44,7 @@ struct SpecimenStage {
 
   // saturation
   double b_value = kNotGiven;        ///< Skempton's B = du / d(sigma_cell) measured at the end (-)
-  double cell_pressure = kNotGiven;  ///< total cell pressure at the end of saturation (kPa)
+  double cell_pressure = kNotGiven;  ///< total cell pressure (kPa): end of saturation, or during a shear stage (UU)
   double back_pressure = kNotGiven;  ///< back pressure (kPa)
 
   // consolidation (targets are effective stresses)
@@ -76,6 +76,7 @@ struct ReducedCurves {
   std::vector<double> axial_stress;           ///< s_a' (kPa)
   std::vector<double> radial_stress;          ///< s_r' (kPa)
   std::vector<double> mean_stress;            ///< p' (kPa)
+  std::vector<double> cell_pressure;          ///< total radial stress (kPa), for total-stress (UU) results
   std::vector<double> void_ratio;             ///< NaN when the void ratio is not known
 
   std::size_t size() const { return axial_strain.size(); }
@@ -88,6 +89,7 @@ struct DataFileSpec {
   char delimiter = 0;       ///< ',', ';', '\t', or 0 = detect from the header row
   char decimal = '.';       ///< '.' or ','
   int skip_rows = 0;        ///< lines before the header row
+  int skip_after_header = 0;  ///< lines between the header row and the data (e.g. a units row)
   struct Column {
     std::string quantity;   ///< our quantity key, e.g. "axial_strain", "axial_load"
     std::string header;     ///< the column's name in the header row

@@ -1,0 +1,666 @@
+#include "triaxcal/series.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <filesystem>
+#include <map>
+
+#include "../json_checks.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/lab_csv.hpp"
+#include "triaxcal/parameters.hpp"
+#include "triaxcal/reduction.hpp"
+
+namespace triaxcal {
+
+using detail::json;
+
+std::string to_string(ShearType type) {
+  switch (type) {
+    case ShearType::cu: return "CU";
+    case ShearType::cd: return "CD";
+    case ShearType::uu: return "UU";
+  }
+  return "?";
+}
+
+std::string to_string(ConsolidationPath path) {
+  switch (path) {
+    case ConsolidationPath::isotropic: return "isotropic";
+    case ConsolidationPath::k0: return "K0";
+    case ConsolidationPath::anisotropic: return "anisotropic";
+  }
+  return "?";
+}
+
+std::vector<int> Specimen::shear_stages() const {
+  std::vector<int> out;
+  for (std::size_t i = 0; i < stages.size(); ++i)
+    if (stages[i].type == SpecimenStageType::shear) out.push_back(static_cast<int>(i));
+  return out;
+}
+
+std::pair<int, int> Specimen::stage_points(int stage_index) const {
+  int first = -1, last = -2;
+  for (std::size_t i = 0; i < curves.stage.size(); ++i)
+    if (curves.stage[i] == stage_index) {
+      if (first < 0) first = static_cast<int>(i);
+      last = static_cast<int>(i);
+    }
+  if (first < 0) return {0, -1};
+  return {first, last};
+}
+
+namespace {
+
+bool given(double v) { return !std::isnan(v); }
+
+/// Minimum points a stage with data needs for any interpretation.
+constexpr int kMinPoints = 5;
+/// Axial-strain decrease tolerated as rounding in a file (decimal strain).
+constexpr double kStrainRoundOff = 1e-6;
+/// Disagreement between the file's and the declared consolidation stress that is reported:
+/// 5 % with a 2 kPa floor (common practice for cell-pressure control, no source).
+constexpr double kConsolidationRel = 0.05;
+constexpr double kConsolidationAbs = 2.0;
+/// B-value below which a CU test is reported as not saturated enough (common practice, no source).
+constexpr double kMinimumB = 0.95;
+
+std::string fmt(double v) { return format_number(v); }
+
+double positive(const json& o, const char* key, const std::string& src, const std::string& path, bool required) {
+  const double v = required ? detail::get_number(o, key, src, path) : detail::get_number_or(o, key, kNotGiven, src, path);
+  if (given(v) && !(v > 0.0))
+    throw InputError(detail::where(src, path + "." + key) + ": must be positive, found " + o.at(key).dump());
+  return v;
+}
+
+double decimal_in(const json& o, const char* key, double lo, double hi, const std::string& src, const std::string& path) {
+  const double v = detail::get_number_or(o, key, kNotGiven, src, path);
+  if (given(v) && !(v >= lo && v <= hi))
+    throw InputError(detail::where(src, path + "." + key) + ": must be in [" + fmt(lo) + ", " + fmt(hi) +
+                     "] (a decimal, not a percentage), found " + o.at(key).dump());
+  return v;
+}
+
+std::pair<double, double> strain_pair(const json& v, const std::string& src, const std::string& path) {
+  if (!v.is_array() || v.size() != 2 || !v[0].is_number() || !v[1].is_number())
+    throw InputError(detail::where(src, path) + ": expected [from, to] (two axial strains, decimal), found " + v.dump());
+  const double a = v[0].get<double>(), b = v[1].get<double>();
+  if (!(a < b))
+    throw InputError(detail::where(src, path) + ": expected from < to, found " + v.dump());
+  return {a, b};
+}
+
+SpecimenStage parse_stage(const json& s, const std::string& src, const std::string& path) {
+  detail::require_object(s, src, path);
+  SpecimenStage st;
+  const std::string type = detail::get_string(s, "type", src, path);
+  st.label = detail::get_string_or(s, "label", "", src, path);
+  st.data_stage = detail::get_int_or(s, "data_stage", -1, src, path);
+  if (type == "saturation") {
+    detail::check_keys(s, {"type", "label", "b_value", "cell_pressure", "back_pressure"}, src, path);
+    st.type = SpecimenStageType::saturation;
+    st.b_value = decimal_in(s, "b_value", 0.0, 1.05, src, path);
+    st.cell_pressure = detail::get_number_or(s, "cell_pressure", kNotGiven, src, path);
+    st.back_pressure = detail::get_number_or(s, "back_pressure", kNotGiven, src, path);
+    if (given(st.cell_pressure) && given(st.back_pressure) && !(st.cell_pressure >= st.back_pressure))
+      throw InputError(detail::where(src, path + ".cell_pressure") + ": " + fmt(st.cell_pressure) +
+                       " kPa is below the back pressure " + fmt(st.back_pressure) +
+                       " kPa (the effective stress after saturation must not be negative)");
+  } else if (type == "consolidation") {
+    detail::check_keys(s, {"type", "label", "path", "effective_stress", "axial_stress", "radial_stress",
+                           "end_axial_strain", "end_volumetric_strain", "data_stage"},
+                       src, path);
+    st.type = SpecimenStageType::consolidation;
+    const std::string p = detail::get_string(s, "path", src, path);
+    if (p == "isotropic") {
+      st.path = ConsolidationPath::isotropic;
+      const double v = positive(s, "effective_stress", src, path, true);
+      st.axial_stress = st.radial_stress = v;
+      if (s.contains("axial_stress") || s.contains("radial_stress"))
+        throw InputError(detail::where(src, path) +
+                         ": isotropic consolidation takes effective_stress only (axial_stress and radial_stress are for "
+                         "anisotropic and k0)");
+    } else if (p == "anisotropic" || p == "k0") {
+      st.path = p == "k0" ? ConsolidationPath::k0 : ConsolidationPath::anisotropic;
+      st.axial_stress = positive(s, "axial_stress", src, path, true);
+      st.radial_stress = positive(s, "radial_stress", src, path, p == "anisotropic");
+      if (s.contains("effective_stress"))
+        throw InputError(detail::where(src, path + ".effective_stress") + ": only for isotropic consolidation (give axial_stress" +
+                         std::string(p == "k0" ? " and optionally the measured radial_stress" : " and radial_stress") + ")");
+    } else {
+      throw InputError(detail::where(src, path + ".path") +
+                       ": expected \"isotropic\", \"anisotropic\" or \"k0\", found \"" + p + "\"");
+    }
+    st.end_axial_strain = decimal_in(s, "end_axial_strain", -0.5, 0.5, src, path);
+    st.end_volumetric_strain = decimal_in(s, "end_volumetric_strain", -0.5, 0.5, src, path);
+  } else if (type == "shear") {
+    detail::check_keys(s, {"type", "label", "test", "direction", "cell_pressure", "data_stage", "strain_range", "unload_reload"},
+                       src, path);
+    st.type = SpecimenStageType::shear;
+    const std::string t = detail::get_string(s, "test", src, path);
+    if (t == "CU") st.shear = ShearType::cu;
+    else if (t == "CD") st.shear = ShearType::cd;
+    else if (t == "UU") st.shear = ShearType::uu;
+    else
+      throw InputError(detail::where(src, path + ".test") + ": expected \"CU\", \"CD\" or \"UU\", found \"" + t + "\"");
+    const std::string d = detail::get_string_or(s, "direction", "compression", src, path);
+    if (d == "compression") st.direction = ShearDirection::compression;
+    else if (d == "extension") st.direction = ShearDirection::extension;
+    else
+      throw InputError(detail::where(src, path + ".direction") + ": expected \"compression\" or \"extension\", found \"" + d + "\"");
+    st.cell_pressure = detail::get_number_or(s, "cell_pressure", kNotGiven, src, path);
+    if (s.contains("strain_range")) {
+      const auto r = strain_pair(s.at("strain_range"), src, path + ".strain_range");
+      st.strain_from = r.first;
+      st.strain_to = r.second;
+    }
+    if (s.contains("unload_reload")) {
+      const json& loops = s.at("unload_reload");
+      if (!loops.is_array())
+        throw InputError(detail::where(src, path + ".unload_reload") + ": expected a list of [from, to] strain ranges, found " +
+                         loops.dump());
+      for (std::size_t i = 0; i < loops.size(); ++i) {
+        const auto r = strain_pair(loops[i], src, path + ".unload_reload[" + std::to_string(i) + "]");
+        st.loops.push_back({r.first, r.second});
+      }
+    }
+  } else {
+    throw InputError(detail::where(src, path + ".type") + ": unknown stage type \"" + type +
+                     "\" (expected saturation, consolidation or shear)");
+  }
+  return st;
+}
+
+struct QuantityDef {
+  const char* name;
+  QuantityKind kind;
+  bool reduced;
+  bool raw;
+};
+
+constexpr QuantityDef kQuantities[] = {
+    {"stage", QuantityKind::count, true, true},
+    {"axial_strain", QuantityKind::strain, true, false},
+    {"deviator_stress", QuantityKind::stress, true, false},
+    {"pore_pressure", QuantityKind::stress, true, true},
+    {"excess_pore_pressure", QuantityKind::stress, true, false},
+    {"volumetric_strain", QuantityKind::strain, true, false},
+    {"volume_change", QuantityKind::volume, true, false},
+    {"cell_pressure", QuantityKind::stress, true, true},
+    {"axial_load", QuantityKind::force, false, true},
+    {"axial_displacement", QuantityKind::length, false, true},
+    {"back_pressure", QuantityKind::stress, false, true},
+    {"volume_gauge", QuantityKind::volume, false, true},
+};
+
+DataFileSpec parse_data(const json& d, const std::string& src, const std::string& path, const std::filesystem::path& folder) {
+  detail::check_keys(d, {"file", "kind", "delimiter", "decimal", "skip_rows", "skip_after_header", "columns", "membrane"},
+                     src, path);
+  DataFileSpec spec;
+  const std::string file = detail::get_string(d, "file", src, path);
+  std::filesystem::path fp(file);
+  spec.path = fp.is_absolute() ? fp.string() : (folder / fp).lexically_normal().string();
+  const std::string kind = detail::get_string(d, "kind", src, path);
+  if (kind != "reduced" && kind != "raw")
+    throw InputError(detail::where(src, path + ".kind") + ": expected \"reduced\" or \"raw\", found \"" + kind + "\"");
+  spec.raw = kind == "raw";
+  const std::string delim = detail::get_string_or(d, "delimiter", "detect", src, path);
+  if (delim == "comma") spec.delimiter = ',';
+  else if (delim == "semicolon") spec.delimiter = ';';
+  else if (delim == "tab") spec.delimiter = '\t';
+  else if (delim == "detect") spec.delimiter = 0;
+  else
+    throw InputError(detail::where(src, path + ".delimiter") + ": expected \"comma\", \"semicolon\", \"tab\" or \"detect\", found \"" +
+                     delim + "\"");
+  const std::string dec = detail::get_string_or(d, "decimal", "point", src, path);
+  if (dec == "point") spec.decimal = '.';
+  else if (dec == "comma") spec.decimal = ',';
+  else throw InputError(detail::where(src, path + ".decimal") + ": expected \"point\" or \"comma\", found \"" + dec + "\"");
+  if (spec.decimal == ',' && spec.delimiter == ',')
+    throw InputError(detail::where(src, path + ".delimiter") +
+                     ": \"comma\" cannot be the delimiter when the decimal separator is a comma (use \"semicolon\" or \"tab\")");
+  spec.skip_rows = detail::get_int_or(d, "skip_rows", 0, src, path);
+  spec.skip_after_header = detail::get_int_or(d, "skip_after_header", 0, src, path);
+  if (spec.skip_rows < 0)
+    throw InputError(detail::where(src, path + ".skip_rows") + ": must be 0 or more, found " + d.at("skip_rows").dump());
+  if (spec.skip_after_header < 0)
+    throw InputError(detail::where(src, path + ".skip_after_header") + ": must be 0 or more, found " +
+                     d.at("skip_after_header").dump());
+  if (!d.contains("columns")) throw InputError(detail::where(src, path + ".columns") + ": missing (declare the columns and their units)");
+  const json& cols = d.at("columns");
+  detail::require_object(cols, src, path + ".columns");
+  std::string allowed;
+  for (const QuantityDef& q : kQuantities)
+    if (spec.raw ? q.raw : q.reduced) allowed += (allowed.empty() ? "" : ", ") + std::string(q.name);
+  for (const auto& item : cols.items()) {
+    const std::string cp = path + ".columns." + item.key();
+    const QuantityDef* def = nullptr;
+    for (const QuantityDef& q : kQuantities)
+      if (item.key() == q.name && (spec.raw ? q.raw : q.reduced)) def = &q;
+    if (!def)
+      throw InputError(detail::where(src, cp) + ": unknown quantity '" + item.key() + "' for " + kind +
+                       " data (expected one of: " + allowed + ")");
+    detail::check_keys(item.value(), {"header", "unit"}, src, cp);
+    DataFileSpec::Column c;
+    c.quantity = item.key();
+    c.header = detail::get_string(item.value(), "header", src, cp);
+    if (!item.value().contains("unit"))
+      throw InputError(detail::where(src, cp + ".unit") + ": missing (declare the unit of column '" + c.header + "')");
+    c.unit = detail::get_string(item.value(), "unit", src, cp);
+    unit_factor(def->kind, c.unit, detail::where(src, cp + ".unit"));
+    spec.columns.push_back(c);
+  }
+  if (d.contains("membrane")) {
+    const json& m = d.at("membrane");
+    detail::check_keys(m, {"thickness", "modulus"}, src, path + ".membrane");
+    spec.membrane_thickness = positive(m, "thickness", src, path + ".membrane", true);
+    spec.membrane_modulus = positive(m, "modulus", src, path + ".membrane", true);
+    if (!spec.raw)
+      throw InputError(detail::where(src, path + ".membrane") +
+                       ": the membrane correction applies to raw data only (reduced data are taken as corrected)");
+  }
+  return spec;
+}
+
+QuantityKind kind_of(const std::string& quantity) {
+  for (const QuantityDef& q : kQuantities)
+    if (quantity == q.name) return q.kind;
+  return QuantityKind::count;
+}
+
+struct SpecimenJson {
+  Specimen specimen;
+  std::string path;  // JSON path, e.g. specimens[2]
+};
+
+struct ParsedSeries {
+  TestSeries series;
+  std::vector<SpecimenJson> specimens;
+};
+
+ParsedSeries parse_series_json(const std::string& path) {
+  const std::string src = path;
+  const json root = detail::parse_json(detail::read_text_file(path), src);
+  detail::check_format(root, kTestSeriesFormat, kTestSeriesVersion, src);
+  detail::check_keys(root, {"format", "version", "name", "description", "specimens"}, src, "");
+  ParsedSeries out;
+  out.series.source = path;
+  out.series.name = detail::get_string_or(root, "name", "", src, "");
+  out.series.description = detail::get_string_or(root, "description", "", src, "");
+  if (!root.contains("specimens")) throw InputError(src + ": specimens: missing (a list of specimens is required)");
+  const json& list = root.at("specimens");
+  if (!list.is_array() || list.empty())
+    throw InputError(src + ": specimens: expected a non-empty list, found " + list.dump().substr(0, 40));
+  const std::filesystem::path folder = std::filesystem::path(path).parent_path();
+  std::map<std::string, std::string> ids;
+  for (std::size_t i = 0; i < list.size(); ++i) {
+    const std::string sp = "specimens[" + std::to_string(i) + "]";
+    const json& o = list[i];
+    detail::check_keys(o, {"id", "borehole", "depth", "description", "height", "diameter", "void_ratio", "water_content",
+                           "specific_gravity", "degree_of_saturation", "relative_density", "initial_effective_stress",
+                           "stages", "data"},
+                       src, sp);
+    Specimen s;
+    s.id = detail::get_string(o, "id", src, sp);
+    if (s.id.empty()) throw InputError(src + ": " + sp + ".id: must not be empty");
+    if (const auto it = ids.find(s.id); it != ids.end())
+      throw InputError(src + ": " + sp + ".id: duplicate specimen id '" + s.id + "' (also " + it->second + ".id)");
+    ids[s.id] = sp;
+    s.borehole = detail::get_string_or(o, "borehole", "", src, sp);
+    s.depth = detail::get_string_or(o, "depth", "", src, sp);
+    s.description = detail::get_string_or(o, "description", "", src, sp);
+    s.height = positive(o, "height", src, sp, true);
+    s.diameter = positive(o, "diameter", src, sp, true);
+    s.void_ratio = positive(o, "void_ratio", src, sp, false);
+    s.water_content = decimal_in(o, "water_content", 0.0, 5.0, src, sp);
+    s.specific_gravity = positive(o, "specific_gravity", src, sp, false);
+    s.degree_of_saturation = decimal_in(o, "degree_of_saturation", 0.0, 1.0, src, sp);
+    s.relative_density = decimal_in(o, "relative_density", 0.0, 1.0, src, sp);
+    s.initial_effective_stress = positive(o, "initial_effective_stress", src, sp, false);
+    if (!given(s.void_ratio) && given(s.water_content) && given(s.specific_gravity)) {
+      // e0 = w Gs / Sr (phase relations); Sr = 1 unless declared.
+      const double sr = given(s.degree_of_saturation) && s.degree_of_saturation > 0.0 ? s.degree_of_saturation : 1.0;
+      s.void_ratio = s.water_content * s.specific_gravity / sr;
+    }
+    if (!o.contains("stages")) throw InputError(src + ": " + sp + ".stages: missing (a list of stages is required)");
+    const json& stages = o.at("stages");
+    if (!stages.is_array())
+      throw InputError(src + ": " + sp + ".stages: expected a list, found " + std::string(stages.type_name()));
+    for (std::size_t k = 0; k < stages.size(); ++k)
+      s.stages.push_back(parse_stage(stages[k], src, sp + ".stages[" + std::to_string(k) + "]"));
+    if (s.shear_stages().empty())
+      throw InputError(src + ": " + sp + ".stages: specimen '" + s.id +
+                       "' has no shear stage (at least one stage of type \"shear\" is required)");
+    int shear_no = 0;
+    for (std::size_t k = 0; k < s.stages.size(); ++k) {
+      SpecimenStage& st = s.stages[k];
+      if (st.type == SpecimenStageType::saturation) {
+        if (given(st.back_pressure)) s.back_pressure = st.back_pressure;
+        if (given(st.b_value)) s.b_value = st.b_value;
+      }
+      if (st.type == SpecimenStageType::shear) {
+        ++shear_no;
+        if (st.data_stage < 0) st.data_stage = shear_no;
+        if (st.shear == ShearType::uu && !given(st.cell_pressure))
+          throw InputError(src + ": " + sp + ".stages[" + std::to_string(k) +
+                           "].cell_pressure: missing (a UU stage needs its total cell pressure, kPa)");
+        bool consolidated = false;
+        for (std::size_t j = 0; j < k; ++j) consolidated = consolidated || s.stages[j].type == SpecimenStageType::consolidation;
+        if (st.shear != ShearType::uu && !consolidated)
+          throw InputError(src + ": " + sp + ".stages[" + std::to_string(k) + "]: a " + to_string(st.shear) +
+                           " stage needs a consolidation stage before it");
+      }
+    }
+    if (s.shear_stages().size() > 1) {
+      std::map<int, int> seen;
+      for (std::size_t k = 0; k < s.stages.size(); ++k) {
+        if (s.stages[k].data_stage < 0) continue;
+        if (const auto it = seen.find(s.stages[k].data_stage); it != seen.end())
+          throw InputError(src + ": " + sp + ".stages[" + std::to_string(k) + "].data_stage: " +
+                           std::to_string(s.stages[k].data_stage) + " is also used by stages[" + std::to_string(it->second) + "]");
+        seen[s.stages[k].data_stage] = static_cast<int>(k);
+      }
+    }
+    if (!o.contains("data")) throw InputError(src + ": " + sp + ".data: missing (the data file and its columns are required)");
+    s.data = parse_data(o.at("data"), src, sp + ".data", folder);
+    out.specimens.push_back({s, sp});
+  }
+  return out;
+}
+
+double stage_cell_pressure(const Specimen& s, int stage) {
+  const SpecimenStage& st = s.stages[static_cast<std::size_t>(stage)];
+  if (given(st.cell_pressure)) return st.cell_pressure;
+  for (int j = stage; j >= 0; --j) {
+    const SpecimenStage& c = s.stages[static_cast<std::size_t>(j)];
+    if (c.type == SpecimenStageType::consolidation) return given(c.radial_stress) ? c.radial_stress + s.back_pressure : kNotGiven;
+    if (c.type == SpecimenStageType::saturation && given(c.cell_pressure)) return c.cell_pressure;
+  }
+  return kNotGiven;
+}
+
+bool drained_stage(const SpecimenStage& st) {
+  return st.type != SpecimenStageType::shear || st.shear == ShearType::cd;
+}
+
+void read_data(Specimen& s, const std::string& series_src, const std::string& sp, std::vector<SeriesWarning>& warnings) {
+  const DataFileSpec& spec = s.data;
+  const std::string src = spec.path;
+  std::vector<CsvColumnRequest> req;
+  std::map<std::string, int> col;
+  for (const DataFileSpec::Column& c : spec.columns) {
+    col[c.quantity] = static_cast<int>(req.size());
+    req.push_back({c.quantity, c.header, unit_factor(kind_of(c.quantity), c.unit, series_src)});
+  }
+  const auto has = [&](const char* q) { return col.count(q) > 0; };
+  const std::string cols_path = series_src + ": " + sp + ".data.columns";
+  const auto need = [&](bool ok, const std::string& what) {
+    if (!ok) throw InputError(cols_path + ": " + what);
+  };
+  bool any_cu = false, any_cd = false, any_uu = false;
+  for (const SpecimenStage& st : s.stages)
+    if (st.type == SpecimenStageType::shear) {
+      any_cu = any_cu || st.shear == ShearType::cu;
+      any_cd = any_cd || st.shear == ShearType::cd;
+      any_uu = any_uu || st.shear == ShearType::uu;
+    }
+  if (spec.raw) {
+    need(has("axial_load"), "raw data need an axial_load column (the deviator load, N or kN)");
+    need(has("axial_displacement"), "raw data need an axial_displacement column (shortening positive, mm)");
+    if (any_cu) need(has("pore_pressure"), "a CU test needs a pore_pressure column");
+    if (any_cd) need(has("volume_gauge"), "a CD test needs a volume_gauge column (water out of the specimen positive)");
+  } else {
+    need(has("axial_strain"), "reduced data need an axial_strain column");
+    need(has("deviator_stress"), "reduced data need a deviator_stress column");
+    need(!(has("pore_pressure") && has("excess_pore_pressure")), "give pore_pressure or excess_pore_pressure, not both");
+    need(!(has("volumetric_strain") && has("volume_change")), "give volumetric_strain or volume_change, not both");
+    if (any_cu) need(has("pore_pressure") || has("excess_pore_pressure"), "a CU test needs a pore_pressure or excess_pore_pressure column");
+    if (any_cd) need(has("volumetric_strain") || has("volume_change"), "a CD test needs a volumetric_strain or volume_change column");
+  }
+  (void)any_uu;
+  if (s.shear_stages().size() > 1 && !has("stage")) {
+    for (int k : s.shear_stages())
+      if (!given(s.stages[static_cast<std::size_t>(k)].strain_from))
+        throw InputError(series_src + ": " + sp + ".stages[" + std::to_string(k) +
+                         "]: with several shear stages and no stage column, each shear stage needs its strain_range");
+  }
+
+  CsvLayout layout{spec.delimiter, spec.decimal, spec.skip_rows, spec.skip_after_header};
+  const CsvTable t = parse_lab_csv(detail::read_text_file(src), src, layout, req);
+  const std::size_t n = t.line.size();
+  const auto column = [&](const char* q) -> const std::vector<double>* {
+    const auto it = col.find(q);
+    return it == col.end() ? nullptr : &t.values[static_cast<std::size_t>(it->second)];
+  };
+  // Stage of each row.
+  std::vector<int> stage(n, -1);
+  if (const auto* sc = column("stage")) {
+    for (std::size_t i = 0; i < n; ++i) {
+      const double v = (*sc)[i];
+      for (std::size_t k = 0; k < s.stages.size(); ++k)
+        if (s.stages[k].data_stage >= 0 && static_cast<double>(s.stages[k].data_stage) == v) stage[i] = static_cast<int>(k);
+      if (stage[i] < 0) {
+        std::string list;
+        for (std::size_t k = 0; k < s.stages.size(); ++k)
+          if (s.stages[k].data_stage >= 0) list += (list.empty() ? "" : ", ") + std::to_string(s.stages[k].data_stage);
+        throw InputError(src + ": line " + std::to_string(t.line[i]) + " (stage): stage " + fmt(v) +
+                         " matches no declared stage (data_stage values: " + list + ")");
+      }
+    }
+  }
+  // Reference dimensions at the data zero.
+  const double a0 = 0.25 * std::numbers::pi * s.diameter * s.diameter;
+  s.reference_height = s.height;
+  s.reference_area = a0;
+  s.reference_void_ratio = s.void_ratio;
+  if (n == 0) throw InputError(src + ": no data rows after the header (at least " + std::to_string(kMinPoints) + " are needed)");
+  // Axial strain first (needed to assign stages by strain range).
+  std::vector<double> ea(n), ev(n, 0.0);
+  int first_stage = stage[0];
+  if (first_stage < 0) {
+    // Without a stage column the data start with the first shear stage.
+    first_stage = s.shear_stages().front();
+  }
+  // Consolidation strains before the data zero set the reference dimensions and void ratio.
+  {
+    double ea_c = 0.0, ev_c = 0.0;
+    bool have = false, unknown = false;
+    for (int k = 0; k < first_stage; ++k) {
+      const SpecimenStage& c = s.stages[static_cast<std::size_t>(k)];
+      if (c.type != SpecimenStageType::consolidation) continue;
+      if (given(c.end_volumetric_strain)) {
+        ev_c = c.end_volumetric_strain;
+        ea_c = given(c.end_axial_strain) ? c.end_axial_strain : ev_c / 3.0;
+        have = true;
+        unknown = false;
+      } else {
+        unknown = true;
+      }
+    }
+    if (have) {
+      s.reference_height = s.height * (1.0 - ea_c);
+      s.reference_area = corrected_area(a0, ev_c, ea_c);
+      if (given(s.void_ratio)) s.reference_void_ratio = void_ratio_after(s.void_ratio, ev_c);
+    }
+    if (unknown) {
+      s.reference_void_ratio = kNotGiven;
+      warnings.push_back({s.id, series_src + ": " + sp +
+                                    ": the consolidation before the data declares no end_volumetric_strain; the area "
+                                    "correction uses the set-up dimensions and void ratios are not reported"});
+    }
+  }
+  const double v_ref = s.reference_height * s.reference_area;
+  if (spec.raw) {
+    const auto& d = *column("axial_displacement");
+    for (std::size_t i = 0; i < n; ++i) ea[i] = axial_strain_from_displacement(d[i], d[0], s.reference_height);
+  } else {
+    ea = *column("axial_strain");
+  }
+  if (!column("stage")) {
+    const std::vector<int> shear = s.shear_stages();
+    if (shear.size() == 1) {
+      std::fill(stage.begin(), stage.end(), shear.front());
+    } else {
+      std::size_t cur = 0;
+      const double tol = kStrainRoundOff;
+      for (std::size_t i = 0; i < n; ++i) {
+        while (cur + 1 < shear.size() && ea[i] > s.stages[static_cast<std::size_t>(shear[cur])].strain_to + tol) ++cur;
+        const SpecimenStage& st = s.stages[static_cast<std::size_t>(shear[cur])];
+        if (ea[i] > st.strain_to + tol || ea[i] < st.strain_from - tol) {
+          bool in_loop = false;
+          for (const auto& l : st.loops) in_loop = in_loop || (ea[i] >= l.from_strain - tol && ea[i] <= l.to_strain + tol);
+          if (!in_loop)
+            throw InputError(src + ": line " + std::to_string(t.line[i]) + " (axial_strain): " + fmt(ea[i]) +
+                             " is outside every declared strain_range (stages[" + std::to_string(shear[cur]) + "] has [" +
+                             fmt(st.strain_from) + ", " + fmt(st.strain_to) + "])");
+        }
+        stage[i] = shear[cur];
+      }
+    }
+  }
+  s.data_zero_stage = stage[0];
+  // Volumetric strain: from the gauge or the column where given, held constant in undrained stages.
+  const std::vector<double>* vcol = spec.raw ? column("volume_gauge") : (column("volumetric_strain") ? column("volumetric_strain") : column("volume_change"));
+  const bool vol_is_strain = !spec.raw && column("volumetric_strain");
+  for (std::size_t i = 0; i < n; ++i) {
+    const SpecimenStage& st = s.stages[static_cast<std::size_t>(stage[i])];
+    if (!vcol) {
+      ev[i] = 0.0;
+    } else if (!drained_stage(st) && i > 0 && stage[i - 1] == stage[i]) {
+      ev[i] = ev[i - 1];
+    } else {
+      ev[i] = vol_is_strain ? (*vcol)[i] : ((*vcol)[i] - (*vcol)[0]) / v_ref;
+    }
+  }
+  ReducedCurves& c = s.curves;
+  c = ReducedCurves{};
+  const bool membrane = given(spec.membrane_modulus) && given(spec.membrane_thickness);
+  const double d_ref = std::sqrt(4.0 * s.reference_area / std::numbers::pi);
+  for (std::size_t i = 0; i < n; ++i) {
+    const int k = stage[i];
+    const SpecimenStage& st = s.stages[static_cast<std::size_t>(k)];
+    const std::string at = src + ": line " + std::to_string(t.line[i]);
+    double q = 0.0;
+    if (spec.raw) {
+      const double area = corrected_area(s.reference_area, ev[i], ea[i]);
+      if (!(area > 0.0)) throw InputError(at + ": the corrected area is not positive (axial strain " + fmt(ea[i]) + ")");
+      q = deviator_from_load((*column("axial_load"))[i], area);
+      if (membrane) q -= membrane_correction(spec.membrane_modulus, spec.membrane_thickness, ea[i], d_ref);
+    } else {
+      q = (*column("deviator_stress"))[i];
+    }
+    const double cell = column("cell_pressure") ? (*column("cell_pressure"))[i] : stage_cell_pressure(s, k);
+    double u = kNotGiven;
+    if (column("pore_pressure") && !(spec.raw && drained_stage(st) && column("back_pressure")))
+      u = (*column("pore_pressure"))[i];
+    else if (column("excess_pore_pressure"))
+      u = s.back_pressure + (*column("excess_pore_pressure"))[i];
+    else if (spec.raw && column("back_pressure") && drained_stage(st))
+      u = (*column("back_pressure"))[i];
+    else if (drained_stage(st))
+      u = s.back_pressure;
+    double sr = kNotGiven;
+    if (given(u) && given(cell)) sr = cell - u;
+    if (given(u) && !given(cell) && st.shear != ShearType::uu)
+      throw InputError(series_src + ": " + sp + ".stages[" + std::to_string(k) +
+                       "]: the cell pressure is unknown (give a cell_pressure column or the consolidation radial_stress)");
+    const double sa = given(sr) ? sr + q : kNotGiven;
+    if (given(sr) && (sr < 0.0 || sa < 0.0))
+      throw InputError(at + ": negative effective stress (s_r' = " + fmt(sr) + " kPa, s_a' = " + fmt(sa) +
+                       " kPa from cell pressure " + fmt(cell) + " kPa, pore pressure " + fmt(u) + " kPa, q " + fmt(q) + " kPa)");
+    c.stage.push_back(k);
+    c.line.push_back(t.line[i]);
+    c.axial_strain.push_back(ea[i]);
+    c.volumetric_strain.push_back(ev[i]);
+    c.deviator_stress.push_back(q);
+    c.excess_pore_pressure.push_back(given(u) ? u - s.back_pressure : kNotGiven);
+    c.radial_stress.push_back(sr);
+    c.axial_stress.push_back(sa);
+    c.mean_stress.push_back(given(sr) ? sr + q / 3.0 : kNotGiven);
+    c.cell_pressure.push_back(cell);
+    c.void_ratio.push_back(given(s.reference_void_ratio) ? void_ratio_after(s.reference_void_ratio, ev[i]) : kNotGiven);
+  }
+  // Per-stage checks.
+  for (std::size_t k = 0; k < s.stages.size(); ++k) {
+    const SpecimenStage& st = s.stages[k];
+    const auto [first, last] = s.stage_points(static_cast<int>(k));
+    const int count = last - first + 1;
+    if (st.type == SpecimenStageType::shear && count < kMinPoints)
+      throw InputError(src + ": specimen '" + s.id + "', stages[" + std::to_string(k) + "] (shear): " + std::to_string(std::max(count, 0)) +
+                       " data points, at least " + std::to_string(kMinPoints) + " are needed");
+    if (st.type != SpecimenStageType::shear || count <= 0) continue;
+    const double dir = st.direction == ShearDirection::compression ? 1.0 : -1.0;
+    for (int i = first + 1; i <= last; ++i) {
+      const double prev = c.axial_strain[static_cast<std::size_t>(i - 1)], now = c.axial_strain[static_cast<std::size_t>(i)];
+      if (dir * (now - prev) >= -kStrainRoundOff) continue;
+      bool in_loop = false;
+      for (const auto& l : st.loops)
+        in_loop = in_loop || (std::min(now, prev) >= l.from_strain - kStrainRoundOff && std::max(now, prev) <= l.to_strain + kStrainRoundOff);
+      if (!in_loop)
+        throw InputError(src + ": line " + std::to_string(c.line[static_cast<std::size_t>(i)]) + " (axial_strain): the axial strain goes back from " +
+                         fmt(prev) + " to " + fmt(now) + " outside a declared unload-reload loop (declare it in " + sp + ".stages[" +
+                         std::to_string(k) + "].unload_reload)");
+    }
+    // Consolidation stress in the file against the declared one.
+    const bool measured = column("cell_pressure") || column("pore_pressure") || column("excess_pore_pressure");
+    if (measured && st.shear != ShearType::uu) {
+      for (int j = static_cast<int>(k) - 1; j >= 0; --j) {
+        const SpecimenStage& cs = s.stages[static_cast<std::size_t>(j)];
+        if (cs.type == SpecimenStageType::shear) break;
+        if (cs.type != SpecimenStageType::consolidation) continue;
+        const double found = c.radial_stress[static_cast<std::size_t>(first)];
+        if (given(cs.radial_stress) && given(found) &&
+            std::abs(found - cs.radial_stress) > std::max(kConsolidationAbs, kConsolidationRel * cs.radial_stress))
+          warnings.push_back({s.id, src + ": line " + std::to_string(c.line[static_cast<std::size_t>(first)]) +
+                                        ": effective radial stress at the start of shear is " + fmt(found) +
+                                        " kPa in the file, declared consolidation radial stress " + fmt(cs.radial_stress) +
+                                        " kPa (" + sp + ".stages[" + std::to_string(j) + "])"});
+        break;
+      }
+    }
+  }
+  if (any_cu) {
+    if (!given(s.b_value))
+      warnings.push_back({s.id, series_src + ": " + sp + ": CU test without a declared B-value (saturation stage b_value)"});
+    else if (s.b_value < kMinimumB)
+      warnings.push_back({s.id, series_src + ": " + sp + ": B-value " + fmt(s.b_value) + " is below " + fmt(kMinimumB) +
+                                    " for a CU test; pore pressures may be underestimated"});
+  }
+}
+
+}  // namespace
+
+SeriesCheck check_test_series(const std::string& path) {
+  SeriesCheck check;
+  ParsedSeries parsed;
+  try {
+    parsed = parse_series_json(path);
+  } catch (const InputError& e) {
+    check.errors.push_back(e.what());
+    return check;
+  }
+  check.series = parsed.series;
+  for (SpecimenJson& sj : parsed.specimens) {
+    try {
+      read_data(sj.specimen, path, sj.path, check.series.warnings);
+      check.series.specimens.push_back(sj.specimen);
+    } catch (const InputError& e) {
+      check.errors.push_back(e.what());
+    }
+  }
+  return check;
+}
+
+TestSeries read_test_series(const std::string& path) {
+  ParsedSeries parsed = parse_series_json(path);
+  TestSeries series = parsed.series;
+  for (SpecimenJson& sj : parsed.specimens) {
+    read_data(sj.specimen, path, sj.path, series.warnings);
+    series.specimens.push_back(sj.specimen);
+  }
+  return series;
+}
+
+}  // namespace triaxcal
