@@ -125,32 +125,43 @@ struct Control {
   std::array<bool, 6> pure{};
   std::array<int, 6> free{};
   int nfree = 0;
+  // Targets move linearly over a stage: b_i = from_i + f (to_i - from_i) - (pore_i ? u : 0), with f
+  // the fraction of the stage at the end of the step and u the pore pressure at its start.
+  Vec6 from = Vec6::Zero();
+  Vec6 to = Vec6::Zero();
+  std::array<bool, 6> pore{};
 
   void reset() {
-    a.setZero();
+    a.setIdentity();
     c.setZero();
-    b.setZero();
+    from.setZero();
+    to.setZero();
     pure.fill(true);
-    for (int i = 0; i < 6; ++i) a(i, i) = 1.0;
+    pore.fill(false);
   }
   void strain(int i, double d) {
     a.row(i).setZero();
     c.row(i).setZero();
     a(i, i) = 1.0;
-    b[i] = d;
+    from[i] = to[i] = d;
     pure[i] = true;
   }
-  void mixed(int i, const Vec6& arow, const Vec6& crow, double bi) {
+  void mixed(int i, const Vec6& arow, const Vec6& crow, double b_from, double b_to, bool minus_pore = false) {
     a.row(i) = arow.transpose();
     c.row(i) = crow.transpose();
-    b[i] = bi;
+    from[i] = b_from;
+    to[i] = b_to;
     pure[i] = false;
+    pore[i] = minus_pore;
   }
-  void effective_stress(int i, double target) { mixed(i, Vec6::Zero(), Vec6::Unit(i), target); }
+  void effective_stress(int i, double b_from, double b_to) { mixed(i, Vec6::Zero(), Vec6::Unit(i), b_from, b_to); }
   void finish() {
     nfree = 0;
     for (int i = 0; i < 6; ++i)
       if (!pure[i]) free[nfree++] = i;
+  }
+  void set_targets(double f, double u) {
+    for (int i = 0; i < 6; ++i) b[i] = from[i] + f * (to[i] - from[i]) - (pore[i] ? u : 0.0);
   }
 };
 
@@ -180,7 +191,7 @@ class Runner {
                Vec6& d_eps, MaterialState& out, Mat6& tangent, bool elastic_predictor);
   void record(int stage, int step, int cuts);
   void fail(int stage, int step, const std::string& why);
-  void build_control(const Stage& stage, const StageStart& start, int n, int phase, Control& control) const;
+  void build_control(const Stage& stage, const StageStart& start, int phase, Control& control) const;
 
   const DriverOptions& opt_;
   const Model& model_;
@@ -227,15 +238,12 @@ void Runner::fail(int stage, int step_in_stage, const std::string& why) {
   result_.failed_step = step_in_stage;
 }
 
-// Control of step n (1-based) of a stage; `phase` is 0, or 1 for the reload half of a loop.
-void Runner::build_control(const Stage& stage, const StageStart& s, int n, int phase, Control& c) const {
+// Control of a stage (phase 1: the reload half of a loop); targets run from the stage start
+// (f = 0) to the stage end (f = 1), see Control::set_targets.
+void Runner::build_control(const Stage& stage, const StageStart& s, int phase, Control& c) const {
   c.reset();  // all rows: zero strain increment
-  const double f = static_cast<double>(n) / stage.steps;
   const Vec6 m = identity_voigt();
   const double kf = protocol_.pore_fluid_stiffness;
-  auto interpolate = [&](double from, double to) { return from + f * (to - from); };
-  // Undrained boundary with constant total radial stress: sigma'_i + u = cell_i, with
-  // u = u_step_start + K_f/n * d_eps_v for a compressible pore fluid.
   // The specimen is axisymmetric and the models are isotropic, so the radial directions share one
   // strain: row 2 keeps eps_22 = eps_33 and row 1 controls the mean radial stress. (Controlling
   // s_22' and s_33' separately is singular on the triaxial edges of a perfectly plastic model,
@@ -244,31 +252,31 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int n, int p
   radial_mean[1] = radial_mean[2] = 0.5;
   const Vec6 radial_split = Vec6::Unit(1) - Vec6::Unit(2);
   const double cell_radial = 0.5 * (s.cell[1] + s.cell[2]);
-  auto equal_radial_strains = [&] { c.mixed(2, radial_split, Vec6::Zero(), 0.0); };
-  auto drained_radial = [&](double target) {
-    c.mixed(1, Vec6::Zero(), radial_mean, target);
+  auto equal_radial_strains = [&] { c.mixed(2, radial_split, Vec6::Zero(), 0.0, 0.0); };
+  auto drained_radial = [&](double from, double to) {
+    c.mixed(1, Vec6::Zero(), radial_mean, from, to);
     equal_radial_strains();
   };
   // Undrained boundary with constant total radial stress: s_r' + u = cell, with
   // u = u_step_start + K_f/n * d_eps_v for a compressible pore fluid.
   auto undrained_radial = [&] {
-    c.mixed(1, kf * m, radial_mean, cell_radial - u_);
+    c.mixed(1, kf * m, radial_mean, cell_radial, cell_radial, true);
     equal_radial_strains();
   };
   const double radial0 = 0.5 * (s.stress[1] + s.stress[2]);
   switch (stage.type) {
     case StageType::isotropic_consolidation:
-      c.effective_stress(0, interpolate(s.stress[0], stage.target_p));
-      drained_radial(interpolate(radial0, stage.target_p));
+      c.effective_stress(0, s.stress[0], stage.target_p);
+      drained_radial(radial0, stage.target_p);
       break;
     case StageType::anisotropic_consolidation:
-      c.effective_stress(0, interpolate(s.stress[0], stage.target_axial));
-      drained_radial(interpolate(radial0, stage.target_radial));
+      c.effective_stress(0, s.stress[0], stage.target_axial);
+      drained_radial(radial0, stage.target_radial);
       break;
     case StageType::k0_consolidation:
     case StageType::oedometer:
       if (given(stage.target_axial))
-        c.effective_stress(0, interpolate(s.stress[0], stage.target_axial));
+        c.effective_stress(0, s.stress[0], stage.target_axial);
       else
         c.strain(0, stage.axial_strain / stage.steps);
       break;
@@ -276,7 +284,7 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int n, int p
       const double de = stage.axial_strain / stage.steps;
       c.strain(0, de);
       if (stage.drainage == Drainage::drained) {
-        drained_radial(radial0);
+        drained_radial(radial0, radial0);
       } else if (incompressible_) {
         // No volume change and equal radial strains: fully strain-controlled, no iteration.
         c.strain(1, -0.5 * de);
@@ -290,24 +298,25 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int n, int p
       c.strain(0, stage.axial_strain / stage.steps);
       Vec6 third = Vec6::Zero();
       third.head<3>().setConstant(1.0 / 3.0);
-      c.mixed(1, Vec6::Zero(), third, s.p);
+      c.mixed(1, Vec6::Zero(), third, s.p, s.p);
       equal_radial_strains();
       break;
     }
     case StageType::unload_reload: {
-      const double q = phase == 0 ? interpolate(s.q, stage.target_deviator) : interpolate(stage.target_deviator, s.q);
+      const double q_from = phase == 0 ? s.q : stage.target_deviator;
+      const double q_to = phase == 0 ? stage.target_deviator : s.q;
       Vec6 qrow = Vec6::Zero();
       qrow << 1.0, -0.5, -0.5, 0.0, 0.0, 0.0;
       if (stage.drainage == Drainage::drained) {
-        c.effective_stress(0, radial0 + q);
-        drained_radial(radial0);
+        c.effective_stress(0, radial0 + q_from, radial0 + q_to);
+        drained_radial(radial0, radial0);
       } else if (incompressible_) {
-        c.mixed(0, Vec6::Zero(), qrow, q);
-        c.mixed(1, m, Vec6::Zero(), 0.0);
+        c.mixed(0, Vec6::Zero(), qrow, q_from, q_to);
+        c.mixed(1, m, Vec6::Zero(), 0.0, 0.0);
         equal_radial_strains();
       } else {
         // Total axial stress = cell radial + q, total radial stress = cell.
-        c.mixed(0, kf * m, Vec6::Unit(0), cell_radial + q - u_);
+        c.mixed(0, kf * m, Vec6::Unit(0), cell_radial + q_from, cell_radial + q_to, true);
         undrained_radial();
       }
       break;
@@ -448,8 +457,9 @@ bool Runner::run_stage(int index) {
   double best_ratio = -std::numeric_limits<double>::infinity();
   bool stop = false;
   for (int phase = 0; phase < phases && !stop; ++phase) {
+    build_control(stage, start_, phase, control);
     for (int n = 1; n <= stage.steps; ++n) {
-      build_control(stage, start_, n, phase, control);
+      control.set_targets(static_cast<double>(n) / stage.steps, u_);
       ++counter;
       if (!step(index, counter, control, stage.drainage)) return false;
       const StepRecord& r = result_.steps.back();

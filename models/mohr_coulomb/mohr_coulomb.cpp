@@ -62,6 +62,7 @@ MohrCoulomb::MohrCoulomb(const ParameterValues& v) {
   elastic_principal_.setConstant(lame);
   elastic_principal_.diagonal().array() += 2.0 * shear_;
   elastic_ = isotropic_elastic_stiffness(bulk_, shear_);
+  prepare_return();
 }
 
 void MohrCoulomb::initialise(const InitialConditions& conditions, MaterialState& state) const {
@@ -71,20 +72,12 @@ void MohrCoulomb::initialise(const InitialConditions& conditions, MaterialState&
 
 namespace {
 
-// Linear surfaces a . s <= k in sorted principal space with flow direction b.
-struct Surface {
-  Vec3 a;
-  double k;
-  Vec3 b;
-};
-
-enum SurfaceId { main_plane, compression_edge, extension_edge, tension_c, tension_b, tension_a, surface_count };
+enum SurfaceId { main_plane, compression_edge, extension_edge, tension_c, tension_b, tension_a };
 
 // Active sets to try, smallest first. In sorted space the main plane (A-C) is the most critical
 // Mohr-Coulomb plane and s_C the most critical for tension, so single-surface returns need only
 // those two; edges, apex and tension corners follow.
-constexpr int kCandidates = 10;
-constexpr int kCandidateSets[kCandidates][3] = {
+constexpr int kCandidateSets[10][3] = {
     {main_plane, -1, -1},
     {tension_c, -1, -1},
     {main_plane, compression_edge, -1},
@@ -99,66 +92,77 @@ constexpr int kCandidateSets[kCandidates][3] = {
 
 }  // namespace
 
+void MohrCoulomb::prepare_return() {
+  // Planes a . s <= k in sorted principal space (s_A >= s_B >= s_C), flow directions b.
+  const Vec3 normals[kSurfaces] = {Vec3(1.0, 0.0, -k_phi_), Vec3(1.0, -k_phi_, 0.0), Vec3(0.0, 1.0, -k_phi_),
+                                   Vec3(0.0, 0.0, -1.0),    Vec3(0.0, -1.0, 0.0),    Vec3(-1.0, 0.0, 0.0)};
+  const Vec3 flows[kSurfaces] = {Vec3(1.0, 0.0, -k_psi_), Vec3(1.0, -k_psi_, 0.0), Vec3(0.0, 1.0, -k_psi_),
+                                 Vec3(0.0, 0.0, -1.0),    Vec3(0.0, -1.0, 0.0),    Vec3(-1.0, 0.0, 0.0)};
+  const double limits[kSurfaces] = {strength_, strength_, strength_, tension_, tension_, tension_};
+  for (int i = 0; i < kSurfaces; ++i) planes_[i] = {normals[i], limits[i]};
+  for (int c = 0; c < kSets; ++c) {
+    ActiveSet& set = sets_[c];
+    set.n = 0;
+    for (int id : kCandidateSets[c])
+      if (id >= 0) set.ids[set.n++] = id;
+    Mat3 m = Mat3::Identity();
+    set.flow.setZero();
+    for (int i = 0; i < set.n; ++i) set.flow.col(i) = elastic_principal_ * flows[set.ids[i]];
+    for (int j = 0; j < set.n; ++j)
+      for (int i = 0; i < set.n; ++i) m(j, i) = normals[set.ids[j]].dot(set.flow.col(i));
+    Eigen::PartialPivLU<Mat3> lu(m);
+    set.usable = std::abs(lu.determinant()) > 1e-12 * std::pow(m.cwiseAbs().maxCoeff(), set.n);
+    if (!set.usable) continue;
+    set.inverse = lu.inverse();
+    set.tangent = elastic_principal_;
+    for (int i = 0; i < set.n; ++i)
+      for (int j = 0; j < set.n; ++j)
+        set.tangent -= set.inverse(i, j) * set.flow.col(i) * (elastic_principal_ * normals[set.ids[j]]).transpose();
+  }
+}
+
+bool MohrCoulomb::admissible(const Vec3& s, double tol) const {
+  for (const Plane& f : planes_)
+    if (f.a.dot(s) - f.k > tol * (1.0 + k_phi_)) return false;
+  return s[0] >= s[1] - tol && s[1] >= s[2] - tol;
+}
+
 int MohrCoulomb::return_principal(const Vec3& trial, Vec3& stress, Mat3& tangent, double& multiplier) const {
-  const Surface surfaces[surface_count] = {
-      {Vec3(1.0, 0.0, -k_phi_), strength_, Vec3(1.0, 0.0, -k_psi_)},
-      {Vec3(1.0, -k_phi_, 0.0), strength_, Vec3(1.0, -k_psi_, 0.0)},
-      {Vec3(0.0, 1.0, -k_phi_), strength_, Vec3(0.0, 1.0, -k_psi_)},
-      {Vec3(0.0, 0.0, -1.0), tension_, Vec3(0.0, 0.0, -1.0)},
-      {Vec3(0.0, -1.0, 0.0), tension_, Vec3(0.0, -1.0, 0.0)},
-      {Vec3(-1.0, 0.0, 0.0), tension_, Vec3(-1.0, 0.0, 0.0)},
-  };
   const double scale = std::max(1.0, trial.cwiseAbs().maxCoeff());
   const double ftol = 1e-11 * scale;
-  auto admissible = [&](const Vec3& s) {
-    for (const Surface& f : surfaces)
-      if (f.a.dot(s) - f.k > ftol * (1.0 + k_phi_)) return false;
-    return s[0] >= s[1] - ftol && s[1] >= s[2] - ftol;
-  };
   multiplier = 0.0;
-  if (admissible(trial)) {
+  if (admissible(trial, ftol)) {
     stress = trial;
     tangent = elastic_principal_;
     return 0;
   }
-  for (const auto& set : kCandidateSets) {
-    int n = 0;
-    const Surface* active[3];
-    for (int id : set)
-      if (id >= 0) active[n++] = &surfaces[id];
+  for (const ActiveSet& set : sets_) {
+    if (!set.usable) continue;
     // Sum_i (a_j . D b_i) lambda_i = a_j . trial - k_j for every active j.
-    Eigen::Matrix<double, 3, 3> db;  // columns D b_i
-    for (int i = 0; i < n; ++i) db.col(i) = elastic_principal_ * active[i]->b;
-    Eigen::Matrix<double, 3, 3> m = Eigen::Matrix<double, 3, 3>::Identity();
-    Vec3 rhs = Vec3::Zero();
-    for (int j = 0; j < n; ++j) {
-      rhs[j] = active[j]->a.dot(trial) - active[j]->k;
-      for (int i = 0; i < n; ++i) m(j, i) = active[j]->a.dot(db.col(i));
-    }
-    Eigen::PartialPivLU<Mat3> lu(m);
-    if (!(std::abs(lu.determinant()) > 1e-12 * std::pow(m.cwiseAbs().maxCoeff(), n))) continue;
-    const Vec3 lambda = lu.solve(rhs);
+    Vec3 f = Vec3::Zero();
+    for (int j = 0; j < set.n; ++j) f[j] = planes_[set.ids[j]].a.dot(trial) - planes_[set.ids[j]].k;
+    const Vec3 lambda = set.inverse * f;
     bool positive = true;
-    for (int i = 0; i < n; ++i) positive = positive && lambda[i] >= -1e-14 * scale;
+    for (int i = 0; i < set.n; ++i) positive = positive && lambda[i] >= -1e-14 * scale;
     if (!positive) continue;
     Vec3 s = trial;
-    for (int i = 0; i < n; ++i) s -= lambda[i] * db.col(i);
-    if (!admissible(s)) continue;
+    for (int i = 0; i < set.n; ++i) s -= lambda[i] * set.flow.col(i);
+    if (!admissible(s, ftol)) continue;
     stress = s;
-    // D_ep = D - (D B) M^-1 (A^T D), restricted to the active set.
-    Eigen::Matrix<double, 3, 3> at_d = Eigen::Matrix<double, 3, 3>::Zero();  // rows a_j^T D
-    for (int j = 0; j < n; ++j) at_d.row(j) = (elastic_principal_ * active[j]->a).transpose();
-    const Mat3 minv = lu.inverse();
-    tangent = elastic_principal_;
-    for (int i = 0; i < n; ++i)
-      for (int j = 0; j < n; ++j) tangent -= minv(i, j) * db.col(i) * at_d.row(j);
-    for (int i = 0; i < n; ++i) multiplier += lambda[i];
-    return n;
+    tangent = set.tangent;
+    for (int i = 0; i < set.n; ++i) multiplier += lambda[i];
+    return set.n;
   }
   return -1;
 }
 
 namespace {
+
+// Voigt slot of the shear pair (i, j), i != j.
+int shear_slot(int i, int j) {
+  const int lo = std::min(i, j), hi = std::max(i, j);
+  return lo == 0 ? (hi == 1 ? voigt::xy : voigt::zx) : voigt::yz;
+}
 
 // Voigt (stress-type) vector of sym(u v^T).
 Vec6 sym_outer(const Vec3& u, const Vec3& v) {
@@ -183,14 +187,12 @@ IntegrationResult MohrCoulomb::integrate(const MaterialState& in, const Vec6& de
   const bool diagonal = std::abs(trial[3]) + std::abs(trial[4]) + std::abs(trial[5]) <= 1e-14 * scale;
   Vec3 principal;
   Mat3 axes;  // columns: unit directions of A, B, C
+  int order[3] = {0, 1, 2};  // diagonal case: coordinate index of A, B, C
   if (diagonal) {
-    int order[3] = {0, 1, 2};
-    std::sort(order, order + 3, [&](int x, int y) { return trial[x] > trial[y]; });
-    axes.setZero();
-    for (int i = 0; i < 3; ++i) {
-      principal[i] = trial[order[i]];
-      axes(order[i], i) = 1.0;
-    }
+    if (trial[order[0]] < trial[order[1]]) std::swap(order[0], order[1]);
+    if (trial[order[1]] < trial[order[2]]) std::swap(order[1], order[2]);
+    if (trial[order[0]] < trial[order[1]]) std::swap(order[0], order[1]);
+    for (int i = 0; i < 3; ++i) principal[i] = trial[order[i]];
   } else {
     Mat3 t;
     t << trial[0], trial[3], trial[5], trial[3], trial[1], trial[4], trial[5], trial[4], trial[2];
@@ -214,11 +216,30 @@ IntegrationResult MohrCoulomb::integrate(const MaterialState& in, const Vec6& de
     return {Status::ok, 0};
   }
 
+  out.internal[0] = in.internal[0] + multiplier;
+  out.internal[1] = active;
+  if (diagonal) {
+    // Principal axes = coordinate axes: the same formula as below, written out without dyads.
+    out.stress.setZero();
+    tangent.setZero();
+    for (int a = 0; a < 3; ++a) {
+      out.stress[order[a]] = returned[a];
+      for (int b = 0; b < 3; ++b) tangent(order[a], order[b]) = dp(a, b);
+    }
+    for (int a = 0; a < 3; ++a) {
+      for (int b = a + 1; b < 3; ++b) {
+        const double gap = principal[a] - principal[b];
+        const double coef = std::abs(gap) > 1e-9 * scale ? 2.0 * shear_ * (returned[a] - returned[b]) / gap
+                                                          : 0.5 * (dp(a, a) - dp(a, b) + dp(b, b) - dp(b, a));
+        // sym(e_i e_j) has 1/2 in Voigt slot of the pair: 2 coef (1/2)^2 = coef / 2.
+        tangent(shear_slot(order[a], order[b]), shear_slot(order[a], order[b])) = 0.5 * coef;
+      }
+    }
+    return {Status::ok, 1};
+  }
   Vec6 n[3];
   for (int i = 0; i < 3; ++i) n[i] = sym_outer(axes.col(i), axes.col(i));
   out.stress = returned[0] * n[0] + returned[1] * n[1] + returned[2] * n[2];
-  out.internal[0] = in.internal[0] + multiplier;
-  out.internal[1] = active;
 
   // Consistent tangent of an isotropic tensor function (de Souza Neto, Peric & Owen 2008,
   // "Computational Methods for Plasticity", eq. A.46): the principal tangent on the principal

@@ -40,6 +40,27 @@ class MohrCoulomb final : public Model {
   double tension_ = 0.0;   // s_C >= -tension_ (effective, capped at the apex c cot phi)
   Mat3 elastic_principal_ = Mat3::Zero();
   Mat6 elastic_ = Mat6::Zero();
+
+  // The surfaces are planes and the elasticity is linear, so everything about an active set but
+  // the multipliers is constant: prepared once in the constructor.
+  static constexpr int kSurfaces = 6;
+  static constexpr int kSets = 10;
+  struct Plane {
+    Vec3 a;       // normal: a . s <= k
+    double k = 0.0;
+  };
+  struct ActiveSet {
+    int n = 0;
+    int ids[3] = {-1, -1, -1};
+    bool usable = false;   // linearly independent
+    Mat3 inverse = Mat3::Zero();   // (a_j . D b_i)^-1
+    Mat3 flow = Mat3::Zero();      // columns D b_i
+    Mat3 tangent = Mat3::Zero();   // D - (D B) M^-1 (A^T D)
+  };
+  Plane planes_[kSurfaces];
+  ActiveSet sets_[kSets];
+  bool admissible(const Vec3& s, double tol) const;
+  void prepare_return();
 };
 
 }  // namespace triaxcal
