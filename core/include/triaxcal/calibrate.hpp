@@ -1,0 +1,245 @@
+#pragma once
+// Calibration: fit model parameters to measured tests. Plain data says what to fit (a
+// CalibrationProblem); calibrate(options, problem) does the how and returns a CalibrationSummary.
+// NLopt stays behind this interface (core links it privately).
+//
+// Objective (docs/calibration-format.md): every test is simulated on its own protocol; each
+// measured curve y(x) is compared at its measured points with the simulated curve interpolated at
+// the same x. The error of a point is normalised by the measured range of its curve,
+// e = (y_sim - y_meas) / range, so kPa and strain mix fairly, and
+//     objective = sum_curves  w_test * w_curve / n_curve * sum_points rho(e^2)
+// with rho the loss (linear: rho(z) = z). A test whose simulation fails adds failure_penalty times
+// its weights instead: the evaluation is penalised, never a crash.
+
+#include <Eigen/Core>
+
+#include <functional>
+#include <limits>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "triaxcal/core_export.hpp"
+#include "triaxcal/driver.hpp"
+#include "triaxcal/model.hpp"
+#include "triaxcal/protocol.hpp"
+
+namespace triaxcal {
+
+/// A column of a simulated or measured curve (units of conventions.hpp).
+enum class Quantity {
+  axial_strain,          ///< - (decimal)
+  radial_strain,         ///< -
+  volumetric_strain,     ///< -
+  axial_stress,          ///< s_a' kPa
+  radial_stress,         ///< s_r' kPa
+  mean_stress,           ///< p' kPa
+  deviator_stress,       ///< q kPa
+  excess_pore_pressure,  ///< kPa
+  void_ratio,            ///< -
+  stress_ratio,          ///< s_a'/s_r' -
+};
+
+TRIAXCAL_CORE_EXPORT std::string to_string(Quantity quantity);
+/// Throws InputError "<where>: expected one of: axial_strain, ... , found "x"".
+TRIAXCAL_CORE_EXPORT Quantity parse_quantity(const std::string& text, const std::string& where);
+TRIAXCAL_CORE_EXPORT std::string unit_of(Quantity quantity);
+TRIAXCAL_CORE_EXPORT double value_of(const StepRecord& record, Quantity quantity);
+
+/// One measured curve y(x) of a test, points in time order.
+struct MeasuredCurve {
+  Quantity x = Quantity::axial_strain;
+  Quantity y = Quantity::deviator_stress;
+  std::vector<double> xs;  ///< in the unit of `x`
+  std::vector<double> ys;  ///< in the unit of `y`
+  double weight = 1.0;     ///< relative weight of this curve (>= 0)
+  /// Strain quantities (x and y) counted from the start of this protocol stage, as when a lab
+  /// zeroes the strains at the start of shearing; -1 = from the start of the protocol.
+  int strain_zero_stage = -1;
+  /// Compare with the records of this stage only; -1 = every record from the start of
+  /// strain_zero_stage (or of the protocol) to the end. Points are matched in time order.
+  int stage = -1;
+  double x_min = -std::numeric_limits<double>::infinity();  ///< points with x outside [x_min, x_max]
+  double x_max = std::numeric_limits<double>::infinity();   ///< are not compared
+};
+
+struct CalibrationTest {
+  std::string id;
+  TestProtocol protocol;  ///< the test's own history (consolidation, drainage, loops, stages)
+  std::vector<MeasuredCurve> curves;
+  double weight = 1.0;    ///< multiplies the weights of its curves
+};
+
+enum class ParameterStatus { free, fixed, tied };
+enum class ParameterScale { linear, log };
+
+TRIAXCAL_CORE_EXPORT std::string to_string(ParameterStatus status);
+
+/// How one model parameter takes part. Parameters without a spec are fixed at their default.
+struct ParameterSpec {
+  std::string name;
+  ParameterStatus status = ParameterStatus::fixed;
+  double value = kNotGiven;  ///< fixed: the value (NaN = model default)
+  double lower = kNotGiven;  ///< free: bounds (required) and start (NaN = middle of the box)
+  double upper = kNotGiven;
+  double start = kNotGiven;
+  ParameterScale scale = ParameterScale::linear;  ///< free: log needs lower > 0
+  std::string expression;    ///< tied: e.g. "3 * secant_stiffness_ref" (+ - * / ^, parentheses, names)
+};
+
+/// Builds a model from values in ModelInfo order; throws InputError for values the model rejects.
+using ModelFactory = std::function<std::unique_ptr<Model>(const ParameterValues&)>;
+
+struct CalibrationProblem {
+  const ModelInfo* model = nullptr;  ///< not owned
+  ModelFactory create;
+  std::vector<CalibrationTest> tests;
+  std::vector<ParameterSpec> parameters;
+  /// Inequalities between parameters, "lhs <= rhs" or "lhs >= rhs", each side an expression.
+  std::vector<std::string> constraints;
+  DriverOptions driver;
+};
+
+enum class Loss { linear, soft_l1, huber };
+enum class GlobalAlgorithm { none, crs2, isres, direct_l };
+enum class LocalAlgorithm { none, bobyqa, cobyla, sbplx, nelder_mead };
+
+TRIAXCAL_CORE_EXPORT std::string to_string(Loss loss);
+TRIAXCAL_CORE_EXPORT std::string to_string(GlobalAlgorithm algorithm);
+TRIAXCAL_CORE_EXPORT std::string to_string(LocalAlgorithm algorithm);
+
+/// Seen by the progress callback after every evaluation.
+struct CalibrationProgress {
+  std::string stage;       ///< "start", "design", "global", "local", "uncertainty"
+  long evaluations = 0;    ///< objective evaluations so far
+  double objective = 0.0;  ///< of the latest evaluation
+  double best = 0.0;       ///< best so far
+  double elapsed = 0.0;    ///< seconds
+};
+
+/// Return false to stop: the calibration ends cleanly with the best point found so far.
+using CalibrationCallback = std::function<bool(const CalibrationProgress&)>;
+
+struct CalibrationOptions {
+  GlobalAlgorithm global = GlobalAlgorithm::none;   ///< derivative-free global stage; none = skip
+  long global_evaluations = 4000;                   ///< budget of the global stage
+  LocalAlgorithm local = LocalAlgorithm::bobyqa;    ///< derivative-free local polish; none = skip
+  long local_evaluations = 3000;                    ///< budget of each local run
+  int starts = 1;              ///< local runs: from the best point, then from the best design points
+  int design_points = 0;       ///< space-filling (Latin hypercube) points evaluated before the stages
+  double relative_tolerance = 1e-10;   ///< local stop: relative change of the objective
+  double x_tolerance = 1e-7;           ///< local stop: change of the scaled unit-box coordinates
+  double max_seconds = 0.0;            ///< wall-time limit over all stages; 0 = none
+  unsigned long seed = 1;              ///< design, global stage and NLopt's generator
+  int threads = 0;                     ///< tests simulated in parallel; 0 = all cores
+  Loss loss = Loss::linear;
+  double loss_scale = 0.05;            ///< robust loss: error (fraction of the range) where it bends
+  double failure_penalty = 10.0;       ///< per failed test, times its weights
+  bool uncertainty = true;             ///< Jacobian, covariance and intervals at the optimum
+  double jacobian_step = 1e-4;         ///< central-difference step, fraction of each box width
+  double correlation_warning = 0.95;   ///< |correlation| above this gives an identifiability warning
+  bool record_history = true;          ///< keep every evaluation in the summary
+  CalibrationCallback progress;        ///< may be empty
+
+  /// Throws InputError "calibration options: <field> = <value> <rule>".
+  void validate() const;
+};
+
+enum class CalibrationTermination {
+  converged,         ///< the local stage met its tolerance
+  evaluation_limit,  ///< a stage used its whole budget
+  time_limit,        ///< max_seconds reached
+  stopped,           ///< the progress callback asked to stop
+  no_usable_result,  ///< every evaluation failed
+  not_run,
+};
+TRIAXCAL_CORE_EXPORT std::string to_string(CalibrationTermination termination);
+
+struct FittedParameter {
+  std::string name;
+  std::string unit;
+  ParameterStatus status = ParameterStatus::fixed;
+  std::string expression;        ///< tied
+  double value = kNotGiven;
+  double start = kNotGiven;      ///< free: where the fit started
+  double lower = kNotGiven;      ///< free: bounds
+  double upper = kNotGiven;
+  double standard_error = kNotGiven;  ///< free and uncertainty computed; NaN otherwise
+  double interval_low = kNotGiven;    ///< 95 % interval
+  double interval_high = kNotGiven;
+  bool at_bound = false;              ///< free value within 1e-6 of the box width from a bound
+};
+
+struct CurveFit {
+  Quantity x = Quantity::axial_strain;
+  Quantity y = Quantity::deviator_stress;
+  int points = 0;              ///< compared points
+  double rmse = kNotGiven;     ///< in the unit of y
+  double r_squared = kNotGiven;
+  double range = 0.0;          ///< measured range used for normalisation
+  std::vector<double> xs, measured, simulated;  ///< the compared points
+};
+
+struct TestFit {
+  std::string id;
+  bool simulated = false;      ///< the simulation at the optimum completed
+  std::string message;         ///< the driver's message
+  double objective = 0.0;      ///< this test's share of the objective
+  std::vector<CurveFit> curves;
+};
+
+struct HistoryEntry {
+  long evaluation = 0;
+  int stage = 0;               ///< 0 start/design, 1 global, 2 local
+  double objective = 0.0;
+  double best = 0.0;
+};
+
+struct CalibrationSummary {
+  CalibrationTermination termination = CalibrationTermination::not_run;
+  std::string message;
+  std::string model;
+  double objective = std::numeric_limits<double>::infinity();
+  double start_objective = std::numeric_limits<double>::infinity();
+  long evaluations = 0;
+  long failed_simulations = 0;     ///< test simulations that failed (or models that could not be built)
+  long design_evaluations = 0, global_evaluations = 0, local_evaluations = 0, jacobian_evaluations = 0;
+  int local_runs = 0;
+  double wall_time = 0.0;          ///< seconds
+  int threads = 0;                 ///< threads used
+  std::string global_algorithm, local_algorithm, loss;
+  std::string options_text;        ///< the options as asked, one "key = value" per line
+
+  std::vector<FittedParameter> parameters;  ///< every model parameter, ModelInfo order
+  ParameterValues values;                   ///< the fitted set, ModelInfo order
+  std::vector<std::string> free_names;      ///< rows/columns of covariance and correlation
+  Eigen::MatrixXd covariance;               ///< free parameters, physical units; empty if not computed
+  Eigen::MatrixXd correlation;
+  std::vector<std::string> warnings;        ///< identifiability and fit warnings in plain words
+  std::vector<TestFit> tests;
+  std::vector<SimulationResult> simulations;  ///< at the optimum, one a test
+  std::vector<HistoryEntry> history;
+
+  /// A parameter set was found (some evaluation succeeded).
+  bool usable() const { return termination != CalibrationTermination::no_usable_result &&
+                               termination != CalibrationTermination::not_run; }
+  /// A few lines: termination, objective, counts, each free parameter with its interval.
+  std::string brief() const;
+  /// Everything: options asked against used, per-test/per-curve fit, correlations, warnings.
+  std::string full() const;
+};
+
+/// Checks the problem (names, bounds, starts, ties, constraints, tests) and throws InputError with
+/// an exact message: "parameters.<name>: ...", "constraints[i]: ...", "tests[i]: ...".
+TRIAXCAL_CORE_EXPORT void validate_problem(const CalibrationProblem& problem);
+
+/// Runs the stages of `options` on `problem`. Throws InputError for a bad problem or options;
+/// numerical trouble ends up in the summary.
+TRIAXCAL_CORE_EXPORT CalibrationSummary calibrate(const CalibrationOptions& options, const CalibrationProblem& problem);
+
+/// The objective at a full parameter set (ModelInfo order), as calibrate() computes it; infinite
+/// when the model cannot be built. For tests and reports.
+TRIAXCAL_CORE_EXPORT double calibration_objective(const CalibrationOptions& options, const CalibrationProblem& problem,
+                                                  const ParameterValues& values);
+
+}  // namespace triaxcal

@@ -1,0 +1,610 @@
+#include "triaxcal/calibrate.hpp"
+
+#include <nlopt.h>
+
+#include <Eigen/Eigenvalues>
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <cstdint>
+#include <numeric>
+#include <random>
+#include <sstream>
+#include <thread>
+
+#include "engine.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal {
+
+std::string to_string(Loss loss) {
+  switch (loss) {
+    case Loss::linear: return "linear";
+    case Loss::soft_l1: return "soft_l1";
+    case Loss::huber: return "huber";
+  }
+  return "unknown";
+}
+
+std::string to_string(GlobalAlgorithm a) {
+  switch (a) {
+    case GlobalAlgorithm::none: return "none";
+    case GlobalAlgorithm::crs2: return "crs2";
+    case GlobalAlgorithm::isres: return "isres";
+    case GlobalAlgorithm::direct_l: return "direct_l";
+  }
+  return "unknown";
+}
+
+std::string to_string(LocalAlgorithm a) {
+  switch (a) {
+    case LocalAlgorithm::none: return "none";
+    case LocalAlgorithm::bobyqa: return "bobyqa";
+    case LocalAlgorithm::cobyla: return "cobyla";
+    case LocalAlgorithm::sbplx: return "sbplx";
+    case LocalAlgorithm::nelder_mead: return "nelder_mead";
+  }
+  return "unknown";
+}
+
+std::string to_string(CalibrationTermination t) {
+  switch (t) {
+    case CalibrationTermination::converged: return "converged";
+    case CalibrationTermination::evaluation_limit: return "evaluation_limit";
+    case CalibrationTermination::time_limit: return "time_limit";
+    case CalibrationTermination::stopped: return "stopped";
+    case CalibrationTermination::no_usable_result: return "no_usable_result";
+    case CalibrationTermination::not_run: return "not_run";
+  }
+  return "unknown";
+}
+
+void CalibrationOptions::validate() const {
+  auto fail = [](const std::string& field, double value, const std::string& rule) {
+    throw InputError("calibration options: " + field + " = " + format_number(value) + " " + rule);
+  };
+  if (global == GlobalAlgorithm::none && local == LocalAlgorithm::none && design_points == 0)
+    throw InputError("calibration options: global = none and local = none: at least one stage must run");
+  if (global != GlobalAlgorithm::none && global_evaluations < 1)
+    fail("global_evaluations", static_cast<double>(global_evaluations), "must be at least 1");
+  if (local != LocalAlgorithm::none && local_evaluations < 1)
+    fail("local_evaluations", static_cast<double>(local_evaluations), "must be at least 1");
+  if (starts < 1 || starts > 1000) fail("starts", starts, "must be in [1, 1000]");
+  if (design_points < 0 || design_points > 1000000) fail("design_points", design_points, "must be in [0, 1000000]");
+  if (starts > 1 && design_points < starts - 1)
+    fail("design_points", design_points, "must be at least starts - 1 = " + std::to_string(starts - 1) +
+                                             " (extra local runs start from the best design points)");
+  if (!(relative_tolerance >= 0.0 && relative_tolerance < 1.0)) fail("relative_tolerance", relative_tolerance, "must be in [0, 1)");
+  if (!(x_tolerance >= 0.0 && x_tolerance < 1.0)) fail("x_tolerance", x_tolerance, "must be in [0, 1)");
+  if (!(max_seconds >= 0.0)) fail("max_seconds", max_seconds, "must be at least 0 (0 = no limit)");
+  if (threads < 0 || threads > 1024) fail("threads", threads, "must be in [0, 1024] (0 = all cores)");
+  if (!(loss_scale > 0.0 && std::isfinite(loss_scale))) fail("loss_scale", loss_scale, "must be positive");
+  if (!(failure_penalty > 0.0 && std::isfinite(failure_penalty))) fail("failure_penalty", failure_penalty, "must be positive");
+  if (!(jacobian_step > 0.0 && jacobian_step <= 0.1)) fail("jacobian_step", jacobian_step, "must be in (0, 0.1]");
+  if (!(correlation_warning > 0.0 && correlation_warning <= 1.0))
+    fail("correlation_warning", correlation_warning, "must be in (0, 1]");
+}
+
+void validate_problem(const CalibrationProblem& problem) { (void)detail::prepare(problem); }
+
+namespace {
+
+using Clock = std::chrono::steady_clock;
+
+int resolve_threads(int asked, std::size_t tests) {
+  int n = asked > 0 ? asked : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  return std::max(1, std::min<int>(n, static_cast<int>(tests)));
+}
+
+// Uniform [0, 1) from the top 53 bits: the same numbers on every platform for the same seed.
+double unit_random(std::mt19937_64& rng) { return static_cast<double>(rng() >> 11) * 0x1.0p-53; }
+
+std::vector<std::vector<double>> latin_hypercube(int points, std::size_t dims, std::mt19937_64& rng) {
+  std::vector<std::vector<double>> design(static_cast<std::size_t>(points), std::vector<double>(dims));
+  std::vector<int> perm(static_cast<std::size_t>(points));
+  for (std::size_t d = 0; d < dims; ++d) {
+    std::iota(perm.begin(), perm.end(), 0);
+    for (std::size_t i = perm.size(); i > 1; --i) std::swap(perm[i - 1], perm[rng() % i]);
+    for (std::size_t i = 0; i < perm.size(); ++i)
+      design[i][d] = (perm[i] + unit_random(rng)) / static_cast<double>(points);
+  }
+  return design;
+}
+
+struct Run;
+
+struct StageContext {
+  Run* run;
+  int stage;
+  nlopt_opt opt;
+};
+
+struct Run {
+  const detail::Prepared& prepared;
+  const CalibrationOptions& options;
+  detail::Evaluator evaluator;
+  CalibrationSummary& summary;
+  Clock::time_point begin = Clock::now();
+  std::size_t n = 0;
+  std::vector<double> best_unit;
+  double best = std::numeric_limits<double>::infinity();
+  bool stop_requested = false;
+  bool time_up = false;
+  bool native_constraints = false;
+  double penalty_all = 0.0;
+  nlopt_opt current = nullptr;
+  std::vector<std::pair<double, std::vector<double>>> design_ranked;
+
+  Run(const detail::Prepared& p, const CalibrationOptions& o, int threads, CalibrationSummary& s)
+      : prepared(p), options(o), evaluator(p, o, threads), summary(s), n(p.free.size()) {
+    for (const auto& t : p.tests) penalty_all += o.failure_penalty * t.total_weight;
+  }
+
+  double elapsed() const { return std::chrono::duration<double>(Clock::now() - begin).count(); }
+
+  double evaluate(const double* u, int stage) {
+    std::vector<double> unit(u, u + n);
+    const ParameterValues values = prepared.values(unit);
+    double f;
+    const double violation = prepared.constraints.empty() ? -1.0 : prepared.violation(values);
+    if (!native_constraints && violation > 0.0) {
+      // Outside the constraints: penalised without simulating, growing with the violation.
+      f = penalty_all * (1.0 + violation);
+    } else {
+      const bool built = evaluator.simulate(values, false);
+      f = evaluator.objective(built);
+      summary.failed_simulations += built ? evaluator.failed_tests() : static_cast<long>(prepared.tests.size());
+    }
+    ++summary.evaluations;
+    if (stage == 0) ++summary.design_evaluations;
+    if (stage == 1) ++summary.global_evaluations;
+    if (stage == 2) ++summary.local_evaluations;
+    if (f < best) {
+      best = f;
+      best_unit = unit;
+    }
+    if (options.record_history) summary.history.push_back({summary.evaluations, stage, f, best});
+    const double t = elapsed();
+    if (options.progress) {
+      static const char* names[] = {"design", "global", "local"};
+      CalibrationProgress p{summary.evaluations == 1 ? "start" : names[stage], summary.evaluations, f, best, t};
+      if (!options.progress(p)) stop_requested = true;
+    }
+    if (options.max_seconds > 0.0 && t >= options.max_seconds) time_up = true;
+    if ((stop_requested || time_up) && current != nullptr) nlopt_force_stop(current);
+    return f;
+  }
+
+  bool halted() const { return stop_requested || time_up; }
+
+  nlopt_result optimise(nlopt_algorithm algorithm, int stage, long budget, std::vector<double>& x, double step) {
+    nlopt_opt opt = nlopt_create(algorithm, static_cast<unsigned>(n));
+    nlopt_set_lower_bounds1(opt, 0.0);
+    nlopt_set_upper_bounds1(opt, 1.0);
+    StageContext ctx{this, stage, opt};
+    nlopt_set_min_objective(
+        opt,
+        [](unsigned, const double* u, double*, void* data) {
+          auto* c = static_cast<StageContext*>(data);
+          return c->run->evaluate(u, c->stage);
+        },
+        &ctx);
+    if (native_constraints) {
+      // One constraint: the worst relative violation of all of them.
+      nlopt_add_inequality_constraint(
+          opt,
+          [](unsigned m, const double* u, double*, void* data) {
+            auto* r = static_cast<Run*>(data);
+            std::vector<double> unit(u, u + m);
+            return r->prepared.violation(r->prepared.values(unit));
+          },
+          this, 1e-9);
+    }
+    nlopt_set_maxeval(opt, static_cast<int>(std::min<long>(budget, 2000000000L)));
+    if (stage == 2) {
+      nlopt_set_ftol_rel(opt, options.relative_tolerance);
+      nlopt_set_xtol_abs1(opt, options.x_tolerance);
+      nlopt_set_initial_step1(opt, step);
+    }
+    if (options.max_seconds > 0.0) nlopt_set_maxtime(opt, std::max(1e-3, options.max_seconds - elapsed()));
+    nlopt_srand(options.seed + static_cast<unsigned long>(stage));
+    current = opt;
+    double f = 0.0;
+    for (double& v : x) v = std::clamp(v, 0.0, 1.0);
+    const nlopt_result result = nlopt_optimize(opt, x.data(), &f);
+    current = nullptr;
+    nlopt_destroy(opt);
+    return result;
+  }
+};
+
+nlopt_algorithm global_algorithm(GlobalAlgorithm a) {
+  switch (a) {
+    case GlobalAlgorithm::crs2: return NLOPT_GN_CRS2_LM;
+    case GlobalAlgorithm::isres: return NLOPT_GN_ISRES;
+    case GlobalAlgorithm::direct_l: return NLOPT_GN_DIRECT_L;
+    case GlobalAlgorithm::none: break;
+  }
+  return NLOPT_GN_CRS2_LM;
+}
+
+nlopt_algorithm local_algorithm(LocalAlgorithm a) {
+  switch (a) {
+    case LocalAlgorithm::bobyqa: return NLOPT_LN_BOBYQA;
+    case LocalAlgorithm::cobyla: return NLOPT_LN_COBYLA;
+    case LocalAlgorithm::sbplx: return NLOPT_LN_SBPLX;
+    case LocalAlgorithm::nelder_mead: return NLOPT_LN_NELDERMEAD;
+    case LocalAlgorithm::none: break;
+  }
+  return NLOPT_LN_BOBYQA;
+}
+
+std::string options_text(const CalibrationOptions& o) {
+  std::ostringstream s;
+  s << "global = " << to_string(o.global) << "\nglobal_evaluations = " << o.global_evaluations
+    << "\nlocal = " << to_string(o.local) << "\nlocal_evaluations = " << o.local_evaluations << "\nstarts = " << o.starts
+    << "\ndesign_points = " << o.design_points << "\nrelative_tolerance = " << format_number(o.relative_tolerance)
+    << "\nx_tolerance = " << format_number(o.x_tolerance) << "\nmax_seconds = " << format_number(o.max_seconds)
+    << "\nseed = " << o.seed << "\nthreads = " << o.threads << "\nloss = " << to_string(o.loss)
+    << "\nloss_scale = " << format_number(o.loss_scale) << "\nfailure_penalty = " << format_number(o.failure_penalty)
+    << "\nuncertainty = " << (o.uncertainty ? "true" : "false") << "\njacobian_step = " << format_number(o.jacobian_step)
+    << "\ncorrelation_warning = " << format_number(o.correlation_warning) << "\n";
+  return s.str();
+}
+
+std::string percent(double v) {
+  char b[32];
+  std::snprintf(b, sizeof b, "%.0f %%", 100.0 * v);
+  return b;
+}
+
+// Residuals y_sim - y_meas of the evaluator's last simulation, all tests, curves in order.
+bool residuals(const detail::Prepared& p, const detail::Evaluator& ev, Eigen::VectorXd& d) {
+  d.resize(p.points);
+  Eigen::Index k = 0;
+  for (std::size_t t = 0; t < p.tests.size(); ++t) {
+    const auto& o = ev.outcome(static_cast<int>(t));
+    if (!o.ok) return false;
+    std::size_t i = 0;
+    for (const auto& c : p.tests[t].curves)
+      for (std::size_t j = 0; j < c.xs.size(); ++j, ++i) d[k++] = o.simulated[i] - c.ys[j];
+  }
+  return true;
+}
+
+// Gauss-Newton (sandwich) covariance of the free parameters at the optimum. With A the objective's
+// weight of each point (w / range^2) and Sigma the noise variance of each curve estimated from its
+// residuals, Cov = H^+ (J^T A Sigma A J) H^+ with H = J^T A J; this reduces to the textbook
+// s^2 (J^T J)^-1 when one curve with unit weights is fitted (e.g. Bates & Watts 1988, "Nonlinear
+// Regression Analysis and Its Applications", eq. 2.23; the sandwich form: White 1980).
+void uncertainty(Run& run, const ParameterValues& best_values, const Eigen::VectorXd& d0) {
+  const detail::Prepared& p = run.prepared;
+  CalibrationSummary& s = run.summary;
+  const std::size_t n = p.free.size();
+  const Eigen::Index N = p.points;
+  Eigen::MatrixXd jac = Eigen::MatrixXd::Zero(N, static_cast<Eigen::Index>(n));
+  std::vector<bool> have(n, true);
+  Eigen::VectorXd dp, dm;
+  const double h = run.options.jacobian_step;
+  for (std::size_t k = 0; k < n; ++k) {
+    const int free_index = static_cast<int>(k);
+    const std::string& name = p.names[static_cast<std::size_t>(p.free[k])];
+    std::vector<double> up = run.best_unit, down = run.best_unit;
+    up[k] = std::min(1.0, up[k] + h);
+    down[k] = std::max(0.0, down[k] - h);
+    auto at = [&](const std::vector<double>& u, Eigen::VectorXd& out) {
+      const bool built = run.evaluator.simulate(p.values(u), false);
+      ++s.jacobian_evaluations;
+      return built && residuals(p, run.evaluator, out);
+    };
+    const bool ok_up = at(up, dp);
+    const bool ok_down = at(down, dm);
+    const double tp = p.to_physical(free_index, up[k]), tm = p.to_physical(free_index, down[k]);
+    const double t0 = best_values[static_cast<std::size_t>(p.free[k])];
+    if (ok_up && ok_down) {
+      jac.col(static_cast<Eigen::Index>(k)) = (dp - dm) / (tp - tm);
+    } else if (ok_up && tp != t0) {
+      jac.col(static_cast<Eigen::Index>(k)) = (dp - d0) / (tp - t0);
+    } else if (ok_down && tm != t0) {
+      jac.col(static_cast<Eigen::Index>(k)) = (d0 - dm) / (t0 - tm);
+    } else {
+      have[k] = false;
+      s.warnings.push_back("The sensitivity of " + name +
+                           " could not be computed (the simulations next to the optimum failed); it has no interval.");
+    }
+  }
+  // Weights and per-curve noise variance.
+  Eigen::VectorXd a(N), sigma2(N);
+  {
+    Eigen::Index k = 0;
+    const double share = 1.0 - static_cast<double>(n) / static_cast<double>(std::max<Eigen::Index>(N, 1));
+    for (const auto& t : p.tests)
+      for (const auto& c : t.curves) {
+        double ssr = 0.0;
+        for (std::size_t j = 0; j < c.xs.size(); ++j) ssr += d0[k + static_cast<Eigen::Index>(j)] * d0[k + static_cast<Eigen::Index>(j)];
+        const double dof = std::max(1.0, static_cast<double>(c.xs.size()) * share);
+        for (std::size_t j = 0; j < c.xs.size(); ++j, ++k) {
+          a[k] = c.weight / (c.range * c.range);
+          sigma2[k] = ssr / dof;
+        }
+      }
+  }
+  const Eigen::MatrixXd aj = a.asDiagonal() * jac;
+  const Eigen::MatrixXd H = jac.transpose() * aj;
+  const Eigen::MatrixXd M = aj.transpose() * sigma2.asDiagonal() * aj;
+  // Scaled pseudo-inverse: parameters with no effect or in a null direction get no interval.
+  const Eigen::Index P = static_cast<Eigen::Index>(n);
+  Eigen::VectorXd scale = Eigen::VectorXd::Zero(P);
+  std::vector<bool> identifiable(n, true);
+  for (Eigen::Index k = 0; k < P; ++k) {
+    const std::string& name = p.names[static_cast<std::size_t>(p.free[static_cast<std::size_t>(k)])];
+    if (!have[static_cast<std::size_t>(k)]) {
+      identifiable[static_cast<std::size_t>(k)] = false;
+    } else if (!(H(k, k) > 0.0) || jac.col(k).cwiseAbs().maxCoeff() == 0.0) {
+      identifiable[static_cast<std::size_t>(k)] = false;
+      s.warnings.push_back(name + " has no effect on the compared curves over these tests: fix it (its value is the start value).");
+    } else {
+      scale[k] = 1.0 / std::sqrt(H(k, k));
+    }
+  }
+  const Eigen::MatrixXd Hs = scale.asDiagonal() * H * scale.asDiagonal();
+  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(Hs);
+  Eigen::MatrixXd Hplus = Eigen::MatrixXd::Zero(P, P);
+  if (eig.info() == Eigen::Success) {
+    const double top = eig.eigenvalues().cwiseAbs().maxCoeff();
+    for (Eigen::Index i = 0; i < P; ++i) {
+      const double lambda = eig.eigenvalues()[i];
+      const Eigen::VectorXd v = eig.eigenvectors().col(i);
+      if (lambda > 1e-10 * top) {
+        Hplus += v * v.transpose() / lambda;
+        continue;
+      }
+      // A direction the curves cannot see: name the parameters that make it up.
+      std::vector<std::string> involved;
+      for (Eigen::Index k = 0; k < P; ++k)
+        if (scale[k] > 0.0 && std::abs(v[k]) > 0.3) {
+          identifiable[static_cast<std::size_t>(k)] = false;
+          involved.push_back(p.names[static_cast<std::size_t>(p.free[static_cast<std::size_t>(k)])]);
+        }
+      if (involved.size() >= 2) {
+        std::string list;
+        for (std::size_t j = 0; j < involved.size(); ++j)
+          list += (j == 0 ? "" : (j + 1 == involved.size() ? " and " : ", ")) + involved[j];
+        s.warnings.push_back(list + " cannot be told apart by these tests (they trade off exactly): fix all but one, "
+                                    "or add a test that separates them.");
+      } else if (involved.size() == 1) {
+        s.warnings.push_back(involved[0] + " is not determined by these tests: fix it.");
+      }
+    }
+  }
+  Hplus = scale.asDiagonal() * Hplus * scale.asDiagonal();
+  s.covariance = Hplus * M * Hplus;
+  s.correlation = Eigen::MatrixXd::Identity(P, P);
+  for (Eigen::Index i = 0; i < P; ++i)
+    for (Eigen::Index j = 0; j < P; ++j) {
+      const double den = std::sqrt(s.covariance(i, i) * s.covariance(j, j));
+      s.correlation(i, j) = (i == j) ? 1.0 : (den > 0.0 ? s.covariance(i, j) / den : kNotGiven);
+      if (!identifiable[static_cast<std::size_t>(i)] || !identifiable[static_cast<std::size_t>(j)])
+        s.correlation(i, j) = i == j ? 1.0 : kNotGiven;
+    }
+  // 1.96: two-sided 95 % quantile of the normal distribution (N is hundreds of points here).
+  constexpr double z95 = 1.959963984540054;
+  for (Eigen::Index k = 0; k < P; ++k) {
+    FittedParameter& fp = s.parameters[static_cast<std::size_t>(p.free[static_cast<std::size_t>(k)])];
+    if (!identifiable[static_cast<std::size_t>(k)]) {
+      fp.standard_error = std::numeric_limits<double>::infinity();
+      continue;
+    }
+    const double se = std::sqrt(std::max(0.0, s.covariance(k, k)));
+    fp.standard_error = se;
+    if (p.scale[static_cast<std::size_t>(k)] == ParameterScale::log && fp.value > 0.0) {
+      const double spread = std::exp(z95 * se / fp.value);
+      fp.interval_low = fp.value / spread;
+      fp.interval_high = fp.value * spread;
+    } else {
+      fp.interval_low = fp.value - z95 * se;
+      fp.interval_high = fp.value + z95 * se;
+    }
+    if (fp.value != 0.0 && se > 0.5 * std::abs(fp.value))
+      s.warnings.push_back(fp.name + " is poorly determined by these tests (standard error " +
+                           percent(se / std::abs(fp.value)) + " of its value): fix it or add a test that is sensitive to it.");
+  }
+  for (Eigen::Index i = 0; i < P; ++i)
+    for (Eigen::Index j = i + 1; j < P; ++j) {
+      const double r = s.correlation(i, j);
+      if (std::isnan(r) || std::abs(r) < run.options.correlation_warning) continue;
+      char b[16];
+      std::snprintf(b, sizeof b, "%.2f", r);
+      s.warnings.push_back(s.free_names[static_cast<std::size_t>(i)] + " and " + s.free_names[static_cast<std::size_t>(j)] +
+                           " are correlated at " + b +
+                           " over these tests: fix one, or add a test that separates them (e.g. at a different confining stress).");
+    }
+}
+
+}  // namespace
+
+CalibrationSummary calibrate(const CalibrationOptions& options, const CalibrationProblem& problem) {
+  options.validate();
+  const detail::Prepared prepared = detail::prepare(problem);
+  CalibrationSummary summary;
+  summary.model = problem.model->name;
+  summary.global_algorithm = to_string(options.global);
+  summary.local_algorithm = to_string(options.local);
+  summary.loss = to_string(options.loss);
+  summary.options_text = options_text(options);
+  summary.threads = resolve_threads(options.threads, prepared.tests.size());
+  const std::size_t n = prepared.free.size();
+  for (int k : prepared.free) summary.free_names.push_back(prepared.names[static_cast<std::size_t>(k)]);
+
+  Run run(prepared, options, summary.threads, summary);
+  const bool wants_native = !prepared.constraints.empty();
+  std::vector<double> x(n);
+  for (std::size_t k = 0; k < n; ++k) x[k] = prepared.to_unit(static_cast<int>(k), prepared.start[k]);
+  summary.start_objective = run.evaluate(x.data(), 0);
+
+  // Space-filling design: ranked, its best points seed the extra local runs.
+  std::mt19937_64 rng(options.seed);
+  if (options.design_points > 0 && !run.halted()) {
+    const auto design = latin_hypercube(options.design_points, n, rng);
+    for (const auto& u : design) {
+      if (run.halted()) break;
+      run.design_ranked.emplace_back(run.evaluate(u.data(), 0), u);
+    }
+    std::stable_sort(run.design_ranked.begin(), run.design_ranked.end(),
+                     [](const auto& l, const auto& r) { return l.first < r.first; });
+  }
+
+  nlopt_result last = NLOPT_SUCCESS;
+  std::string last_stage = "start";
+  if (options.global != GlobalAlgorithm::none && !run.halted()) {
+    run.native_constraints = wants_native && options.global == GlobalAlgorithm::isres;
+    std::vector<double> g = run.best_unit;
+    last = run.optimise(global_algorithm(options.global), 1, options.global_evaluations, g, 0.0);
+    last_stage = "global (" + to_string(options.global) + ")";
+  }
+  if (options.local != LocalAlgorithm::none && !run.halted()) {
+    run.native_constraints = wants_native && options.local == LocalAlgorithm::cobyla;
+    std::vector<std::vector<double>> starts{run.best_unit};
+    for (const auto& [f, u] : run.design_ranked) {
+      if (static_cast<int>(starts.size()) >= options.starts) break;
+      if (u != run.best_unit) starts.push_back(u);
+    }
+    const double step = options.global != GlobalAlgorithm::none ? 0.05 : 0.1;
+    std::vector<double> winner;
+    double winner_f = std::numeric_limits<double>::infinity();
+    nlopt_result winner_result = NLOPT_SUCCESS;
+    for (std::size_t i = 0; i < starts.size() && !run.halted(); ++i) {
+      std::vector<double> l = starts[i];
+      const nlopt_result r = run.optimise(local_algorithm(options.local), 2, options.local_evaluations, l, i == 0 ? step : 0.1);
+      ++summary.local_runs;
+      if (run.best < winner_f || i == 0) {
+        winner_f = run.best;
+        winner_result = r;
+      }
+    }
+    last = winner_result;
+    last_stage = "local (" + to_string(options.local) + ")";
+  }
+
+  // Termination from the stage that produced the result.
+  std::ostringstream msg;
+  if (run.stop_requested) {
+    summary.termination = CalibrationTermination::stopped;
+    msg << "stopped on request after " << summary.evaluations << " evaluations; the best point so far is kept";
+  } else if (run.time_up || last == NLOPT_MAXTIME_REACHED) {
+    summary.termination = CalibrationTermination::time_limit;
+    msg << "time limit of " << format_number(options.max_seconds) << " s reached in the " << last_stage << " stage after "
+        << summary.evaluations << " evaluations; not converged";
+  } else if (last == NLOPT_MAXEVAL_REACHED || (options.local == LocalAlgorithm::none && options.global != GlobalAlgorithm::none)) {
+    summary.termination = CalibrationTermination::evaluation_limit;
+    msg << "the " << last_stage << " stage used its budget of "
+        << (options.local == LocalAlgorithm::none ? options.global_evaluations : options.local_evaluations)
+        << " evaluations; not converged to the tolerance";
+  } else if (last < 0) {
+    summary.termination = CalibrationTermination::evaluation_limit;
+    msg << "the " << last_stage << " stage ended with NLopt code " << static_cast<int>(last) << "; not converged";
+  } else {
+    summary.termination = CalibrationTermination::converged;
+    msg << "converged: the " << last_stage << " stage met its tolerance (relative objective change "
+        << format_number(options.relative_tolerance) << ", unit-box step " << format_number(options.x_tolerance) << ")";
+  }
+
+  // The fitted set, its curves and fit quality.
+  const ParameterValues best_values = prepared.values(run.best_unit);
+  summary.values = best_values;
+  summary.objective = run.best;
+  const ModelInfo& info = *problem.model;
+  for (std::size_t i = 0; i < info.parameters.size(); ++i) {
+    FittedParameter fp;
+    fp.name = info.parameters[i].name;
+    fp.unit = info.parameters[i].unit;
+    fp.status = prepared.status[i];
+    fp.value = best_values[i];
+    summary.parameters.push_back(fp);
+  }
+  for (const auto& [i, e] : prepared.ties) summary.parameters[static_cast<std::size_t>(i)].expression = e.text();
+  for (std::size_t k = 0; k < n; ++k) {
+    FittedParameter& fp = summary.parameters[static_cast<std::size_t>(prepared.free[k])];
+    fp.start = prepared.start[k];
+    fp.lower = prepared.lower[k];
+    fp.upper = prepared.upper[k];
+    fp.at_bound = run.best_unit[k] < 1e-6 || run.best_unit[k] > 1.0 - 1e-6;
+  }
+  const bool built = run.evaluator.simulate(best_values, true);
+  std::vector<double> shares;
+  run.evaluator.objective(built, &shares);
+  int simulated = 0;
+  for (std::size_t t = 0; t < prepared.tests.size(); ++t) {
+    const auto& pt = prepared.tests[t];
+    const auto& o = run.evaluator.outcome(static_cast<int>(t));
+    TestFit tf;
+    tf.id = pt.test->id;
+    tf.simulated = built && o.ok;
+    tf.message = o.result.message;
+    tf.objective = shares[t];
+    simulated += tf.simulated ? 1 : 0;
+    std::size_t i = 0;
+    for (const auto& c : pt.curves) {
+      CurveFit cf;
+      cf.x = c.x;
+      cf.y = c.y;
+      cf.points = static_cast<int>(c.xs.size());
+      cf.range = c.range;
+      cf.xs = c.xs;
+      cf.measured = c.ys;
+      if (tf.simulated) {
+        cf.simulated.assign(o.simulated.begin() + static_cast<std::ptrdiff_t>(i),
+                            o.simulated.begin() + static_cast<std::ptrdiff_t>(i + c.xs.size()));
+        double ssr = 0.0;
+        for (std::size_t j = 0; j < c.xs.size(); ++j) ssr += (cf.simulated[j] - c.ys[j]) * (cf.simulated[j] - c.ys[j]);
+        cf.rmse = std::sqrt(ssr / static_cast<double>(c.xs.size()));
+        cf.r_squared = c.sst > 0.0 ? 1.0 - ssr / c.sst : kNotGiven;
+        if (!std::isnan(cf.r_squared) && cf.r_squared < 0.9) {
+          char b[24];
+          std::snprintf(b, sizeof b, "%.3f", cf.r_squared);
+          summary.warnings.push_back("Test " + tf.id + ", " + to_string(c.y) + ": R^2 = " + b +
+                                     ": the model does not follow this curve well.");
+        }
+      }
+      i += c.xs.size();
+      tf.curves.push_back(std::move(cf));
+    }
+    if (!tf.simulated)
+      summary.warnings.push_back("Test " + tf.id + " could not be simulated with the fitted parameters: " + tf.message);
+    summary.tests.push_back(std::move(tf));
+    summary.simulations.push_back(run.evaluator.outcome(static_cast<int>(t)).result);
+  }
+  if (!built || simulated == 0) {
+    summary.termination = CalibrationTermination::no_usable_result;
+    msg.str("");
+    msg << "no usable result: no evaluation in " << summary.evaluations
+        << " simulated the tests with the model (every one failed or was rejected)";
+  }
+  for (std::size_t k = 0; k < n; ++k) {
+    const FittedParameter& fp = summary.parameters[static_cast<std::size_t>(prepared.free[k])];
+    if (fp.at_bound)
+      summary.warnings.push_back(fp.name + " ended at its " + (run.best_unit[k] < 0.5 ? "lower" : "upper") + " bound " +
+                                 format_number(run.best_unit[k] < 0.5 ? fp.lower : fp.upper) + " " + fp.unit +
+                                 ": the fit may want a value beyond it; widen the bounds or fix it (its interval is not reliable).");
+  }
+  Eigen::VectorXd d0;
+  if (options.uncertainty && summary.usable() && summary.termination != CalibrationTermination::stopped &&
+      residuals(prepared, run.evaluator, d0))
+    uncertainty(run, best_values, d0);
+  summary.message = msg.str() + "; objective " + format_number(summary.objective) + " (start " +
+                    format_number(summary.start_objective) + ")";
+  summary.wall_time = run.elapsed();
+  return summary;
+}
+
+double calibration_objective(const CalibrationOptions& options, const CalibrationProblem& problem,
+                             const ParameterValues& values) {
+  const detail::Prepared prepared = detail::prepare(problem);
+  detail::Evaluator ev(prepared, options, resolve_threads(options.threads, prepared.tests.size()));
+  const bool built = ev.simulate(values, false);
+  return built ? ev.objective(true) : std::numeric_limits<double>::infinity();
+}
+
+}  // namespace triaxcal

@@ -1,0 +1,537 @@
+#include "engine.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <set>
+
+#include "triaxcal/error.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal {
+
+namespace {
+struct QuantityName {
+  Quantity q;
+  const char* name;
+  const char* unit;
+};
+constexpr QuantityName kQuantities[] = {
+    {Quantity::axial_strain, "axial_strain", "-"},
+    {Quantity::radial_strain, "radial_strain", "-"},
+    {Quantity::volumetric_strain, "volumetric_strain", "-"},
+    {Quantity::axial_stress, "axial_stress", "kPa"},
+    {Quantity::radial_stress, "radial_stress", "kPa"},
+    {Quantity::mean_stress, "mean_stress", "kPa"},
+    {Quantity::deviator_stress, "deviator_stress", "kPa"},
+    {Quantity::excess_pore_pressure, "excess_pore_pressure", "kPa"},
+    {Quantity::void_ratio, "void_ratio", "-"},
+    {Quantity::stress_ratio, "stress_ratio", "-"},
+};
+
+bool is_strain(Quantity q) {
+  return q == Quantity::axial_strain || q == Quantity::radial_strain || q == Quantity::volumetric_strain;
+}
+}  // namespace
+
+std::string to_string(Quantity quantity) {
+  for (const auto& n : kQuantities)
+    if (n.q == quantity) return n.name;
+  return "unknown";
+}
+
+std::string unit_of(Quantity quantity) {
+  for (const auto& n : kQuantities)
+    if (n.q == quantity) return n.unit;
+  return "?";
+}
+
+Quantity parse_quantity(const std::string& text, const std::string& where) {
+  std::string list;
+  for (const auto& n : kQuantities) {
+    if (text == n.name) return n.q;
+    list += (list.empty() ? "" : ", ") + std::string(n.name);
+  }
+  throw InputError(where + ": expected one of: " + list + ", found \"" + text + "\"");
+}
+
+double value_of(const StepRecord& r, Quantity quantity) {
+  switch (quantity) {
+    case Quantity::axial_strain: return r.axial_strain;
+    case Quantity::radial_strain: return r.radial_strain;
+    case Quantity::volumetric_strain: return r.volumetric_strain;
+    case Quantity::axial_stress: return r.axial_stress;
+    case Quantity::radial_stress: return r.radial_stress;
+    case Quantity::mean_stress: return r.p;
+    case Quantity::deviator_stress: return r.q;
+    case Quantity::excess_pore_pressure: return r.excess_pore_pressure;
+    case Quantity::void_ratio: return r.void_ratio;
+    case Quantity::stress_ratio: return r.stress_ratio;
+  }
+  return kNotGiven;
+}
+
+std::string to_string(ParameterStatus status) {
+  switch (status) {
+    case ParameterStatus::free: return "free";
+    case ParameterStatus::fixed: return "fixed";
+    case ParameterStatus::tied: return "tied";
+  }
+  return "unknown";
+}
+
+namespace detail {
+
+// ---------------------------------------------------------------------------------------------
+// TaskPool
+
+TaskPool::TaskPool(int threads) {
+  for (int i = 1; i < threads; ++i) workers_.emplace_back([this] { work(); });
+}
+
+TaskPool::~TaskPool() {
+  {
+    std::lock_guard<std::mutex> lock(mutex_);
+    quit_ = true;
+  }
+  wake_.notify_all();
+  for (auto& w : workers_) w.join();
+}
+
+void TaskPool::drain() {
+  for (;;) {
+    const int i = next_.fetch_add(1);
+    if (i >= count_) return;
+    (*task_)(i);
+  }
+}
+
+void TaskPool::work() {
+  long seen = 0;
+  for (;;) {
+    {
+      std::unique_lock<std::mutex> lock(mutex_);
+      wake_.wait(lock, [&] { return quit_ || generation_ != seen; });
+      if (quit_) return;
+      seen = generation_;
+    }
+    drain();
+    {
+      std::lock_guard<std::mutex> lock(mutex_);
+      if (--busy_ == 0) done_.notify_one();
+    }
+  }
+}
+
+void TaskPool::run(int n, const std::function<void(int)>& task) {
+  if (workers_.empty() || n <= 1) {
+    for (int i = 0; i < n; ++i) task(i);
+    return;
+  }
+  {
+    std::lock_guard<std::mutex> lock(mutex_);
+    task_ = &task;
+    count_ = n;
+    next_.store(0);
+    busy_ = static_cast<int>(workers_.size());
+    ++generation_;
+  }
+  wake_.notify_all();
+  drain();
+  std::unique_lock<std::mutex> lock(mutex_);
+  done_.wait(lock, [&] { return busy_ == 0; });
+}
+
+// ---------------------------------------------------------------------------------------------
+// Prepared problem
+
+double Prepared::to_physical(int k, double u) const {
+  u = std::clamp(u, 0.0, 1.0);
+  const auto i = static_cast<std::size_t>(k);
+  if (scale[i] == ParameterScale::log) return std::exp(std::log(lower[i]) + u * (std::log(upper[i]) - std::log(lower[i])));
+  return lower[i] + u * (upper[i] - lower[i]);
+}
+
+double Prepared::to_unit(int k, double value) const {
+  const auto i = static_cast<std::size_t>(k);
+  if (scale[i] == ParameterScale::log)
+    return (std::log(value) - std::log(lower[i])) / (std::log(upper[i]) - std::log(lower[i]));
+  return (value - lower[i]) / (upper[i] - lower[i]);
+}
+
+double Prepared::slope(int k, double value) const {
+  const auto i = static_cast<std::size_t>(k);
+  if (scale[i] == ParameterScale::log) return value * (std::log(upper[i]) - std::log(lower[i]));
+  return upper[i] - lower[i];
+}
+
+ParameterValues Prepared::values(const std::vector<double>& unit) const {
+  ParameterValues v = fixed;
+  for (std::size_t k = 0; k < free.size(); ++k) v[static_cast<std::size_t>(free[k])] = to_physical(static_cast<int>(k), unit[k]);
+  for (const auto& [index, e] : ties) v[static_cast<std::size_t>(index)] = e.evaluate(v);
+  return v;
+}
+
+double Prepared::violation(const ParameterValues& v) const {
+  double worst = -std::numeric_limits<double>::infinity();
+  for (const Inequality& q : constraints) {
+    const double g = q.violation(v);
+    const double size = std::abs(q.lhs.evaluate(v)) + std::abs(q.rhs.evaluate(v)) + 1e-12;
+    worst = std::max(worst, g / size);
+  }
+  return worst;
+}
+
+namespace {
+
+std::string test_where(std::size_t i, const CalibrationTest& t) {
+  return "tests[" + std::to_string(i) + "]" + (t.id.empty() ? "" : " (" + t.id + ")");
+}
+
+// Normalisation floor where a curve is nearly flat (e.g. excess pore pressure in a drained test):
+// 1 kPa for stresses, 1e-4 for strains (lab resolution), 0.01 for void and stress ratios.
+double range_floor(Quantity q) {
+  if (is_strain(q)) return 1e-4;
+  if (q == Quantity::void_ratio || q == Quantity::stress_ratio) return 1e-2;
+  return 1.0;
+}
+
+}  // namespace
+
+Prepared prepare(const CalibrationProblem& problem) {
+  if (problem.model == nullptr || !problem.create) throw InputError("calibration: no model given");
+  const ModelInfo& info = *problem.model;
+  Prepared p;
+  p.problem = &problem;
+  const std::size_t n = info.parameters.size();
+  for (const auto& pi : info.parameters) p.names.push_back(pi.name);
+  p.status.assign(n, ParameterStatus::fixed);
+  p.fixed.assign(n, kNotGiven);
+  std::vector<const ParameterSpec*> spec(n, nullptr);
+  for (const ParameterSpec& s : problem.parameters) {
+    const std::string where = "parameters." + s.name;
+    const int i = parameter_index(info, s.name);
+    if (i < 0) {
+      std::string known;
+      for (const auto& name : p.names) known += (known.empty() ? "" : ", ") + name;
+      throw InputError(where + ": " + info.name + " has no parameter '" + s.name + "' (known: " + known + ")");
+    }
+    if (spec[static_cast<std::size_t>(i)] != nullptr) throw InputError(where + ": given twice");
+    spec[static_cast<std::size_t>(i)] = &s;
+  }
+  // Fixed and free first; ties need every name's status.
+  std::vector<std::pair<int, const ParameterSpec*>> tied;
+  for (std::size_t i = 0; i < n; ++i) {
+    const ParameterInfo& pi = info.parameters[i];
+    const std::string where = "parameters." + pi.name;
+    const ParameterSpec* s = spec[i];
+    if (s == nullptr || s->status == ParameterStatus::fixed) {
+      const double v = (s != nullptr && !std::isnan(s->value)) ? s->value : pi.default_value;
+      if (std::isnan(v)) throw InputError(where + ": fixed without a value, and " + info.name + " has no default for it");
+      check_bounds(info, pi, v, where);
+      p.fixed[i] = v;
+      continue;
+    }
+    p.status[i] = s->status;
+    if (s->status == ParameterStatus::tied) {
+      if (s->expression.empty()) throw InputError(where + ": a tied parameter needs an expression");
+      tied.emplace_back(static_cast<int>(i), s);
+      continue;
+    }
+    const std::string unit = " (" + pi.unit + ")";
+    if (std::isnan(s->lower) || std::isnan(s->upper) || !std::isfinite(s->lower) || !std::isfinite(s->upper))
+      throw InputError(where + ": a free parameter needs finite lower and upper bounds" + unit);
+    if (!(s->lower < s->upper))
+      throw InputError(where + ": lower = " + format_number(s->lower) + " must be below upper = " +
+                       format_number(s->upper) + unit);
+    for (const auto& [key, v] : {std::pair<const char*, double>{"lower", s->lower}, {"upper", s->upper}}) {
+      const bool below = pi.lower_open ? !(v > pi.lower) : !(v >= pi.lower);
+      const bool above = pi.upper_open ? !(v < pi.upper) : !(v <= pi.upper);
+      if (below || above)
+        throw InputError(where + ": " + key + " = " + format_number(v) + " is outside the model's range " +
+                         format_bounds(pi) + unit);
+    }
+    if (s->scale == ParameterScale::log && !(s->lower > 0.0))
+      throw InputError(where + ": a log scale needs lower > 0, found lower = " + format_number(s->lower));
+    const double start = std::isnan(s->start)
+                             ? (s->scale == ParameterScale::log ? std::sqrt(s->lower * s->upper) : 0.5 * (s->lower + s->upper))
+                             : s->start;
+    if (!(start >= s->lower && start <= s->upper))
+      throw InputError(where + ": start = " + format_number(start) + " is outside the bounds [" +
+                       format_number(s->lower) + ", " + format_number(s->upper) + "]" + unit);
+    p.free.push_back(static_cast<int>(i));
+    p.lower.push_back(s->lower);
+    p.upper.push_back(s->upper);
+    p.start.push_back(start);
+    p.scale.push_back(s->scale);
+  }
+  if (p.free.empty()) throw InputError("parameters: no parameter is free (nothing to fit)");
+  // Ties in dependency order; a tie may read fixed, free or other tied parameters.
+  std::vector<std::pair<int, Expression>> pending;
+  for (const auto& [i, s] : tied)
+    pending.emplace_back(i, Expression(s->expression, p.names, "parameters." + p.names[static_cast<std::size_t>(i)] + ".expression"));
+  std::vector<bool> known(n, true);
+  for (const auto& [i, e] : pending) known[static_cast<std::size_t>(i)] = false;
+  while (!pending.empty()) {
+    bool progress = false;
+    for (auto it = pending.begin(); it != pending.end();) {
+      bool ready = true;
+      for (int v : it->second.variables()) ready = ready && known[static_cast<std::size_t>(v)];
+      if (ready) {
+        known[static_cast<std::size_t>(it->first)] = true;
+        p.ties.push_back(std::move(*it));
+        it = pending.erase(it);
+        progress = true;
+      } else {
+        ++it;
+      }
+    }
+    if (!progress) {
+      std::string cycle;
+      for (const auto& [i, e] : pending) cycle += (cycle.empty() ? "" : ", ") + p.names[static_cast<std::size_t>(i)];
+      throw InputError("parameters." + p.names[static_cast<std::size_t>(pending.front().first)] +
+                       ".expression: tied parameters refer to each other in a cycle (" + cycle + ")");
+    }
+  }
+  for (std::size_t c = 0; c < problem.constraints.size(); ++c)
+    p.constraints.push_back(parse_inequality(problem.constraints[c], p.names, "constraints[" + std::to_string(c) + "]"));
+  // Ties and constraints at the start point must make sense.
+  {
+    std::vector<double> unit(p.free.size());
+    for (std::size_t k = 0; k < p.free.size(); ++k) unit[k] = p.to_unit(static_cast<int>(k), p.start[k]);
+    const ParameterValues v = p.values(unit);
+    for (const auto& [i, e] : p.ties)
+      if (!std::isfinite(v[static_cast<std::size_t>(i)]))
+        throw InputError("parameters." + p.names[static_cast<std::size_t>(i)] + ".expression: \"" + e.text() +
+                         "\" is not a finite number at the start values");
+  }
+
+  if (problem.tests.empty()) throw InputError("tests: no test to fit");
+  std::set<std::string> ids;
+  for (std::size_t t = 0; t < problem.tests.size(); ++t) {
+    const CalibrationTest& test = problem.tests[t];
+    const std::string tw = test_where(t, test);
+    if (!test.id.empty() && !ids.insert(test.id).second) throw InputError(tw + ": id \"" + test.id + "\" is used twice");
+    try {
+      validate_protocol(test.protocol);
+    } catch (const InputError& e) {
+      throw InputError(tw + ": protocol: " + e.what());
+    }
+    if (!(test.weight >= 0.0 && std::isfinite(test.weight)))
+      throw InputError(tw + ": weight = " + format_number(test.weight) + " must be a finite number >= 0");
+    if (test.curves.empty()) throw InputError(tw + ": no curve to compare");
+    PreparedTest pt;
+    pt.test = &test;
+    for (std::size_t c = 0; c < test.curves.size(); ++c) {
+      const MeasuredCurve& m = test.curves[c];
+      const std::string cw = tw + ": curves[" + std::to_string(c) + "] (" + to_string(m.y) + ")";
+      if (m.xs.size() != m.ys.size())
+        throw InputError(cw + ": " + std::to_string(m.xs.size()) + " x values but " + std::to_string(m.ys.size()) +
+                         " y values");
+      if (!(m.weight >= 0.0 && std::isfinite(m.weight)))
+        throw InputError(cw + ": weight = " + format_number(m.weight) + " must be a finite number >= 0");
+      if (m.stage < -1 || m.stage >= static_cast<int>(test.protocol.stages.size()))
+        throw InputError(cw + ": stage = " + std::to_string(m.stage) + " is not a stage of the protocol (0 to " +
+                         std::to_string(test.protocol.stages.size() - 1) + ", or -1 for all)");
+      if (m.strain_zero_stage < -1 || m.strain_zero_stage >= static_cast<int>(test.protocol.stages.size()))
+        throw InputError(cw + ": strain_zero_stage = " + std::to_string(m.strain_zero_stage) +
+                         " is not a stage of the protocol (0 to " + std::to_string(test.protocol.stages.size() - 1) +
+                         ", or -1 for the start)");
+      if (!(m.x_min <= m.x_max))
+        throw InputError(cw + ": x range [" + format_number(m.x_min) + ", " + format_number(m.x_max) + "] is reversed");
+      PreparedCurve pc;
+      pc.source = static_cast<int>(c);
+      pc.x = m.x;
+      pc.y = m.y;
+      pc.stage = m.stage;
+      pc.zero_stage = m.strain_zero_stage;
+      for (std::size_t k = 0; k < m.xs.size(); ++k) {
+        if (!std::isfinite(m.xs[k]) || !std::isfinite(m.ys[k]))
+          throw InputError(cw + ": point " + std::to_string(k) + " is not a pair of finite numbers");
+        if (m.xs[k] < m.x_min || m.xs[k] > m.x_max) continue;
+        pc.xs.push_back(m.xs[k]);
+        pc.ys.push_back(m.ys[k]);
+      }
+      if (pc.xs.size() < 2)
+        throw InputError(cw + ": fewer than 2 points within the x range [" + format_number(m.x_min) + ", " +
+                         format_number(m.x_max) + "]");
+      const auto [lo, hi] = std::minmax_element(pc.ys.begin(), pc.ys.end());
+      pc.range = std::max(*hi - *lo, range_floor(m.y));
+      const double np = static_cast<double>(pc.xs.size());
+      pc.weight = test.weight * m.weight / np;
+      double mean = 0.0;
+      for (double y : pc.ys) mean += y;
+      mean /= np;
+      for (double y : pc.ys) pc.sst += (y - mean) * (y - mean);
+      pt.points += static_cast<int>(pc.xs.size());
+      pt.total_weight += test.weight * m.weight;
+      pt.curves.push_back(std::move(pc));
+    }
+    p.points += pt.points;
+    p.tests.push_back(std::move(pt));
+  }
+  return p;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Curve comparison
+
+// The simulated curve as a polyline in time order; each measured point (also in time order) is
+// matched on the first segment, from the previous match onward, whose x interval contains it. This
+// follows unload-reload loops and multi-stage histories without ambiguity. A point no segment
+// contains (beyond the simulated range) takes the value of the nearest simulated point in x.
+void interpolate_curve(const SimulationResult& result, const PreparedCurve& curve, double* out) {
+  const auto& steps = result.steps;
+  // Record at the start of stage s: the last record of the stage before (record 0 for stage 0).
+  auto stage_start = [&](int s) -> std::size_t {
+    if (s < 0 || static_cast<std::size_t>(s) >= result.stages.size()) return 0;
+    return static_cast<std::size_t>(std::max(0, result.stages[static_cast<std::size_t>(s)].first - 1));
+  };
+  std::size_t first = stage_start(curve.zero_stage), last = steps.size() - 1;
+  if (curve.stage >= 0 && static_cast<std::size_t>(curve.stage) < result.stages.size()) {
+    first = stage_start(curve.stage);
+    last = static_cast<std::size_t>(result.stages[static_cast<std::size_t>(curve.stage)].last);
+  }
+  const StepRecord& base = steps[stage_start(curve.zero_stage)];
+  const bool shift_x = curve.zero_stage >= 0 && is_strain(curve.x);
+  const bool shift_y = curve.zero_stage >= 0 && is_strain(curve.y);
+  const double x0 = shift_x ? value_of(base, curve.x) : 0.0;
+  const double y0 = shift_y ? value_of(base, curve.y) : 0.0;
+  auto X = [&](std::size_t j) { return value_of(steps[j], curve.x) - x0; };
+  auto Y = [&](std::size_t j) { return value_of(steps[j], curve.y) - y0; };
+  std::size_t cursor = first;
+  const std::size_t n = curve.xs.size();
+  for (std::size_t i = 0; i < n; ++i) {
+    const double xi = curve.xs[i];
+    bool found = false;
+    double xa = X(cursor);
+    for (std::size_t j = cursor; j < last; ++j) {
+      const double xb = X(j + 1);
+      if ((xa <= xi && xi <= xb) || (xb <= xi && xi <= xa)) {
+        const double t = xb == xa ? 0.0 : (xi - xa) / (xb - xa);
+        const double ya = Y(j);
+        out[i] = ya + t * (Y(j + 1) - ya);
+        cursor = j;
+        found = true;
+        break;
+      }
+      xa = xb;
+    }
+    if (found) continue;
+    std::size_t best = cursor;
+    double distance = std::numeric_limits<double>::infinity();
+    for (std::size_t j = cursor; j <= last; ++j) {
+      const double d = std::abs(X(j) - xi);
+      if (d < distance) {
+        distance = d;
+        best = j;
+      }
+    }
+    out[i] = Y(best);
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Evaluator
+
+Evaluator::Evaluator(const Prepared& prepared, const CalibrationOptions& options, int threads)
+    : prepared_(prepared), options_(options), pool_(threads), outcomes_(prepared.tests.size()) {
+  for (std::size_t t = 0; t < prepared.tests.size(); ++t)
+    outcomes_[t].simulated.assign(static_cast<std::size_t>(prepared.tests[t].points), 0.0);
+  task_ = [this](int t) { run_test(t); };
+}
+
+void Evaluator::run_test(int t) {
+  const PreparedTest& pt = prepared_.tests[static_cast<std::size_t>(t)];
+  TestOutcome& o = outcomes_[static_cast<std::size_t>(t)];
+  o.ok = false;
+  try {
+    SimulationResult r = triaxcal::simulate(prepared_.problem->driver, *model_, pt.test->protocol);
+    if (r.ok()) {
+      double* out = o.simulated.data();
+      for (const PreparedCurve& c : pt.curves) {
+        interpolate_curve(r, c, out);
+        out += c.xs.size();
+      }
+      o.ok = true;
+      for (double v : o.simulated) o.ok = o.ok && std::isfinite(v);
+    }
+    if (keep_) o.result = std::move(r);
+  } catch (const std::exception& e) {
+    // A model that rejects the initial conditions (InputError) fails this test like a diverged run.
+    if (keep_) {
+      o.result = SimulationResult{};
+      o.result.termination = Termination::failed;
+      o.result.message = e.what();
+    }
+  }
+}
+
+bool Evaluator::simulate(const ParameterValues& values, bool keep) {
+  std::unique_ptr<Model> model;
+  try {
+    model = prepared_.problem->create(values);
+  } catch (const std::exception& e) {
+    for (TestOutcome& o : outcomes_) {
+      o.ok = false;
+      if (keep) {
+        o.result = SimulationResult{};
+        o.result.termination = Termination::failed;
+        o.result.message = std::string("the model rejected the parameters: ") + e.what();
+      }
+    }
+    return false;
+  }
+  model_ = model.get();
+  keep_ = keep;
+  pool_.run(static_cast<int>(outcomes_.size()), task_);
+  model_ = nullptr;
+  return true;
+}
+
+int Evaluator::failed_tests() const {
+  int n = 0;
+  for (const TestOutcome& o : outcomes_) n += o.ok ? 0 : 1;
+  return n;
+}
+
+namespace {
+// rho(z) of z = e^2 for the loss of calibrate.hpp, with c the loss scale.
+double loss(Loss kind, double z, double c) {
+  switch (kind) {
+    case Loss::linear: return z;
+    case Loss::soft_l1: return 2.0 * c * c * (std::sqrt(1.0 + z / (c * c)) - 1.0);
+    case Loss::huber: return z <= c * c ? z : 2.0 * c * std::sqrt(z) - c * c;
+  }
+  return z;
+}
+}  // namespace
+
+double Evaluator::objective(bool model_built, std::vector<double>* per_test) const {
+  double total = 0.0;
+  if (per_test) per_test->assign(outcomes_.size(), 0.0);
+  for (std::size_t t = 0; t < outcomes_.size(); ++t) {
+    const PreparedTest& pt = prepared_.tests[t];
+    const TestOutcome& o = outcomes_[t];
+    double share = 0.0;
+    if (!model_built || !o.ok) {
+      share = options_.failure_penalty * pt.total_weight;
+    } else {
+      const double* sim = o.simulated.data();
+      for (const PreparedCurve& c : pt.curves) {
+        double sum = 0.0;
+        for (std::size_t i = 0; i < c.xs.size(); ++i) {
+          const double e = (sim[i] - c.ys[i]) / c.range;
+          sum += loss(options_.loss, e * e, options_.loss_scale);
+        }
+        share += c.weight * sum;
+        sim += c.xs.size();
+      }
+    }
+    if (per_test) (*per_test)[t] = share;
+    total += share;
+  }
+  return total;
+}
+
+}  // namespace detail
+}  // namespace triaxcal

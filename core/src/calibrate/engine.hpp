@@ -1,0 +1,125 @@
+#pragma once
+// Internal: the prepared problem (free/fixed/tied map, unit box, compared points) and the
+// evaluator that simulates the tests on a thread pool.
+
+#include <atomic>
+#include <condition_variable>
+#include <functional>
+#include <mutex>
+#include <thread>
+#include <vector>
+
+#include "expression.hpp"
+#include "triaxcal/calibrate.hpp"
+
+namespace triaxcal::detail {
+
+/// Runs `n` tasks on `threads` threads (the caller is one of them). Which thread runs a task never
+/// changes a result: every task writes only its own slot.
+class TaskPool {
+ public:
+  explicit TaskPool(int threads);
+  ~TaskPool();
+  TaskPool(const TaskPool&) = delete;
+  TaskPool& operator=(const TaskPool&) = delete;
+
+  void run(int n, const std::function<void(int)>& task);
+  int threads() const { return static_cast<int>(workers_.size()) + 1; }
+
+ private:
+  void work();
+  void drain();
+
+  std::vector<std::thread> workers_;
+  std::mutex mutex_;
+  std::condition_variable wake_, done_;
+  const std::function<void(int)>* task_ = nullptr;
+  int count_ = 0;
+  std::atomic<int> next_{0};
+  long generation_ = 0;
+  int busy_ = 0;
+  bool quit_ = false;
+};
+
+/// One compared curve of a test, points already filtered by the x range.
+struct PreparedCurve {
+  int source = 0;            ///< index into CalibrationTest::curves
+  Quantity x = Quantity::axial_strain, y = Quantity::deviator_stress;
+  int stage = -1;
+  int zero_stage = -1;
+  std::vector<double> xs, ys;
+  double range = 1.0;        ///< normalisation (unit of y)
+  double weight = 0.0;       ///< w_test * w_curve / n (objective weight of e^2)
+  double sst = 0.0;          ///< sum of squares about the mean, for R^2
+};
+
+struct PreparedTest {
+  const CalibrationTest* test = nullptr;
+  std::vector<PreparedCurve> curves;
+  int points = 0;
+  double total_weight = 0.0;  ///< w_test * sum of curve weights (penalty scale)
+};
+
+/// Outcome of simulating one test at one parameter set.
+struct TestOutcome {
+  bool ok = false;
+  std::vector<double> simulated;  ///< at the compared points, curves in order
+  SimulationResult result;        ///< kept only when asked
+};
+
+struct Prepared {
+  const CalibrationProblem* problem = nullptr;
+  std::vector<std::string> names;
+  std::vector<ParameterStatus> status;
+  std::vector<double> fixed;                 ///< ModelInfo order; fixed values (NaN for free/tied)
+  std::vector<int> free;                     ///< model indices of the free parameters
+  std::vector<double> lower, upper, start;   ///< per free parameter, physical
+  std::vector<ParameterScale> scale;
+  std::vector<std::pair<int, Expression>> ties;  ///< in evaluation order
+  std::vector<Inequality> constraints;
+  std::vector<PreparedTest> tests;
+  int points = 0;
+
+  /// Physical value of free parameter k at unit coordinate u (clamped to [0, 1]).
+  double to_physical(int k, double u) const;
+  double to_unit(int k, double value) const;
+  /// Derivative d(value)/du of free parameter k at `value`.
+  double slope(int k, double value) const;
+  /// Full ModelInfo-order values from the unit coordinates of the free parameters.
+  ParameterValues values(const std::vector<double>& unit) const;
+  /// Largest relative violation of the constraints (<= 0 when all hold).
+  double violation(const ParameterValues& values) const;
+};
+
+/// Throws InputError for a bad problem (see validate_problem).
+Prepared prepare(const CalibrationProblem& problem);
+
+class Evaluator {
+ public:
+  Evaluator(const Prepared& prepared, const CalibrationOptions& options, int threads);
+
+  /// Simulates every test at `values`; fills outcome(t). `keep` keeps the simulation results.
+  /// Returns false when the model could not be built.
+  bool simulate(const ParameterValues& values, bool keep);
+  /// Objective of the last simulate() (see calibrate.hpp), summed in test order.
+  double objective(bool model_built, std::vector<double>* per_test = nullptr) const;
+  const TestOutcome& outcome(int t) const { return outcomes_[static_cast<std::size_t>(t)]; }
+  int failed_tests() const;
+  int threads() const { return pool_.threads(); }
+
+ private:
+  void run_test(int t);
+
+  const Prepared& prepared_;
+  const CalibrationOptions& options_;
+  TaskPool pool_;
+  std::vector<TestOutcome> outcomes_;
+  const Model* model_ = nullptr;
+  bool keep_ = false;
+  std::function<void(int)> task_;
+};
+
+/// The compared value of a simulated curve at each x (forward-moving search, see the .cpp).
+void interpolate_curve(const SimulationResult& result, const PreparedCurve& curve, double* out);
+
+}  // namespace triaxcal::detail

@@ -1,0 +1,116 @@
+#include <cmath>
+#include <cstdio>
+#include <sstream>
+
+#include "triaxcal/calibrate.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal {
+
+namespace {
+
+std::string fmt(const char* format, double v) {
+  char b[64];
+  std::snprintf(b, sizeof b, format, v);
+  return b;
+}
+
+std::string value_text(double v) { return std::isnan(v) ? "-" : format_number(v); }
+
+std::string parameter_line(const FittedParameter& p) {
+  std::string line = "  " + p.name + " = " + format_number(p.value) + " " + p.unit;
+  if (p.status == ParameterStatus::free) {
+    if (std::isinf(p.standard_error)) {
+      line += "  (not determined)";
+    } else if (!std::isnan(p.standard_error)) {
+      line += "  +/- " + format_number(p.standard_error) + "  95 % [" + format_number(p.interval_low) + ", " +
+              format_number(p.interval_high) + "]";
+    }
+    if (p.at_bound) line += "  AT BOUND";
+  } else if (p.status == ParameterStatus::tied) {
+    line += "  (tied: " + p.expression + ")";
+  } else {
+    line += "  (fixed)";
+  }
+  return line;
+}
+
+}  // namespace
+
+std::string CalibrationSummary::brief() const {
+  std::ostringstream s;
+  s << "calibration of " << model << ": " << to_string(termination) << ", objective " << format_number(objective)
+    << ", " << evaluations << " evaluations (" << failed_simulations << " failed simulations), "
+    << fmt("%.2f", wall_time) << " s on " << threads << (threads == 1 ? " thread\n" : " threads\n");
+  for (const FittedParameter& p : parameters)
+    if (p.status != ParameterStatus::fixed) s << parameter_line(p) << "\n";
+  double worst = 0.0;
+  std::string worst_name;
+  for (const TestFit& t : tests)
+    for (const CurveFit& c : t.curves)
+      if (!std::isnan(c.rmse) && c.range > 0.0 && c.rmse / c.range >= worst) {
+        worst = c.rmse / c.range;
+        worst_name = t.id + " " + to_string(c.y);
+      }
+  if (!worst_name.empty()) s << "  worst curve: " << worst_name << ", RMSE " << fmt("%.2f", 100.0 * worst) << " % of its range\n";
+  if (!warnings.empty()) s << "  " << warnings.size() << (warnings.size() == 1 ? " warning" : " warnings") << ":\n";
+  for (const std::string& w : warnings) s << "  - " << w << "\n";
+  return s.str();
+}
+
+std::string CalibrationSummary::full() const {
+  std::ostringstream s;
+  s << "Calibration of " << model << "\n";
+  s << "  termination: " << to_string(termination) << ": " << message << "\n";
+  s << "  objective: " << format_number(objective) << " (start " << format_number(start_objective) << ")\n";
+  s << "  evaluations: " << evaluations << " (design " << design_evaluations << ", global " << global_evaluations
+    << ", local " << local_evaluations << " in " << local_runs << (local_runs == 1 ? " run" : " runs") << "), "
+    << jacobian_evaluations << " for the Jacobian; " << failed_simulations << " failed test simulations\n";
+  s << "  wall time: " << fmt("%.3f", wall_time) << " s on " << threads << " threads ("
+    << fmt("%.0f", wall_time > 0.0 ? static_cast<double>(evaluations + jacobian_evaluations) / wall_time : 0.0)
+    << " evaluations/s)\n";
+  s << "  algorithms used: global " << global_algorithm << ", local " << local_algorithm << ", loss " << loss << "\n";
+  s << "\nOptions as asked:\n";
+  std::istringstream lines(options_text);
+  for (std::string line; std::getline(lines, line);) s << "  " << line << "\n";
+
+  s << "\nParameters (asked -> found):\n";
+  for (const FittedParameter& p : parameters) {
+    s << parameter_line(p) << "\n";
+    if (p.status == ParameterStatus::free)
+      s << "      start " << format_number(p.start) << ", bounds [" << format_number(p.lower) << ", "
+        << format_number(p.upper) << "]\n";
+  }
+  if (correlation.size() > 0) {
+    s << "\nCorrelation of the free parameters:\n  " << std::string(22, ' ');
+    for (std::size_t j = 0; j < free_names.size(); ++j) {
+      std::string head = "[" + std::to_string(j + 1) + "]";
+      s << std::string(head.size() < 7 ? 7 - head.size() : 0, ' ') << head << " ";
+    }
+    s << "\n";
+    for (Eigen::Index i = 0; i < correlation.rows(); ++i) {
+      std::string name = "[" + std::to_string(i + 1) + "] " + free_names[static_cast<std::size_t>(i)];
+      name.resize(22, ' ');
+      s << "  " << name;
+      for (Eigen::Index j = 0; j < correlation.cols(); ++j)
+        s << (std::isnan(correlation(i, j)) ? std::string("     -  ") : fmt("%7.3f ", correlation(i, j)));
+      s << "\n";
+    }
+  }
+  s << "\nFit per test and curve (RMSE in the curve's unit):\n";
+  for (const TestFit& t : tests) {
+    s << "  " << t.id << ": " << (t.simulated ? "simulated" : "FAILED: " + t.message) << ", objective share "
+      << format_number(t.objective) << "\n";
+    for (const CurveFit& c : t.curves)
+      s << "    " << to_string(c.y) << " vs " << to_string(c.x) << ": " << c.points << " points, RMSE "
+        << value_text(c.rmse) << " " << unit_of(c.y) << " ("
+        << (std::isnan(c.rmse) ? std::string("-") : fmt("%.2f", 100.0 * c.rmse / c.range)) << " % of range "
+        << format_number(c.range) << "), R^2 " << (std::isnan(c.r_squared) ? std::string("-") : fmt("%.4f", c.r_squared))
+        << "\n";
+  }
+  s << "\nWarnings:" << (warnings.empty() ? " none\n" : "\n");
+  for (const std::string& w : warnings) s << "  - " << w << "\n";
+  return s.str();
+}
+
+}  // namespace triaxcal
