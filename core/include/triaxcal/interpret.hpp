@@ -1,0 +1,167 @@
+#pragma once
+// Classical interpretation of a test series: failure points, undrained strength, effective
+// strength envelopes (s'-t and p'-q), stiffness and its stress dependency, dilatancy, critical
+// state, compressibility, Skempton's pore-pressure parameters. Units: kPa, decimal strain, degrees.
+// Sources are named beside each formula in interpret/*.cpp and in docs/test-series-format.md.
+
+#include <limits>
+#include <string>
+#include <vector>
+
+#include "triaxcal/core_export.hpp"
+#include "triaxcal/series.hpp"
+
+namespace triaxcal {
+
+enum class FailureCriterion {
+  max_deviator,      ///< largest q in the shear direction
+  max_stress_ratio,  ///< largest s1'/s3'
+  limiting_strain,   ///< the point at (or the last before) a limiting axial strain from the stage start
+  end_of_test,       ///< the last point of the stage
+};
+
+TRIAXCAL_CORE_EXPORT std::string to_string(FailureCriterion c);
+
+struct InterpretOptions {
+  FailureCriterion criterion = FailureCriterion::max_deviator;  ///< the one the design line uses
+  double limiting_strain = 0.15;     ///< decimal, for limiting_strain
+  double stress_low = 0.0;           ///< s' range (kPa) of failure points used for the envelope
+  double stress_high = std::numeric_limits<double>::infinity();
+  double design_stress = kNotGiven;  ///< largest normal effective stress of the design problem (kPa)
+  double reference_pressure = 100.0; ///< p_ref of E = E_ref (s3'/p_ref)^m (kPa)
+  bool curved_envelope = true;       ///< also fit t = a_p p_ref (s'/p_ref)^b
+
+  /// Throws InputError naming the field, its value and the rule.
+  void validate() const;
+};
+
+/// One point of a curve picked as failure.
+struct FailurePoint {
+  int index = -1;              ///< point index in the specimen's curves, -1 when none
+  double axial_strain = kNotGiven;  ///< from the stage start (decimal)
+  double q = kNotGiven;        ///< kPa, signed
+  double s1 = kNotGiven;       ///< major principal effective stress (kPa)
+  double s3 = kNotGiven;       ///< minor principal effective stress (kPa)
+  double p = kNotGiven;        ///< p' (kPa)
+  double s = kNotGiven;        ///< s' = (s1' + s3')/2 (kPa)
+  double t = kNotGiven;        ///< t = (s1' - s3')/2 (kPa)
+  double excess_pore_pressure = kNotGiven;  ///< kPa
+  double cell_pressure = kNotGiven;         ///< total s3 (kPa)
+};
+
+/// Results of one shear stage.
+struct StageInterpretation {
+  std::string specimen;
+  int stage = -1;               ///< index into Specimen::stages
+  ShearType test = ShearType::cu;
+  ShearDirection direction = ShearDirection::compression;
+  int points = 0;
+  double consolidation_radial = kNotGiven;  ///< s3' at the stage start (kPa)
+  FailurePoint by_max_deviator;
+  FailurePoint by_max_stress_ratio;
+  FailurePoint by_criterion;    ///< the declared criterion
+  double undrained_strength = kNotGiven;    ///< c_u = (s1 - s3)_max / 2 (kPa), undrained stages
+  double initial_stiffness = kNotGiven;     ///< E_i (kPa): slope of q-e_a up to 20 % of peak q
+  double secant_stiffness_50 = kNotGiven;   ///< E_50 (kPa): secant to 50 % of peak q
+  std::vector<double> unload_reload_stiffness;  ///< E_ur (kPa) of each loop
+  double max_dilation_rate = kNotGiven;     ///< most negative d e_v / d e_a (drained)
+  double dilation_angle = kNotGiven;        ///< psi (deg) from the peak dilation rate
+  double phi_cv_rowe = kNotGiven;           ///< phi_cv (deg) from the stress-dilatancy points
+  double bolton_index = kNotGiven;          ///< Bolton's I_R where the relative density is given
+  double bolton_phi_difference = kNotGiven; ///< 3 I_R (deg), Bolton (1986) triaxial
+  double measured_phi_difference = kNotGiven;  ///< phi_peak - phi_cv (deg) from this test
+  bool steady_state = false;                ///< the end of the test is a steady (critical) state
+  double end_p = kNotGiven, end_q = kNotGiven, end_void_ratio = kNotGiven;
+  double skempton_a = kNotGiven;            ///< A_f = du_f / dq_f (undrained)
+  std::vector<double> dilatancy_d, dilatancy_ratio;  ///< stress-dilatancy plot: D = 1 - de_v/de_a, R = s1'/s3'
+};
+
+struct LineFit {
+  int n = 0;
+  double intercept = kNotGiven, slope = kNotGiven;
+  double se_intercept = kNotGiven, se_slope = kNotGiven;
+  double covariance = kNotGiven;  ///< cov(intercept, slope)
+  double residual_sd = kNotGiven; ///< s = sqrt(SSE / (n - 2))
+  double x_mean = kNotGiven, sxx = kNotGiven;
+  double r2 = kNotGiven;
+  double x_min = kNotGiven, x_max = kNotGiven;
+};
+
+/// Ordinary least squares y = a + b x with standard errors (n >= 3 for errors).
+TRIAXCAL_CORE_EXPORT LineFit fit_line(const std::vector<double>& x, const std::vector<double>& y);
+
+/// One-sided 95 % Student t quantile with `dof` degrees of freedom.
+TRIAXCAL_CORE_EXPORT double student_t95(int dof);
+
+struct UsedPoint {
+  std::string specimen;
+  int stage = -1;
+  double s = kNotGiven, t = kNotGiven;
+  bool used = false;
+  std::string reason;  ///< why it was left out
+};
+
+struct StrengthEnvelope {
+  FailureCriterion criterion = FailureCriterion::max_deviator;
+  LineFit st;                     ///< t = a + s' tan(alpha)
+  double phi = kNotGiven;         ///< deg, sin phi' = tan alpha
+  double cohesion = kNotGiven;    ///< kPa, c' = a / cos phi'
+  double se_phi = kNotGiven;      ///< deg, from se of tan alpha
+  double se_cohesion = kNotGiven; ///< kPa, first order
+  LineFit pq;                     ///< q = d + M p'
+  double phi_pq = kNotGiven;      ///< sin phi' = 3M/(6+M)
+  double cohesion_pq = kNotGiven; ///< c' = d (3 - sin phi')/(6 cos phi')
+  double design_phi = kNotGiven;      ///< deg, conservative design line
+  double design_cohesion = kNotGiven; ///< kPa
+  double power_a = kNotGiven;     ///< t = power_a p_ref (s'/p_ref)^power_b
+  double power_b = kNotGiven;
+  std::vector<UsedPoint> points;
+  std::string note;               ///< why no fit, when none
+};
+
+struct StiffnessLaw {
+  int n = 0;
+  double reference = kNotGiven;   ///< E_ref (kPa) at s3' = p_ref
+  double exponent = kNotGiven;    ///< m
+  double r2 = kNotGiven;
+  std::string basis;              ///< which tests
+};
+
+struct Interpretation {
+  std::string series;
+  InterpretOptions options;
+  std::vector<StageInterpretation> stages;
+  // UU
+  int uu_count = 0;
+  double cu_mean = kNotGiven, cu_min = kNotGiven, cu_max = kNotGiven;
+  // effective strength: the declared criterion first, then the other of max-deviator / max-ratio
+  std::vector<StrengthEnvelope> envelopes;
+  StiffnessLaw secant_law, unload_reload_law;
+  // critical state
+  int cs_count = 0;
+  double critical_m = kNotGiven, phi_cs = kNotGiven;
+  LineFit csl;                     ///< e = Gamma - lambda ln p' (p' in kPa): intercept Gamma, slope -lambda
+  double phi_cv_rowe = kNotGiven;  ///< mean over drained stages
+  // compressibility
+  struct Compressibility {
+    std::string specimen;
+    int stage = -1;
+    double lambda = kNotGiven, kappa = kNotGiven;
+  };
+  std::vector<Compressibility> compressibility;
+  // pore pressure
+  std::vector<std::pair<std::string, double>> b_values;
+  std::vector<std::string> warnings;
+  std::vector<std::string> notes;  ///< rules and assumptions stated in the output
+};
+
+/// Interprets every shear stage of `series`. Throws InputError only for bad options.
+TRIAXCAL_CORE_EXPORT Interpretation interpret(const TestSeries& series, const InterpretOptions& options);
+
+/// The JSON result file: every number with its unit, the criterion, the tests used and excluded.
+TRIAXCAL_CORE_EXPORT std::string interpretation_json(const Interpretation& result);
+
+/// Plain-text tables for the terminal.
+TRIAXCAL_CORE_EXPORT std::string interpretation_text(const Interpretation& result);
+
+}  // namespace triaxcal

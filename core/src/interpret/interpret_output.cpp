@@ -1,0 +1,241 @@
+#include <nlohmann/json.hpp>
+
+#include <cmath>
+#include <cstdio>
+#include <sstream>
+
+#include "triaxcal/interpret.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal {
+
+namespace {
+
+using nlohmann::json;
+
+bool given(double v) { return !std::isnan(v); }
+
+/// {"value": v, "unit": u}; a value not available is null.
+json q(double v, const char* unit) {
+  json j;
+  j["value"] = given(v) && std::isfinite(v) ? json(v) : json(nullptr);
+  j["unit"] = unit;
+  return j;
+}
+
+json point_json(const FailurePoint& f) {
+  if (f.index < 0) return nullptr;
+  return {{"axial_strain", q(f.axial_strain, "-")}, {"q", q(f.q, "kPa")},  {"s1", q(f.s1, "kPa")},
+          {"s3", q(f.s3, "kPa")},                   {"p", q(f.p, "kPa")},  {"s", q(f.s, "kPa")},
+          {"t", q(f.t, "kPa")},                     {"excess_pore_pressure", q(f.excess_pore_pressure, "kPa")},
+          {"cell_pressure", q(f.cell_pressure, "kPa")}};
+}
+
+json fit_json(const LineFit& f, const char* intercept_unit, const char* slope_unit) {
+  return {{"n", f.n},
+          {"intercept", q(f.intercept, intercept_unit)},
+          {"slope", q(f.slope, slope_unit)},
+          {"se_intercept", q(f.se_intercept, intercept_unit)},
+          {"se_slope", q(f.se_slope, slope_unit)},
+          {"r2", q(f.r2, "-")}};
+}
+
+std::string cell(double v, int decimals = 1) {
+  if (!given(v)) return "-";
+  char buf[64];
+  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
+  return buf;
+}
+
+}  // namespace
+
+std::string interpretation_json(const Interpretation& r) {
+  json root;
+  root["format"] = "triaxcal-interpretation";
+  root["version"] = 1;
+  root["series"] = r.series;
+  root["criterion"] = to_string(r.options.criterion);
+  if (r.options.criterion == FailureCriterion::limiting_strain) root["limiting_strain"] = q(r.options.limiting_strain, "-");
+  root["stress_range"] = {{"low", q(r.options.stress_low, "kPa")}, {"high", q(r.options.stress_high, "kPa")}};
+  root["design_stress"] = q(r.options.design_stress, "kPa");
+  root["reference_pressure"] = q(r.options.reference_pressure, "kPa");
+  json stages = json::array();
+  for (const StageInterpretation& s : r.stages) {
+    json j;
+    j["specimen"] = s.specimen;
+    j["stage"] = s.stage;
+    j["test"] = to_string(s.test);
+    j["direction"] = s.direction == ShearDirection::compression ? "compression" : "extension";
+    j["points"] = s.points;
+    j["consolidation_radial_stress"] = q(s.consolidation_radial, "kPa");
+    j["failure"] = {{"max-deviator", point_json(s.by_max_deviator)},
+                    {"max-stress-ratio", point_json(s.by_max_stress_ratio)},
+                    {"criterion", point_json(s.by_criterion)}};
+    j["undrained_strength"] = q(s.undrained_strength, "kPa");
+    j["initial_stiffness"] = q(s.initial_stiffness, "kPa");
+    j["secant_stiffness_50"] = q(s.secant_stiffness_50, "kPa");
+    json ur = json::array();
+    for (double e : s.unload_reload_stiffness) ur.push_back(q(e, "kPa"));
+    j["unload_reload_stiffness"] = ur;
+    j["max_dilation_rate"] = q(s.max_dilation_rate, "-");
+    j["dilation_angle"] = q(s.dilation_angle, "deg");
+    j["phi_cv_stress_dilatancy"] = q(s.phi_cv_rowe, "deg");
+    j["bolton_relative_dilatancy_index"] = q(s.bolton_index, "-");
+    j["bolton_phi_difference"] = q(s.bolton_phi_difference, "deg");
+    j["measured_phi_difference"] = q(s.measured_phi_difference, "deg");
+    j["steady_state"] = s.steady_state;
+    j["end_state"] = {{"p", q(s.end_p, "kPa")}, {"q", q(s.end_q, "kPa")}, {"void_ratio", q(s.end_void_ratio, "-")}};
+    j["skempton_a"] = q(s.skempton_a, "-");
+    j["stress_dilatancy"] = {{"D", s.dilatancy_d}, {"R", s.dilatancy_ratio}, {"unit", "-"}};
+    stages.push_back(j);
+  }
+  root["stages"] = stages;
+  root["undrained"] = {{"count", r.uu_count},
+                       {"cu_mean", q(r.cu_mean, "kPa")},
+                       {"cu_min", q(r.cu_min, "kPa")},
+                       {"cu_max", q(r.cu_max, "kPa")},
+                       {"phi_u", q(r.uu_count > 0 ? 0.0 : std::nan(""), "deg")},
+                       {"assumption", "phi_u = 0 (total stresses)"}};
+  json envs = json::array();
+  for (const StrengthEnvelope& e : r.envelopes) {
+    json j;
+    j["criterion"] = to_string(e.criterion);
+    j["s_t_fit"] = fit_json(e.st, "kPa", "-");
+    j["phi"] = q(e.phi, "deg");
+    j["cohesion"] = q(e.cohesion, "kPa");
+    j["se_phi"] = q(e.se_phi, "deg");
+    j["se_cohesion"] = q(e.se_cohesion, "kPa");
+    j["p_q_fit"] = fit_json(e.pq, "kPa", "-");
+    j["phi_from_p_q"] = q(e.phi_pq, "deg");
+    j["cohesion_from_p_q"] = q(e.cohesion_pq, "kPa");
+    j["design_line"] = {{"phi", q(e.design_phi, "deg")},
+                        {"cohesion", q(e.design_cohesion, "kPa")},
+                        {"rule", "line through the lower one-sided 95 % confidence bound of the regression mean at the "
+                                 "smallest and largest s' used"}};
+    j["power_law"] = {{"a", q(e.power_a, "-")}, {"b", q(e.power_b, "-")}, {"form", "t = a p_ref (s'/p_ref)^b"}};
+    json pts = json::array();
+    for (const UsedPoint& u : e.points)
+      pts.push_back({{"specimen", u.specimen}, {"stage", u.stage}, {"s", q(u.s, "kPa")}, {"t", q(u.t, "kPa")}, {"used", u.used},
+                     {"excluded_because", u.reason}});
+    j["tests"] = pts;
+    if (!e.note.empty()) j["note"] = e.note;
+    envs.push_back(j);
+  }
+  root["effective_strength"] = envs;
+  auto law = [](const StiffnessLaw& l) {
+    return json{{"n", l.n}, {"reference", q(l.reference, "kPa")}, {"exponent", q(l.exponent, "-")}, {"r2", q(l.r2, "-")},
+                {"basis", l.basis}, {"form", "E = E_ref (s3'/p_ref)^m"}};
+  };
+  root["stiffness"] = {{"secant_50", law(r.secant_law)}, {"unload_reload", law(r.unload_reload_law)}};
+  root["critical_state"] = {{"count", r.cs_count},
+                            {"M", q(r.critical_m, "-")},
+                            {"phi_cs", q(r.phi_cs, "deg")},
+                            {"Gamma", q(r.csl.intercept, "-")},
+                            {"lambda", q(given(r.csl.slope) ? -r.csl.slope : std::nan(""), "-")},
+                            {"csl_points", r.csl.n},
+                            {"phi_cv_stress_dilatancy_mean", q(r.phi_cv_rowe, "deg")}};
+  json comp = json::array();
+  for (const auto& c : r.compressibility)
+    comp.push_back({{"specimen", c.specimen}, {"stage", c.stage}, {"lambda", q(c.lambda, "-")}, {"kappa", q(c.kappa, "-")}});
+  root["compressibility"] = comp;
+  json b = json::array();
+  for (const auto& [id, v] : r.b_values) b.push_back({{"specimen", id}, {"B", q(v, "-")}});
+  root["skempton_b"] = b;
+  root["warnings"] = r.warnings;
+  root["notes"] = r.notes;
+  return root.dump(2) + "\n";
+}
+
+std::string interpretation_text(const Interpretation& r) {
+  std::ostringstream o;
+  char line[512];
+  o << "Failure points (criterion " << to_string(r.options.criterion) << "; both common criteria side by side)\n";
+  std::snprintf(line, sizeof line, "  %-10s %5s %-4s %-4s %9s | %9s %9s %9s | %9s %9s %9s | %8s %9s %9s\n", "specimen", "stage", "test",
+                "dir", "s3'c[kPa]", "eps_a[-]", "s'[kPa]", "t[kPa]", "eps_a[-]", "s'[kPa]", "t[kPa]", "cu[kPa]", "E50[kPa]", "A_f[-]");
+  o << line;
+  std::snprintf(line, sizeof line, "  %-10s %5s %-4s %-4s %9s | %29s | %29s |\n", "", "", "", "", "", "max-deviator", "max-stress-ratio");
+  o << line;
+  for (const StageInterpretation& s : r.stages) {
+    std::snprintf(line, sizeof line, "  %-10s %5d %-4s %-4s %9s | %9s %9s %9s | %9s %9s %9s | %8s %9s %9s\n", s.specimen.c_str(), s.stage,
+                  to_string(s.test).c_str(), s.direction == ShearDirection::compression ? "comp" : "ext",
+                  cell(s.consolidation_radial).c_str(), cell(s.by_max_deviator.axial_strain, 4).c_str(),
+                  cell(s.by_max_deviator.s).c_str(), cell(s.by_max_deviator.t).c_str(),
+                  cell(s.by_max_stress_ratio.axial_strain, 4).c_str(), cell(s.by_max_stress_ratio.s).c_str(),
+                  cell(s.by_max_stress_ratio.t).c_str(), cell(s.undrained_strength).c_str(), cell(s.secant_stiffness_50, 0).c_str(),
+                  cell(s.skempton_a, 2).c_str());
+    o << line;
+  }
+  if (r.uu_count > 0) {
+    std::snprintf(line, sizeof line, "\nUndrained strength (UU, phi_u = 0 assumed): c_u mean %s kPa, range %s to %s kPa, %d specimens\n",
+                  cell(r.cu_mean).c_str(), cell(r.cu_min).c_str(), cell(r.cu_max).c_str(), r.uu_count);
+    o << line;
+  }
+  o << "\nEffective strength (s'-t least squares; p'-q route on compression tests)\n";
+  std::snprintf(line, sizeof line, "  %-17s %3s %9s %9s %8s %8s %6s | %9s %9s | %9s %9s | %7s %6s\n", "criterion", "n", "phi'[deg]",
+                "c'[kPa]", "se_phi", "se_c", "R2", "phi'_pq", "c'_pq", "phi'_des", "c'_des", "a_pow", "b_pow");
+  o << line;
+  for (const StrengthEnvelope& e : r.envelopes) {
+    std::snprintf(line, sizeof line, "  %-17s %3d %9s %9s %8s %8s %6s | %9s %9s | %9s %9s | %7s %6s\n",
+                  (to_string(e.criterion) + (&e == &r.envelopes.front() ? " *" : "")).c_str(), e.st.n, cell(e.phi, 2).c_str(),
+                  cell(e.cohesion, 2).c_str(), cell(e.se_phi, 2).c_str(), cell(e.se_cohesion, 2).c_str(), cell(e.st.r2, 4).c_str(),
+                  cell(e.phi_pq, 2).c_str(), cell(e.cohesion_pq, 2).c_str(), cell(e.design_phi, 2).c_str(),
+                  cell(e.design_cohesion, 2).c_str(), cell(e.power_a, 3).c_str(), cell(e.power_b, 3).c_str());
+    o << line;
+    for (const UsedPoint& u : e.points)
+      if (!u.used) o << "      excluded: " << u.specimen << " stages[" << u.stage << "]: " << u.reason << "\n";
+    if (!e.note.empty()) o << "      " << e.note << "\n";
+  }
+  o << "  (* the declared criterion; design: lower one-sided 95 % confidence bound of the mean line at the ends of the s' range)\n";
+  o << "\nStiffness (per stage: E_i, E_50, E_ur; law E = E_ref (s3'/p_ref)^m, p_ref = " << format_number(r.options.reference_pressure)
+    << " kPa)\n";
+  for (const StageInterpretation& s : r.stages) {
+    std::string ur;
+    for (double e : s.unload_reload_stiffness) ur += (ur.empty() ? "" : ", ") + cell(e, 0);
+    std::snprintf(line, sizeof line, "  %-10s %5d %-4s E_i %9s kPa  E_50 %9s kPa  E_ur %s kPa\n", s.specimen.c_str(), s.stage,
+                  to_string(s.test).c_str(), cell(s.initial_stiffness, 0).c_str(), cell(s.secant_stiffness_50, 0).c_str(),
+                  ur.empty() ? "-" : ur.c_str());
+    o << line;
+  }
+  auto law = [&](const char* name, const StiffnessLaw& l) {
+    std::snprintf(line, sizeof line, "  %-13s E_ref %9s kPa  m %6s  R2 %6s  (n = %d, %s)\n", name, cell(l.reference, 0).c_str(),
+                  cell(l.exponent, 3).c_str(), cell(l.r2, 3).c_str(), l.n, l.basis.c_str());
+    o << line;
+  };
+  law("secant (50 %)", r.secant_law);
+  law("unload-reload", r.unload_reload_law);
+  o << "\nDilatancy (CD: sin psi = -(de_v/de_a)/(2 - de_v/de_a) at the peak dilation rate; Rowe phi_cv; Bolton 1986)\n";
+  for (const StageInterpretation& s : r.stages) {
+    if (s.test != ShearType::cd) continue;
+    std::snprintf(line, sizeof line, "  %-10s %5d  de_v/de_a %7s  psi %6s deg  phi_cv %6s deg  I_R %5s  3 I_R %5s deg  measured %5s deg\n",
+                  s.specimen.c_str(), s.stage, cell(s.max_dilation_rate, 3).c_str(), cell(s.dilation_angle, 2).c_str(),
+                  cell(s.phi_cv_rowe, 2).c_str(), cell(s.bolton_index, 2).c_str(), cell(s.bolton_phi_difference, 1).c_str(),
+                  cell(s.measured_phi_difference, 1).c_str());
+    o << line;
+  }
+  std::snprintf(line, sizeof line,
+                "\nCritical state (%d steady end states): M %s, phi_cs %s deg; CSL Gamma %s, lambda %s (%d points); phi_cv (Rowe, mean) %s deg\n",
+                r.cs_count, cell(r.critical_m, 3).c_str(), cell(r.phi_cs, 2).c_str(), cell(r.csl.intercept, 3).c_str(),
+                cell(given(r.csl.slope) ? -r.csl.slope : std::nan(""), 4).c_str(), r.csl.n, cell(r.phi_cv_rowe, 2).c_str());
+  o << line;
+  for (const auto& c : r.compressibility) {
+    std::snprintf(line, sizeof line, "  consolidation %s stages[%d]: lambda %s, kappa %s\n", c.specimen.c_str(), c.stage,
+                  cell(c.lambda, 4).c_str(), cell(c.kappa, 4).c_str());
+    o << line;
+  }
+  if (!r.b_values.empty()) {
+    o << "\nSkempton's B from saturation:";
+    for (const auto& [id, v] : r.b_values) o << " " << id << " " << cell(v, 2);
+    o << "\n";
+  }
+  if (!r.notes.empty()) {
+    o << "\nRules and assumptions:\n";
+    for (const std::string& n : r.notes) o << "  - " << n << "\n";
+  }
+  if (!r.warnings.empty()) {
+    o << "\nWarnings:\n";
+    for (const std::string& w : r.warnings) o << "  warning: " << w << "\n";
+  }
+  return o.str();
+}
+
+}  // namespace triaxcal
