@@ -117,7 +117,7 @@ TEST_CASE("models lists every model; models NAME lists its parameters with units
   CHECK(one.out.find("friction_angle            deg    required    (0, 90)") != std::string::npos);
 }
 
-TEST_CASE("--version and --help answer with exit 0") {
+TEST_CASE("the version and help options answer with exit 0") {
   const auto v = run_cli("--version", "version");
   CHECK(v.exit_code == 0);
   CHECK(v.out.rfind("triaxcal ", 0) == 0);
