@@ -1,5 +1,6 @@
 #include "triaxcal/models/registry.hpp"
 
+#include "hyperbolic_hardening/hyperbolic_hardening.hpp"
 #include "modified_cam_clay/modified_cam_clay.hpp"
 #include "mohr_coulomb/mohr_coulomb.hpp"
 #include "triaxcal/error.hpp"
@@ -10,6 +11,7 @@ const std::vector<ModelEntry>& model_registry() {
   static const std::vector<ModelEntry> entries = {
       {&MohrCoulomb::model_info, &MohrCoulomb::create},
       {&ModifiedCamClay::model_info, &ModifiedCamClay::create},
+      {&HyperbolicHardening::model_info, &HyperbolicHardening::create},
   };
   return entries;
 }

@@ -1,0 +1,538 @@
+#include "hyperbolic_hardening/hyperbolic_hardening.hpp"
+
+#include <Eigen/Eigenvalues>
+#include <Eigen/LU>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+
+#include "hyperbolic_hardening/dual.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal {
+
+namespace {
+
+constexpr double inf = std::numeric_limits<double>::infinity();
+constexpr const char* kName = "hyperbolic_hardening";
+
+// Stiffness stress term floor, relative to p_ref + c cot phi: keeps E_ur positive near the apex.
+constexpr double kStiffnessFloor = 1e-3;
+// A stress whose J2 is below this (relative to p'^2 + 1 kPa^2) is treated as isotropic.
+constexpr double kIsotropic = 1e-24;
+// Local Newton: residual tolerance relative to the largest principal trial stress (floor 1 kPa),
+// and the iteration bound.
+constexpr double kLocalTolerance = 1e-11;
+constexpr int kMaxLocalIterations = 40;
+// A trial stress violates a surface when f > kYieldTolerance * scale.
+constexpr double kYieldTolerance = 1e-10;
+
+using hyperbolic::Dual;
+using hyperbolic::larger;
+using hyperbolic::smaller;
+using hyperbolic::value;
+constexpr int kUnknowns = 5;  // three principal stresses and at most two multipliers
+using D5 = Dual<kUnknowns>;
+using Mat5 = Eigen::Matrix<double, kUnknowns, kUnknowns>;
+using Vec5 = Eigen::Matrix<double, kUnknowns, 1>;
+
+// Everything the return mapping needs at one principal stress and set of multipliers.
+template <class T>
+struct Point {
+  T f[3];        // yield functions: shear, cap, tension (kPa)
+  T n[3][3];     // flow directions (principal, dimensionless)
+  T gamma;       // new shear hardening gamma_p
+  T pp;          // new cap pressure p_p (kPa)
+  T cap_strain;  // plastic volumetric strain increment of the cap
+  T sin_phi_m;
+  T sin_psi_m;
+};
+
+template <class T>
+T hardened_cap(const HyperbolicHardening::Constants& k, double pp_n, const T& eps) {
+  using std::exp;
+  using std::pow;
+  const double e = 1.0 - k.m;
+  if (e < 1e-9) return pp_n * exp(eps * (k.h_ref / k.p_ref));
+  const T base = larger(T(std::pow(pp_n / k.p_ref, e)) + eps * (e * k.h_ref / k.p_ref), T(1e-300));
+  return k.p_ref * pow(base, 1.0 / e);
+}
+
+// Evaluate the surfaces at principal stress `sig` with multipliers dl (shear, cap, tension) from
+// hardening state (gamma_n, pp_n). Symmetric in the three principal values: no ordering needed.
+template <class T>
+void evaluate(const HyperbolicHardening::Constants& k, const T sig[3], const T dl[3], bool cap_active,
+              double gamma_n, double pp_n, Point<T>& o) {
+  using std::pow;
+  using std::sqrt;
+  const T p = (sig[0] + sig[1] + sig[2]) / 3.0;
+  const T s[3] = {sig[0] - p, sig[1] - p, sig[2] - p};
+  const T j2 = 0.5 * (s[0] * s[0] + s[1] * s[1] + s[2] * s[2]);
+  const double pv = value(p);
+  const double c1 = 0.5 * (1.0 + k.delta);
+  const double c2 = 2.25 * (k.delta - 1.0);
+  T q(0.0), x(0.0), qt2(0.0);
+  T dq[3], dx[3], qt_dqt[3];
+  if (value(j2) > kIsotropic * (pv * pv + 1.0)) {
+    const T j3 = s[0] * s[1] * s[2];
+    q = sqrt(3.0 * j2);
+    x = j3 / j2;
+    const T qt = c1 * q - c2 * x;
+    qt2 = qt * qt;
+    for (int i = 0; i < 3; ++i) {
+      dq[i] = 1.5 * s[i] / q;
+      const T dj3 = s[i] * s[i] - (2.0 / 3.0) * j2;
+      dx[i] = (dj3 * j2 - j3 * s[i]) / (j2 * j2);
+      qt_dqt[i] = qt * (c1 * dq[i] - c2 * dx[i]);
+    }
+  } else {
+    // Isotropic: q~^2 = 3 J2 (its compression value), exact to second order in the deviator.
+    qt2 = 3.0 * j2;
+    for (int i = 0; i < 3; ++i) {
+      dq[i] = T(0.0);
+      dx[i] = T(0.0);
+      qt_dqt[i] = 1.5 * s[i];
+    }
+  }
+  const T s3 = p - 0.5 * q + 0.75 * x;
+  T ds3[3];
+  for (int i = 0; i < 3; ++i) ds3[i] = 1.0 / 3.0 - 0.5 * dq[i] + 0.75 * dx[i];
+  const T shifted = s3 + k.c_cot;  // s3 + c cot phi
+
+  // Shear hardening surface.
+  const T ratio = pow(larger(shifted, T(k.floor)) / (k.p_ref + k.c_cot), k.m);
+  const T a = 2.0 / ((2.0 * k.e50_ref / (2.0 - k.rf)) * ratio);  // 2 / E_i
+  const T b = 2.0 / (k.eur_ref * ratio);                          // 2 / E_ur
+  const T qf = k.kf * shifted;
+  o.gamma = gamma_n + dl[0];
+  T qy = qf;
+  if (value(qf) > 0.0) {
+    const T qa = qf / k.rf;
+    const T bb = a - b + o.gamma / qa;
+    const T qh = 2.0 * o.gamma / (bb + sqrt(bb * bb + 4.0 * b * o.gamma / qa));
+    qy = smaller(qf, qh);
+  }
+  o.f[0] = q - qy;
+
+  // Mobilised friction and Rowe's dilatancy.
+  const T denom = 2.0 * shifted + q;  // s1 + s3 + 2 c cot phi
+  T sphm = value(denom) > 0.0 ? q / denom : T(k.sin_phi);
+  sphm = smaller(sphm, T(k.sin_phi));
+  T spsi(0.0);
+  if (k.rule != 2) {
+    spsi = (sphm - k.sin_cv) / (1.0 - sphm * k.sin_cv);
+    if (k.rule == 1) spsi = larger(spsi, T(0.0));
+  }
+  o.sin_phi_m = sphm;
+  o.sin_psi_m = spsi;
+  for (int i = 0; i < 3; ++i) o.n[0][i] = dq[i] * (0.5 - 0.5 * spsi) - spsi * ds3[i];
+
+  // Cap.
+  const T big_f = sqrt(qt2 / k.alpha2 + p * p);
+  for (int i = 0; i < 3; ++i) o.n[1][i] = (qt_dqt[i] / k.alpha2 + p / 3.0) / big_f;
+  o.cap_strain = dl[1] * p / big_f;
+  o.pp = cap_active ? hardened_cap(k, pp_n, o.cap_strain) : T(pp_n);
+  o.f[1] = big_f - o.pp;
+
+  // Tension cut-off.
+  o.f[2] = -s3 - k.tension;
+  for (int i = 0; i < 3; ++i) o.n[2][i] = -ds3[i];
+}
+
+// Smooth stress measures of a general stress vector (see the header).
+struct Measures {
+  double p, q, x, s3, qt;
+};
+
+Measures measures(const Vec6& stress, double delta) {
+  Measures m{};
+  m.p = mean_stress(stress);
+  const double j2 = j2_invariant(stress);
+  if (j2 > kIsotropic * (m.p * m.p + 1.0)) {
+    m.q = std::sqrt(3.0 * j2);
+    m.x = j3_invariant(stress) / j2;
+  }
+  m.s3 = m.p - 0.5 * m.q + 0.75 * m.x;
+  m.qt = 0.5 * (1.0 + delta) * m.q - 2.25 * (delta - 1.0) * m.x;
+  return m;
+}
+
+double stiffness_ratio(const HyperbolicHardening::Constants& k, double s3) {
+  return std::pow(std::max(s3 + k.c_cot, k.floor) / (k.p_ref + k.c_cot), k.m);
+}
+
+// f_bar of the paper (eq. 8) without gamma_p: the plastic shear strain that puts the shear
+// locus through a stress with deviator q and minor stress s3 (q < q_f).
+double shear_locus(const HyperbolicHardening::Constants& k, double q, double s3) {
+  const double ratio = stiffness_ratio(k, s3);
+  const double ei = 2.0 * k.e50_ref / (2.0 - k.rf) * ratio;
+  const double eur = k.eur_ref * ratio;
+  const double qa = k.kf * (s3 + k.c_cot) / k.rf;
+  return 2.0 * q / (ei * (1.0 - q / qa)) - 2.0 * q / eur;
+}
+
+Vec6 sym_outer(const Vec3& u, const Vec3& v) {
+  Vec6 r;
+  r << u[0] * v[0], u[1] * v[1], u[2] * v[2], 0.5 * (u[0] * v[1] + u[1] * v[0]), 0.5 * (u[1] * v[2] + u[2] * v[1]),
+      0.5 * (u[2] * v[0] + u[0] * v[2]);
+  return r;
+}
+
+}  // namespace
+
+const ModelInfo& HyperbolicHardening::model_info() {
+  static const ModelInfo info{
+      kName,
+      "double-hardening model with hyperbolic shear hardening and a cap, after Schanz, Vermeer & Bonnier (1999)",
+      {
+          {"secant_stiffness_ref", "kPa", 20000.0, 0.0, inf, true, true,
+           "E50 at the reference pressure: secant stiffness at 50 % of the failure deviator stress in drained "
+           "triaxial compression at s3' = reference_pressure (s3' = minor principal effective stress)"},
+          {"oedometer_stiffness_ref", "kPa", 20000.0, 0.0, inf, true, true,
+           "tangent oedometric stiffness d s1'/d eps_1 of a normally consolidated sample at s1' = reference_pressure"},
+          {"unloading_stiffness_ref", "kPa", 60000.0, 0.0, inf, true, true,
+           "Young's modulus for unloading and reloading at s3' = reference_pressure; must exceed 2 E50/(2 - failure_ratio)"},
+          {"stress_exponent", "-", 0.5, 0.0, 1.0, false, false,
+           "m: stiffness ~ ((s3' + c' cot phi')/(reference_pressure + c' cot phi'))^m"},
+          {"reference_pressure", "kPa", 100.0, 0.0, inf, true, true, "reference pressure of the stiffness power law"},
+          {"poissons_ratio_ur", "-", 0.2, -1.0, 0.5, true, true, "Poisson's ratio for unloading and reloading"},
+          {"failure_ratio", "-", 0.9, 0.0, 1.0, true, false,
+           "R_f = q_f / q_a: failure deviator over the asymptote of the hyperbola"},
+          {"cohesion", "kPa", 0.0, 0.0, inf, false, true, "effective cohesion c'"},
+          {"friction_angle", "deg", 33.0, 0.0, 90.0, true, true, "effective friction angle phi' (Mohr-Coulomb failure)"},
+          {"critical_state_friction_angle", "deg", 30.0, 0.0, 90.0, true, true,
+           "phi_cv of Rowe's stress-dilatancy (<= friction_angle); phi_cv = phi' gives no dilation"},
+          {"dilatancy_rule", "-", 1.0, 0.0, 2.0, false, false,
+           "cut-off of Rowe's relation: 0 as is (contraction below phi_cv), 1 no contraction, 2 no dilatancy at all"},
+          {"k0_nc", "-", 0.5, 0.0, 1.0, true, true,
+           "s3'/s1' in normally consolidated oedometer loading (common practice: 1 - sin phi', Jaky 1944)"},
+          {"tensile_strength", "kPa", 0.0, 0.0, inf, false, true,
+           "largest tensile minor principal effective stress (tension cut-off); capped at c' cot phi'"},
+      },
+      {"shear_hardening", "cap_pressure", "cap_volumetric_strain", "mobilised_friction_angle",
+       "mobilised_dilation_angle", "active_surfaces"},
+  };
+  return info;
+}
+
+std::unique_ptr<Model> HyperbolicHardening::create(const ParameterValues& v, const std::string& where) {
+  return std::make_unique<HyperbolicHardening>(v, where);
+}
+
+HyperbolicHardening::HyperbolicHardening(const ParameterValues& v, const std::string& where) {
+  const ModelInfo& info = model_info();
+  const std::string head = where + ": " + kName + ": ";
+  if (v.size() != info.parameters.size())
+    throw InputError(head + "expected " + std::to_string(info.parameters.size()) + " parameter values, found " +
+                     std::to_string(v.size()));
+  for (std::size_t i = 0; i < v.size(); ++i) check_bounds(info, info.parameters[i], v[i], where);
+  if (v[critical_state_friction_angle] > v[friction_angle])
+    throw InputError(head + "critical_state_friction_angle = " + format_number(v[critical_state_friction_angle]) +
+                     " deg must not exceed friction_angle = " + format_number(v[friction_angle]) + " deg");
+  if (v[dilatancy_rule] != std::floor(v[dilatancy_rule]))
+    throw InputError(head + "dilatancy_rule = " + format_number(v[dilatancy_rule]) +
+                     " must be 0 (Rowe as is), 1 (no contraction) or 2 (no dilatancy)");
+  const double ei_ref = 2.0 * v[secant_stiffness_ref] / (2.0 - v[failure_ratio]);
+  if (!(v[unloading_stiffness_ref] > ei_ref))
+    throw InputError(head + "unloading_stiffness_ref = " + format_number(v[unloading_stiffness_ref]) +
+                     " kPa must exceed the initial stiffness 2 secant_stiffness_ref / (2 - failure_ratio) = " +
+                     format_number(ei_ref) + " kPa");
+
+  const double phi = degrees_to_radians(v[friction_angle]);
+  k_.e50_ref = v[secant_stiffness_ref];
+  k_.eur_ref = v[unloading_stiffness_ref];
+  k_.m = v[stress_exponent];
+  k_.p_ref = v[reference_pressure];
+  k_.nu = v[poissons_ratio_ur];
+  k_.rf = v[failure_ratio];
+  k_.c_cot = v[cohesion] / std::tan(phi);
+  k_.sin_phi = std::sin(phi);
+  k_.sin_cv = std::sin(degrees_to_radians(v[critical_state_friction_angle]));
+  k_.kf = 2.0 * k_.sin_phi / (1.0 - k_.sin_phi);
+  k_.tension = std::min(v[tensile_strength], k_.c_cot);
+  k_.rule = static_cast<int>(v[dilatancy_rule]);
+  k_.delta = (3.0 + k_.sin_phi) / (3.0 - k_.sin_phi);
+  k_.floor = kStiffnessFloor * (k_.p_ref + k_.c_cot);
+
+  // The cap from one element in oedometer loading on the normally consolidated line, at
+  // s1' = p_ref, s3' = k0_nc p_ref, ds = (1, K0, K0) ds1 (Schanz et al. 1999 find alpha and beta by
+  // simulating this test; here the element's rate equations are solved directly):
+  //   radial:  e_r + dl_s n_s,r + dl_c n_c,r = 0           e = D^-1 ds (elastic, E_ur at s3')
+  //   axial:   e_1 + dl_s n_s,1 + dl_c n_c,1 = 1 / E_oed   E_oed = oedometer_stiffness_ref here
+  //   shear consistency: df_s/ds . ds + df_s/dgamma dl_s = 0   (alpha-independent)
+  //   cap consistency:   n_c . ds = H dl_c tr(n_c)
+  // With n_c ~ u (1, -1/2, -1/2) + p'/3 (1, 1, 1), u = q/alpha^2, the first two fix u and dl_c,
+  // the last fixes H. With c' = 0 the whole response is homogeneous of degree m in stress, so the
+  // match holds at every s1' on the K0 line; with c' > 0 it holds at s1' = p_ref.
+  const double kk = v[k0_nc];
+  const double s1 = k_.p_ref;
+  const double s3 = kk * s1;
+  const double q = s1 - s3;
+  const double p = (s1 + 2.0 * s3) / 3.0;
+  const double qf = k_.kf * (s3 + k_.c_cot);
+  if (!(q < qf))
+    throw InputError(head + "k0_nc = " + format_number(kk) + " puts the normally consolidated state at or beyond "
+                     "failure (deviator " + format_number(q) + " kPa >= q_f = " + format_number(qf) +
+                     " kPa at s1' = reference_pressure); it must exceed " +
+                     format_number((1.0 - k_.sin_phi) / (1.0 + k_.sin_phi)) + " for c' = 0");
+  k_.alpha2 = 1.0;  // not used by the shear surface
+  k_.h_ref = 1.0;
+  const double gamma0 = shear_locus(k_, q, s3);
+  D5 sig[3] = {D5::variable(s1, 0), D5::variable(s3, 1), D5::variable(s3, 2)};
+  D5 dl[3] = {D5::variable(0.0, 3), D5(0.0), D5(0.0)};
+  Point<D5> pt;
+  evaluate(k_, sig, dl, false, gamma0, p, pt);
+  const double dfs_ds = pt.f[0].d[0] + kk * (pt.f[0].d[1] + pt.f[0].d[2]);
+  const double dfs_dg = pt.f[0].d[3];
+  const double dl_s = dfs_dg < 0.0 ? std::max(0.0, -dfs_ds / dfs_dg) : 0.0;
+  const double eur = k_.eur_ref * stiffness_ratio(k_, s3);
+  const double e1 = (1.0 - 2.0 * k_.nu * kk) / eur;
+  const double er = (kk - k_.nu * (1.0 + kk)) / eur;
+  const double eoed = v[oedometer_stiffness_ref];
+  const double axial = 1.0 / eoed - e1 - dl_s * pt.n[0][0].v;  // cap plastic strain needed, axial
+  const double radial = -(er + dl_s * pt.n[0][1].v);           // and each radial
+  if (!(axial > 0.0))
+    throw InputError(head + "oedometer_stiffness_ref = " + format_number(eoed) + " kPa is too stiff for k0_nc = " +
+                     format_number(kk) + ": elastic and shear-hardening strains alone give a tangent of " +
+                     format_number(1.0 / (e1 + dl_s * pt.n[0][0].v)) +
+                     " kPa at s1' = reference_pressure; give a smaller value");
+  if (!(axial > radial) || !(axial + 2.0 * radial > 0.0))
+    throw InputError(head + "k0_nc = " + format_number(kk) + " and oedometer_stiffness_ref = " +
+                     format_number(eoed) + " kPa cannot both be matched by the cap (it would need a negative "
+                     "alpha^2); try a smaller k0_nc or a smaller oedometer_stiffness_ref");
+  const double u = (axial - radial) * p / (3.0 * (0.5 * axial + radial));
+  k_.alpha2 = q / u;
+  const double big_f = std::sqrt(q * u + p * p);
+  const double nc1 = (u + p / 3.0) / big_f;
+  const double dl_c = axial / nc1;
+  const double nc_ds = (u * (1.0 - kk) + p / 3.0 * (1.0 + 2.0 * kk)) / big_f;
+  const double h = nc_ds / (dl_c * p / big_f);
+  k_.h_ref = h / std::pow(big_f / k_.p_ref, k_.m);
+  alpha_ = std::sqrt(k_.alpha2);
+  cap_h_ref_ = k_.h_ref;
+}
+
+void HyperbolicHardening::initialise(const InitialConditions& c, MaterialState& state) const {
+  state = MaterialState{};
+  state.stress = c.stress;
+  const Measures m = measures(c.stress, k_.delta);
+  const std::string head = std::string(kName) + ": ";
+  if (!(m.s3 + k_.c_cot > 0.0))
+    throw InputError(head + "the initial effective stress must be compressive: minor principal stress + c' cot phi' = " +
+                     format_number(m.s3 + k_.c_cot) + " kPa, expected > 0");
+  double ocr = 1.0;
+  if (!std::isnan(c.preconsolidation_pressure)) {
+    if (!(c.preconsolidation_pressure >= m.p * (1.0 - 1e-12)))
+      throw InputError(head + "preconsolidation_pressure = " + format_number(c.preconsolidation_pressure) +
+                       " kPa is below the initial mean effective stress p' = " + format_number(m.p) + " kPa");
+    ocr = std::max(1.0, c.preconsolidation_pressure / m.p);
+  } else if (!std::isnan(c.overconsolidation_ratio)) {
+    if (!(c.overconsolidation_ratio >= 1.0))
+      throw InputError(head + "ocr = " + format_number(c.overconsolidation_ratio) + " must be at least 1");
+    ocr = c.overconsolidation_ratio;
+  }
+  const double qf = k_.kf * (m.s3 + k_.c_cot);
+  if (!(m.q < qf))
+    throw InputError(head + "the initial deviator stress q = " + format_number(m.q) +
+                     " kPa is at or beyond failure (q_f = " + format_number(qf) + " kPa)");
+  state.internal[shear_hardening] = m.q > 0.0 ? std::max(0.0, shear_locus(k_, m.q, m.s3)) : 0.0;
+  state.internal[cap_pressure] = ocr * std::sqrt(m.qt * m.qt / k_.alpha2 + m.p * m.p);
+  state.internal[cap_volumetric_strain] = 0.0;
+  const double sphm = std::min(k_.sin_phi, m.q / (2.0 * (m.s3 + k_.c_cot) + m.q));
+  state.internal[mobilised_friction] = radians_to_degrees(std::asin(sphm));
+  state.internal[mobilised_dilation] = 0.0;
+  state.internal[active_surfaces] = 0.0;
+}
+
+namespace {
+
+struct LocalSolve {
+  double sig[3];
+  double dl[3];
+  Point<double> point;
+  Mat5 jac;
+  int iterations;
+};
+
+// Newton on R = [sigma - trial + D_p sum dl_k n_k ; f_k (active)] = 0 for the surfaces in `mask`.
+bool solve_local(const HyperbolicHardening::Constants& k, const double trial[3], double lame, double two_g,
+                 double gamma_n, double pp_n, int mask, double scale, LocalSolve& r) {
+  int active[2];
+  int na = 0;
+  for (int s = 0; s < 3; ++s)
+    if (mask & (1 << s)) active[na++] = s;
+  const int n = 3 + na;
+  double x[kUnknowns] = {trial[0], trial[1], trial[2], 0.0, 0.0};
+  const bool cap_active = (mask & 2) != 0;
+  const double tol = kLocalTolerance * scale;
+  for (int it = 0; it < kMaxLocalIterations; ++it) {
+    D5 sig[3];
+    for (int i = 0; i < 3; ++i) sig[i] = D5::variable(x[i], i);
+    D5 dl[3] = {D5(0.0), D5(0.0), D5(0.0)};
+    for (int j = 0; j < na; ++j) dl[active[j]] = D5::variable(x[3 + j], 3 + j);
+    Point<D5> pt;
+    evaluate(k, sig, dl, cap_active, gamma_n, pp_n, pt);
+    D5 res[kUnknowns];
+    for (int i = 0; i < 3; ++i) res[i] = sig[i] - trial[i];
+    for (int j = 0; j < na; ++j) {
+      const int s = active[j];
+      const D5 tr = pt.n[s][0] + pt.n[s][1] + pt.n[s][2];
+      for (int i = 0; i < 3; ++i) res[i] += dl[s] * (lame * tr + two_g * pt.n[s][i]);
+      res[3 + j] = pt.f[s];
+    }
+    double worst = 0.0;
+    Vec5 rv = Vec5::Zero();
+    r.jac.setIdentity();
+    for (int i = 0; i < n; ++i) {
+      rv[i] = res[i].v;
+      if (!std::isfinite(rv[i])) return false;
+      worst = std::max(worst, std::abs(rv[i]));
+      for (int j = 0; j < n; ++j) r.jac(i, j) = res[i].d[j];
+    }
+    if (worst <= tol) {
+      for (int i = 0; i < 3; ++i) r.sig[i] = x[i];
+      r.dl[0] = r.dl[1] = r.dl[2] = 0.0;
+      for (int j = 0; j < na; ++j) r.dl[active[j]] = x[3 + j];
+      const double sd[3] = {x[0], x[1], x[2]};
+      evaluate(k, sd, r.dl, cap_active, gamma_n, pp_n, r.point);
+      r.iterations = it;
+      return true;
+    }
+    Eigen::PartialPivLU<Mat5> lu(r.jac);
+    const Vec5 dx = lu.solve(rv);
+    for (int i = 0; i < n; ++i) {
+      x[i] -= dx[i];
+      if (!std::isfinite(x[i])) return false;
+    }
+  }
+  return false;
+}
+
+}  // namespace
+
+IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
+                                                 Mat6& tangent) const {
+  out = in;
+  // Elasticity with E_ur at the stress at the start of the increment.
+  const Measures m0 = measures(in.stress, k_.delta);
+  const double eur = k_.eur_ref * stiffness_ratio(k_, m0.s3);
+  const double bulk = eur / (3.0 * (1.0 - 2.0 * k_.nu));
+  const double shear_mod = eur / (2.0 * (1.0 + k_.nu));
+  const double lame = bulk - 2.0 * shear_mod / 3.0;
+  const Mat6 elastic = isotropic_elastic_stiffness(bulk, shear_mod);
+  const Vec6 trial = in.stress + elastic * de;
+  if (!trial.allFinite()) return {Status::numerical_issue, 0};
+  const double gamma_n = in.internal[shear_hardening];
+  const double pp_n = in.internal[cap_pressure];
+
+  // Principal values and directions of the trial stress; triaxial states need no decomposition.
+  const double scale = std::max(1.0, trial.cwiseAbs().maxCoeff());
+  const bool diagonal = std::abs(trial[3]) + std::abs(trial[4]) + std::abs(trial[5]) <= 1e-14 * scale;
+  double principal[3];
+  Mat3 axes = Mat3::Identity();
+  if (diagonal) {
+    for (int i = 0; i < 3; ++i) principal[i] = trial[i];
+  } else {
+    Mat3 t;
+    t << trial[0], trial[3], trial[5], trial[3], trial[1], trial[4], trial[5], trial[4], trial[2];
+    Eigen::SelfAdjointEigenSolver<Mat3> es(t);
+    if (es.info() != Eigen::Success) return {Status::numerical_issue, 0};
+    for (int i = 0; i < 3; ++i) principal[i] = es.eigenvalues()[i];
+    axes = es.eigenvectors();
+  }
+
+  const double zero[3] = {0.0, 0.0, 0.0};
+  Point<double> at_trial;
+  evaluate(k_, principal, zero, false, gamma_n, pp_n, at_trial);
+  const double ytol = kYieldTolerance * scale;
+  int violated = 0;
+  for (int s = 0; s < 3; ++s)
+    if (at_trial.f[s] > ytol) violated |= 1 << s;
+  if (violated == 0) {
+    out.stress = trial;
+    tangent = elastic;
+    out.internal[mobilised_friction] = radians_to_degrees(std::asin(at_trial.sin_phi_m));
+    out.internal[mobilised_dilation] = radians_to_degrees(std::asin(at_trial.sin_psi_m));
+    out.internal[active_surfaces] = 0.0;
+    return {Status::ok, 0};
+  }
+
+  // Active sets to try: last step's, the violated set, then the rest (at most two surfaces).
+  int candidates[8];
+  int nc = 0;
+  auto add = [&](int mask) {
+    if (mask <= 0 || mask == 7) return;
+    for (int i = 0; i < nc; ++i)
+      if (candidates[i] == mask) return;
+    candidates[nc++] = mask;
+  };
+  const int previous = static_cast<int>(in.internal[active_surfaces]);
+  if (previous & violated) add(previous);
+  add(violated);
+  for (int mask : {1, 2, 4})
+    if (mask & violated) add(mask);
+  for (int mask : {3, 5, 6})
+    if (mask & violated) add(mask);
+  for (int mask : {1, 2, 4, 3, 5, 6}) add(mask);
+
+  LocalSolve r{};
+  int accepted = -1;
+  int iterations = 0;
+  for (int ci = 0; ci < nc && accepted < 0; ++ci) {
+    const int mask = candidates[ci];
+    if (!solve_local(k_, principal, lame, 2.0 * shear_mod, gamma_n, pp_n, mask, scale, r)) continue;
+    iterations += r.iterations;
+    bool ok = true;
+    for (int s = 0; s < 3; ++s) {
+      if (mask & (1 << s))
+        ok = ok && r.dl[s] >= -1e-14;
+      else
+        ok = ok && r.point.f[s] <= ytol;
+    }
+    if (ok) accepted = mask;
+  }
+  if (accepted < 0) return {Status::no_convergence, iterations};
+
+  // d sigma / d trial (principal) from the converged Jacobian, then times D_p.
+  Eigen::PartialPivLU<Mat5> lu(r.jac);
+  Eigen::Matrix<double, kUnknowns, 3> rhs = Eigen::Matrix<double, kUnknowns, 3>::Zero();
+  rhs.topRows<3>().setIdentity();
+  const Eigen::Matrix<double, kUnknowns, 3> dx = lu.solve(rhs);
+  Mat3 dp_elastic;
+  dp_elastic.setConstant(lame);
+  dp_elastic.diagonal().array() += 2.0 * shear_mod;
+  const Mat3 dp = dx.topRows<3>() * dp_elastic;
+  if (!dp.allFinite()) return {Status::numerical_issue, iterations};
+
+  Vec6 nv[3];
+  for (int i = 0; i < 3; ++i) nv[i] = sym_outer(axes.col(i), axes.col(i));
+  out.stress = r.sig[0] * nv[0] + r.sig[1] * nv[1] + r.sig[2] * nv[2];
+  // Consistent tangent of an isotropic tensor function (de Souza Neto, Peric & Owen 2008,
+  // eq. A.46); for coincident trial values the limit from the principal tangent.
+  tangent.setZero();
+  for (int a = 0; a < 3; ++a)
+    for (int b = 0; b < 3; ++b) tangent += dp(a, b) * nv[a] * nv[b].transpose();
+  for (int a = 0; a < 3; ++a) {
+    for (int b = a + 1; b < 3; ++b) {
+      const double gap = principal[a] - principal[b];
+      double coef;
+      if (std::abs(gap) > 1e-9 * scale)
+        coef = 2.0 * shear_mod * (r.sig[a] - r.sig[b]) / gap;
+      else
+        coef = 0.5 * (dp(a, a) - dp(a, b) + dp(b, b) - dp(b, a));
+      const Vec6 s = sym_outer(axes.col(a), axes.col(b));
+      tangent += 2.0 * coef * s * s.transpose();
+    }
+  }
+  out.internal[shear_hardening] = r.point.gamma;
+  out.internal[cap_pressure] = r.point.pp;
+  out.internal[cap_volumetric_strain] = in.internal[cap_volumetric_strain] + r.point.cap_strain;
+  out.internal[mobilised_friction] = radians_to_degrees(std::asin(r.point.sin_phi_m));
+  out.internal[mobilised_dilation] = radians_to_degrees(std::asin(r.point.sin_psi_m));
+  out.internal[active_surfaces] = accepted;
+  return {Status::ok, std::max(1, iterations)};
+}
+
+}  // namespace triaxcal
