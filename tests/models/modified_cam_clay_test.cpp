@@ -1,0 +1,450 @@
+// Modified Cam-Clay: tangent, closed forms of the undrained and drained paths, e-ln p' slopes,
+// Lode-angle dependence, bad parameters and initial conditions.
+//
+// Material constants in these tests are invented round numbers (lambda = 0.2, kappa = 0.04,
+// M = 0.9, nu' = 0.25, e0 = 1.1), not from any real soil.
+#include <catch2/catch.hpp>
+
+#include <cmath>
+#include <map>
+#include <string>
+
+#include "cli_run.hpp"
+#include "model_checks.hpp"
+#include "modified_cam_clay/closed_form.hpp"
+#include "tolerances.hpp"
+#include "triaxcal/driver.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/models/registry.hpp"
+#include "triaxcal/parameters.hpp"
+
+using namespace triaxcal;
+using triaxcal::test::close;
+
+namespace {
+
+constexpr double kLambda = 0.2;
+constexpr double kKappa = 0.04;
+constexpr double kM = 0.9;
+constexpr double kNu = 0.25;
+constexpr double kE0 = 1.1;
+
+std::unique_ptr<Model> make_mcc(std::map<std::string, double> given) {
+  const ModelEntry& e = find_model("modified_cam_clay");
+  return e.create(resolve_parameters(e.info(), given, "test"), "test");
+}
+
+std::map<std::string, double> base_parameters() {
+  return {{"lambda", kLambda}, {"kappa", kKappa}, {"critical_state_ratio", kM}, {"poissons_ratio", kNu}};
+}
+
+std::unique_ptr<Model> default_mcc() { return make_mcc(base_parameters()); }
+
+mcc_reference::Material reference_material(double shear_modulus = 0.0) {
+  mcc_reference::Material m;
+  m.lambda = kLambda;
+  m.kappa = kKappa;
+  m.m = kM;
+  m.e0 = kE0;
+  m.poissons_ratio = kNu;
+  m.shear_modulus = shear_modulus;
+  return m;
+}
+
+Vec6 vec(double a, double b, double c, double d = 0, double e = 0, double f = 0) {
+  Vec6 v;
+  v << a, b, c, d, e, f;
+  return v;
+}
+
+// A state at `stress` with preconsolidation pressure pc (e0 = 1.1, no strain yet).
+MaterialState state_at(const Vec6& stress, double pc) {
+  MaterialState s;
+  s.stress = stress;
+  s.internal[0] = kE0;
+  s.internal[1] = pc;
+  s.internal[2] = kE0;
+  return s;
+}
+
+bool plastic(const Model& m, const MaterialState& in, const Vec6& de) {
+  MaterialState out;
+  Mat6 t;
+  REQUIRE(m.integrate(in, de, out, t).status == Status::ok);
+  return out.internal[1] != in.internal[1];
+}
+
+TestProtocol triaxial(double p0, double ocr, Drainage drainage, double axial_strain, int steps) {
+  TestProtocol p;
+  p.name = "synthetic";
+  p.initial.stress = triaxial_stress(p0, p0);
+  p.initial.void_ratio = kE0;
+  p.initial.overconsolidation_ratio = ocr;
+  Stage shear;
+  shear.type = StageType::shear;
+  shear.drainage = drainage;
+  shear.axial_strain = axial_strain;
+  shear.steps = steps;
+  p.stages = {shear};
+  return p;
+}
+
+// Largest |p' - p'_ref(eps_a)| and |q - q_ref(eps_a)| along a simulated path, relative to the
+// critical-state values p'_cs and q_cs of the reference (q starts from zero, so a pointwise
+// relative error would only measure the first increment).
+struct PathError {
+  double p = 0.0;
+  double q = 0.0;
+};
+
+PathError error_against(const SimulationResult& r, const std::vector<mcc_reference::PathPoint>& ref) {
+  PathError e;
+  for (const StepRecord& s : r.steps) {
+    const mcc_reference::PathPoint x = mcc_reference::at_axial_strain(ref, s.axial_strain);
+    e.p = std::max(e.p, std::abs(s.p - x.p) / ref.back().p);
+    e.q = std::max(e.q, std::abs(s.q - x.q) / ref.back().q);
+  }
+  return e;
+}
+
+// True where the state lies on its yield surface f = q^2 + M^2 p' (p' - p'_c) = 0.
+bool on_yield_surface(const StepRecord& s, double m) {
+  const double pc = s.state[1];
+  return s.q * s.q + m * m * s.p * (s.p - pc) >= -1e-9 * pc * pc;
+}
+
+}  // namespace
+
+TEST_CASE("MCC tangent equals central differences on elastic, hardening, softening and near-critical states") {
+  const auto mcc = default_mcc();
+  const double p0 = 100.0;
+  SECTION("elastic, inside the yield surface (OCR 3)") {
+    const auto in = state_at(triaxial_stress(p0, p0), 3.0 * p0);
+    const Vec6 de = vec(1e-4, -2e-5, -3e-5, 1e-5, 0, 2e-5);
+    CHECK_FALSE(plastic(*mcc, in, de));
+    CHECK(test::tangent_error(*mcc, in, de) < test::kTangent);
+  }
+  SECTION("isotropic loading on the normal compression line (q = 0)") {
+    const auto in = state_at(triaxial_stress(p0, p0), p0);
+    const Vec6 de = vec(1e-3, 1e-3, 1e-3);
+    CHECK(plastic(*mcc, in, de));
+    CHECK(test::tangent_error(*mcc, in, de) < test::kTangent);
+  }
+  SECTION("hardening on the wet side (normally consolidated, undrained-like increment)") {
+    const auto in = state_at(triaxial_stress(p0, p0), p0);
+    const Vec6 de = vec(2e-3, -1e-3, -1e-3);
+    CHECK(plastic(*mcc, in, de));
+    CHECK(test::tangent_error(*mcc, in, de) < test::kTangent);
+  }
+  SECTION("hardening on the wet side, general increment with shear components") {
+    const auto in = state_at(vec(140, 90, 70, 10, -5, 8), 160.0);
+    const Vec6 de = vec(1.5e-3, -2e-4, -6e-4, 4e-4, 3e-4, -2e-4);
+    CHECK(plastic(*mcc, in, de));
+    CHECK(test::tangent_error(*mcc, in, de) < test::kTangent);
+  }
+  SECTION("softening on the dry side (OCR 6 near the yield surface)") {
+    // q_y = M sqrt(p0 (p_c - p0)) = 201 kPa; start at q = 195 kPa, p' < p'_c / 2.
+    const auto in = state_at(triaxial_stress_from_pq(p0, 195.0), 6.0 * p0);
+    const Vec6 de = vec(2e-3, -1e-3, -1e-3);
+    MaterialState out;
+    Mat6 t;
+    REQUIRE(mcc->integrate(in, de, out, t).status == Status::ok);
+    CHECK(out.internal[1] < in.internal[1]);  // p'_c falls: softening
+    CHECK(test::tangent_error(*mcc, in, de) < test::kTangent);
+  }
+  SECTION("near critical state (eta = 0.99 M on the yield surface)") {
+    const double eta = 0.99 * kM;
+    const auto in = state_at(triaxial_stress_from_pq(p0, eta * p0), p0 * (1.0 + eta * eta / (kM * kM)));
+    const Vec6 de = vec(1e-3, -5e-4, -5e-4);
+    CHECK(plastic(*mcc, in, de));
+    CHECK(test::tangent_error(*mcc, in, de) < test::kTangent);
+  }
+  SECTION("constant shear modulus") {
+    auto given = base_parameters();
+    given["shear_modulus"] = 5000.0;
+    const auto constant_g = make_mcc(given);
+    const auto in = state_at(triaxial_stress(p0, p0), p0);
+    const Vec6 de = vec(2e-3, -4e-4, -1e-3, 3e-4);
+    CHECK(plastic(*constant_g, in, de));
+    CHECK(test::tangent_error(*constant_g, in, de) < test::kTangent);
+  }
+  SECTION("Lode-angle dependent M, general stress state") {
+    auto given = base_parameters();
+    given["lode_dependence"] = 1.0;
+    const auto lode = make_mcc(given);
+    const Vec6 stress = vec(150, 100, 80, 20, -10, 15);
+    const auto in = state_at(stress, 150.0);
+    const Vec6 de = vec(1e-3, -3e-4, -2e-4, 5e-4, -2e-4, 3e-4);
+    CHECK(plastic(*lode, in, de));
+    CHECK(test::tangent_error(*lode, in, de) < test::kTangent);
+  }
+}
+
+// Wood (1990), "Soil Behaviour and Critical State Soil Mechanics", ch. 7, and Potts & Zdravkovic
+// (1999), ch. 7: at constant volume p'/p'_0 = [R/(1 + eta^2/M^2)]^Lambda on the yield surface
+// (mcc_reference::undrained_q_at_p). Axial strain along it from the flow rule, by quadrature
+// (mcc_reference::undrained_path).
+TEST_CASE("undrained MCC path follows the closed form of Wood (1990) for OCR 1, 2 and 6 within 0.5 % in p' and q") {
+  const auto mcc = default_mcc();
+  const auto mat = reference_material();
+  const double p0 = 200.0;
+  for (const double ocr : {1.0, 2.0, 6.0}) {
+    INFO("OCR " << ocr);
+    const auto r = simulate(DriverOptions{}, *mcc, triaxial(p0, ocr, Drainage::undrained, 0.2, 1000));
+    REQUIRE(r.ok());
+    const double pc0 = ocr * p0;
+    // On the yield surface (p'_c has moved), q(p') is the closed form to round-off: constant volume
+    // and the exponential laws make the discrete path exact, whatever the increment.
+    int yielded = 0;
+    for (const StepRecord& s : r.steps) {
+      if (!on_yield_surface(s, kM)) {
+        CHECK(close(s.p, p0, test::kRoundOff, 0.0));  // elastic: p' constant at constant volume
+        continue;
+      }
+      ++yielded;
+      CHECK(close(s.q, mcc_reference::undrained_q_at_p(mat, p0, pc0, s.p), test::kRoundOff, test::kStressFloor));
+    }
+    CHECK(yielded > 800);
+    // Against axial strain (backward Euler: first order in the increment).
+    const auto ref = mcc_reference::undrained_path(mat, p0, pc0);
+    const PathError e = error_against(r, ref);
+    INFO("p' error " << e.p << ", q error " << e.q);
+    CHECK(e.p < 0.005);
+    CHECK(e.q < 0.005);
+  }
+}
+
+TEST_CASE("undrained MCC path reaches critical state at p'_0 (OCR/2)^Lambda with q_cs = M p'_cs, c_u = M p'_cs / 2") {
+  // Wood (1990), ch. 7: p'_cs = p'_0 (R/2)^Lambda, Lambda = (lambda - kappa)/lambda.
+  const auto mcc = default_mcc();
+  const double p0 = 200.0;
+  const double big_lambda = (kLambda - kKappa) / kLambda;
+  for (const double ocr : {1.0, 2.0, 6.0}) {
+    INFO("OCR " << ocr);
+    const auto r = simulate(DriverOptions{}, *mcc, triaxial(p0, ocr, Drainage::undrained, 0.4, 2000));
+    REQUIRE(r.ok());
+    const double p_cs = p0 * std::pow(ocr / 2.0, big_lambda);
+    const StepRecord& end = r.steps.back();
+    CHECK(close(end.p, p_cs, 1e-4, 0.0));
+    CHECK(close(end.q, kM * p_cs, 1e-4, 0.0));
+    CHECK(close(end.q / 2.0, kM * p_cs / 2.0, 1e-4, 0.0));  // c_u
+    CHECK(close(end.void_ratio, kE0, test::kRoundOff, 0.0));
+    // Excess pore pressure from the total stress path (total radial stress constant).
+    CHECK(close(end.excess_pore_pressure, p0 + end.q / 3.0 - end.p, test::kRoundOff, 1e-9));
+  }
+}
+
+// Drained compression at constant s3': q = 3 (p' - p'_0) meets q = M p' at p' = 3 p'_0/(3 - M);
+// the critical state line from the normal compression line: Gamma = N - (lambda - kappa) ln 2
+// (Wood 1990, ch. 6 and 7). N is e at p' = 1 kPa on the normal compression line through the start:
+// e = N - (lambda - kappa) ln p'_c - kappa ln p'.
+TEST_CASE("drained MCC compression at constant s3' meets q = M p' at p' = 3 p'_0/(3 - M) with e on Gamma - lambda ln p'") {
+  const auto mcc = default_mcc();
+  const auto mat = reference_material();
+  const double p0 = 200.0;
+  const double p_cs = 3.0 * p0 / (3.0 - kM);
+  for (const double ocr : {1.0, 2.0, 6.0}) {
+    INFO("OCR " << ocr);
+    const double pc0 = ocr * p0;
+    const auto r = simulate(DriverOptions{}, *mcc, triaxial(p0, ocr, Drainage::drained, 0.9, 3000));
+    REQUIRE(r.ok());
+    for (const StepRecord& s : r.steps) CHECK(close(s.q, 3.0 * (s.p - p0), 1e-8, 1e-6));
+    const StepRecord& end = r.steps.back();
+    CHECK(close(end.p, p_cs, 0.001, 0.0));
+    CHECK(close(end.q, kM * p_cs, 0.001, 0.0));
+    const double n = kE0 + (kLambda - kKappa) * std::log(pc0) + kKappa * std::log(p0);
+    const double gamma = n - (kLambda - kKappa) * std::log(2.0);
+    CHECK(close(end.void_ratio, gamma - kLambda * std::log(end.p), 1e-4, 0.0));
+    // Along the path, against the quadrature of the flow rule (first order in the increment).
+    const auto short_run = simulate(DriverOptions{}, *mcc, triaxial(p0, ocr, Drainage::drained, 0.2, 1000));
+    REQUIRE(short_run.ok());
+    const PathError e = error_against(short_run, mcc_reference::drained_path(mat, p0, pc0));
+    INFO("p' error " << e.p << ", q error " << e.q);
+    // 1 %: at OCR 6 the path peaks at q = 497 kPa and softens; measured 0.55 % of q_cs at 1000
+    // increments, halving with every doubling.
+    CHECK(e.p < 0.005);
+    CHECK(e.q < 0.01);
+  }
+}
+
+TEST_CASE("MCC error against the quadrature reference halves when the increments double (first order)") {
+  const auto mcc = default_mcc();
+  const auto mat = reference_material();
+  const auto ref = mcc_reference::undrained_path(mat, 200.0, 200.0);
+  double previous = 0.0;
+  for (const int steps : {250, 500, 1000, 2000}) {
+    const auto r = simulate(DriverOptions{}, *mcc, triaxial(200.0, 1.0, Drainage::undrained, 0.2, steps));
+    REQUIRE(r.ok());
+    const double e = error_against(r, ref).q;
+    INFO(steps << " increments: q error " << e);
+    if (previous > 0.0) {
+      CHECK(e < 0.6 * previous);
+      CHECK(e > 0.4 * previous);
+    }
+    previous = e;
+  }
+}
+
+TEST_CASE("isotropic MCC loading and unloading lie on lines of slope lambda and kappa in e-ln p' to round-off") {
+  const auto mcc = default_mcc();
+  TestProtocol p;
+  p.initial.stress = triaxial_stress(50.0, 50.0);
+  p.initial.void_ratio = kE0;  // normally consolidated: p'_c = 50 kPa
+  auto stage = [](double target, int steps) {
+    Stage s;
+    s.type = StageType::isotropic_consolidation;
+    s.target_p = target;
+    s.steps = steps;
+    return s;
+  };
+  p.stages = {stage(400.0, 20), stage(100.0, 15), stage(400.0, 15), stage(800.0, 10)};
+  const auto r = simulate(DriverOptions{}, *mcc, p);
+  REQUIRE(r.ok());
+  REQUIRE(r.stages.size() == 4);
+  const double slopes[4] = {kLambda, kKappa, kKappa, kLambda};  // reloading stays elastic up to p'_c = 400
+  for (int k = 0; k < 4; ++k) {
+    INFO("stage " << k);
+    const int first = r.stages[k].first;
+    for (int i = first; i <= r.stages[k].last; ++i) {
+      const StepRecord& a = r.steps[i - 1];
+      const StepRecord& b = r.steps[i];
+      const double slope = -(b.void_ratio - a.void_ratio) / std::log(b.p / a.p);
+      CHECK(close(slope, slopes[k], test::kExact, 0.0));
+      CHECK(close(b.q, 0.0, 0.0, 1e-9));
+    }
+  }
+  CHECK(close(r.steps[r.stages[0].last].state[1], 400.0, test::kRoundOff, 0.0));
+  CHECK(close(r.steps.back().state[1], 800.0, test::kRoundOff, 0.0));
+  // The model's own void ratio is the driver's e0 - (1 + e0) eps_v.
+  for (const StepRecord& s : r.steps) CHECK(close(s.state[2], s.void_ratio, 1e-12, 1e-12));
+}
+
+// M(theta) of Sheng, Sloan & Yu (2000), "Aspects of finite element implementation of critical
+// state models", Comput. Mech. 26: M_e = 6 sin phi/(3 + sin phi) in triaxial extension.
+TEST_CASE("undrained MCC extension reaches q = -M_e p'_0 (OCR/2)^Lambda, M_e = 6 sin phi/(3 + sin phi) with Lode dependence") {
+  const double p0 = 200.0;
+  const double big_lambda = (kLambda - kKappa) / kLambda;
+  const double sphi = 3.0 * kM / (6.0 + kM);
+  const double m_e = 6.0 * sphi / (3.0 + sphi);
+  auto with_lode = base_parameters();
+  with_lode["lode_dependence"] = 1.0;
+  const auto lode = make_mcc(with_lode);
+  const auto round = default_mcc();
+  for (const double ocr : {1.0, 6.0}) {
+    INFO("OCR " << ocr);
+    const double p_cs = p0 * std::pow(ocr / 2.0, big_lambda);
+    const auto r = simulate(DriverOptions{}, *lode, triaxial(p0, ocr, Drainage::undrained, -0.4, 2000));
+    REQUIRE(r.ok());
+    CHECK(close(r.steps.back().p, p_cs, 1e-4, 0.0));
+    CHECK(close(r.steps.back().q, -m_e * p_cs, 1e-4, 0.0));
+    // Along the path, the closed form of Wood (1990) with M_e.
+    auto mat = reference_material();
+    mat.m = m_e;
+    for (const StepRecord& s : r.steps)
+      if (on_yield_surface(s, m_e))
+        CHECK(close(-s.q, mcc_reference::undrained_q_at_p(mat, p0, ocr * p0, s.p), test::kRoundOff, test::kStressFloor));
+    // Without Lode dependence the extension strength is M_c p'_cs.
+    const auto c = simulate(DriverOptions{}, *round, triaxial(p0, ocr, Drainage::undrained, -0.4, 2000));
+    REQUIRE(c.ok());
+    CHECK(close(c.steps.back().q, -kM * p_cs, 1e-4, 0.0));
+  }
+  // Compression is unchanged by the option.
+  const auto r = simulate(DriverOptions{}, *lode, triaxial(p0, 1.0, Drainage::undrained, 0.4, 2000));
+  REQUIRE(r.ok());
+  CHECK(close(r.steps.back().q, kM * p0 * std::pow(0.5, big_lambda), 1e-4, 0.0));
+}
+
+TEST_CASE("MCC with phi_cs instead of M uses M = 6 sin phi_cs/(3 - sin phi_cs)") {
+  auto given = base_parameters();
+  given.erase("critical_state_ratio");
+  given["critical_state_friction_angle"] = 30.0;
+  const auto mcc = make_mcc(given);
+  const auto r = simulate(DriverOptions{}, *mcc, triaxial(200.0, 1.0, Drainage::undrained, 0.4, 2000));
+  REQUIRE(r.ok());
+  const double m = 6.0 * 0.5 / 2.5;  // sin 30 deg = 1/2
+  const StepRecord& end = r.steps.back();
+  CHECK(close(end.q / end.p, m, 1e-4, 0.0));
+}
+
+TEST_CASE("MCC bad parameters give exact messages") {
+  auto with = [](std::map<std::string, double> changes) {
+    auto given = base_parameters();
+    for (const auto& [k, v] : changes) given[k] = v;
+    return given;
+  };
+  CHECK_THROWS_WITH(make_mcc(with({{"kappa", 0.2}})),
+                    "test: modified_cam_clay: kappa = 0.2 must be smaller than lambda = 0.2");
+  CHECK_THROWS_WITH(make_mcc(with({{"kappa", 0.3}})),
+                    "test: modified_cam_clay: kappa = 0.3 must be smaller than lambda = 0.2");
+  CHECK_THROWS_WITH(make_mcc(with({{"critical_state_ratio", -0.5}})),
+                    "test: modified_cam_clay: critical_state_ratio = -0.5 is outside [0, 3) (-)");
+  CHECK_THROWS_WITH(make_mcc(with({{"critical_state_ratio", 0.0}})),
+                    "test: modified_cam_clay: give critical_state_ratio (M > 0) or critical_state_friction_angle "
+                    "(phi_cs > 0); both are 0");
+  CHECK_THROWS_WITH(make_mcc(with({{"critical_state_friction_angle", 25.0}})),
+                    "test: modified_cam_clay: give only one of critical_state_ratio = 0.9 and "
+                    "critical_state_friction_angle = 25 deg (set the other to 0)");
+  CHECK_THROWS_WITH(make_mcc(with({{"lambda", 0.0}})), "test: modified_cam_clay: lambda = 0 is outside (0, inf) (-)");
+  CHECK_THROWS_WITH(make_mcc(with({{"poissons_ratio", 0.5}})),
+                    "test: modified_cam_clay: poissons_ratio = 0.5 is outside (-1, 0.5) (-)");
+  CHECK_THROWS_WITH(make_mcc(with({{"shear_modulus", -1.0}})),
+                    "test: modified_cam_clay: shear_modulus = -1 is outside [0, inf) (kPa)");
+  CHECK_THROWS_WITH(make_mcc(with({{"lode_dependence", 0.5}})),
+                    "test: modified_cam_clay: lode_dependence = 0.5 must be 0 (M the same in every direction) or 1 "
+                    "(M depends on the Lode angle)");
+  CHECK_THROWS_WITH(make_mcc(with({{"lode_dependence", 1.0}, {"critical_state_ratio", 2.2}})),
+                    "test: modified_cam_clay: with lode_dependence = 1 the critical state ratio M = 2.2 must not "
+                    "exceed 2 (phi_cs = 48.59 deg), where the yield surface stops being convex");
+  CHECK_THROWS_WITH(make_mcc({{"kappa", 0.04}, {"critical_state_ratio", 0.9}}),
+                    "test: modified_cam_clay: parameter 'lambda' (-) is required and has no default");
+}
+
+TEST_CASE("MCC initial conditions: missing void ratio, p'_c and OCR together, a state outside the surface give exact messages") {
+  const auto mcc = default_mcc();
+  MaterialState s;
+  InitialConditions c;
+  c.stress = triaxial_stress(150.0, 75.0);  // p' = 100 kPa, q = 75 kPa
+  CHECK_THROWS_WITH(mcc->initialise(c, s),
+                    "modified_cam_clay: initial.void_ratio is required (the void ratio e0 at the start of the protocol)");
+  c.void_ratio = kE0;
+  c.preconsolidation_pressure = 300.0;
+  c.overconsolidation_ratio = 2.0;
+  CHECK_THROWS_WITH(mcc->initialise(c, s), "modified_cam_clay: give initial.preconsolidation_pressure or initial.ocr, not both");
+  c.overconsolidation_ratio = kNotGiven;
+  c.preconsolidation_pressure = 150.0;
+  CHECK_THROWS_WITH(mcc->initialise(c, s),
+                    "modified_cam_clay: initial.preconsolidation_pressure = 150 kPa puts the initial stress (p' = 100 kPa, "
+                    "q = 75 kPa) outside the yield surface; p'_c must be at least 169.444 kPa");
+  c.preconsolidation_pressure = kNotGiven;
+  c.overconsolidation_ratio = 1.5;
+  CHECK_THROWS_WITH(mcc->initialise(c, s),
+                    "modified_cam_clay: initial.ocr = 1.5 (p'_c = 150 kPa) puts the initial stress (p' = 100 kPa, "
+                    "q = 75 kPa) outside the yield surface; p'_c must be at least 169.444 kPa");
+  c.stress = triaxial_stress(-10.0, -10.0);
+  CHECK_THROWS_WITH(mcc->initialise(c, s), "modified_cam_clay: the initial mean effective stress p' = -10 kPa must be positive");
+  // Through simulate() the same message reaches the caller.
+  auto p = triaxial(100.0, 2.0, Drainage::undrained, 0.1, 10);
+  p.initial.void_ratio = kNotGiven;
+  CHECK_THROWS_WITH(simulate(DriverOptions{}, *mcc, p),
+                    "modified_cam_clay: initial.void_ratio is required (the void ratio e0 at the start of the protocol)");
+}
+
+TEST_CASE("MCC initial state: OCR scales p'_0, anisotropic normally consolidated states start on the yield surface") {
+  const auto mcc = default_mcc();
+  MaterialState s;
+  InitialConditions c;
+  c.void_ratio = kE0;
+  c.stress = triaxial_stress(100.0, 100.0);
+  c.overconsolidation_ratio = 4.0;
+  mcc->initialise(c, s);
+  CHECK(s.internal[1] == 400.0);
+  CHECK(s.internal[0] == kE0);
+  CHECK(s.internal[2] == kE0);
+  c.overconsolidation_ratio = kNotGiven;
+  c.stress = triaxial_stress(150.0, 75.0);
+  mcc->initialise(c, s);
+  CHECK(close(s.internal[1], 100.0 + 75.0 * 75.0 / (kM * kM * 100.0), test::kRoundOff, 0.0));
+  c.preconsolidation_pressure = 250.0;
+  mcc->initialise(c, s);
+  CHECK(s.internal[1] == 250.0);
+}
