@@ -5,8 +5,12 @@
 // M = 0.9, nu' = 0.25, e0 = 1.1), not from any real soil.
 #include <catch2/catch.hpp>
 
+#include <atomic>
 #include <cmath>
+#include <cstdlib>
+#include <fstream>
 #include <map>
+#include <new>
 #include <string>
 
 #include "cli_run.hpp"
@@ -17,6 +21,18 @@
 #include "triaxcal/error.hpp"
 #include "triaxcal/models/registry.hpp"
 #include "triaxcal/parameters.hpp"
+
+// Count every heap allocation in this test program, to check that integrate allocates nothing.
+// None is inlined: GCC 12 would otherwise pair an inlined malloc() or free() with the built-in
+// new or delete and warn (-Wmismatched-new-delete, a false positive).
+static std::atomic<long> g_allocations{0};
+[[gnu::noinline]] void* operator new(std::size_t n) {
+  ++g_allocations;
+  if (void* p = std::malloc(n ? n : 1)) return p;
+  throw std::bad_alloc();
+}
+[[gnu::noinline]] void operator delete(void* p) noexcept { std::free(p); }
+[[gnu::noinline]] void operator delete(void* p, std::size_t) noexcept { std::free(p); }
 
 using namespace triaxcal;
 using triaxcal::test::close;
@@ -447,4 +463,62 @@ TEST_CASE("MCC initial state: OCR scales p'_0, anisotropic normally consolidated
   c.preconsolidation_pressure = 250.0;
   mcc->initialise(c, s);
   CHECK(s.internal[1] == 250.0);
+}
+
+TEST_CASE("MCC integrate allocates nothing on elastic, plastic and Lode-dependent increments") {
+  auto given = base_parameters();
+  given["lode_dependence"] = 1.0;
+  const auto lode = make_mcc(given);
+  const auto mcc = default_mcc();
+  const auto in = state_at(vec(140, 90, 70, 10, -5, 8), 160.0);
+  MaterialState out;
+  Mat6 t;
+  const long before = g_allocations.load();
+  int ok = 0;
+  for (const Vec6& de : {vec(1e-5, 0, 0), vec(2e-3, -1e-3, -1e-3, 1e-4), vec(1e-3, 1e-3, 1e-3)}) {
+    ok += mcc->integrate(in, de, out, t).status == Status::ok;
+    ok += lode->integrate(in, de, out, t).status == Status::ok;
+  }
+  const long after = g_allocations.load();
+  CHECK(ok == 6);
+  CHECK(after == before);
+}
+
+TEST_CASE("triaxcal models lists modified_cam_clay; models modified_cam_clay shows every parameter") {
+  const auto list = test::run_cli("models", "mcc_list");
+  CHECK(list.exit_code == 0);
+  CHECK(list.out.find("modified_cam_clay") != std::string::npos);
+  const auto one = test::run_cli("models modified_cam_clay", "mcc_one");
+  CHECK(one.exit_code == 0);
+  for (const auto& p : find_model("modified_cam_clay").info().parameters) CHECK(one.out.find(p.name) != std::string::npos);
+  CHECK(one.out.find("preconsolidation_pressure") != std::string::npos);  // a state variable
+}
+
+TEST_CASE("triaxcal simulate runs modified_cam_clay; a protocol without void ratio exits 2 naming initial.void_ratio") {
+  {
+    std::ofstream f("mcc_params.json");
+    f << R"({"format": "triaxcal-parameters", "version": 1, "model": "modified_cam_clay",
+             "description": "Invented test values, not from any real soil",
+             "parameters": {"lambda": 0.2, "kappa": 0.04, "critical_state_ratio": 0.9, "poissons_ratio": 0.25}})";
+    std::ofstream g("mcc_cu.json");
+    g << R"({"format": "triaxcal-protocol", "version": 1, "name": "CU-OCR2",
+             "description": "Invented test: undrained compression at OCR 2",
+             "initial": {"p": 200, "void_ratio": 1.1, "ocr": 2},
+             "stages": [{"type": "shear", "drainage": "undrained", "axial_strain": 0.2, "steps": 200}]})";
+    std::ofstream h("mcc_no_e.json");
+    h << R"({"format": "triaxcal-protocol", "version": 1, "initial": {"p": 200},
+             "stages": [{"type": "shear", "drainage": "undrained", "axial_strain": 0.2, "steps": 20}]})";
+  }
+  const auto ok = test::run_cli("simulate --model modified_cam_clay --params mcc_params.json --protocol mcc_cu.json",
+                                "mcc_sim");
+  CHECK(ok.exit_code == 0);
+  CHECK(ok.out.find("CU-OCR2") != std::string::npos);
+  CHECK(ok.out.find("180.00") != std::string::npos);  // q_cs = M p'_0 at OCR 2 (p'_cs = p'_0)
+  CHECK(ok.out.find("Caution") != std::string::npos);
+  const auto bad = test::run_cli("simulate --model modified_cam_clay --params mcc_params.json --protocol mcc_no_e.json",
+                                 "mcc_bad");
+  CHECK(bad.exit_code == 2);
+  CHECK(bad.err ==
+        "triaxcal: error: modified_cam_clay: initial.void_ratio is required (the void ratio e0 at the start of the "
+        "protocol)\n");
 }
