@@ -484,7 +484,7 @@ TEST_CASE("MCC integrate allocates nothing on elastic, plastic and Lode-dependen
   CHECK(after == before);
 }
 
-TEST_CASE("triaxcal models lists modified_cam_clay; models modified_cam_clay shows every parameter") {
+TEST_CASE("triaxcal models lists modified_cam_clay and, given the name, every parameter") {
   const auto list = test::run_cli("models", "mcc_list");
   CHECK(list.exit_code == 0);
   CHECK(list.out.find("modified_cam_clay") != std::string::npos);
@@ -494,7 +494,7 @@ TEST_CASE("triaxcal models lists modified_cam_clay; models modified_cam_clay sho
   CHECK(one.out.find("preconsolidation_pressure") != std::string::npos);  // a state variable
 }
 
-TEST_CASE("triaxcal simulate runs modified_cam_clay; a protocol without void ratio exits 2 naming initial.void_ratio") {
+TEST_CASE("triaxcal simulate runs modified_cam_clay, and a protocol without void ratio exits 2 naming initial.void_ratio") {
   {
     std::ofstream f("mcc_params.json");
     f << R"({"format": "triaxcal-parameters", "version": 1, "model": "modified_cam_clay",
