@@ -1,0 +1,167 @@
+// `triaxcal fit CALIBRATION.json`: fit a model's parameters to a test series and write the
+// parameter set, the curves and an HDF5 archive.
+
+#include <unistd.h>
+
+#include <atomic>
+#include <chrono>
+#include <csignal>
+#include <cstdio>
+#include <filesystem>
+#include <iostream>
+#include <memory>
+
+#include "commands.hpp"
+#include "triaxcal/atomic_file.hpp"
+#include "triaxcal/calibrate.hpp"
+#include "triaxcal/calibration_file.hpp"
+#include "triaxcal/calibration_output.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/models/registry.hpp"
+#include "triaxcal/series.hpp"
+#include "triaxcal/version.hpp"
+
+namespace triaxcal::cli {
+
+namespace {
+
+struct FitOptions {
+  std::string calibration;
+  std::string out;
+  int threads = -1;
+  long long seed = -1;
+  bool report = false;
+};
+
+std::atomic<bool> g_interrupted{false};
+
+extern "C" void on_interrupt(int) { g_interrupted.store(true); }
+
+/// Draws "\r<stage> <evaluations> evals  objective ..  best ..  12.3 s" on a terminal, at most 10 a second.
+class ProgressLine {
+ public:
+  ProgressLine() : terminal_(isatty(STDERR_FILENO) == 1) {}
+  bool operator()(const CalibrationProgress& p) {
+    if (terminal_) {
+      const auto now = std::chrono::steady_clock::now();
+      if (now - last_ > std::chrono::milliseconds(100)) {
+        last_ = now;
+        std::fprintf(stderr, "\r  %-7s %7ld evaluations  objective %-11.4g best %-11.4g %7.1f s ", p.stage.c_str(),
+                     p.evaluations, p.objective, p.best, p.elapsed);
+        std::fflush(stderr);
+        drawn_ = true;
+      }
+    }
+    return !g_interrupted.load();
+  }
+  void clear() {
+    if (drawn_) std::fprintf(stderr, "\r%80s\r", "");
+  }
+
+ private:
+  bool terminal_;
+  bool drawn_ = false;
+  std::chrono::steady_clock::time_point last_{};
+};
+
+int run(const FitOptions& o) {
+  CalibrationFile file = read_calibration_file(o.calibration);
+  if (o.threads >= 0) file.options.threads = o.threads;
+  if (o.seed >= 0) file.options.seed = static_cast<unsigned long>(o.seed);
+  try {
+    file.options.validate();
+  } catch (const InputError& e) {
+    throw InputError(std::string("--threads/--seed: ") + e.what());
+  }
+  const TestSeries series = read_test_series(file.series);
+  const ModelEntry* entry = nullptr;
+  try {
+    entry = &find_model(file.model);
+  } catch (const InputError& e) {
+    throw InputError(o.calibration + ": model: " + e.what());
+  }
+  auto create = entry->create;
+  const std::string where = o.calibration;
+  const CalibrationProblem problem =
+      build_calibration_problem(file, series, entry->info(), [create, where](const ParameterValues& v) { return create(v, where); });
+
+  namespace fs = std::filesystem;
+  const std::string stem = fs::path(o.calibration).stem().string();
+  const fs::path dir = o.out.empty() ? fs::path(stem + "_fit") : fs::path(o.out);
+  std::error_code ec;
+  fs::create_directories(dir, ec);
+  if (ec || !fs::is_directory(dir)) throw InputError("--out " + dir.string() + ": cannot create the directory");
+
+  CalibrationProvenance prov;
+  prov.software_version = kVersion;
+  prov.created = utc_now();
+  prov.caution = kCaution;
+  prov.description = file.description;
+  prov.inputs.emplace_back(o.calibration, sha256_file(o.calibration));
+  prov.inputs.emplace_back(file.series, sha256_file(file.series));
+  for (const CalibrationTest& t : problem.tests) {
+    prov.tests.push_back(t.id);
+    for (const Specimen& s : series.specimens)
+      if (s.id == t.id) prov.inputs.emplace_back(s.data.path, sha256_file(s.data.path));
+  }
+
+  // Ctrl-C asks the optimiser to stop; the best point so far is written. The handler stays until
+  // the files are written, so a second Ctrl-C cannot cut a write short.
+  g_interrupted.store(false);
+  auto previous = std::signal(SIGINT, on_interrupt);
+  ProgressLine progress;
+  CalibrationOptions options = file.options;
+  options.progress = [&progress](const CalibrationProgress& p) { return progress(p); };
+  const CalibrationSummary summary = calibrate(options, problem);
+  progress.clear();
+
+  std::printf("%s", summary.brief().c_str());
+  if (o.report) std::printf("\n%s", summary.full().c_str());
+  if (!summary.usable()) {
+    std::signal(SIGINT, previous);
+    std::fprintf(stderr, "triaxcal: fit: %s\n", summary.message.c_str());
+    return exit_nothing_usable;
+  }
+  const std::string json = format_parameter_set(summary, entry->info(), prov);
+  const fs::path params = dir / (stem + ".parameters.json");
+  const fs::path curves = dir / (stem + ".curves.csv");
+  const fs::path archive = dir / (stem + ".h5");
+  write_file_atomically(params, json);
+  write_file_atomically(curves, format_fit_csv(summary));
+  write_calibration_archive(archive, summary, entry->info(), prov, json);
+  if (o.report) write_file_atomically(dir / (stem + ".report.txt"), summary.full() + "\n" + kCaution + "\n");
+  std::signal(SIGINT, previous);
+
+  if (summary.termination != CalibrationTermination::converged)
+    std::printf("\nnot converged: %s\n", summary.message.c_str());
+  std::printf("\nparameter set: %s\ncurves:        %s\narchive:       %s\n", params.string().c_str(),
+              curves.string().c_str(), archive.string().c_str());
+  if (o.report) std::printf("report:        %s\n", (dir / (stem + ".report.txt")).string().c_str());
+  std::printf("use it with:   triaxcal simulate --model %s --params %s --protocol ...\n", file.model.c_str(),
+              params.string().c_str());
+  std::printf("\n%s\n", kCaution);
+  return exit_ok;
+}
+
+void add_fit_command(CLI::App& app, Action& action) {
+  auto o = std::make_shared<FitOptions>();
+  auto* cmd = app.add_subcommand("fit",
+                                 "Fit a model's parameters to a test series described by a calibration file; write the "
+                                 "parameter set (JSON), the fitted curves (CSV) and an HDF5 archive");
+  cmd->add_option("calibration", o->calibration, "Calibration JSON (format triaxcal-calibration)")
+      ->required()
+      ->check(CLI::ExistingFile);
+  cmd->add_option("--out", o->out, "Directory for the results (default: <calibration name>_fit)");
+  cmd->add_option("--threads", o->threads, "Tests simulated in parallel (default: the file's option, else all cores)")
+      ->check(CLI::Range(0, 1024));
+  cmd->add_option("--seed", o->seed, "Seed of the design and the global stage (default: the file's option, else 1)")
+      ->check(CLI::Range(0LL, 4294967295LL));
+  cmd->add_flag("--report", o->report, "Print the full report and write it beside the results");
+  cmd->callback([&action, o] { action = [o] { return run(*o); }; });
+}
+
+const CommandRegistration registration{"fit", 30, &add_fit_command};
+
+}  // namespace
+
+}  // namespace triaxcal::cli
