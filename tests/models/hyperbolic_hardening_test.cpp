@@ -1,0 +1,420 @@
+// Checks of the hyperbolic double-hardening model (models/hyperbolic_hardening) against closed forms,
+// each with its source beside it.
+
+#include <catch2/catch.hpp>
+
+#include <cmath>
+#include <map>
+#include <string>
+
+#include "cli_run.hpp"
+#include "hyperbolic_hardening/hyperbolic_hardening.hpp"
+#include "tolerances.hpp"
+#include "triaxcal/driver.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/models/registry.hpp"
+#include "triaxcal/parameters.hpp"
+
+using namespace triaxcal;
+using triaxcal::test::close;
+
+namespace {
+
+using Overrides = std::map<std::string, double>;
+
+ParameterValues values(const Overrides& over = {}) {
+  return resolve_parameters(HyperbolicHardening::model_info(), over, "test");
+}
+
+std::unique_ptr<Model> make(const Overrides& over = {}) { return HyperbolicHardening::create(values(over), "test"); }
+
+std::string create_message(const Overrides& over) {
+  ParameterValues v = values();
+  for (const auto& [name, value] : over) v[parameter_index(HyperbolicHardening::model_info(), name)] = value;
+  try {
+    HyperbolicHardening::create(v, "params.json");
+  } catch (const InputError& e) {
+    return e.what();
+  }
+  return "no error";
+}
+
+double param(const Overrides& over, const std::string& name) {
+  return values(over)[parameter_index(HyperbolicHardening::model_info(), name)];
+}
+
+// Power law of Schanz, Vermeer & Bonnier (1999), eq. 5 / 7: E = E_ref ((s + c cot phi)/(p_ref + c cot phi))^m.
+double power_law(const Overrides& over, const std::string& ref, double stress) {
+  const double c_cot = param(over, "cohesion") / std::tan(degrees_to_radians(param(over, "friction_angle")));
+  return param(over, ref) *
+         std::pow((stress + c_cot) / (param(over, "reference_pressure") + c_cot), param(over, "stress_exponent"));
+}
+
+// Mohr-Coulomb failure deviator in triaxial compression at minor stress s3 (common practice, no source).
+double failure_deviator(const Overrides& over, double s3) {
+  const double phi = degrees_to_radians(param(over, "friction_angle"));
+  return 2.0 * std::sin(phi) / (1.0 - std::sin(phi)) * (s3 + param(over, "cohesion") / std::tan(phi));
+}
+
+TestProtocol drained_compression(double s3, double pc, double strain, int steps) {
+  TestProtocol p;
+  p.initial.stress = triaxial_stress(s3, s3);
+  p.initial.preconsolidation_pressure = pc;
+  Stage st;
+  st.type = StageType::shear;
+  st.drainage = Drainage::drained;
+  st.axial_strain = strain;
+  st.steps = steps;
+  p.stages.push_back(st);
+  return p;
+}
+
+MaterialState state_of(const StepRecord& r) {
+  MaterialState s;
+  s.stress = triaxial_stress(r.axial_stress, r.radial_stress);
+  s.internal = r.state;
+  return s;
+}
+
+// Largest relative difference between the returned tangent and central differences of the stress.
+double tangent_error(const Model& model, const MaterialState& in, const Vec6& de, int& active) {
+  MaterialState out;
+  Mat6 tangent;
+  REQUIRE(model.integrate(in, de, out, tangent).status == Status::ok);
+  active = static_cast<int>(out.internal[HyperbolicHardening::active_surfaces]);
+  const double h = 1e-8;
+  Mat6 numeric;
+  for (int j = 0; j < 6; ++j) {
+    MaterialState plus, minus;
+    Mat6 ignored;
+    Vec6 dp = de, dm = de;
+    dp[j] += h;
+    dm[j] -= h;
+    REQUIRE(model.integrate(in, dp, plus, ignored).status == Status::ok);
+    REQUIRE(model.integrate(in, dm, minus, ignored).status == Status::ok);
+    REQUIRE(plus.internal[HyperbolicHardening::active_surfaces] == active);
+    REQUIRE(minus.internal[HyperbolicHardening::active_surfaces] == active);
+    numeric.col(j) = (plus.stress - minus.stress) / (2.0 * h);
+  }
+  return (numeric - tangent).cwiseAbs().maxCoeff() / tangent.cwiseAbs().maxCoeff();
+}
+
+}  // namespace
+
+TEST_CASE("hyperbolic_hardening: bad parameters give exact messages", "[hyperbolic_hardening]") {
+  CHECK(create_message({{"failure_ratio", 0.0}}) ==
+        "params.json: hyperbolic_hardening: failure_ratio = 0 is outside (0, 1] (-)");
+  CHECK(create_message({{"failure_ratio", 1.2}}) ==
+        "params.json: hyperbolic_hardening: failure_ratio = 1.2 is outside (0, 1] (-)");
+  CHECK(create_message({{"secant_stiffness_ref", 0.0}}) ==
+        "params.json: hyperbolic_hardening: secant_stiffness_ref = 0 is outside (0, inf) (kPa)");
+  CHECK(create_message({{"oedometer_stiffness_ref", -5.0}}) ==
+        "params.json: hyperbolic_hardening: oedometer_stiffness_ref = -5 is outside (0, inf) (kPa)");
+  CHECK(create_message({{"unloading_stiffness_ref", 0.0}}) ==
+        "params.json: hyperbolic_hardening: unloading_stiffness_ref = 0 is outside (0, inf) (kPa)");
+  CHECK(create_message({{"k0_nc", 0.0}}) == "params.json: hyperbolic_hardening: k0_nc = 0 is outside (0, 1) (-)");
+  CHECK(create_message({{"k0_nc", 1.0}}) == "params.json: hyperbolic_hardening: k0_nc = 1 is outside (0, 1) (-)");
+  CHECK(create_message({{"unloading_stiffness_ref", 30000.0}}) ==
+        "params.json: hyperbolic_hardening: unloading_stiffness_ref = 30000 kPa must exceed the initial stiffness "
+        "2 secant_stiffness_ref / (2 - failure_ratio) = 36363.6 kPa");
+  CHECK(create_message({{"critical_state_friction_angle", 35.0}}) ==
+        "params.json: hyperbolic_hardening: critical_state_friction_angle = 35 deg must not exceed friction_angle = 33 deg");
+  CHECK(create_message({{"dilatancy_rule", 1.5}}) ==
+        "params.json: hyperbolic_hardening: dilatancy_rule = 1.5 must be 0 (Rowe as is), 1 (no contraction) or 2 "
+        "(no dilatancy)");
+  CHECK(create_message({{"k0_nc", 0.25}}) ==
+        "params.json: hyperbolic_hardening: k0_nc = 0.25 puts the normally consolidated state at or beyond failure "
+        "(deviator 75 kPa >= q_f = 59.803 kPa at s1' = reference_pressure); it must exceed 0.294801 for c' = 0");
+  CHECK(create_message({{"oedometer_stiffness_ref", 200000.0}}).rfind(
+            "params.json: hyperbolic_hardening: oedometer_stiffness_ref = 200000 kPa is too stiff for k0_nc = 0.5: "
+            "elastic and shear-hardening strains alone give a tangent of ",
+            0) == 0);
+  CHECK(create_message({}) == "no error");
+}
+
+TEST_CASE("hyperbolic_hardening: initial state from the consolidation history", "[hyperbolic_hardening]") {
+  const auto model = make();
+  InitialConditions ic;
+  ic.stress = triaxial_stress(100.0, 100.0);
+  MaterialState s;
+  model->initialise(ic, s);
+  CHECK(s.internal[HyperbolicHardening::cap_pressure] == Approx(100.0).epsilon(1e-12));  // NC: cap at p'_0
+  CHECK(s.internal[HyperbolicHardening::shear_hardening] == 0.0);
+  ic.overconsolidation_ratio = 3.0;
+  model->initialise(ic, s);
+  CHECK(s.internal[HyperbolicHardening::cap_pressure] == Approx(300.0).epsilon(1e-12));
+  ic.preconsolidation_pressure = 250.0;  // wins over the OCR
+  model->initialise(ic, s);
+  CHECK(s.internal[HyperbolicHardening::cap_pressure] == Approx(250.0).epsilon(1e-12));
+  ic.preconsolidation_pressure = 50.0;
+  try {
+    model->initialise(ic, s);
+    FAIL("no error");
+  } catch (const InputError& e) {
+    CHECK(std::string(e.what()) ==
+          "hyperbolic_hardening: preconsolidation_pressure = 50 kPa is below the initial mean effective stress p' = 100 kPa");
+  }
+  // An anisotropic initial stress lies on the shear locus: a further deviatoric load is plastic at once.
+  InitialConditions k0;
+  k0.stress = triaxial_stress(100.0, 50.0);
+  model->initialise(k0, s);
+  CHECK(s.internal[HyperbolicHardening::shear_hardening] > 0.0);
+  MaterialState out;
+  Mat6 t;
+  Vec6 de = Vec6::Zero();
+  de[0] = 1e-5;
+  de[1] = de[2] = -0.5e-5;
+  REQUIRE(make()->integrate(s, de, out, t).status == Status::ok);
+  CHECK((static_cast<int>(out.internal[HyperbolicHardening::active_surfaces]) & 1) == 1);
+}
+
+// Kondner (1963), "Hyperbolic stress-strain response: cohesive soils", J. Soil Mech. Found. Div. 89;
+// Duncan & Chang (1970), "Nonlinear analysis of stress and strain in soils", J. Soil Mech. Found.
+// Div. 96; the relation as used by Schanz, Vermeer & Bonnier (1999), eqs. 1-3:
+// eps_a = q / (E_i (1 - q/q_a)), q_a = q_f / R_f, E_i = 2 E50 / (2 - R_f).
+TEST_CASE("drained compression with dilatancy off follows the hyperbola within 1 % up to 0.95 q_f, secant at q_f/2 = E50",
+          "[hyperbolic_hardening]") {
+  for (const Overrides& over : {Overrides{{"dilatancy_rule", 2.0}},
+                                Overrides{{"dilatancy_rule", 2.0}, {"cohesion", 10.0}, {"stress_exponent", 0.7},
+                                          {"failure_ratio", 0.8}, {"friction_angle", 30.0},
+                                          {"critical_state_friction_angle", 28.0}}}) {
+    for (double s3 : {100.0, 250.0}) {
+      const auto model = make(over);
+      const SimulationResult r = simulate(DriverOptions{}, *model, drained_compression(s3, 40.0 * s3, 0.15, 1000));
+      REQUIRE(r.ok());
+      const double e50 = power_law(over, "secant_stiffness_ref", s3);
+      const double rf = param(over, "failure_ratio");
+      const double ei = 2.0 * e50 / (2.0 - rf);
+      const double qf = failure_deviator(over, s3);
+      const double qa = qf / rf;
+      double worst = 0.0;
+      int checked = 0;
+      double secant_at_half = 0.0;
+      for (std::size_t i = 1; i < r.steps.size(); ++i) {
+        const StepRecord& s = r.steps[i];
+        CHECK((static_cast<int>(s.state[HyperbolicHardening::active_surfaces]) & 2) == 0);  // cap never reached
+        CHECK(std::abs(s.volumetric_strain - (s.axial_strain + 2.0 * s.radial_strain)) < 1e-15);
+        if (s.q > 0.95 * qf) break;
+        const double expected = s.axial_strain * ei / (1.0 + s.axial_strain * ei / qa);
+        worst = std::max(worst, std::abs(s.q - expected) / expected);
+        ++checked;
+        const StepRecord& prev = r.steps[i - 1];
+        if (prev.q < 0.5 * qf && s.q >= 0.5 * qf) {
+          const double f = (0.5 * qf - prev.q) / (s.q - prev.q);
+          secant_at_half = 0.5 * qf / (prev.axial_strain + f * (s.axial_strain - prev.axial_strain));
+        }
+      }
+      INFO("s3 = " << s3 << " worst relative error " << worst << " over " << checked << " steps");
+      CHECK(checked > 100);
+      CHECK(worst < 0.01);
+      CHECK(secant_at_half == Approx(e50).epsilon(0.01));
+      CHECK(r.steps.back().q == Approx(qf).epsilon(1e-6));  // ends on the Mohr-Coulomb line
+    }
+  }
+}
+
+// Oedometer check of the cap calibration (Schanz, Vermeer & Bonnier 1999, section 4: alpha and
+// the cap modulus are chosen so that the model reproduces E_oed^ref and K0_nc).
+TEST_CASE("normally consolidated oedometer: tangent at s1' = reference pressure within 2 %, s3'/s1' = k0_nc within 1 %",
+          "[hyperbolic_hardening]") {
+  for (const Overrides& over :
+       {Overrides{}, Overrides{{"stress_exponent", 0.8}, {"k0_nc", 0.6}, {"oedometer_stiffness_ref", 12000.0},
+                               {"reference_pressure", 50.0}, {"friction_angle", 30.0}},
+        Overrides{{"stress_exponent", 0.3}, {"k0_nc", 0.42}, {"oedometer_stiffness_ref", 30000.0},
+                  {"secant_stiffness_ref", 35000.0}, {"unloading_stiffness_ref", 120000.0}, {"friction_angle", 38.0},
+                  {"critical_state_friction_angle", 32.0}}}) {
+    const auto model = make(over);
+    const double pref = param(over, "reference_pressure");
+    const double k0 = param(over, "k0_nc");
+    const double eoed = param(over, "oedometer_stiffness_ref");
+    TestProtocol p;
+    p.initial.stress = triaxial_stress(0.5 * pref, 0.5 * pref * k0);
+    Stage st;
+    st.type = StageType::oedometer;
+    st.target_axial = 3.0 * pref;
+    st.steps = 1000;
+    p.stages.push_back(st);
+    const SimulationResult r = simulate(DriverOptions{}, *model, p);
+    REQUIRE(r.ok());
+    for (double level : {1.0, 2.0}) {
+      std::size_t i = 1;
+      while (i + 1 < r.steps.size() && r.steps[i].axial_stress < level * pref) ++i;
+      const StepRecord& a = r.steps[i - 1];
+      const StepRecord& b = r.steps[i + 1];
+      const double tangent = (b.axial_stress - a.axial_stress) / (b.axial_strain - a.axial_strain);
+      // The oedometric stiffness follows the power law in s1' (Schanz et al. 1999, eq. 11; c' = 0 here).
+      const double expected = eoed * std::pow(r.steps[i].axial_stress / pref, param(over, "stress_exponent"));
+      INFO("s1' = " << r.steps[i].axial_stress << " tangent " << tangent << " expected " << expected);
+      CHECK(tangent == Approx(expected).epsilon(0.02));
+      CHECK(r.steps[i].radial_stress / r.steps[i].axial_stress == Approx(k0).epsilon(0.01));
+      CHECK(std::abs(r.steps[i].radial_strain) < 1e-12);
+      CHECK(static_cast<int>(r.steps[i].state[HyperbolicHardening::active_surfaces]) == 3);  // shear and cap
+    }
+  }
+}
+
+// Unloading-reloading is elastic with E_ur from the power law (Schanz, Vermeer & Bonnier 1999, eq. 7);
+// at constant s3' the secant of the loop is E_ur(s3') (common practice, no source).
+TEST_CASE("drained unload-reload loop: secant stiffness equals E_ur at that s3' within 3 %", "[hyperbolic_hardening]") {
+  for (double s3 : {100.0, 300.0}) {
+    const Overrides over{{"stress_exponent", 0.6}};
+    const auto model = make(over);
+    TestProtocol p = drained_compression(s3, kNotGiven, 0.015, 300);  // normally consolidated
+    Stage loop;
+    loop.type = StageType::unload_reload;
+    loop.drainage = Drainage::drained;
+    loop.target_deviator = 0.1 * failure_deviator(over, s3);
+    loop.steps = 100;
+    p.stages.push_back(loop);
+    const SimulationResult r = simulate(DriverOptions{}, *model, p);
+    REQUIRE(r.ok());
+    const StageSummary& st = r.stages[1];
+    const StepRecord& top = r.steps[st.first - 1];
+    const StepRecord& bottom = r.steps[st.first + 99];
+    const StepRecord& back = r.steps[st.last];
+    const double eur = power_law(over, "unloading_stiffness_ref", s3);
+    const double unload = (top.q - bottom.q) / (top.axial_strain - bottom.axial_strain);
+    const double reload = (back.q - bottom.q) / (back.axial_strain - bottom.axial_strain);
+    INFO("s3 = " << s3 << ": unloading secant " << unload << ", reloading " << reload << ", E_ur " << eur);
+    CHECK(top.q > 0.5 * failure_deviator(over, s3));
+    CHECK(unload == Approx(eur).epsilon(0.03));
+    CHECK(reload == Approx(eur).epsilon(0.03));
+  }
+}
+
+// Rowe (1962), "The stress-dilatancy relation for static equilibrium of an assembly of particles in
+// contact", Proc. R. Soc. A 269: sin psi_m = (sin phi_m - sin phi_cv)/(1 - sin phi_m sin phi_cv), with
+// sin phi_m = (s1' - s3')/(s1' + s3' + 2 c' cot phi') as in Schanz et al. (1999), eqs. 14-16; the plastic
+// strains of each step give sin psi_m = -d eps_v^p / d gamma_p.
+TEST_CASE("Rowe's stress-dilatancy holds along a drained compression path after the cut-off rules",
+          "[hyperbolic_hardening]") {
+  for (int rule : {0, 1, 2}) {
+    for (double c : {0.0, 15.0}) {
+      const Overrides over{{"dilatancy_rule", rule}, {"friction_angle", 38.0}, {"critical_state_friction_angle", 31.0},
+                           {"cohesion", c}};
+      const auto model = make(over);
+      const double s3 = 150.0;
+      const SimulationResult r = simulate(DriverOptions{}, *model, drained_compression(s3, 30.0 * s3, 0.1, 800));
+      REQUIRE(r.ok());
+      const double e = power_law(over, "unloading_stiffness_ref", s3);
+      const double nu = param(over, "poissons_ratio_ur");
+      const double sphi = std::sin(degrees_to_radians(38.0));
+      const double scv = std::sin(degrees_to_radians(31.0));
+      const double c_cot = c / std::tan(degrees_to_radians(38.0));
+      double worst = 0.0;
+      int checked = 0, contracting = 0, dilating = 0;
+      for (std::size_t i = 1; i < r.steps.size(); ++i) {
+        const StepRecord& a = r.steps[i - 1];
+        const StepRecord& b = r.steps[i];
+        const double d1 = b.axial_stress - a.axial_stress, d3 = b.radial_stress - a.radial_stress;
+        const double pe1 = (b.axial_strain - a.axial_strain) - (d1 - 2.0 * nu * d3) / e;
+        const double pe3 = (b.radial_strain - a.radial_strain) - (d3 - nu * (d1 + d3)) / e;
+        const double dgamma = pe1 - 2.0 * pe3;
+        if (dgamma < 1e-6) continue;
+        const double measured = -(pe1 + 2.0 * pe3) / dgamma;
+        const double sphm = std::min(sphi, (b.axial_stress - b.radial_stress) / (b.axial_stress + b.radial_stress + 2.0 * c_cot));
+        double expected = (sphm - scv) / (1.0 - sphm * scv);
+        if (rule == 1) expected = std::max(0.0, expected);
+        if (rule == 2) expected = 0.0;
+        worst = std::max(worst, std::abs(measured - expected));
+        ++checked;
+        contracting += expected < -0.01;
+        dilating += expected > 0.01;
+      }
+      INFO("rule " << rule << ", c' = " << c << ": worst |sin psi error| " << worst << " over " << checked << " steps");
+      CHECK(checked > 300);
+      CHECK(worst < 1e-6);
+      if (rule == 0) CHECK(contracting > 5);
+      if (rule != 2) CHECK(dilating > 100);
+    }
+  }
+}
+
+TEST_CASE("hyperbolic_hardening tangent matches central differences on elastic, shear, cap and failure states",
+          "[hyperbolic_hardening]") {
+  const auto model = make({{"cohesion", 5.0}});
+  // Drained compression of a lightly overconsolidated sample: shear hardening, then the cap, then failure.
+  const SimulationResult nc = simulate(DriverOptions{}, *model, drained_compression(100.0, 110.0, 0.2, 400));
+  REQUIRE(nc.ok());
+  const SimulationResult heavy = simulate(DriverOptions{}, *model, drained_compression(100.0, 3000.0, 0.2, 400));
+  REQUIRE(heavy.ok());
+  CHECK(heavy.steps.back().q == Approx(failure_deviator({{"cohesion", 5.0}}, heavy.steps.back().radial_stress)).epsilon(1e-9));
+  CHECK(nc.steps.back().q == Approx(failure_deviator({{"cohesion", 5.0}}, nc.steps.back().radial_stress)).epsilon(1e-9));
+  Vec6 triaxial = Vec6::Zero();
+  triaxial << 2e-4, -0.6e-4, -0.6e-4, 0.0, 0.0, 0.0;
+  Vec6 general;
+  general << 1.5e-4, -0.4e-4, -0.7e-4, 0.8e-4, -0.3e-4, 0.5e-4;
+  struct Case {
+    const char* what;
+    MaterialState state;
+    Vec6 de;
+    int active;
+  };
+  MaterialState oc;
+  InitialConditions ic;
+  ic.stress = triaxial_stress(160.0, 100.0);
+  ic.overconsolidation_ratio = 4.0;
+  model->initialise(ic, oc);
+  // Normally consolidated at an anisotropic stress, loaded isotropically: the stress ratio falls, so
+  // only the cap yields. (At an isotropic state with gamma_p = 0 the shear locus is the q = 0 axis:
+  // any deviatoric perturbation yields in shear, and there is no derivative to check.)
+  MaterialState iso;
+  InitialConditions ici;
+  ici.stress = triaxial_stress(100.0, 60.0);
+  model->initialise(ici, iso);
+  Vec6 isotropic = Vec6::Zero();
+  isotropic.head<3>().setConstant(1e-4);
+  // First state where both surfaces are active; a state at failure near the end.
+  std::size_t both = 0;
+  while (both < nc.steps.size() && static_cast<int>(nc.steps[both].state[HyperbolicHardening::active_surfaces]) != 3) ++both;
+  REQUIRE(both < nc.steps.size());
+  const Case cases[] = {
+      {"elastic unloading", oc, -triaxial, 0},
+      {"shear hardening", oc, triaxial, 1},
+      {"shear hardening, general increment", oc, general, 1},
+      {"cap, isotropic increment", iso, isotropic, 2},
+      {"shear and cap", state_of(nc.steps[both + 5]), triaxial, 3},
+      {"shear and cap, general increment", state_of(nc.steps[both + 5]), general, 3},
+      {"Mohr-Coulomb failure", state_of(heavy.steps.back()), triaxial, 1},
+      {"Mohr-Coulomb failure, general increment", state_of(heavy.steps.back()), general, 1},
+      {"Mohr-Coulomb failure and cap", state_of(nc.steps.back()), triaxial, 3},
+      {"Mohr-Coulomb failure and cap, general increment", state_of(nc.steps.back()), general, 3},
+  };
+  for (const Case& c : cases) {
+    int active = -1;
+    const double err = tangent_error(*model, c.state, c.de, active);
+    INFO(c.what << ": relative tangent error " << err);
+    CHECK(active == c.active);
+    CHECK(err < triaxcal::test::kTangent);
+  }
+}
+
+TEST_CASE("undrained compression of a normally consolidated sample ends on the Mohr-Coulomb line",
+          "[hyperbolic_hardening]") {
+  const Overrides over;
+  const auto model = make(over);
+  TestProtocol p = drained_compression(200.0, kNotGiven, 0.2, 1000);
+  p.stages[0].drainage = Drainage::undrained;
+  const SimulationResult r = simulate(DriverOptions{}, *model, p);
+  REQUIRE(r.ok());
+  const StepRecord& end = r.steps.back();
+  CHECK(std::abs(end.volumetric_strain) < 1e-12);
+  // Mohr-Coulomb (common practice, no source): q = 2 sin phi/(1 - sin phi) s3' at failure, c' = 0.
+  CHECK(end.q == Approx(failure_deviator(over, end.radial_stress)).epsilon(1e-6));
+  CHECK(end.excess_pore_pressure == Approx(200.0 - end.radial_stress).epsilon(1e-9));
+  // Contractive at first (the cap), dilative beyond phi_cv: the pore pressure peaks and falls.
+  double peak_u = 0.0;
+  for (const StepRecord& s : r.steps) peak_u = std::max(peak_u, s.excess_pore_pressure);
+  CHECK(peak_u > 0.0);
+  CHECK(end.excess_pore_pressure < peak_u);
+}
+
+TEST_CASE("hyperbolic_hardening is registered and `triaxcal models hyperbolic_hardening` lists its parameters",
+          "[hyperbolic_hardening]") {
+  CHECK(&find_model("hyperbolic_hardening").info() == &HyperbolicHardening::model_info());
+  const auto r = triaxcal::test::run_cli("models hyperbolic_hardening", "hh_models");
+  CHECK(r.exit_code == 0);
+  for (const ParameterInfo& p : HyperbolicHardening::model_info().parameters) CHECK(r.out.find(p.name) != std::string::npos);
+  const auto all = triaxcal::test::run_cli("models", "hh_models_all");
+  CHECK(all.out.find("hyperbolic_hardening") != std::string::npos);
+}
