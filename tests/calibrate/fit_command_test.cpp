@@ -1,0 +1,145 @@
+// `triaxcal fit` end to end on the invented demo series (examples/calibrate): results load back into
+// `triaxcal simulate`, bad calibration files exit 2 with exact messages, Ctrl-C keeps the best point
+// and leaves no half-written file.
+
+#include <catch2/catch.hpp>
+
+#include <filesystem>
+#include <fstream>
+
+#include <nlohmann/json.hpp>
+
+#include "cli_run.hpp"
+
+using namespace triaxcal::test;
+namespace fs = std::filesystem;
+
+namespace {
+
+const std::string kSeries = source_path("examples/calibrate/demo_series.json");
+
+std::string calibration(const std::string& parameters, const std::string& tests, const std::string& options,
+                        int steps = 60) {
+  return R"({"format": "triaxcal-calibration", "version": 1, "description": "invented test case",
+  "series": ")" + kSeries + R"(", "model": "mohr_coulomb", "steps_per_shear_stage": )" + std::to_string(steps) +
+         R"(, "tests": )" + tests + R"(, "parameters": )" + parameters + R"(, "options": )" + options + "}";
+}
+
+const std::string kTests =
+    R"([{"specimen": "CD-50", "curves": ["deviator_stress", "volumetric_strain"]},
+        {"specimen": "CD-100", "curves": ["deviator_stress", "volumetric_strain"]},
+        {"specimen": "CD-200", "curves": ["deviator_stress", "volumetric_strain"]}])";
+
+std::string parameters(const std::string& phi = R"({"status": "free", "lower": 20, "upper": 45, "start": 30})",
+                       const std::string& tension = "0") {
+  return R"({"youngs_modulus": {"status": "free", "lower": 5000, "upper": 200000, "start": 15000, "scale": "log"},
+    "poissons_ratio": {"status": "free", "lower": 0.05, "upper": 0.45, "start": 0.25},
+    "cohesion": {"status": "free", "lower": 0, "upper": 30, "start": 2},
+    "friction_angle": )" + phi + R"(,
+    "dilation_angle": {"status": "free", "lower": 0, "upper": 20, "start": 2},
+    "tensile_strength": )" + tension + "}";
+}
+
+std::string write(const std::string& name, const std::string& text) {
+  std::ofstream(name) << text;
+  return name;
+}
+
+std::string error_of(const std::string& file) {
+  const CliResult r = run_cli("fit " + file + " --out fit_bad_out", "fit_bad");
+  CHECK(r.exit_code == 2);
+  CHECK(!fs::exists("fit_bad_out/" + fs::path(file).stem().string() + ".parameters.json"));
+  return r.err;
+}
+
+}  // namespace
+
+TEST_CASE("fit of the demo series writes a parameter set that triaxcal simulate loads unchanged, CSV and HDF5",
+          "[cli][fit]") {
+  fs::remove_all("fit_ok_out");
+  const std::string file = write("fit_ok.json", calibration(parameters(), kTests, R"({"local": "bobyqa", "seed": 3})"));
+  const CliResult r = run_cli("fit " + file + " --out fit_ok_out --threads 2 --report", "fit_ok");
+  INFO(r.out << r.err);
+  REQUIRE(r.exit_code == 0);
+  CHECK(r.out.find("Caution:") != std::string::npos);
+  CHECK(r.out.find("calibration of mohr_coulomb: converged") != std::string::npos);
+  for (const char* f : {"fit_ok.parameters.json", "fit_ok.curves.csv", "fit_ok.h5", "fit_ok.report.txt"})
+    CHECK(fs::exists(fs::path("fit_ok_out") / f));
+  const auto json = nlohmann::json::parse(slurp("fit_ok_out/fit_ok.parameters.json"));
+  // The demo data were made with E' = 25000 kPa, phi' = 34 deg, psi = 5 deg (invented) plus noise.
+  CHECK(json["parameters"]["youngs_modulus"]["value"].get<double>() == Approx(25000).epsilon(0.02));
+  CHECK(json["parameters"]["friction_angle"]["value"].get<double>() == Approx(34).epsilon(0.02));
+  CHECK(json["parameters"]["dilation_angle"]["value"].get<double>() == Approx(5).epsilon(0.05));
+  CHECK(json["provenance"]["inputs"].size() == 5);
+  CHECK(json["provenance"]["inputs"][0]["sha256"].get<std::string>().size() == 64);
+  CHECK(json["caution"].get<std::string>().rfind("Caution:", 0) == 0);
+  const CliResult sim = run_cli("simulate --model mohr_coulomb --params fit_ok_out/fit_ok.parameters.json --protocol " +
+                                    source_path("examples/simulate/cd_100.json"),
+                                "fit_ok_sim");
+  INFO(sim.err);
+  CHECK(sim.exit_code == 0);
+}
+
+TEST_CASE("bad calibration files exit 2 with exact messages and write nothing", "[cli][fit][errors]") {
+  const std::string known = "youngs_modulus, poissons_ratio, cohesion, friction_angle, dilation_angle, tensile_strength";
+  {
+    std::string p = parameters();
+    p.insert(1, R"("angle_of_repose": 3, )");
+    const std::string f = write("fit_bad_unknown.json", calibration(p, kTests, "{}"));
+    CHECK(error_of(f) == "triaxcal: error: " + f + ": parameters.angle_of_repose: mohr_coulomb has no parameter "
+                                                   "'angle_of_repose' (known: " + known + ")\n");
+  }
+  {
+    const std::string f = write("fit_bad_reversed.json",
+                                calibration(parameters(R"({"status": "free", "lower": 40, "upper": 25})"), kTests, "{}"));
+    CHECK(error_of(f) == "triaxcal: error: " + f + ": parameters.friction_angle: lower = 40 must be below upper = 25 (deg)\n");
+  }
+  {
+    const std::string f = write("fit_bad_start.json",
+                                calibration(parameters(R"({"status": "free", "lower": 25, "upper": 40, "start": 50})"), kTests, "{}"));
+    CHECK(error_of(f) == "triaxcal: error: " + f + ": parameters.friction_angle: start = 50 is outside the bounds [25, 40] (deg)\n");
+  }
+  {
+    const std::string f = write(
+        "fit_bad_tie.json",
+        calibration(parameters(R"({"status": "free", "lower": 25, "upper": 40})",
+                               R"({"status": "tied", "expression": "0.1 * cohesion_ref"})"),
+                    kTests, "{}"));
+    CHECK(error_of(f) == "triaxcal: error: " + f +
+                             ": parameters.tensile_strength.expression: unknown name 'cohesion_ref' in \"0.1 * cohesion_ref\" "
+                             "(known: " + known + ")\n");
+  }
+  {
+    const std::string f = write("fit_bad_test.json",
+                                calibration(parameters(), R"([{"specimen": "CD-999", "curves": ["deviator_stress"]}])", "{}"));
+    CHECK(error_of(f) == "triaxcal: error: " + f + ": tests[0].specimen: \"CD-999\" is not in the test series " + kSeries +
+                             " (known: CD-50, CD-100, CD-200)\n");
+  }
+  {
+    const std::string f = write("fit_bad_key.json", calibration(parameters(), kTests, R"({"globl": "crs2"})"));
+    CHECK(error_of(f) == "triaxcal: error: " + f + ": options.globl: unknown key 'globl' (expected one of: global, "
+                                                   "global_evaluations, local, local_evaluations, starts, design_points, "
+                                                   "relative_tolerance, x_tolerance, max_seconds, seed, threads, loss, "
+                                                   "loss_scale, failure_penalty, uncertainty, jacobian_step, correlation_warning)\n");
+  }
+}
+
+TEST_CASE("Ctrl-C during a fit stops cleanly, keeps the best point so far and leaves no half-written file",
+          "[cli][fit][interrupt]") {
+  fs::remove_all("fit_int_out");
+  // A global stage far longer than the test waits, so the interrupt arrives during the fit.
+  const std::string f = write("fit_int.json", calibration(parameters(), kTests,
+                                                          R"({"global": "crs2", "global_evaluations": 1000000, "max_seconds": 60})", 150));
+  const std::string cmd = std::string(TRIAXCAL_CLI) + " fit " + f +
+                          " --out fit_int_out >fit_int.out 2>fit_int.err & pid=$!; sleep 1; kill -INT $pid; wait $pid; "
+                          "echo $? >fit_int.rc";
+  REQUIRE(std::system(("sh -c '" + cmd + "'").c_str()) == 0);
+  INFO(slurp("fit_int.out") << slurp("fit_int.err"));
+  CHECK(std::stoi(slurp("fit_int.rc")) == 0);
+  CHECK(slurp("fit_int.out").find("stopped") != std::string::npos);
+  const auto json = nlohmann::json::parse(slurp("fit_int_out/fit_int.parameters.json"));
+  CHECK(json["fit"]["termination"] == "stopped");
+  CHECK(fs::exists("fit_int_out/fit_int.h5"));
+  for (const auto& entry : fs::directory_iterator("fit_int_out"))
+    CHECK(entry.path().filename().string().find(".tmp") == std::string::npos);
+}
