@@ -30,6 +30,7 @@ struct InterpretOptions {
   double design_stress = kNotGiven;  ///< largest normal effective stress of the design problem (kPa)
   double reference_pressure = 100.0; ///< p_ref of E = E_ref (s3'/p_ref)^m (kPa)
   bool curved_envelope = true;       ///< also fit t = a_p p_ref (s'/p_ref)^b
+  std::string material;              ///< only specimens of this material (empty: all)
 
   /// Throws InputError naming the field, its value and the rule.
   void validate() const;
@@ -130,6 +131,7 @@ struct StiffnessLaw {
 struct Interpretation {
   std::string series;
   InterpretOptions options;
+  std::vector<std::string> materials;  ///< materials of the specimens interpreted
   std::vector<StageInterpretation> stages;
   // UU
   int uu_count = 0;

@@ -105,6 +105,7 @@ struct Specimen {
   std::string depth;     ///< free text, as in the lab report
   std::string borehole;  ///< free text
   std::string description;
+  std::string material;  ///< soil unit label (free text); interpretation groups by it
   double height = kNotGiven;    ///< initial height after set-up (mm)
   double diameter = kNotGiven;  ///< initial diameter after set-up (mm)
   double void_ratio = kNotGiven;        ///< e0 after set-up (given, or w Gs / Sr)

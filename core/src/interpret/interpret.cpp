@@ -421,6 +421,9 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
   res.series = series.source;
   res.options = o;
   for (const Specimen& sp : series.specimens) {
+    if (!o.material.empty() && sp.material != o.material) continue;
+    if (std::find(res.materials.begin(), res.materials.end(), sp.material) == res.materials.end())
+      res.materials.push_back(sp.material);
     if (given(sp.b_value)) res.b_values.push_back({sp.id, sp.b_value});
     for (int k : sp.shear_stages()) {
       StageInterpretation r;
@@ -460,6 +463,15 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
       if (given(cm.lambda) || given(cm.kappa)) res.compressibility.push_back(cm);
     }
   }
+  if (!o.material.empty() && res.materials.empty()) {
+    std::string list;
+    for (const Specimen& sp : series.specimens)
+      if (list.find("'" + sp.material + "'") == std::string::npos) list += (list.empty() ? "" : ", ") + ("'" + sp.material + "'");
+    throw InputError(series.source + ": no specimen has material '" + o.material + "' (found: " + list + ")");
+  }
+  if (res.materials.size() > 1)
+    res.warnings.push_back("the specimens belong to " + std::to_string(res.materials.size()) +
+                           " materials; envelopes and laws mix them (select one with the material option)");
   // UU.
   {
     std::vector<double> cu;

@@ -55,6 +55,7 @@ std::string interpretation_json(const Interpretation& r) {
   root["version"] = 1;
   root["series"] = r.series;
   root["criterion"] = to_string(r.options.criterion);
+  root["materials"] = r.materials;
   if (r.options.criterion == FailureCriterion::limiting_strain) root["limiting_strain"] = q(r.options.limiting_strain, "-");
   root["stress_range"] = {{"low", q(r.options.stress_low, "kPa")}, {"high", q(r.options.stress_high, "kPa")}};
   root["design_stress"] = q(r.options.design_stress, "kPa");
@@ -149,6 +150,7 @@ std::string interpretation_json(const Interpretation& r) {
 std::string interpretation_text(const Interpretation& r) {
   std::ostringstream o;
   char line[512];
+  if (!r.options.material.empty()) o << "Material: " << r.options.material << "\n";
   o << "Failure points (criterion " << to_string(r.options.criterion) << "; both common criteria side by side)\n";
   std::snprintf(line, sizeof line, "  %-10s %5s %-4s %-4s %9s | %9s %9s %9s | %9s %9s %9s | %8s %9s %9s\n", "specimen", "stage", "test",
                 "dir", "s3'c[kPa]", "eps_a[-]", "s'[kPa]", "t[kPa]", "eps_a[-]", "s'[kPa]", "t[kPa]", "cu[kPa]", "E50[kPa]", "A_f[-]");

@@ -300,7 +300,7 @@ ParsedSeries parse_series_json(const std::string& path) {
     const json& o = list[i];
     detail::check_keys(o, {"id", "borehole", "depth", "description", "height", "diameter", "void_ratio", "water_content",
                            "specific_gravity", "degree_of_saturation", "relative_density", "initial_effective_stress",
-                           "stages", "data"},
+                           "stages", "data", "material"},
                        src, sp);
     Specimen s;
     s.id = detail::get_string(o, "id", src, sp);
@@ -311,6 +311,7 @@ ParsedSeries parse_series_json(const std::string& path) {
     s.borehole = detail::get_string_or(o, "borehole", "", src, sp);
     s.depth = detail::get_string_or(o, "depth", "", src, sp);
     s.description = detail::get_string_or(o, "description", "", src, sp);
+    s.material = detail::get_string_or(o, "material", "", src, sp);
     s.height = positive(o, "height", src, sp, true);
     s.diameter = positive(o, "diameter", src, sp, true);
     s.void_ratio = positive(o, "void_ratio", src, sp, false);
@@ -580,7 +581,14 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
     c.axial_stress.push_back(sa);
     c.mean_stress.push_back(given(sr) ? sr + q / 3.0 : kNotGiven);
     c.cell_pressure.push_back(cell);
-    c.void_ratio.push_back(given(s.reference_void_ratio) ? void_ratio_after(s.reference_void_ratio, ev[i]) : kNotGiven);
+    // A consolidation between the data zero and this stage with no rows in the file and no volume
+    // column leaves the volume change unknown.
+    bool volume_known = true;
+    for (int j = s.data_zero_stage + 1; j < k; ++j)
+      if (s.stages[static_cast<std::size_t>(j)].type == SpecimenStageType::consolidation && !vcol &&
+          std::find(stage.begin(), stage.end(), j) == stage.end())
+        volume_known = false;
+    c.void_ratio.push_back(given(s.reference_void_ratio) && volume_known ? void_ratio_after(s.reference_void_ratio, ev[i]) : kNotGiven);
   }
   // Per-stage checks.
   for (std::size_t k = 0; k < s.stages.size(); ++k) {

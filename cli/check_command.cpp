@@ -1,0 +1,67 @@
+#include <cstdio>
+#include <memory>
+
+#include "commands.hpp"
+#include "triaxcal/series.hpp"
+
+namespace triaxcal::cli {
+
+namespace {
+
+std::string num(double v, int decimals) {
+  if (std::isnan(v)) return "-";
+  char buf[64];
+  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
+  return buf;
+}
+
+int run_check(const std::string& path) {
+  const SeriesCheck check = check_test_series(path);
+  const TestSeries& s = check.series;
+  if (!s.specimens.empty()) {
+    std::printf("%s%s%s: %zu specimen(s) read\n", path.c_str(), s.name.empty() ? "" : " - ", s.name.c_str(), s.specimens.size());
+    std::printf("  %-10s %-5s %-4s %-4s %6s %10s %10s %10s %10s %10s %8s\n", "specimen", "stage", "test", "dir", "points",
+                "eps_a[-]", "p'[kPa]", "q[kPa]", "du[kPa]", "e_v[-]", "e[-]");
+    for (const Specimen& sp : s.specimens) {
+      for (int k : sp.shear_stages()) {
+        const auto [first, last] = sp.stage_points(k);
+        const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
+        if (first > last) continue;
+        const std::size_t e = static_cast<std::size_t>(last);
+        const ReducedCurves& c = sp.curves;
+        std::printf("  %-10s %-5d %-4s %-4s %6d %10s %10s %10s %10s %10s %8s\n", sp.id.c_str(), k, to_string(st.shear).c_str(),
+                    st.direction == ShearDirection::compression ? "comp" : "ext", last - first + 1,
+                    num(c.axial_strain[e], 4).c_str(), num(c.mean_stress[e], 1).c_str(), num(c.deviator_stress[e], 1).c_str(),
+                    num(c.excess_pore_pressure[e], 1).c_str(), num(c.volumetric_strain[e], 4).c_str(),
+                    num(c.void_ratio[e], 3).c_str());
+      }
+    }
+    std::printf("  (end state of each shear stage; strains from the data zero; compression positive)\n");
+  }
+  if (!s.warnings.empty()) {
+    std::printf("\n%zu warning(s):\n", s.warnings.size());
+    for (const SeriesWarning& w : s.warnings) std::printf("  warning: %s\n", w.message.c_str());
+  }
+  if (!check.errors.empty()) {
+    std::fprintf(stderr, "%zu error(s):\n", check.errors.size());
+    for (const std::string& e : check.errors) std::fprintf(stderr, "triaxcal: error: %s\n", e.c_str());
+    return exit_bad_input;
+  }
+  std::printf("\nno errors\n");
+  return exit_ok;
+}
+
+void add_check_command(CLI::App& app, Action& action) {
+  auto path = std::make_shared<std::string>();
+  auto* cmd = app.add_subcommand("check",
+                                 "Read a test-series file and its data files, reduce the data and report errors "
+                                 "(exit 2) and warnings; print the reduced end state of every shear stage");
+  cmd->add_option("series", *path, "Test-series JSON (format triaxcal-test-series)")->required();
+  cmd->callback([&action, path] { action = [path] { return run_check(*path); }; });
+}
+
+const CommandRegistration registration{"check", 20, &add_check_command};
+
+}  // namespace
+
+}  // namespace triaxcal::cli

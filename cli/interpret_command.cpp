@@ -1,0 +1,104 @@
+#include <cmath>
+#include <cstdio>
+#include <memory>
+
+#include "commands.hpp"
+#include "triaxcal/atomic_file.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/interpret.hpp"
+#include "triaxcal/series.hpp"
+
+namespace triaxcal::cli {
+
+namespace {
+
+struct InterpretCliOptions {
+  std::string series;
+  std::string criterion = "max-deviator";
+  std::string stress_range;
+  double design_stress = std::nan("");
+  double reference_pressure = 100.0;
+  std::string out;
+  std::string material;
+};
+
+double parse_number(const std::string& text, const std::string& option) {
+  std::size_t used = 0;
+  double v = 0.0;
+  try {
+    v = std::stod(text, &used);
+  } catch (const std::exception&) {
+    used = 0;
+  }
+  if (used == 0 || used != text.size() || !std::isfinite(v))
+    throw InputError(option + ": '" + text + "' is not a number");
+  return v;
+}
+
+InterpretOptions to_options(const InterpretCliOptions& c) {
+  InterpretOptions o;
+  if (c.criterion == "max-deviator") o.criterion = FailureCriterion::max_deviator;
+  else if (c.criterion == "max-stress-ratio") o.criterion = FailureCriterion::max_stress_ratio;
+  else if (c.criterion == "end") o.criterion = FailureCriterion::end_of_test;
+  else if (c.criterion.rfind("strain:", 0) == 0) {
+    o.criterion = FailureCriterion::limiting_strain;
+    o.limiting_strain = parse_number(c.criterion.substr(7), "--criterion strain:");
+    if (!(o.limiting_strain > 0.0 && o.limiting_strain < 1.0))
+      throw InputError("--criterion: strain:" + c.criterion.substr(7) + " must be a decimal axial strain in (0, 1), e.g. strain:0.15");
+  } else {
+    throw InputError("--criterion: '" + c.criterion + "' (expected max-deviator, max-stress-ratio, strain:EPS or end)");
+  }
+  if (!c.stress_range.empty()) {
+    const auto colon = c.stress_range.find(':');
+    if (colon == std::string::npos)
+      throw InputError("--stress-range: '" + c.stress_range + "' (expected LO:HI in kPa of s' at failure, e.g. 50:400)");
+    o.stress_low = parse_number(c.stress_range.substr(0, colon), "--stress-range LO");
+    o.stress_high = parse_number(c.stress_range.substr(colon + 1), "--stress-range HI");
+    if (!(o.stress_low >= 0.0 && o.stress_high > o.stress_low))
+      throw InputError("--stress-range: '" + c.stress_range + "' (expected 0 <= LO < HI, kPa)");
+  }
+  o.design_stress = c.design_stress;
+  if (!std::isnan(o.design_stress) && !(o.design_stress > 0.0))
+    throw InputError("--design-stress: " + std::to_string(o.design_stress) + " must be positive (kPa)");
+  o.reference_pressure = c.reference_pressure;
+  o.material = c.material;
+  o.validate();
+  return o;
+}
+
+int run_interpret(const InterpretCliOptions& c) {
+  const InterpretOptions options = to_options(c);
+  const TestSeries series = read_test_series(c.series);
+  for (const SeriesWarning& w : series.warnings) std::fprintf(stderr, "triaxcal: warning: %s\n", w.message.c_str());
+  const Interpretation result = interpret(series, options);
+  std::printf("%s: %zu specimen(s), %zu shear stage(s)\n\n", c.series.c_str(), series.specimens.size(), result.stages.size());
+  std::fputs(interpretation_text(result).c_str(), stdout);
+  if (!c.out.empty()) {
+    write_file_atomically(c.out, interpretation_json(result));
+    std::printf("\nresults written to %s\n", c.out.c_str());
+  }
+  std::printf("\n%s\n", kCaution);
+  return exit_ok;
+}
+
+void add_interpret_command(CLI::App& app, Action& action) {
+  auto o = std::make_shared<InterpretCliOptions>();
+  auto* cmd = app.add_subcommand("interpret",
+                                 "Classical interpretation of a test series: failure points, c_u, c'/phi' envelopes with a design "
+                                 "line, stiffness, dilatancy, critical state, Skempton A and B");
+  cmd->add_option("series", o->series, "Test-series JSON (format triaxcal-test-series)")->required();
+  cmd->add_option("--criterion", o->criterion, "Failure criterion: max-deviator (default), max-stress-ratio, strain:EPS (decimal) or end");
+  cmd->add_option("--stress-range", o->stress_range, "Use failure points with s' in LO:HI (kPa) for the envelope");
+  cmd->add_option("--design-stress", o->design_stress,
+                  "Largest normal effective stress of the design problem (kPa); tests far above it are flagged");
+  cmd->add_option("--reference-pressure", o->reference_pressure, "p_ref of the stiffness law E = E_ref (s3'/p_ref)^m (kPa, default 100)");
+  cmd->add_option("--material", o->material, "Interpret only the specimens of this material (the series' material labels)");
+  cmd->add_option("--out", o->out, "JSON result file (written atomically; every number with its unit)");
+  cmd->callback([&action, o] { action = [o] { return run_interpret(*o); }; });
+}
+
+const CommandRegistration registration{"interpret", 25, &add_interpret_command};
+
+}  // namespace
+
+}  // namespace triaxcal::cli
