@@ -141,6 +141,68 @@ void TaskPool::run(int n, const std::function<void(int)>& task) {
   done_.wait(lock, [&] { return busy_ == 0; });
 }
 
+namespace {
+
+// Splits x(begin..end) into monotone runs with hysteresis `tol`: a reversal counts once x has come
+// back more than tol from the running extreme. starts[k] is the first index of run k; consecutive
+// runs share their turning point.
+template <typename F>
+void split_runs(std::size_t begin, std::size_t end, F x, double tol, std::vector<std::size_t>& starts) {
+  starts.clear();
+  starts.push_back(begin);
+  int dir = 0;
+  std::size_t extreme = begin;
+  for (std::size_t j = begin + 1; j <= end; ++j) {
+    const double d = x(j) - x(extreme);
+    if (dir == 0) {
+      if (std::abs(d) > tol) {
+        dir = d > 0 ? 1 : -1;
+        extreme = j;
+      }
+    } else if (d * dir >= 0.0) {
+      extreme = j;
+    } else if (std::abs(d) > tol) {
+      starts.push_back(extreme);
+      dir = -dir;
+      extreme = j;
+    }
+  }
+}
+
+// Interpolates y at xi on the records [a, b] from `cursor` on; false when no segment contains xi.
+template <typename FX, typename FY>
+bool bracket(std::size_t& cursor, std::size_t b, double xi, FX X, FY Y, double& out) {
+  double xa = X(cursor);
+  for (std::size_t j = cursor; j < b; ++j) {
+    const double xb = X(j + 1);
+    if ((xa <= xi && xi <= xb) || (xb <= xi && xi <= xa)) {
+      const double t = xb == xa ? 0.0 : (xi - xa) / (xb - xa);
+      const double ya = Y(j);
+      out = ya + t * (Y(j + 1) - ya);
+      cursor = j;
+      return true;
+    }
+    xa = xb;
+  }
+  return false;
+}
+
+template <typename FX, typename FY>
+double nearest(std::size_t a, std::size_t b, double xi, FX X, FY Y) {
+  std::size_t best = a;
+  double distance = std::numeric_limits<double>::infinity();
+  for (std::size_t j = a; j <= b; ++j) {
+    const double d = std::abs(X(j) - xi);
+    if (d < distance) {
+      distance = d;
+      best = j;
+    }
+  }
+  return Y(best);
+}
+
+}  // namespace
+
 // ---------------------------------------------------------------------------------------------
 // Prepared problem
 
@@ -356,6 +418,12 @@ Prepared prepare(const CalibrationProblem& problem) {
                          format_number(m.x_max) + "]");
       const auto [lo, hi] = std::minmax_element(pc.ys.begin(), pc.ys.end());
       pc.range = std::max(*hi - *lo, range_floor(m.y));
+      {
+        const auto [xlo, xhi] = std::minmax_element(pc.xs.begin(), pc.xs.end());
+        pc.x_span = *xhi - *xlo;
+        // Measured reversals smaller than 0.1 % of the x span are scatter, not a loop.
+        split_runs(0, pc.xs.size() - 1, [&](std::size_t j) { return pc.xs[j]; }, 1e-3 * pc.x_span, pc.runs);
+      }
       const double np = static_cast<double>(pc.xs.size());
       pc.weight = test.weight * m.weight / np;
       double mean = 0.0;
@@ -375,10 +443,12 @@ Prepared prepare(const CalibrationProblem& problem) {
 // ---------------------------------------------------------------------------------------------
 // Curve comparison
 
-// The simulated curve as a polyline in time order; each measured point (also in time order) is
-// matched on the first segment, from the previous match onward, whose x interval contains it. This
-// follows unload-reload loops and multi-stage histories without ambiguity. A point no segment
-// contains (beyond the simulated range) takes the value of the nearest simulated point in x.
+// Both curves are split into monotone runs of x (loading, unloading, reloading ...). When they have
+// the same number of runs, run k of the measured points is compared with run k of the simulation,
+// so an unload-reload loop is matched branch by branch even where the simulated loop is narrower
+// or wider than the measured one; a point beyond its simulated run takes the run's nearest value.
+// Otherwise each point (in time order) is matched on the first simulated segment, from the previous
+// match onward, that contains it, or else on the nearest simulated point in x.
 void interpolate_curve(const SimulationResult& result, const PreparedCurve& curve, double* out) {
   const auto& steps = result.steps;
   // Record at the start of stage s: the last record of the stage before (record 0 for stage 0).
@@ -398,36 +468,23 @@ void interpolate_curve(const SimulationResult& result, const PreparedCurve& curv
   const double y0 = shift_y ? value_of(base, curve.y) : 0.0;
   auto X = [&](std::size_t j) { return value_of(steps[j], curve.x) - x0; };
   auto Y = [&](std::size_t j) { return value_of(steps[j], curve.y) - y0; };
-  std::size_t cursor = first;
   const std::size_t n = curve.xs.size();
-  for (std::size_t i = 0; i < n; ++i) {
-    const double xi = curve.xs[i];
-    bool found = false;
-    double xa = X(cursor);
-    for (std::size_t j = cursor; j < last; ++j) {
-      const double xb = X(j + 1);
-      if ((xa <= xi && xi <= xb) || (xb <= xi && xi <= xa)) {
-        const double t = xb == xa ? 0.0 : (xi - xa) / (xb - xa);
-        const double ya = Y(j);
-        out[i] = ya + t * (Y(j + 1) - ya);
-        cursor = j;
-        found = true;
-        break;
-      }
-      xa = xb;
+  thread_local std::vector<std::size_t> runs;
+  const double sim_range = std::abs(X(last) - X(first)) + 1e-300;
+  split_runs(first, last, X, 1e-9 * std::max(sim_range, curve.x_span), runs);
+  if (runs.size() == curve.runs.size() && runs.size() > 1) {
+    for (std::size_t k = 0; k < runs.size(); ++k) {
+      const std::size_t a = runs[k], b = k + 1 < runs.size() ? runs[k + 1] : last;
+      const std::size_t p0 = curve.runs[k], p1 = k + 1 < curve.runs.size() ? curve.runs[k + 1] : n;
+      std::size_t cursor = a;
+      for (std::size_t i = p0; i < p1; ++i)
+        if (!bracket(cursor, b, curve.xs[i], X, Y, out[i])) out[i] = nearest(a, b, curve.xs[i], X, Y);
     }
-    if (found) continue;
-    std::size_t best = cursor;
-    double distance = std::numeric_limits<double>::infinity();
-    for (std::size_t j = cursor; j <= last; ++j) {
-      const double d = std::abs(X(j) - xi);
-      if (d < distance) {
-        distance = d;
-        best = j;
-      }
-    }
-    out[i] = Y(best);
+    return;
   }
+  std::size_t cursor = first;
+  for (std::size_t i = 0; i < n; ++i)
+    if (!bracket(cursor, last, curve.xs[i], X, Y, out[i])) out[i] = nearest(cursor, last, curve.xs[i], X, Y);
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -49,6 +49,8 @@ struct PreparedCurve {
   int zero_stage = -1;
   std::vector<double> xs, ys;
   double range = 1.0;        ///< normalisation (unit of y)
+  double x_span = 0.0;       ///< max - min of the measured x
+  std::vector<std::size_t> runs;  ///< first point of each monotone run of x (see interpolate_curve)
   double weight = 0.0;       ///< w_test * w_curve / n (objective weight of e^2)
   double sst = 0.0;          ///< sum of squares about the mean, for R^2
 };
