@@ -105,19 +105,25 @@ void TaskPool::drain() {
   }
 }
 
+// Evaluations follow each other within microseconds during a fit, so the threads spin briefly
+// (about 50 us) before sleeping: a condition-variable wake-up costs as much as a short simulation.
+constexpr int kSpins = 20000;
+
 void TaskPool::work() {
   long seen = 0;
   for (;;) {
-    {
+    bool ready = false;
+    for (int i = 0; i < kSpins && !ready; ++i) ready = quit_.load() || generation_.load() != seen;
+    if (!ready) {
       std::unique_lock<std::mutex> lock(mutex_);
-      wake_.wait(lock, [&] { return quit_ || generation_ != seen; });
-      if (quit_) return;
-      seen = generation_;
+      wake_.wait(lock, [&] { return quit_.load() || generation_.load() != seen; });
     }
+    if (quit_.load()) return;
+    seen = generation_.load();
     drain();
-    {
+    if (busy_.fetch_sub(1) == 1) {
       std::lock_guard<std::mutex> lock(mutex_);
-      if (--busy_ == 0) done_.notify_one();
+      done_.notify_one();
     }
   }
 }
@@ -132,13 +138,15 @@ void TaskPool::run(int n, const std::function<void(int)>& task) {
     task_ = &task;
     count_ = n;
     next_.store(0);
-    busy_ = static_cast<int>(workers_.size());
-    ++generation_;
+    busy_.store(static_cast<int>(workers_.size()));
+    generation_.fetch_add(1);
   }
   wake_.notify_all();
   drain();
+  for (int i = 0; i < kSpins; ++i)
+    if (busy_.load() == 0) return;
   std::unique_lock<std::mutex> lock(mutex_);
-  done_.wait(lock, [&] { return busy_ == 0; });
+  done_.wait(lock, [&] { return busy_.load() == 0; });
 }
 
 namespace {

@@ -36,9 +36,9 @@ class TaskPool {
   const std::function<void(int)>* task_ = nullptr;
   int count_ = 0;
   std::atomic<int> next_{0};
-  long generation_ = 0;
-  int busy_ = 0;
-  bool quit_ = false;
+  std::atomic<long> generation_{0};
+  std::atomic<int> busy_{0};
+  std::atomic<bool> quit_{false};
 };
 
 /// One compared curve of a test, points already filtered by the x range.
