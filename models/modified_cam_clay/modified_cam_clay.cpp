@@ -272,6 +272,8 @@ IntegrationResult ModifiedCamClay::integrate(const MaterialState& in, const Vec6
 
   out.internal[volumetric_strain] = in.internal[volumetric_strain] + dev;
   out.internal[void_ratio] = e0 - (1.0 + e0) * out.internal[volumetric_strain];
+  // No pore space left: the parameters and e0 do not describe this stress range.
+  if (!(out.internal[void_ratio] > 0.0)) return {Status::invalid_input, 0};
 
   if (f_tr <= kYieldTolerance * pc2) {
     out.stress = s_tr + p_tr * one;

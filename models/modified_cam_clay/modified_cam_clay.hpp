@@ -15,6 +15,8 @@
 // protocol (kept as the state variable `reference_void_ratio`), and e = e0 - (1 + e0) eps_v (state
 // variable `void_ratio`, identical to the driver's). Both laws are integrated exactly over an
 // increment (exponential update), so e-ln p' slopes hold to round-off whatever the increment size.
+// An increment that would bring e to zero or below returns Status::invalid_input (the driver then
+// stops with its failure report): lambda, kappa and e0 do not fit that stress range.
 //
 // Shear modulus: either constant (`shear_modulus` > 0) or from Poisson's ratio,
 // G = 3 (1 - 2 nu) K / (2 (1 + nu)), evaluated at p' at the start of the increment (constant over

@@ -522,3 +522,15 @@ TEST_CASE("triaxcal simulate runs modified_cam_clay, and a protocol without void
         "triaxcal: error: modified_cam_clay: initial.void_ratio is required (the void ratio e0 at the start of the "
         "protocol)\n");
 }
+
+TEST_CASE("MCC returns invalid_input for an increment that would bring the void ratio to zero") {
+  const auto mcc = default_mcc();
+  MaterialState out;
+  Mat6 t;
+  const auto in = state_at(triaxial_stress(100.0, 100.0), 100.0);
+  // e = e0 - (1 + e0) eps_v: eps_v = e0/(1 + e0) = 0.524 empties the pores.
+  const double ev = 0.53 / 3.0;
+  CHECK(mcc->integrate(in, vec(ev, ev, ev), out, t).status == Status::invalid_input);
+  CHECK(mcc->integrate(in, vec(0.1, 0.1, 0.1), out, t).status == Status::ok);
+  CHECK(close(out.internal[2], kE0 - (1.0 + kE0) * 0.3, 1e-12, 0.0));
+}
