@@ -82,8 +82,9 @@ int run(const FitOptions& o) {
   }
   auto create = entry->create;
   const std::string where = o.calibration;
-  const CalibrationProblem problem =
+  CalibrationProblem problem =
       build_calibration_problem(file, series, entry->info(), [create, where](const ParameterValues& v) { return create(v, where); });
+  for (const std::string& note : seed_starts_from_interpretation(problem, series)) std::printf("%s\n", note.c_str());
 
   namespace fs = std::filesystem;
   const std::string stem = fs::path(o.calibration).stem().string();

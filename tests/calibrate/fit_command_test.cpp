@@ -143,3 +143,23 @@ TEST_CASE("Ctrl-C during a fit stops cleanly, keeps the best point so far and le
   for (const auto& entry : fs::directory_iterator("fit_int_out"))
     CHECK(entry.path().filename().string().find(".tmp") == std::string::npos);
 }
+
+TEST_CASE("free parameters without a start take theirs from the classical interpretation of the series",
+          "[cli][fit][interpretation]") {
+  fs::remove_all("fit_seed_out");
+  const std::string p = R"({"youngs_modulus": {"status": "free", "lower": 5000, "upper": 200000, "scale": "log"},
+    "poissons_ratio": {"status": "free", "lower": 0.05, "upper": 0.45, "start": 0.25},
+    "cohesion": {"status": "free", "lower": 0, "upper": 30},
+    "friction_angle": {"status": "free", "lower": 20, "upper": 45},
+    "dilation_angle": {"status": "free", "lower": 0, "upper": 20, "start": 2}})";
+  const std::string f = write("fit_seed.json", calibration(p, kTests, "{}"));
+  const CliResult r = run_cli("fit " + f + " --out fit_seed_out", "fit_seed");
+  INFO(r.out << r.err);
+  REQUIRE(r.exit_code == 0);
+  CHECK(r.out.find("friction_angle: start ") != std::string::npos);
+  CHECK(r.out.find("youngs_modulus: start ") != std::string::npos);
+  CHECK(r.out.find("dilation_angle: start ") == std::string::npos);  // it has a start of its own
+  // The interpretation of the invented demo data gives phi' close to the 34 deg they were made with.
+  const auto pos = r.out.find("friction_angle: start ");
+  CHECK(std::stod(r.out.substr(pos + 22)) == Approx(34).margin(1.5));
+}

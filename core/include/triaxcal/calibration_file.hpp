@@ -50,9 +50,18 @@ TRIAXCAL_CORE_EXPORT CalibrationFile read_calibration_file(const std::string& pa
 /// The problem of `file` on `series`: each test is its specimen's protocol (specimen_protocol) and
 /// its measured curves, strains zeroed where the series zeroes them. Throws InputError naming the
 /// calibration file: "<source>: tests[i].specimen: ...", "<source>: parameters.<name>: ...".
-/// Hook: starting values and bounds from the classical interpretation are not filled in yet; a
-/// free parameter without "start" starts in the middle of its box.
+/// A free parameter without "start" starts in the middle of its box unless
+/// seed_starts_from_interpretation gives it one.
 TRIAXCAL_CORE_EXPORT CalibrationProblem build_calibration_problem(const CalibrationFile& file, const TestSeries& series,
                                                                   const ModelInfo& model, ModelFactory create);
+
+/// Starting values from the classical interpretation of the series (interpret.hpp) for free
+/// parameters that have none, by parameter name: friction_angle and cohesion (s'-t envelope),
+/// dilation_angle (peak dilation rate), youngs_modulus (initial stiffness), secant_stiffness_ref,
+/// stress_exponent and unloading_stiffness_ref (stiffness laws), critical_state_ratio and
+/// critical_state_friction_angle (critical states, Rowe), lambda and kappa (consolidation stages).
+/// Values are clamped into the bounds. Returns one line per parameter seeded. Bounds stay required.
+TRIAXCAL_CORE_EXPORT std::vector<std::string> seed_starts_from_interpretation(CalibrationProblem& problem,
+                                                                             const TestSeries& series);
 
 }  // namespace triaxcal

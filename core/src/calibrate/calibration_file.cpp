@@ -1,10 +1,12 @@
 #include "triaxcal/calibration_file.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <filesystem>
 
 #include "../json_checks.hpp"
 #include "triaxcal/error.hpp"
+#include "triaxcal/interpret.hpp"
 #include "triaxcal/parameters.hpp"
 
 namespace triaxcal {
@@ -281,6 +283,66 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
     throw InputError(src + ": " + e.what());
   }
   return p;
+}
+
+namespace {
+
+double mean_of(const std::vector<double>& v) {
+  double sum = 0.0;
+  int n = 0;
+  for (double x : v)
+    if (std::isfinite(x)) {
+      sum += x;
+      ++n;
+    }
+  return n > 0 ? sum / n : kNotGiven;
+}
+
+}  // namespace
+
+std::vector<std::string> seed_starts_from_interpretation(CalibrationProblem& problem, const TestSeries& series) {
+  std::vector<std::string> notes;
+  Interpretation in;
+  try {
+    in = interpret(series, InterpretOptions{});
+  } catch (const std::exception&) {
+    return notes;  // no interpretation, no seeds: the middle of each box
+  }
+  std::vector<double> dilation, initial_stiffness, lambdas, kappas;
+  for (const StageInterpretation& s : in.stages) {
+    if (s.test == ShearType::cd) dilation.push_back(s.dilation_angle);
+    if (s.test == ShearType::cd) initial_stiffness.push_back(s.initial_stiffness);
+  }
+  for (const auto& c : in.compressibility) {
+    lambdas.push_back(c.lambda);
+    kappas.push_back(c.kappa);
+  }
+  const StrengthEnvelope* env = in.envelopes.empty() ? nullptr : &in.envelopes.front();
+  auto seed_for = [&](const std::string& name) -> std::pair<double, std::string> {
+    if (name == "friction_angle" && env) return {env->phi, "s'-t envelope"};
+    if (name == "cohesion" && env) return {std::max(0.0, env->cohesion), "s'-t envelope"};
+    if (name == "dilation_angle") return {mean_of(dilation), "mean peak dilation of the CD stages"};
+    if (name == "youngs_modulus") return {mean_of(initial_stiffness), "mean initial stiffness of the CD stages"};
+    if (name == "secant_stiffness_ref") return {in.secant_law.reference, "secant stiffness law"};
+    if (name == "stress_exponent") return {in.secant_law.exponent, "secant stiffness law"};
+    if (name == "unloading_stiffness_ref") return {in.unload_reload_law.reference, "unload-reload stiffness law"};
+    if (name == "critical_state_ratio") return {in.critical_m, "critical states"};
+    if (name == "critical_state_friction_angle")
+      return std::isfinite(in.phi_cs) ? std::pair<double, std::string>{in.phi_cs, "critical states"}
+                                      : std::pair<double, std::string>{in.phi_cv_rowe, "Rowe's stress-dilatancy"};
+    if (name == "lambda") return {mean_of(lambdas), "consolidation stages"};
+    if (name == "kappa") return {mean_of(kappas), "consolidation stages"};
+    return {kNotGiven, ""};
+  };
+  for (ParameterSpec& p : problem.parameters) {
+    if (p.status != ParameterStatus::free || !std::isnan(p.start)) continue;
+    const auto [value, basis] = seed_for(p.name);
+    if (!std::isfinite(value)) continue;
+    p.start = std::clamp(value, p.lower, p.upper);
+    notes.push_back(p.name + ": start " + format_number(p.start) + " from the interpretation (" + basis + ")" +
+                    (p.start != value ? ", clamped from " + format_number(value) : ""));
+  }
+  return notes;
 }
 
 }  // namespace triaxcal
