@@ -1,7 +1,7 @@
 #include "hyperbolic_hardening/hyperbolic_hardening.hpp"
 
 #include <Eigen/Eigenvalues>
-#include <Eigen/LU>
+#include <bit>
 
 #include <algorithm>
 #include <cmath>
@@ -36,7 +36,6 @@ using hyperbolic::value;
 constexpr int kUnknowns = 5;  // three principal stresses and at most two multipliers
 using D5 = Dual<kUnknowns>;
 using Mat5 = Eigen::Matrix<double, kUnknowns, kUnknowns>;
-using Vec5 = Eigen::Matrix<double, kUnknowns, 1>;
 
 // Everything the return mapping needs at one principal stress and set of multipliers.
 template <class T>
@@ -50,13 +49,32 @@ struct Point {
   T sin_psi_m;
 };
 
+// Hardening state at the start of the increment.
+struct History {
+  double gamma;   // gamma_p
+  double pp;      // p_p (kPa)
+  double pp_pow;  // (p_p / p_ref)^(1 - m)
+  History(const HyperbolicHardening::Constants& k, double gamma_n, double pp_n)
+      : gamma(gamma_n), pp(pp_n), pp_pow(k.m == 0.5 ? std::sqrt(pp_n / k.p_ref) : std::pow(pp_n / k.p_ref, 1.0 - k.m)) {}
+};
+
+// x^m, with the common m = 0.5 as a square root.
 template <class T>
-T hardened_cap(const HyperbolicHardening::Constants& k, double pp_n, const T& eps) {
+T power(const T& x, double m) {
+  using std::pow;
+  using std::sqrt;
+  return m == 0.5 ? sqrt(x) : pow(x, m);
+}
+
+// p_p after a cap plastic volumetric strain eps: d p_p = H_ref (p_p/p_ref)^m d eps, integrated exactly.
+template <class T>
+T hardened_cap(const HyperbolicHardening::Constants& k, const History& h, const T& eps) {
   using std::exp;
   using std::pow;
   const double e = 1.0 - k.m;
-  if (e < 1e-9) return pp_n * exp(eps * (k.h_ref / k.p_ref));
-  const T base = larger(T(std::pow(pp_n / k.p_ref, e)) + eps * (e * k.h_ref / k.p_ref), T(1e-300));
+  if (e < 1e-9) return h.pp * exp(eps * (k.h_ref / k.p_ref));
+  const T base = larger(h.pp_pow + eps * (e * k.h_ref / k.p_ref), T(1e-300));
+  if (e == 0.5) return k.p_ref * (base * base);
   return k.p_ref * pow(base, 1.0 / e);
 }
 
@@ -64,7 +82,7 @@ T hardened_cap(const HyperbolicHardening::Constants& k, double pp_n, const T& ep
 // hardening state (gamma_n, pp_n). Symmetric in the three principal values: no ordering needed.
 template <class T>
 void evaluate(const HyperbolicHardening::Constants& k, const T sig[3], const T dl[3], bool cap_active,
-              double gamma_n, double pp_n, Point<T>& o) {
+              const History& h, Point<T>& o) {
   using std::pow;
   using std::sqrt;
   const T p = (sig[0] + sig[1] + sig[2]) / 3.0;
@@ -78,13 +96,15 @@ void evaluate(const HyperbolicHardening::Constants& k, const T sig[3], const T d
   if (value(j2) > kIsotropic * (pv * pv + 1.0)) {
     const T j3 = s[0] * s[1] * s[2];
     q = sqrt(3.0 * j2);
-    x = j3 / j2;
+    const T inv_j2 = 1.0 / j2;
+    const T inv_q = 1.0 / q;
+    x = j3 * inv_j2;
     const T qt = c1 * q - c2 * x;
     qt2 = qt * qt;
     for (int i = 0; i < 3; ++i) {
-      dq[i] = 1.5 * s[i] / q;
-      const T dj3 = s[i] * s[i] - (2.0 / 3.0) * j2;
-      dx[i] = (dj3 * j2 - j3 * s[i]) / (j2 * j2);
+      dq[i] = 1.5 * s[i] * inv_q;
+      // dX/ds_i = (dJ3/ds_i - X s_i) / J2 with dJ3/ds_i = s_i^2 - 2 J2/3.
+      dx[i] = (s[i] * s[i] - x * s[i]) * inv_j2 - 2.0 / 3.0;
       qt_dqt[i] = qt * (c1 * dq[i] - c2 * dx[i]);
     }
   } else {
@@ -102,11 +122,11 @@ void evaluate(const HyperbolicHardening::Constants& k, const T sig[3], const T d
   const T shifted = s3 + k.c_cot;  // s3 + c cot phi
 
   // Shear hardening surface.
-  const T ratio = pow(larger(shifted, T(k.floor)) / (k.p_ref + k.c_cot), k.m);
+  const T ratio = power(larger(shifted, T(k.floor)) / (k.p_ref + k.c_cot), k.m);
   const T a = 2.0 / ((2.0 * k.e50_ref / (2.0 - k.rf)) * ratio);  // 2 / E_i
   const T b = 2.0 / (k.eur_ref * ratio);                          // 2 / E_ur
   const T qf = k.kf * shifted;
-  o.gamma = gamma_n + dl[0];
+  o.gamma = h.gamma + dl[0];
   T qy = qf;
   if (value(qf) > 0.0) {
     const T qa = qf / k.rf;
@@ -130,10 +150,11 @@ void evaluate(const HyperbolicHardening::Constants& k, const T sig[3], const T d
   for (int i = 0; i < 3; ++i) o.n[0][i] = dq[i] * (0.5 - 0.5 * spsi) - spsi * ds3[i];
 
   // Cap.
-  const T big_f = sqrt(qt2 / k.alpha2 + p * p);
-  for (int i = 0; i < 3; ++i) o.n[1][i] = (qt_dqt[i] / k.alpha2 + p / 3.0) / big_f;
-  o.cap_strain = dl[1] * p / big_f;
-  o.pp = cap_active ? hardened_cap(k, pp_n, o.cap_strain) : T(pp_n);
+  const T big_f = sqrt(qt2 * (1.0 / k.alpha2) + p * p);
+  const T inv_f = 1.0 / big_f;
+  for (int i = 0; i < 3; ++i) o.n[1][i] = (qt_dqt[i] * (1.0 / k.alpha2) + p * (1.0 / 3.0)) * inv_f;
+  o.cap_strain = dl[1] * p * inv_f;
+  o.pp = cap_active ? hardened_cap(k, h, o.cap_strain) : T(h.pp);
   o.f[1] = big_f - o.pp;
 
   // Tension cut-off.
@@ -160,7 +181,7 @@ Measures measures(const Vec6& stress, double delta) {
 }
 
 double stiffness_ratio(const HyperbolicHardening::Constants& k, double s3) {
-  return std::pow(std::max(s3 + k.c_cot, k.floor) / (k.p_ref + k.c_cot), k.m);
+  return power(std::max(s3 + k.c_cot, k.floor) / (k.p_ref + k.c_cot), k.m);
 }
 
 // f_bar of the paper (eq. 8) without gamma_p: the plastic shear strain that puts the shear
@@ -212,7 +233,7 @@ const ModelInfo& HyperbolicHardening::model_info() {
            "largest tensile minor principal effective stress (tension cut-off); capped at c' cot phi'"},
       },
       {"shear_hardening", "cap_pressure", "cap_volumetric_strain", "mobilised_friction_angle",
-       "mobilised_dilation_angle", "active_surfaces"},
+       "mobilised_dilation_angle", "active_surfaces", "shear_multiplier_rate", "cap_multiplier_rate"},
   };
   return info;
 }
@@ -283,7 +304,7 @@ HyperbolicHardening::HyperbolicHardening(const ParameterValues& v, const std::st
   D5 sig[3] = {D5::variable(s1, 0), D5::variable(s3, 1), D5::variable(s3, 2)};
   D5 dl[3] = {D5::variable(0.0, 3), D5(0.0), D5(0.0)};
   Point<D5> pt;
-  evaluate(k_, sig, dl, false, gamma0, p, pt);
+  evaluate(k_, sig, dl, false, History(k_, gamma0, p), pt);
   const double dfs_ds = pt.f[0].d[0] + kk * (pt.f[0].d[1] + pt.f[0].d[2]);
   const double dfs_dg = pt.f[0].d[3];
   const double dl_s = dfs_dg < 0.0 ? std::max(0.0, -dfs_ds / dfs_dg) : 0.0;
@@ -356,34 +377,110 @@ struct LocalSolve {
   int iterations;
 };
 
-// Newton on R = [sigma - trial + D_p sum dl_k n_k ; f_k (active)] = 0 for the surfaces in `mask`.
-bool solve_local(const HyperbolicHardening::Constants& k, const double trial[3], double lame, double two_g,
-                 double gamma_n, double pp_n, int mask, double scale, LocalSolve& r) {
+template <int N>
+void copy_values(const Point<Dual<N>>& a, Point<double>& b) {
+  for (int s = 0; s < 3; ++s) {
+    b.f[s] = a.f[s].v;
+    for (int i = 0; i < 3; ++i) b.n[s][i] = a.n[s][i].v;
+  }
+  b.gamma = a.gamma.v;
+  b.pp = a.pp.v;
+  b.cap_strain = a.cap_strain.v;
+  b.sin_phi_m = a.sin_phi_m.v;
+  b.sin_psi_m = a.sin_psi_m.v;
+}
+
+// LU with partial pivoting of the leading n x n block (n <= 5), in place; false when singular.
+struct SmallLu {
+  Mat5 a;
+  int piv[kUnknowns];
+  int n;
+  bool factor(const Mat5& m, int size) {
+    a = m;
+    n = size;
+    for (int c = 0; c < n; ++c) {
+      int best = c;
+      for (int r = c + 1; r < n; ++r)
+        if (std::abs(a(r, c)) > std::abs(a(best, c))) best = r;
+      piv[c] = best;
+      if (!(std::abs(a(best, c)) > 0.0) || !std::isfinite(a(best, c))) return false;
+      if (best != c) a.row(c).swap(a.row(best));
+      const double inv = 1.0 / a(c, c);
+      for (int r = c + 1; r < n; ++r) {
+        const double f = a(r, c) * inv;
+        a(r, c) = f;
+        for (int j = c + 1; j < n; ++j) a(r, j) -= f * a(c, j);
+      }
+    }
+    return true;
+  }
+  void solve(double* b) const {
+    for (int c = 0; c < n; ++c)
+      if (piv[c] != c) std::swap(b[c], b[piv[c]]);
+    for (int c = 0; c < n; ++c)
+      for (int r = c + 1; r < n; ++r) b[r] -= a(r, c) * b[c];
+    for (int r = n - 1; r >= 0; --r) {
+      for (int j = r + 1; j < n; ++j) b[r] -= a(r, j) * b[j];
+      b[r] /= a(r, r);
+    }
+  }
+};
+
+// Residual R = [sigma - trial + D_p sum dl_k n_k ; f_k (active)] at a point already evaluated.
+template <class T>
+void residual(const Point<T>& pt, const T sig[3], const T dl[3], const double trial[3], const int active[2], int na,
+              double lame, double two_g, T res[kUnknowns]) {
+  for (int i = 0; i < 3; ++i) res[i] = sig[i] - trial[i];
+  for (int j = 0; j < na; ++j) {
+    const int s = active[j];
+    const T tr = pt.n[s][0] + pt.n[s][1] + pt.n[s][2];
+    for (int i = 0; i < 3; ++i) res[i] += dl[s] * (lame * tr + two_g * pt.n[s][i]);
+    res[3 + j] = pt.f[s];
+  }
+}
+
+// Newton on R = 0 for the surfaces in `mask`, from the guess dl = guess[k] with
+// sigma = trial - sum guess_k D_p n_k(trial). On success r.jac is dR/dx at the solution, or at the
+// last iterate when that iterate was already within kQuadratic (quadratic convergence then puts
+// the solution within round-off, and the Jacobian within |dx| of the exact one).
+constexpr double kQuadratic = 1e-6;
+
+bool solve_local(const HyperbolicHardening::Constants& k, const double trial[3], const Point<double>& at_trial,
+                 const double guess[3], double lame, double two_g, const History& h, int mask, double scale,
+                 LocalSolve& r) {
   int active[2];
   int na = 0;
   for (int s = 0; s < 3; ++s)
     if (mask & (1 << s)) active[na++] = s;
   const int n = 3 + na;
   double x[kUnknowns] = {trial[0], trial[1], trial[2], 0.0, 0.0};
+  for (int j = 0; j < na; ++j) {
+    const int s = active[j];
+    const double g = guess[s];
+    if (!(g > 0.0)) continue;
+    x[3 + j] = g;
+    const double tr = at_trial.n[s][0] + at_trial.n[s][1] + at_trial.n[s][2];
+    for (int i = 0; i < 3; ++i) x[i] -= g * (lame * tr + two_g * at_trial.n[s][i]);
+  }
   const bool cap_active = (mask & 2) != 0;
   const double tol = kLocalTolerance * scale;
+  auto finish = [&](int it) {
+    for (int i = 0; i < 3; ++i) r.sig[i] = x[i];
+    r.dl[0] = r.dl[1] = r.dl[2] = 0.0;
+    for (int j = 0; j < na; ++j) r.dl[active[j]] = x[3 + j];
+    r.iterations = it;
+  };
   for (int it = 0; it < kMaxLocalIterations; ++it) {
     D5 sig[3];
     for (int i = 0; i < 3; ++i) sig[i] = D5::variable(x[i], i);
     D5 dl[3] = {D5(0.0), D5(0.0), D5(0.0)};
     for (int j = 0; j < na; ++j) dl[active[j]] = D5::variable(x[3 + j], 3 + j);
     Point<D5> pt;
-    evaluate(k, sig, dl, cap_active, gamma_n, pp_n, pt);
+    evaluate(k, sig, dl, cap_active, h, pt);
     D5 res[kUnknowns];
-    for (int i = 0; i < 3; ++i) res[i] = sig[i] - trial[i];
-    for (int j = 0; j < na; ++j) {
-      const int s = active[j];
-      const D5 tr = pt.n[s][0] + pt.n[s][1] + pt.n[s][2];
-      for (int i = 0; i < 3; ++i) res[i] += dl[s] * (lame * tr + two_g * pt.n[s][i]);
-      res[3 + j] = pt.f[s];
-    }
+    residual(pt, sig, dl, trial, active, na, lame, two_g, res);
     double worst = 0.0;
-    Vec5 rv = Vec5::Zero();
+    double rv[kUnknowns];
     r.jac.setIdentity();
     for (int i = 0; i < n; ++i) {
       rv[i] = res[i].v;
@@ -392,19 +489,26 @@ bool solve_local(const HyperbolicHardening::Constants& k, const double trial[3],
       for (int j = 0; j < n; ++j) r.jac(i, j) = res[i].d[j];
     }
     if (worst <= tol) {
-      for (int i = 0; i < 3; ++i) r.sig[i] = x[i];
-      r.dl[0] = r.dl[1] = r.dl[2] = 0.0;
-      for (int j = 0; j < na; ++j) r.dl[active[j]] = x[3 + j];
-      const double sd[3] = {x[0], x[1], x[2]};
-      evaluate(k, sd, r.dl, cap_active, gamma_n, pp_n, r.point);
-      r.iterations = it;
+      finish(it);
+      copy_values(pt, r.point);
       return true;
     }
-    Eigen::PartialPivLU<Mat5> lu(r.jac);
-    const Vec5 dx = lu.solve(rv);
+    SmallLu lu;
+    if (!lu.factor(r.jac, n)) return false;
+    lu.solve(rv);
     for (int i = 0; i < n; ++i) {
-      x[i] -= dx[i];
+      x[i] -= rv[i];
       if (!std::isfinite(x[i])) return false;
+    }
+    if (worst <= kQuadratic * scale) {
+      // Check the new iterate with a plain evaluation; keep this Jacobian if it has converged.
+      finish(it + 1);
+      evaluate(k, r.sig, r.dl, cap_active, h, r.point);
+      double rd[kUnknowns];
+      residual(r.point, r.sig, r.dl, trial, active, na, lame, two_g, rd);
+      double w = 0.0;
+      for (int i = 0; i < n; ++i) w = std::max(w, std::abs(rd[i]));
+      if (w <= tol) return true;
     }
   }
   return false;
@@ -445,7 +549,8 @@ IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const 
 
   const double zero[3] = {0.0, 0.0, 0.0};
   Point<double> at_trial;
-  evaluate(k_, principal, zero, false, gamma_n, pp_n, at_trial);
+  const History history(k_, gamma_n, pp_n);
+  evaluate(k_, principal, zero, false, history, at_trial);
   const double ytol = kYieldTolerance * scale;
   int violated = 0;
   for (int s = 0; s < 3; ++s)
@@ -477,12 +582,15 @@ IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const 
     if (mask & violated) add(mask);
   for (int mask : {1, 2, 4, 3, 5, 6}) add(mask);
 
+  // Warm start: the multipliers per unit strain increment of the last plastic step.
+  const double strain_norm = de.norm();
+  const double guess[3] = {in.internal[shear_rate] * strain_norm, in.internal[cap_rate] * strain_norm, 0.0};
   LocalSolve r{};
   int accepted = -1;
   int iterations = 0;
   for (int ci = 0; ci < nc && accepted < 0; ++ci) {
     const int mask = candidates[ci];
-    if (!solve_local(k_, principal, lame, 2.0 * shear_mod, gamma_n, pp_n, mask, scale, r)) continue;
+    if (!solve_local(k_, principal, at_trial, guess, lame, 2.0 * shear_mod, history, mask, scale, r)) continue;
     iterations += r.iterations;
     bool ok = true;
     for (int s = 0; s < 3; ++s) {
@@ -495,35 +603,55 @@ IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const 
   }
   if (accepted < 0) return {Status::no_convergence, iterations};
 
-  // d sigma / d trial (principal) from the converged Jacobian, then times D_p.
-  Eigen::PartialPivLU<Mat5> lu(r.jac);
-  Eigen::Matrix<double, kUnknowns, 3> rhs = Eigen::Matrix<double, kUnknowns, 3>::Zero();
-  rhs.topRows<3>().setIdentity();
-  const Eigen::Matrix<double, kUnknowns, 3> dx = lu.solve(rhs);
+  // d sigma / d trial (principal) = leading 3 x 3 block of J^-1 (columns J^-1 e_j), then times D_p.
+  SmallLu lu;
+  const int n_active = std::popcount(static_cast<unsigned>(accepted));
+  if (!lu.factor(r.jac, 3 + n_active)) return {Status::numerical_issue, iterations};
+  Mat3 dsig;
+  for (int j = 0; j < 3; ++j) {
+    double col[kUnknowns] = {0.0, 0.0, 0.0, 0.0, 0.0};
+    col[j] = 1.0;
+    lu.solve(col);
+    for (int i = 0; i < 3; ++i) dsig(i, j) = col[i];
+  }
   Mat3 dp_elastic;
   dp_elastic.setConstant(lame);
   dp_elastic.diagonal().array() += 2.0 * shear_mod;
-  const Mat3 dp = dx.topRows<3>() * dp_elastic;
+  const Mat3 dp = dsig * dp_elastic;
   if (!dp.allFinite()) return {Status::numerical_issue, iterations};
 
-  Vec6 nv[3];
-  for (int i = 0; i < 3; ++i) nv[i] = sym_outer(axes.col(i), axes.col(i));
-  out.stress = r.sig[0] * nv[0] + r.sig[1] * nv[1] + r.sig[2] * nv[2];
   // Consistent tangent of an isotropic tensor function (de Souza Neto, Peric & Owen 2008,
   // eq. A.46); for coincident trial values the limit from the principal tangent.
-  tangent.setZero();
-  for (int a = 0; a < 3; ++a)
-    for (int b = 0; b < 3; ++b) tangent += dp(a, b) * nv[a] * nv[b].transpose();
-  for (int a = 0; a < 3; ++a) {
-    for (int b = a + 1; b < 3; ++b) {
-      const double gap = principal[a] - principal[b];
-      double coef;
-      if (std::abs(gap) > 1e-9 * scale)
-        coef = 2.0 * shear_mod * (r.sig[a] - r.sig[b]) / gap;
-      else
-        coef = 0.5 * (dp(a, a) - dp(a, b) + dp(b, b) - dp(b, a));
-      const Vec6 s = sym_outer(axes.col(a), axes.col(b));
-      tangent += 2.0 * coef * s * s.transpose();
+  double coef[3];  // pairs (0,1), (1,2), (0,2)
+  const int pair_a[3] = {0, 1, 0};
+  const int pair_b[3] = {1, 2, 2};
+  for (int k = 0; k < 3; ++k) {
+    const int a = pair_a[k];
+    const int b = pair_b[k];
+    const double gap = principal[a] - principal[b];
+    if (std::abs(gap) > 1e-9 * scale)
+      coef[k] = 2.0 * shear_mod * (r.sig[a] - r.sig[b]) / gap;
+    else
+      coef[k] = 0.5 * (dp(a, a) - dp(a, b) + dp(b, b) - dp(b, a));
+  }
+  if (diagonal) {
+    out.stress.setZero();
+    for (int i = 0; i < 3; ++i) out.stress[i] = r.sig[i];
+    tangent.setZero();
+    tangent.topLeftCorner<3, 3>() = dp;
+    tangent(voigt::xy, voigt::xy) = 0.5 * coef[0];
+    tangent(voigt::yz, voigt::yz) = 0.5 * coef[1];
+    tangent(voigt::zx, voigt::zx) = 0.5 * coef[2];
+  } else {
+    Vec6 nv[3];
+    for (int i = 0; i < 3; ++i) nv[i] = sym_outer(axes.col(i), axes.col(i));
+    out.stress = r.sig[0] * nv[0] + r.sig[1] * nv[1] + r.sig[2] * nv[2];
+    tangent.setZero();
+    for (int a = 0; a < 3; ++a)
+      for (int b = 0; b < 3; ++b) tangent.noalias() += dp(a, b) * nv[a] * nv[b].transpose();
+    for (int k = 0; k < 3; ++k) {
+      const Vec6 sv = sym_outer(axes.col(pair_a[k]), axes.col(pair_b[k]));
+      tangent.noalias() += 2.0 * coef[k] * sv * sv.transpose();
     }
   }
   out.internal[shear_hardening] = r.point.gamma;
@@ -532,6 +660,9 @@ IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const 
   out.internal[mobilised_friction] = radians_to_degrees(std::asin(r.point.sin_phi_m));
   out.internal[mobilised_dilation] = radians_to_degrees(std::asin(r.point.sin_psi_m));
   out.internal[active_surfaces] = accepted;
+  const double inv_norm = strain_norm > 0.0 ? 1.0 / strain_norm : 0.0;
+  out.internal[shear_rate] = r.dl[shear] * inv_norm;
+  out.internal[cap_rate] = r.dl[cap] * inv_norm;
   return {Status::ok, std::max(1, iterations)};
 }
 

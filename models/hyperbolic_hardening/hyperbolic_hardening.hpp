@@ -66,6 +66,8 @@ class HyperbolicHardening final : public Model {
     mobilised_friction,       ///< phi_m (deg)
     mobilised_dilation,       ///< psi_m (deg), positive = dilation
     active_surfaces,          ///< bits: 1 shear, 2 cap, 4 tension; 0 = elastic step
+    shear_rate,               ///< shear multiplier of the last plastic step per unit strain increment norm
+    cap_rate,                 ///< cap multiplier likewise (both only warm-start the local solve)
   };
   enum Surface { shear = 0, cap = 1, tension = 2 };
 

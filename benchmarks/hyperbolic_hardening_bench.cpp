@@ -1,0 +1,137 @@
+// Time per increment of the driver with the hyperbolic double-hardening model, and beside it the
+// accuracy at that increment count:
+//   drained / undrained: normally consolidated compression (isotropic 200 kPa) to 20 % axial strain;
+//     err_q, err_p = largest |q - q_ref|, |p' - p'_ref| along the curve relative to the final q_ref,
+//     p'_ref, where the reference is the same run with 64000 increments (no closed form exists for
+//     this path; backward Euler is first order, so the error halves as increments double).
+//   hyperbola: heavily overconsolidated drained compression (cap never reached) with dilatancy off;
+//     err_hyperbola = largest relative |q - q_hyperbola(eps_a)| up to 0.95 q_f, against
+//     eps_a = q / (E_i (1 - q/q_a)) (Kondner 1963; Duncan & Chang 1970; Schanz, Vermeer & Bonnier 1999).
+//     The implicit return satisfies it at every step end, so it stays at round-off for any count.
+//   create: the model's constructor, which calibrates the cap (alpha, H) from the oedometer
+//     stiffness and K0_nc; a calibration calls it once per objective evaluation.
+// Material: the model's defaults (invented round numbers), s3' = 200 kPa.
+#include <benchmark/benchmark.h>
+
+#include <algorithm>
+#include <cmath>
+#include <vector>
+
+#include "hyperbolic_hardening/hyperbolic_hardening.hpp"
+#include "triaxcal/driver.hpp"
+#include "triaxcal/parameters.hpp"
+
+using namespace triaxcal;
+
+namespace {
+
+constexpr double kS3 = 200.0;
+constexpr int kReferenceSteps = 64000;
+
+ParameterValues parameters(const std::map<std::string, double>& over) {
+  return resolve_parameters(HyperbolicHardening::model_info(), over, "bench");
+}
+
+TestProtocol shear(Drainage d, int steps, double pc) {
+  TestProtocol p;
+  p.initial.stress = triaxial_stress(kS3, kS3);
+  p.initial.preconsolidation_pressure = pc;
+  Stage s;
+  s.type = StageType::shear;
+  s.drainage = d;
+  s.axial_strain = 0.2;
+  s.steps = steps;
+  p.stages = {s};
+  return p;
+}
+
+const SimulationResult& reference(Drainage d) {
+  static const HyperbolicHardening model(parameters({}), "bench");
+  static const SimulationResult drained = simulate(DriverOptions{}, model, shear(Drainage::drained, kReferenceSteps, kNotGiven));
+  static const SimulationResult undrained =
+      simulate(DriverOptions{}, model, shear(Drainage::undrained, kReferenceSteps, kNotGiven));
+  return d == Drainage::drained ? drained : undrained;
+}
+
+void set_time_per_increment(benchmark::State& state, int steps) {
+  state.counters["time_per_increment"] =
+      benchmark::Counter(static_cast<double>(steps), benchmark::Counter::kIsIterationInvariantRate |
+                                                         benchmark::Counter::kInvert);
+}
+
+void run(benchmark::State& state, Drainage d) {
+  const HyperbolicHardening model(parameters({}), "bench");
+  const int steps = static_cast<int>(state.range(0));
+  const TestProtocol p = shear(d, steps, kNotGiven);
+  SimulationResult r;
+  for (auto _ : state) {
+    r = simulate(DriverOptions{}, model, p);
+    benchmark::DoNotOptimize(r.steps.data());
+  }
+  const SimulationResult& ref = reference(d);
+  if (!r.ok() || !ref.ok()) {
+    state.SkipWithError(r.ok() ? ref.message.c_str() : r.message.c_str());
+    return;
+  }
+  const int every = kReferenceSteps / steps;
+  double eq = 0.0, ep = 0.0;
+  for (std::size_t i = 0; i < r.steps.size(); ++i) {
+    const StepRecord& x = ref.steps[i * every];
+    eq = std::max(eq, std::abs(r.steps[i].q - x.q) / std::abs(ref.steps.back().q));
+    ep = std::max(ep, std::abs(r.steps[i].p - x.p) / ref.steps.back().p);
+  }
+  set_time_per_increment(state, steps);
+  state.counters["err_q"] = eq;
+  state.counters["err_p"] = ep;
+  state.counters["cuts"] = r.total_cuts;
+  state.counters["model_calls_per_increment"] = static_cast<double>(r.model_calls) / steps;
+}
+
+void BM_drained(benchmark::State& state) { run(state, Drainage::drained); }
+void BM_undrained(benchmark::State& state) { run(state, Drainage::undrained); }
+
+void BM_hyperbola(benchmark::State& state) {
+  const HyperbolicHardening model(parameters({{"dilatancy_rule", 2.0}}), "bench");
+  const int steps = static_cast<int>(state.range(0));
+  const TestProtocol p = shear(Drainage::drained, steps, 40.0 * kS3);
+  SimulationResult r;
+  for (auto _ : state) {
+    r = simulate(DriverOptions{}, model, p);
+    benchmark::DoNotOptimize(r.steps.data());
+  }
+  if (!r.ok()) {
+    state.SkipWithError(r.message.c_str());
+    return;
+  }
+  const ParameterValues v = parameters({{"dilatancy_rule", 2.0}});
+  const double ratio = std::pow(kS3 / v[HyperbolicHardening::reference_pressure], v[HyperbolicHardening::stress_exponent]);
+  const double rf = v[HyperbolicHardening::failure_ratio];
+  const double ei = 2.0 * v[HyperbolicHardening::secant_stiffness_ref] * ratio / (2.0 - rf);
+  const double sphi = std::sin(degrees_to_radians(v[HyperbolicHardening::friction_angle]));
+  const double qf = 2.0 * sphi / (1.0 - sphi) * kS3;
+  double worst = 0.0;
+  for (std::size_t i = 1; i < r.steps.size() && r.steps[i].q <= 0.95 * qf; ++i) {
+    const double e = r.steps[i].axial_strain;
+    const double expected = e * ei / (1.0 + e * ei * rf / qf);
+    worst = std::max(worst, std::abs(r.steps[i].q - expected) / expected);
+  }
+  set_time_per_increment(state, steps);
+  state.counters["err_hyperbola"] = worst;
+}
+
+void BM_create(benchmark::State& state) {
+  const ParameterValues v = parameters({});
+  for (auto _ : state) {
+    HyperbolicHardening m(v, "bench");
+    benchmark::DoNotOptimize(m.cap_alpha());
+  }
+}
+
+}  // namespace
+
+BENCHMARK(BM_drained)->Arg(1000)->Arg(2000)->Arg(4000)->Arg(8000)->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_undrained)->Arg(1000)->Arg(2000)->Arg(4000)->Arg(8000)->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_hyperbola)->Arg(1000)->Arg(2000)->Arg(4000)->Arg(8000)->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_create)->Unit(benchmark::kNanosecond);
+
+BENCHMARK_MAIN();
