@@ -223,7 +223,7 @@ const ModelInfo& HyperbolicHardening::model_info() {
            "R_f = q_f / q_a: failure deviator over the asymptote of the hyperbola"},
           {"cohesion", "kPa", 0.0, 0.0, inf, false, true, "effective cohesion c'"},
           {"friction_angle", "deg", 33.0, 0.0, 90.0, true, true, "effective friction angle phi' (Mohr-Coulomb failure)"},
-          {"critical_friction_angle", "deg", 30.0, 0.0, 90.0, true, true,
+          {"critical_state_friction_angle", "deg", 30.0, 0.0, 90.0, true, true,
            "phi_cv of Rowe's stress-dilatancy (<= friction_angle); phi_cv = phi' gives no dilation"},
           {"dilatancy_rule", "-", 1.0, 0.0, 2.0, false, false,
            "cut-off of Rowe's relation: 0 as is (contraction below phi_cv), 1 no contraction, 2 no dilatancy at all"},
@@ -249,8 +249,8 @@ HyperbolicHardening::HyperbolicHardening(const ParameterValues& v, const std::st
     throw InputError(head + "expected " + std::to_string(info.parameters.size()) + " parameter values, found " +
                      std::to_string(v.size()));
   for (std::size_t i = 0; i < v.size(); ++i) check_bounds(info, info.parameters[i], v[i], where);
-  if (v[critical_friction_angle] > v[friction_angle])
-    throw InputError(head + "critical_friction_angle = " + format_number(v[critical_friction_angle]) +
+  if (v[critical_state_friction_angle] > v[friction_angle])
+    throw InputError(head + "critical_state_friction_angle = " + format_number(v[critical_state_friction_angle]) +
                      " deg must not exceed friction_angle = " + format_number(v[friction_angle]) + " deg");
   if (v[dilatancy_rule] != std::floor(v[dilatancy_rule]))
     throw InputError(head + "dilatancy_rule = " + format_number(v[dilatancy_rule]) +
@@ -270,7 +270,7 @@ HyperbolicHardening::HyperbolicHardening(const ParameterValues& v, const std::st
   k_.rf = v[failure_ratio];
   k_.c_cot = v[cohesion] / std::tan(phi);
   k_.sin_phi = std::sin(phi);
-  k_.sin_cv = std::sin(degrees_to_radians(v[critical_friction_angle]));
+  k_.sin_cv = std::sin(degrees_to_radians(v[critical_state_friction_angle]));
   k_.kf = 2.0 * k_.sin_phi / (1.0 - k_.sin_phi);
   k_.tension = std::min(v[tensile_strength], k_.c_cot);
   k_.rule = static_cast<int>(v[dilatancy_rule]);

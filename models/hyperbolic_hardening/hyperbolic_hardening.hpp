@@ -53,7 +53,7 @@ class HyperbolicHardening final : public Model {
     failure_ratio,
     cohesion,
     friction_angle,
-    critical_friction_angle,
+    critical_state_friction_angle,
     dilatancy_rule,
     k0_nc,
     tensile_strength,

@@ -117,8 +117,8 @@ TEST_CASE("hyperbolic_hardening: bad parameters give exact messages", "[hyperbol
   CHECK(create_message({{"unloading_stiffness_ref", 30000.0}}) ==
         "params.json: hyperbolic_hardening: unloading_stiffness_ref = 30000 kPa must exceed the initial stiffness "
         "2 secant_stiffness_ref / (2 - failure_ratio) = 36363.6 kPa");
-  CHECK(create_message({{"critical_friction_angle", 35.0}}) ==
-        "params.json: hyperbolic_hardening: critical_friction_angle = 35 deg must not exceed friction_angle = 33 deg");
+  CHECK(create_message({{"critical_state_friction_angle", 35.0}}) ==
+        "params.json: hyperbolic_hardening: critical_state_friction_angle = 35 deg must not exceed friction_angle = 33 deg");
   CHECK(create_message({{"dilatancy_rule", 1.5}}) ==
         "params.json: hyperbolic_hardening: dilatancy_rule = 1.5 must be 0 (Rowe as is), 1 (no contraction) or 2 "
         "(no dilatancy)");
@@ -177,7 +177,7 @@ TEST_CASE("drained compression with dilatancy off follows the hyperbola within 1
   for (const Overrides& over : {Overrides{{"dilatancy_rule", 2.0}},
                                 Overrides{{"dilatancy_rule", 2.0}, {"cohesion", 10.0}, {"stress_exponent", 0.7},
                                           {"failure_ratio", 0.8}, {"friction_angle", 30.0},
-                                          {"critical_friction_angle", 28.0}}}) {
+                                          {"critical_state_friction_angle", 28.0}}}) {
     for (double s3 : {100.0, 250.0}) {
       const auto model = make(over);
       const SimulationResult r = simulate(DriverOptions{}, *model, drained_compression(s3, 40.0 * s3, 0.15, 1000));
@@ -222,7 +222,7 @@ TEST_CASE("normally consolidated oedometer: tangent at s1' = reference pressure 
                                {"reference_pressure", 50.0}, {"friction_angle", 30.0}},
         Overrides{{"stress_exponent", 0.3}, {"k0_nc", 0.42}, {"oedometer_stiffness_ref", 30000.0},
                   {"secant_stiffness_ref", 35000.0}, {"unloading_stiffness_ref", 120000.0}, {"friction_angle", 38.0},
-                  {"critical_friction_angle", 32.0}}}) {
+                  {"critical_state_friction_angle", 32.0}}}) {
     const auto model = make(over);
     const double pref = param(over, "reference_pressure");
     const double k0 = param(over, "k0_nc");
@@ -290,7 +290,7 @@ TEST_CASE("Rowe's stress-dilatancy holds along a drained compression path after 
           "[hyperbolic_hardening]") {
   for (int rule : {0, 1, 2}) {
     for (double c : {0.0, 15.0}) {
-      const Overrides over{{"dilatancy_rule", rule}, {"friction_angle", 38.0}, {"critical_friction_angle", 31.0},
+      const Overrides over{{"dilatancy_rule", rule}, {"friction_angle", 38.0}, {"critical_state_friction_angle", 31.0},
                            {"cohesion", c}};
       const auto model = make(over);
       const double s3 = 150.0;
