@@ -7,6 +7,8 @@
 #include <string>
 #include <vector>
 
+#include "triaxcal/report.hpp"
+
 namespace triaxcal::cli {
 
 /// Exit codes of every subcommand.
@@ -19,9 +21,7 @@ enum ExitCode : int {
 };
 
 /// The caution every summary carries.
-inline constexpr const char* kCaution =
-    "Caution: these parameters are for numerical analysis. They must be reviewed by a qualified "
-    "geotechnical engineer; design values follow local codes and licensed practice.";
+inline constexpr const char* kCaution = triaxcal::kCautionText;  // one text, in triaxcal/report.hpp
 
 /// A subcommand sets this to the function that runs it; main() calls it after parsing.
 using Action = std::function<int()>;

@@ -409,8 +409,8 @@ class Renderer {
       b.css_class = "history-best";
       p.series.push_back(std::move(b));
       o_ << figure(p, std::string("Objective of every evaluation") + (p.y.log ? " (log scale)" : "") +
-                          " and the best so far; evaluations beyond " + std::to_string(kMaxMarkers) +
-                          " are thinned for display.");
+                          " and the best so far; at most " + std::to_string(kMaxMarkers) +
+                          " evaluations are marked (evenly thinned).");
     }
     o_ << "</div>\n";
     end_section();
@@ -538,10 +538,11 @@ class Renderer {
     end_section();
   }
 
-  double strength_smax() const {
+  /// Largest s' (s'-t plot) or s' + t (Mohr plot: the circle's right end) to draw lines to.
+  double strength_smax(bool mohr) const {
     double smax = 0;
     for (const StressPoint& pt : d_.strength.points)
-      if (std::isfinite(pt.s)) smax = std::max(smax, pt.s + (std::isfinite(pt.t) ? pt.t : 0.0));
+      if (std::isfinite(pt.s)) smax = std::max(smax, pt.s + (mohr && std::isfinite(pt.t) ? pt.t : 0.0));
     if (std::isfinite(d_.strength.range_high)) smax = std::max(smax, d_.strength.range_high);
     return smax > 0 ? smax * 1.05 : 1.0;
   }
@@ -554,7 +555,7 @@ class Renderer {
     p.x = {"s' = (σ'1 + σ'3)/2", "kPa"};
     p.y = {"t = (σ'1 - σ'3)/2", "kPa"};
     p.x.include_zero = p.y.include_zero = true;
-    const double smax = strength_smax();
+    const double smax = strength_smax(false);
     if (std::isfinite(s.range_low) || std::isfinite(s.range_high)) {
       svg::Band b;
       b.name = "stress range used";
@@ -598,7 +599,7 @@ class Renderer {
     p.y.min = 0.0;
     p.equal_scale = true;
     p.height = 360.0;
-    const double smax = strength_smax();
+    const double smax = strength_smax(true);
     for (const StressPoint& pt : s.points) {
       svg::HalfCircle c;
       c.name = pt.used ? "circle at failure (used)" : "circle at failure (left out)";

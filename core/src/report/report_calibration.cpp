@@ -1,0 +1,263 @@
+// Report data from a calibration summary and its problem (what `triaxcal fit` holds in memory).
+#include <algorithm>
+#include <cmath>
+#include <sstream>
+
+#include "triaxcal/report_input.hpp"
+
+namespace triaxcal::report {
+
+namespace {
+
+constexpr double kDeg = 3.14159265358979323846 / 180.0;
+
+bool consolidation(StageType t) {
+  return t != StageType::shear && t != StageType::constant_p_shear && t != StageType::unload_reload;
+}
+
+Drainage drainage_of(const TestProtocol& p) {
+  bool shear = false, undrained = false;
+  for (const Stage& s : p.stages)
+    if (!consolidation(s.type)) {
+      shear = true;
+      undrained = undrained || s.drainage == triaxcal::Drainage::undrained;
+    }
+  if (!shear) return Drainage::oedometer;
+  return undrained ? Drainage::undrained : Drainage::drained;
+}
+
+CurvePair* target(TestReport& t, Quantity x, Quantity y) {
+  if (x == Quantity::axial_strain) {
+    if (y == Quantity::deviator_stress) return &t.deviator;
+    if (y == Quantity::excess_pore_pressure) return &t.pore_pressure;
+    if (y == Quantity::volumetric_strain) return &t.volumetric;
+  }
+  if (x == Quantity::mean_stress && y == Quantity::deviator_stress) return &t.stress_path;
+  if (x == Quantity::mean_stress && y == Quantity::void_ratio) return &t.compression;
+  return nullptr;
+}
+
+bool is_strain(Quantity q) {
+  return q == Quantity::axial_strain || q == Quantity::radial_strain || q == Quantity::volumetric_strain;
+}
+
+// Simulated curve y(x) of one measured curve: the records from the start of its zero stage (or
+// its own stage), strains counted from there, as calibrate() compares them.
+XY simulated_curve(const SimulationResult& r, const MeasuredCurve& c) {
+  XY out;
+  if (r.steps.empty()) return out;
+  std::size_t first = 0, last = r.steps.size() - 1;
+  const int zero = c.strain_zero_stage;
+  std::size_t base = 0;
+  if (zero >= 0 && static_cast<std::size_t>(zero) < r.stages.size())
+    base = static_cast<std::size_t>(std::max(0, r.stages[static_cast<std::size_t>(zero)].first - 1));
+  first = base;
+  if (c.stage >= 0 && static_cast<std::size_t>(c.stage) < r.stages.size()) {
+    first = static_cast<std::size_t>(std::max(0, r.stages[static_cast<std::size_t>(c.stage)].first - 1));
+    last = static_cast<std::size_t>(r.stages[static_cast<std::size_t>(c.stage)].last);
+  }
+  const StepRecord& b = r.steps[base];
+  for (std::size_t i = first; i <= last && i < r.steps.size(); ++i) {
+    double x = value_of(r.steps[i], c.x), y = value_of(r.steps[i], c.y);
+    if (is_strain(c.x)) x -= value_of(b, c.x);
+    if (is_strain(c.y)) y -= value_of(b, c.y);
+    out.x.push_back(x);
+    out.y.push_back(y);
+  }
+  return out;
+}
+
+const FittedParameter* find_parameter(const CalibrationSummary& s, const std::string& name) {
+  for (const FittedParameter& p : s.parameters)
+    if (p.name == name) return &p;
+  return nullptr;
+}
+
+}  // namespace
+
+ReportData report_from_calibration(const CalibrationSummary& s, const CalibrationProblem& problem,
+                                   const CalibrationProvenance& prov, const TestSeries* series,
+                                   const Interpretation* interpretation) {
+  ReportData d;
+  d.project = prov.description;
+  d.model = s.model.empty() && problem.model ? problem.model->name : s.model;
+  if (problem.model) d.model_description = problem.model->title;
+  d.termination = to_string(s.termination);
+  d.message = s.message;
+  d.objective = s.objective;
+  d.start_objective = s.start_objective;
+  d.evaluations = s.evaluations;
+  d.wall_time = s.wall_time;
+  d.caution = prov.caution.empty() ? std::string(kCautionText) : prov.caution;
+
+  for (std::size_t i = 0; i < problem.tests.size(); ++i) {
+    const CalibrationTest& ct = problem.tests[i];
+    TestReport t;
+    t.id = ct.id;
+    t.weight = ct.weight;
+    t.drainage = drainage_of(ct.protocol);
+    t.description = ct.protocol.name;
+    const TestFit* fit = nullptr;
+    for (const TestFit& f : s.tests)
+      if (f.id == ct.id) fit = &f;
+    const SimulationResult* sim = i < s.simulations.size() ? &s.simulations[i] : nullptr;
+    t.simulated = fit ? fit->simulated : false;
+    t.message = fit ? fit->message : std::string("not simulated");
+    if (fit) t.objective = fit->objective;
+    for (const MeasuredCurve& c : ct.curves) {
+      CurvePair* pair = target(t, c.x, c.y);
+      if (!pair) continue;
+      pair->measured.x = c.xs;
+      pair->measured.y = c.ys;
+      if (sim && t.simulated) pair->simulated = simulated_curve(*sim, c);
+    }
+    if (sim && t.simulated && !sim->steps.empty()) {
+      for (const StepRecord& r : sim->steps) {
+        t.stress_path.simulated.x.push_back(r.p);
+        t.stress_path.simulated.y.push_back(r.q);
+        if (std::isfinite(r.void_ratio) && static_cast<std::size_t>(r.stage) < ct.protocol.stages.size() &&
+            consolidation(ct.protocol.stages[static_cast<std::size_t>(r.stage)].type)) {
+          t.compression.simulated.x.push_back(r.p);
+          t.compression.simulated.y.push_back(r.void_ratio);
+        }
+      }
+    }
+    if (series) {
+      for (const Specimen& sp : series->specimens) {
+        if (sp.id != ct.id) continue;
+        const ReducedCurves& rc = sp.curves;
+        if (t.stress_path.measured.empty()) {
+          t.stress_path.measured.x = rc.mean_stress;
+          t.stress_path.measured.y = rc.deviator_stress;
+        }
+        if (t.compression.measured.empty())
+          for (std::size_t k = 0; k < rc.void_ratio.size() && k < rc.mean_stress.size(); ++k)
+            if (std::isfinite(rc.void_ratio[k]) && rc.mean_stress[k] > 0) {
+              t.compression.measured.x.push_back(rc.mean_stress[k]);
+              t.compression.measured.y.push_back(rc.void_ratio[k]);
+            }
+        if (t.compression.measured.empty()) t.compression.simulated = {};
+      }
+    }
+    if (fit)
+      for (const CurveFit& c : fit->curves) {
+        CurveQuality q;
+        q.name = to_string(c.y) + " vs " + to_string(c.x);
+        q.unit = unit_of(c.y);
+        q.points = c.points;
+        q.rmse = c.rmse;
+        q.r_squared = c.r_squared;
+        q.x_name = to_string(c.x);
+        const bool strain_x = is_strain(c.x);
+        q.x_scale = strain_x ? 100.0 : 1.0;
+        q.x_unit = strain_x ? "%" : unit_of(c.x);
+        if (c.range > 0)
+          for (std::size_t k = 0; k < c.xs.size() && k < c.measured.size() && k < c.simulated.size(); ++k)
+            if (std::isfinite(c.simulated[k])) {
+              q.residuals.x.push_back(c.xs[k]);
+              q.residuals.y.push_back((c.simulated[k] - c.measured[k]) / c.range);
+            }
+        t.quality.push_back(q);
+      }
+    d.tests.push_back(std::move(t));
+  }
+
+  for (const FittedParameter& p : s.parameters) {
+    ParameterRow row;
+    row.name = p.name;
+    row.unit = p.unit;
+    row.status = to_string(p.status);
+    row.expression = p.expression;
+    row.value = p.value;
+    row.start = p.start;
+    row.lower = p.lower;
+    row.upper = p.upper;
+    row.standard_error = p.standard_error;
+    row.interval_low = p.interval_low;
+    row.interval_high = p.interval_high;
+    row.at_bound = p.at_bound;
+    d.parameters.push_back(row);
+  }
+  if (s.correlation.rows() == static_cast<Eigen::Index>(s.free_names.size()) && !s.free_names.empty()) {
+    d.correlation.names = s.free_names;
+    for (Eigen::Index r = 0; r < s.correlation.rows(); ++r) {
+      std::vector<double> row;
+      for (Eigen::Index c = 0; c < s.correlation.cols(); ++c) row.push_back(s.correlation(r, c));
+      d.correlation.matrix.push_back(row);
+    }
+  }
+  for (const HistoryEntry& h : s.history) d.history.push_back({h.evaluation, h.objective, h.best, h.stage});
+  d.warnings = s.warnings;
+
+  int failed = 0;
+  for (const TestReport& t : d.tests) failed += t.simulated ? 0 : 1;
+  d.outcome = !s.usable() ? Outcome::failed : failed > 0 ? Outcome::partial : Outcome::success;
+  if (d.outcome == Outcome::partial && d.message.find("failed") == std::string::npos)
+    d.message += (d.message.empty() ? "" : "; ") + std::to_string(failed) + " of " + std::to_string(d.tests.size()) +
+                 " tests could not be simulated at the reported parameters";
+
+  d.provenance.emplace_back("software", "triaxcal " + prov.software_version);
+  d.provenance.emplace_back("created", prov.created);
+  for (const auto& [path, hash] : prov.inputs) d.provenance.emplace_back("input " + path, "sha256 " + hash);
+  d.provenance.emplace_back("algorithms", "global " + s.global_algorithm + ", local " + s.local_algorithm +
+                                              ", loss " + s.loss + ", threads " + std::to_string(s.threads));
+  std::istringstream lines(s.options_text);
+  for (std::string line; std::getline(lines, line);) {
+    const auto eq = line.find(" = ");
+    if (eq != std::string::npos) d.provenance.emplace_back("option " + line.substr(0, eq), line.substr(eq + 3));
+  }
+
+  // Model envelope in s'-t where the model has c' and phi': t = c' cos phi' + s' sin phi'.
+  const FittedParameter* phi = find_parameter(s, "friction_angle");
+  const FittedParameter* coh = find_parameter(s, "cohesion");
+  if (phi && std::isfinite(phi->value)) {
+    const double c = coh && std::isfinite(coh->value) ? coh->value : 0.0;
+    d.strength.model = {"model envelope (c' = " + std::to_string(static_cast<int>(std::lround(c))) + " kPa, phi' = " +
+                            std::to_string(static_cast<int>(std::lround(phi->value))) + " deg)",
+                        c * std::cos(phi->value * kDeg), std::sin(phi->value * kDeg), kUnknown, kUnknown};
+  }
+  if (interpretation) {
+    const Interpretation& in = *interpretation;
+    d.strength.criterion = in.envelopes.empty() ? std::string() : to_string(in.envelopes.front().criterion);
+    if (!in.envelopes.empty()) {
+      const StrengthEnvelope& e = in.envelopes.front();
+      for (const UsedPoint& p : e.points) d.strength.points.push_back({p.specimen, p.s, p.t, p.used});
+      if (std::isfinite(e.st.intercept))
+        d.strength.regression = {"regression t = a + s' tan alpha", e.st.intercept, e.st.slope, kUnknown, kUnknown};
+      if (std::isfinite(e.design_phi)) {
+        const double c = std::isfinite(e.design_cohesion) ? e.design_cohesion : 0.0;
+        d.strength.design = {"conservative design line", c * std::cos(e.design_phi * kDeg), std::sin(e.design_phi * kDeg),
+                             kUnknown, kUnknown};
+      }
+      if (std::isfinite(e.pq.intercept))
+        d.strength.pq_lines.push_back({"envelope q = d + M p' (interpretation)", e.pq.intercept, e.pq.slope, kUnknown, kUnknown});
+      d.comparisons.push_back({"friction angle phi'", "deg", e.phi, phi ? phi->value : kUnknown,
+                               "s'-t regression (" + to_string(e.criterion) + ") vs model friction_angle"});
+      d.comparisons.push_back({"cohesion c'", "kPa", e.cohesion, coh ? coh->value : kUnknown,
+                               "s'-t regression vs model cohesion"});
+    }
+    if (std::isfinite(in.options.stress_low) && in.options.stress_low > 0) d.strength.range_low = in.options.stress_low;
+    if (std::isfinite(in.options.stress_high)) d.strength.range_high = in.options.stress_high;
+    if (!d.strength.points.empty() && !std::isfinite(d.strength.range_low)) d.strength.range_low = 0.0;
+    if (std::isfinite(in.critical_m))
+      d.strength.pq_lines.push_back({"critical state line q = M p'", 0.0, in.critical_m, kUnknown, kUnknown});
+    auto compare = [&](const char* quantity, const char* unit, double classical, const char* name, const char* basis) {
+      const FittedParameter* p = find_parameter(s, name);
+      if (p && std::isfinite(classical)) d.comparisons.push_back({quantity, unit, classical, p->value, basis});
+    };
+    compare("critical-state friction angle phi_cs", "deg", in.phi_cs, "critical_state_friction_angle",
+            "large-strain states vs model critical_state_friction_angle");
+    compare("critical-state friction angle phi_cs", "deg", in.phi_cs, "critical_friction_angle",
+            "large-strain states vs model critical_friction_angle");
+    compare("secant stiffness at p_ref", "kPa", in.secant_law.reference, "secant_stiffness_ref",
+            "E_50 power law vs model secant_stiffness_ref");
+    compare("unload-reload stiffness at p_ref", "kPa", in.unload_reload_law.reference, "unloading_stiffness_ref",
+            "E_ur power law vs model unloading_stiffness_ref");
+    compare("stiffness exponent m", "-", in.secant_law.exponent, "stress_exponent",
+            "E_50 power law vs model stress_exponent");
+    for (const std::string& w : in.warnings) d.warnings.push_back("interpretation: " + w);
+  }
+  return d;
+}
+
+}  // namespace triaxcal::report
