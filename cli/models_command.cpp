@@ -1,3 +1,5 @@
+#include <algorithm>
+#include <cmath>
 #include <iomanip>
 #include <iostream>
 
@@ -23,10 +25,13 @@ void add_models_command(CLI::App& app, Action& action) {
       }
       const ModelInfo& info = find_model(*name).info();
       std::cout << info.name << ": " << info.title << "\n\n";
-      std::cout << std::left << std::setw(26) << "parameter" << std::setw(7) << "unit" << std::setw(12) << "default"
+      std::size_t width = 10;
+      for (const ParameterInfo& p : info.parameters) width = std::max(width, p.name.size() + 2);
+      const int name_width = static_cast<int>(width);
+      std::cout << std::left << std::setw(name_width) << "parameter" << std::setw(7) << "unit" << std::setw(12) << "default"
                 << std::setw(18) << "bounds" << "description\n";
       for (const ParameterInfo& p : info.parameters)
-        std::cout << std::left << std::setw(26) << p.name << std::setw(7) << p.unit << std::setw(12)
+        std::cout << std::left << std::setw(name_width) << p.name << std::setw(7) << p.unit << std::setw(12)
                   << (std::isnan(p.default_value) ? std::string("required") : format_number(p.default_value))
                   << std::setw(18) << format_bounds(p) << p.description << "\n";
       if (!info.state_names.empty()) {

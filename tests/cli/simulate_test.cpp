@@ -114,7 +114,7 @@ TEST_CASE("models lists every model; models NAME lists its parameters with units
   CHECK(all.out.find("mohr_coulomb") != std::string::npos);
   const auto one = run_cli("models mohr_coulomb", "models1");
   CHECK(one.exit_code == 0);
-  CHECK(one.out.find("friction_angle            deg    required    (0, 90)") != std::string::npos);
+  CHECK(one.out.find("friction_angle    deg    required    (0, 90)") != std::string::npos);
 }
 
 TEST_CASE("the version and help options answer with exit 0") {
