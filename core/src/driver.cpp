@@ -1,7 +1,5 @@
 #include "triaxcal/driver.hpp"
 
-#include <Eigen/LU>
-
 #include <algorithm>
 #include <cmath>
 #include <sstream>
@@ -165,8 +163,38 @@ struct Control {
   }
 };
 
-using SmallMatrix = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, 0, 6, 6>;
-using SmallVector = Eigen::Matrix<double, Eigen::Dynamic, 1, 0, 6, 1>;
+// Gaussian elimination with partial pivoting on the k x k leading block (k <= 6), solving in place
+// into b. Written out because the systems are 1 to 3 unknowns in the hot loop, where Eigen's
+// dynamic-size LU cost a third of a drained increment. Returns false when a pivot falls below
+// 1e-13 of the largest entry (singular for this control).
+bool solve_small(double (&a)[6][6], double (&b)[6], int k) {
+  double largest = 0.0;
+  for (int i = 0; i < k; ++i)
+    for (int j = 0; j < k; ++j) largest = std::max(largest, std::abs(a[i][j]));
+  if (!(largest > 0.0) || !std::isfinite(largest)) return false;
+  const double tiny = 1e-13 * largest;
+  for (int col = 0; col < k; ++col) {
+    int pivot = col;
+    for (int i = col + 1; i < k; ++i)
+      if (std::abs(a[i][col]) > std::abs(a[pivot][col])) pivot = i;
+    if (!(std::abs(a[pivot][col]) > tiny)) return false;
+    if (pivot != col) {
+      for (int j = 0; j < k; ++j) std::swap(a[col][j], a[pivot][j]);
+      std::swap(b[col], b[pivot]);
+    }
+    for (int i = col + 1; i < k; ++i) {
+      const double f = a[i][col] / a[col][col];
+      for (int j = col; j < k; ++j) a[i][j] -= f * a[col][j];
+      b[i] -= f * b[col];
+    }
+  }
+  for (int i = k - 1; i >= 0; --i) {
+    double sum = b[i];
+    for (int j = i + 1; j < k; ++j) sum -= a[i][j] * b[j];
+    b[i] = sum / a[i][i];
+  }
+  return true;
+}
 
 class Runner {
  public:
@@ -209,7 +237,7 @@ class Runner {
 };
 
 void Runner::record(int stage, int step_in_stage, int cuts) {
-  StepRecord r;
+  StepRecord& r = result_.steps.emplace_back();
   r.stage = stage;
   r.step = step_in_stage;
   r.axial_strain = strain_[0];
@@ -225,7 +253,6 @@ void Runner::record(int stage, int step_in_stage, int cuts) {
   r.stress_ratio = t.radial != 0.0 ? t.axial / t.radial : kNotGiven;
   r.cuts = cuts;
   r.state = state_.internal;
-  result_.steps.push_back(r);
 }
 
 void Runner::fail(int stage, int step_in_stage, const std::string& why) {
@@ -336,8 +363,8 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
     return model_.integrate(state_, d, out, tangent).status == Status::ok;
   }
   const int k = c.nfree;
-  SmallMatrix jac(k, k);
-  SmallVector r(k);
+  double jac[6][6];
+  double r[6];
   double tol[6];
   const double scale = std::max(1.0, state_.stress.cwiseAbs().maxCoeff());
   for (int ii = 0; ii < k; ++ii) {
@@ -369,17 +396,14 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
       const int i = c.free[ii];
       for (int jj = 0; jj < k; ++jj) {
         const int j = c.free[jj];
-        jac(ii, jj) = c.a(i, j) + c.c.row(i).dot(dmat->col(j));
+        jac[ii][jj] = c.a(i, j) + c.c.row(i).dot(dmat->col(j));
       }
     }
-    Eigen::PartialPivLU<SmallMatrix> lu(jac);
-    const double det = lu.determinant();
-    if (!std::isfinite(det) || std::abs(det) <= 1e-13 * std::pow(jac.cwiseAbs().maxCoeff(), k)) {
+    if (!solve_small(jac, r, k)) {
       if (have_stress || elastic_predictor) return false;
       return substep(c, cs_start, s0, s1, d_acc, d, out, tangent, true);
     }
-    const SmallVector dx = lu.solve(r);
-    for (int ii = 0; ii < k; ++ii) d[c.free[ii]] -= dx[ii];
+    for (int ii = 0; ii < k; ++ii) d[c.free[ii]] -= r[ii];
     ++result_.newton_iterations;
     ++result_.model_calls;
     if (model_.integrate(state_, d, out, tangent).status != Status::ok) return false;
