@@ -107,6 +107,26 @@ TRIAXCAL_C_API int triaxcal_simulate(const triaxcal_model* model, const char* pr
  *  anything else to stop cleanly. */
 typedef int (*triaxcal_progress_fn)(const char* progress_json, void* user_data);
 
+/** Fits a model to a test series as `triaxcal fit` does, from a calibration-file JSON
+ *  ("triaxcal-calibration", docs/calibration-format.md). `source` is the path the JSON came from:
+ *  it names the JSON in messages, and a relative "series" path resolves against its folder
+ *  (NULL: "calibration_json", relative to the current directory). Writes no file.
+ *  `progress` (may be NULL) is called on the calling thread after every objective evaluation with
+ *  {"stage": "start"/"design"/"global"/"local", "evaluations", "objective", "best", "elapsed" (s)};
+ *  a nonzero return stops the run, which then ends cleanly with the best point so far
+ *  (TRIAXCAL_STOPPED, *out filled).
+ *  *out is {"format": "triaxcal-calibration-result", "version": 1, "model", "termination", "message",
+ *  "usable", "objective", "start_objective", "evaluations", "failed_simulations", "wall_time",
+ *  "warnings", "notes", "parameter_set" (a "triaxcal-parameters" object with intervals, fit quality,
+ *  provenance and caution; null when nothing usable was found), "tests": [{"id", "simulated",
+ *  "message", "objective", "curves": [{"x", "y", "unit", "points", "rmse", "r_squared", "x_values",
+ *  "measured", "simulated"}]}], "caution"}.
+ *  Codes: TRIAXCAL_OK (also when the optimiser ran out of budget: "termination" says so),
+ *  TRIAXCAL_STOPPED, TRIAXCAL_NO_USABLE_RESULT (every evaluation failed; *out filled),
+ *  TRIAXCAL_INVALID_INPUT (bad file, series, model or problem; *out NULL). */
+TRIAXCAL_C_API int triaxcal_calibrate(const char* calibration_json, const char* source, triaxcal_progress_fn progress,
+                                      void* user_data, triaxcal_text** out);
+
 #ifdef __cplusplus
 }
 #endif

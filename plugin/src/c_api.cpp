@@ -16,10 +16,6 @@
 #include "triaxcal/parameter_file.hpp"
 #include "triaxcal/protocol_json.hpp"
 
-struct triaxcal_text {
-  std::string data;
-};
-
 struct triaxcal_model {
   const triaxcal::ModelEntry* entry = nullptr;
   triaxcal::ParameterValues values;
@@ -52,8 +48,6 @@ int null_argument(const char* function, const char* argument) noexcept {
   }
   return TRIAXCAL_NULL_ARGUMENT;
 }
-
-std::string dump(const json& value) { return value.dump(-1, ' ', false, json::error_handler_t::replace); }
 
 int put_text(triaxcal_text** out, std::string text) {
   auto* t = new triaxcal_text{std::move(text)};

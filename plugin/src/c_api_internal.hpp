@@ -7,7 +7,14 @@
 #include "triaxcal/error.hpp"
 #include "triaxcal_c.h"
 
+struct triaxcal_text {
+  std::string data;
+};
+
 namespace triaxcal::plugin {
+
+/// Stores `text` in a new triaxcal_text at *out; returns TRIAXCAL_OK.
+int put_text(triaxcal_text** out, std::string text);
 
 /// "<function>: <prefix><message>" becomes this thread's last error; never throws.
 void set_last_error(const char* function, const char* message, const char* prefix = "") noexcept;

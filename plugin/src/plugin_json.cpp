@@ -8,6 +8,8 @@
 
 namespace triaxcal::plugin {
 
+std::string dump(const json& value) { return value.dump(-1, ' ', false, json::error_handler_t::replace); }
+
 json number_or_null(double value) { return std::isfinite(value) ? json(value) : json(nullptr); }
 
 json model_json(const ModelInfo& info) {

@@ -1,0 +1,170 @@
+// triaxcal_calibrate through the C ABI: a fit on the invented demo series (examples/calibrate),
+// the progress callback that stops, failures that yield no usable result, bad input and NULLs.
+
+#include <catch2/catch.hpp>
+#include <nlohmann/json.hpp>
+
+#include <string>
+
+#include "../../cli/commands.hpp"
+#include "cli_run.hpp"
+#include "triaxcal_c.h"
+
+using nlohmann::json;
+using triaxcal::test::source_path;
+
+namespace {
+
+struct Text {
+  triaxcal_text* t = nullptr;
+  ~Text() { triaxcal_text_free(t); }
+  json parse() const { return json::parse(triaxcal_text_data(t)); }
+};
+
+std::string last_error() { return triaxcal_last_error(); }
+
+/// A small, quick problem on the invented demo series: E', c' and phi' free, the rest fixed.
+std::string calibration(const std::string& parameters, const std::string& options = R"({"local": "bobyqa",
+    "local_evaluations": 150, "threads": 1})") {
+  return R"({"format": "triaxcal-calibration", "version": 1,
+    "description": "Invented demo (test): E' and phi' of the fictional demo sand",
+    "series": ")" + source_path("examples/calibrate/demo_series.json") + R"(",
+    "model": "mohr_coulomb", "steps_per_shear_stage": 60,
+    "tests": [{"specimen": "CD-50", "curves": ["deviator_stress"]},
+              {"specimen": "CD-200", "curves": ["deviator_stress"]}],
+    "parameters": )" + parameters + R"(, "options": )" + options + "}";
+}
+
+const std::string kTwoFree = R"({
+    "youngs_modulus": {"status": "free", "lower": 5000, "upper": 200000, "start": 15000, "scale": "log"},
+    "friction_angle": {"status": "free", "lower": 20, "upper": 45, "start": 28},
+    "cohesion": {"status": "free", "lower": 0, "upper": 30, "start": 2},
+    "poissons_ratio": 0.3, "dilation_angle": 0})";
+
+struct Counter {
+  int calls = 0;
+  int stop_after = 1 << 30;
+  std::string last;
+};
+
+int count_progress(const char* progress_json, void* user) {
+  auto* c = static_cast<Counter*>(user);
+  ++c->calls;
+  c->last = progress_json;
+  return c->calls >= c->stop_after ? 1 : 0;
+}
+
+}  // namespace
+
+TEST_CASE("calibrate fits E', c' and phi' to two invented CD tests: the fitted q curves follow the measured ones "
+          "(R^2 > 0.9) and the parameter set loads back",
+          "[plugin][c_abi][calibrate]") {
+  Counter counter;
+  Text text;
+  REQUIRE(triaxcal_calibrate(calibration(kTwoFree).c_str(), nullptr, &count_progress, &counter, &text.t) ==
+          TRIAXCAL_OK);
+  CHECK(last_error().empty());
+  const json r = text.parse();
+  CHECK(r.at("format") == "triaxcal-calibration-result");
+  CHECK(r.at("model") == "mohr_coulomb");
+  CHECK(r.at("usable") == true);
+  CHECK(r.at("objective").get<double>() < r.at("start_objective").get<double>());
+  CHECK(counter.calls == r.at("evaluations").get<long>());
+  CHECK(json::parse(counter.last).contains("best"));
+  REQUIRE(r.at("tests").size() == 2);
+  for (const json& t : r.at("tests")) {
+    CHECK(t.at("simulated") == true);
+    REQUIRE(t.at("curves").size() == 1);
+    const json& c = t.at("curves")[0];
+    CHECK(c.at("y") == "deviator_stress");
+    CHECK(c.at("unit") == "kPa");
+    CHECK(c.at("x_values").size() == c.at("measured").size());
+    CHECK(c.at("simulated").size() == c.at("measured").size());
+    CAPTURE(t.at("id"));
+    CHECK(c.at("r_squared").get<double>() > 0.9);
+  }
+  // The parameter set carries the caution and is accepted by model_create.
+  const json& set = r.at("parameter_set");
+  CHECK(set.at("format") == "triaxcal-parameters");
+  CHECK(set.at("caution") == triaxcal::cli::kCaution);
+  CHECK(r.at("caution") == triaxcal::cli::kCaution);
+  const double phi = set.at("parameters").at("friction_angle").at("value").get<double>();
+  CHECK(phi > 20.0);
+  CHECK(phi < 45.0);
+  triaxcal_model* model = nullptr;
+  CHECK(triaxcal_model_create(set.dump().c_str(), &model) == TRIAXCAL_OK);
+  triaxcal_model_free(model);
+}
+
+TEST_CASE("a progress callback that returns nonzero stops the calibration after that evaluation with the best so far",
+          "[plugin][c_abi][calibrate]") {
+  Counter counter;
+  counter.stop_after = 4;
+  Text text;
+  CHECK(triaxcal_calibrate(calibration(kTwoFree).c_str(), nullptr, &count_progress, &counter, &text.t) ==
+        TRIAXCAL_STOPPED);
+  CHECK(last_error().rfind("triaxcal_calibrate: stopped by the progress callback: ", 0) == 0);
+  REQUIRE(text.t != nullptr);
+  const json r = text.parse();
+  CHECK(r.at("termination") == "stopped");
+  CHECK(counter.calls == 4);
+  CHECK(r.at("evaluations").get<long>() >= 4);  // the Jacobian at the best point may add evaluations
+  CHECK(r.at("parameter_set").is_object());
+}
+
+TEST_CASE("a calibration in which no parameter set can be built ends with no_usable_result and no parameter set",
+          "[plugin][c_abi][calibrate]") {
+  // dilation_angle tied above friction_angle: Mohr-Coulomb rejects every candidate.
+  const std::string params = R"({
+    "friction_angle": {"status": "free", "lower": 20, "upper": 45, "start": 28},
+    "dilation_angle": {"status": "tied", "expression": "friction_angle + 5"},
+    "youngs_modulus": 20000})";
+  Text text;
+  CHECK(triaxcal_calibrate(calibration(params, R"({"local": "bobyqa", "local_evaluations": 20, "threads": 1})").c_str(),
+                           nullptr, nullptr, nullptr, &text.t) == TRIAXCAL_NO_USABLE_RESULT);
+  REQUIRE(text.t != nullptr);
+  const json r = text.parse();
+  CHECK(r.at("usable") == false);
+  CHECK(r.at("parameter_set").is_null());
+  CHECK(last_error() == "triaxcal_calibrate: " + r.at("message").get<std::string>());
+}
+
+TEST_CASE("calibrate names the file and key of bad input and leaves *out NULL", "[plugin][c_abi][calibrate]") {
+  Text text;
+  SECTION("malformed JSON, named by the source given") {
+    CHECK(triaxcal_calibrate("{\"format\"", "site/fit.json", nullptr, nullptr, &text.t) == TRIAXCAL_INVALID_INPUT);
+    CHECK(last_error().rfind("triaxcal_calibrate: site/fit.json: line 1, column ", 0) == 0);
+  }
+  SECTION("a series file that does not exist, resolved against the source's folder") {
+    const std::string c = R"({"format": "triaxcal-calibration", "version": 1, "series": "nowhere.json",
+      "model": "mohr_coulomb", "tests": [{"specimen": "A", "curves": ["deviator_stress"]}],
+      "parameters": {"youngs_modulus": 1000, "friction_angle": 30}})";
+    CHECK(triaxcal_calibrate(c.c_str(), "/tmp/triaxcal-no-dir/fit.json", nullptr, nullptr, &text.t) ==
+          TRIAXCAL_INVALID_INPUT);
+    CHECK(last_error() == "triaxcal_calibrate: /tmp/triaxcal-no-dir/nowhere.json: cannot open the file");
+  }
+  SECTION("a specimen that is not in the series") {
+    std::string c = calibration(kTwoFree);
+    c.replace(c.find("CD-50"), 5, "CD-77");
+    CHECK(triaxcal_calibrate(c.c_str(), nullptr, nullptr, nullptr, &text.t) == TRIAXCAL_INVALID_INPUT);
+    CHECK(last_error().rfind("triaxcal_calibrate: calibration_json: tests[0].specimen: \"CD-77\" is not in the test "
+                             "series",
+                             0) == 0);
+  }
+  SECTION("an unknown model") {
+    std::string c = calibration(kTwoFree);
+    c.replace(c.find("\"mohr_coulomb\""), 14, "\"basalt\"");
+    CHECK(triaxcal_calibrate(c.c_str(), nullptr, nullptr, nullptr, &text.t) == TRIAXCAL_INVALID_INPUT);
+    CHECK(last_error().rfind("triaxcal_calibrate: calibration_json: model: unknown model 'basalt'", 0) == 0);
+  }
+  CHECK(text.t == nullptr);
+}
+
+TEST_CASE("calibrate answers NULL arguments with null_argument naming them", "[plugin][c_abi][calibrate]") {
+  Text text;
+  CHECK(triaxcal_calibrate(nullptr, nullptr, nullptr, nullptr, &text.t) == TRIAXCAL_NULL_ARGUMENT);
+  CHECK(last_error() == "triaxcal_calibrate: calibration_json is NULL");
+  CHECK(triaxcal_calibrate("{}", nullptr, nullptr, nullptr, nullptr) == TRIAXCAL_NULL_ARGUMENT);
+  CHECK(last_error() == "triaxcal_calibrate: out is NULL");
+  CHECK(text.t == nullptr);
+}
