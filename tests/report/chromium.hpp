@@ -14,7 +14,8 @@
 namespace triaxcal::test {
 
 inline std::string find_chromium() {
-  if (const char* env = std::getenv("TRIAXCAL_CHROMIUM"); env && *env) return env;
+  if (const char* env = std::getenv("TRIAXCAL_CHROMIUM"); env && *env)
+    return std::filesystem::exists(env) ? std::string(env) : std::string();  // a wrong path is not a browser
   for (const char* name : {"chromium", "chromium-browser", "google-chrome"}) {
     const std::string cmd = std::string("command -v ") + name + " >/dev/null 2>&1";
     if (std::system(cmd.c_str()) == 0) return name;

@@ -50,6 +50,10 @@ const char* drainage_name(Drainage d) {
 struct Reader {
   std::string source;
 
+  static std::string sub(const std::string& path, const char* key) {
+    return path.empty() ? std::string(key) : path + "." + key;
+  }
+
   [[noreturn]] void fail(const std::string& path, const std::string& what) const {
     throw InputError(detail::where(source, path) + ": " + what);
   }
@@ -59,27 +63,27 @@ struct Reader {
   }
   double num(const json& j, const char* key, const std::string& path, double fallback = kUnknown) const {
     if (!j.contains(key) || j[key].is_null()) return fallback;
-    if (!j[key].is_number()) fail(path + "." + key, "expected a number or null, found " + j[key].dump());
+    if (!j[key].is_number()) fail(sub(path, key), "expected a number or null, found " + j[key].dump());
     return j[key].get<double>();
   }
   long integer(const json& j, const char* key, const std::string& path, long fallback = 0) const {
     if (!j.contains(key)) return fallback;
-    if (!j[key].is_number_integer()) fail(path + "." + key, "expected an integer, found " + j[key].dump());
+    if (!j[key].is_number_integer()) fail(sub(path, key), "expected an integer, found " + j[key].dump());
     return j[key].get<long>();
   }
   bool boolean(const json& j, const char* key, const std::string& path, bool fallback) const {
     if (!j.contains(key)) return fallback;
-    if (!j[key].is_boolean()) fail(path + "." + key, "expected true or false, found " + j[key].dump());
+    if (!j[key].is_boolean()) fail(sub(path, key), "expected true or false, found " + j[key].dump());
     return j[key].get<bool>();
   }
   std::string str(const json& j, const char* key, const std::string& path, const std::string& fallback = "") const {
     if (!j.contains(key)) return fallback;
-    if (!j[key].is_string()) fail(path + "." + key, "expected a string, found " + j[key].dump());
+    if (!j[key].is_string()) fail(sub(path, key), "expected a string, found " + j[key].dump());
     return j[key].get<std::string>();
   }
   const json* array(const json& j, const char* key, const std::string& path) const {
     if (!j.contains(key)) return nullptr;
-    if (!j[key].is_array()) fail(path + "." + key, "expected an array, found " + j[key].dump());
+    if (!j[key].is_array()) fail(sub(path, key), "expected an array, found " + j[key].dump());
     return &j[key];
   }
   std::vector<double> nums(const json& j, const char* key, const std::string& path) const {
@@ -89,14 +93,14 @@ struct Reader {
         const json& v = (*a)[i];
         if (v.is_null()) out.push_back(kUnknown);
         else if (v.is_number()) out.push_back(v.get<double>());
-        else fail(path + "." + key + "[" + std::to_string(i) + "]", "expected a number or null, found " + v.dump());
+        else fail(sub(path, key) + "[" + std::to_string(i) + "]", "expected a number or null, found " + v.dump());
       }
     return out;
   }
   XY xy(const json& j, const char* key, const std::string& path) const {
     XY c;
     if (!j.contains(key)) return c;
-    const std::string p = path + "." + key;
+    const std::string p = sub(path, key);
     object(j[key], p, {"x", "y"});
     c.x = nums(j[key], "x", p);
     c.y = nums(j[key], "y", p);
@@ -108,7 +112,7 @@ struct Reader {
   CurvePair pair(const json& j, const char* key, const std::string& path) const {
     CurvePair c;
     if (!j.contains(key)) return c;
-    const std::string p = path + "." + key;
+    const std::string p = sub(path, key);
     object(j[key], p, {"measured", "simulated"});
     c.measured = xy(j[key], "measured", p);
     c.simulated = xy(j[key], "simulated", p);
@@ -121,7 +125,7 @@ struct Reader {
   template <class F>
   void each(const json& j, const char* key, const std::string& path, F f) const {
     if (const json* a = array(j, key, path))
-      for (std::size_t i = 0; i < a->size(); ++i) f((*a)[i], path + "." + key + "[" + std::to_string(i) + "]");
+      for (std::size_t i = 0; i < a->size(); ++i) f((*a)[i], sub(path, key) + "[" + std::to_string(i) + "]");
   }
   std::vector<std::string> strings(const json& j, const char* key, const std::string& path) const {
     std::vector<std::string> out;
