@@ -1,6 +1,7 @@
 // `triaxcal fit CALIBRATION.json`: fit a model's parameters to a test series and write the
 // parameter set, the curves and an HDF5 archive.
 
+#include <optional>
 #include <unistd.h>
 
 #include <atomic>
@@ -18,6 +19,9 @@
 #include "triaxcal/calibration_output.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/models/registry.hpp"
+#include "triaxcal/interpret.hpp"
+#include "triaxcal/report.hpp"
+#include "triaxcal/report_input.hpp"
 #include "triaxcal/series.hpp"
 #include "triaxcal/version.hpp"
 
@@ -118,9 +122,31 @@ int run(const FitOptions& o) {
 
   std::printf("%s", summary.brief().c_str());
   if (o.report) std::printf("\n%s", summary.full().c_str());
+
+  // The report input (and, with --report, the HTML page) is written for a failed calibration too,
+  // so that a reviewer sees what failed. The classical interpretation of the fitted specimens'
+  // material sits beside the model in it.
+  const fs::path report_input = dir / (stem + ".report.json");
+  const fs::path report_html = dir / (stem + ".report.html");
+  {
+    InterpretOptions iopt;
+    for (const Specimen& s : series.specimens)
+      if (!problem.tests.empty() && s.id == problem.tests.front().id) iopt.material = s.material;
+    std::optional<Interpretation> interpretation;
+    try {
+      interpretation = interpret(series, iopt);
+    } catch (const InputError& e) {
+      std::printf("note: no classical interpretation in the report: %s\n", e.what());
+    }
+    const report::ReportData rd = report::report_from_calibration(summary, problem, prov, &series,
+                                                                  interpretation ? &*interpretation : nullptr);
+    write_file_atomically(report_input, report::report_input_json(rd));
+    if (o.report) write_file_atomically(report_html, report::render_report(rd));
+  }
   if (!summary.usable()) {
     std::signal(SIGINT, previous);
-    std::fprintf(stderr, "triaxcal: fit: %s\n", summary.message.c_str());
+    std::fprintf(stderr, "triaxcal: fit: %s (report input: %s)\n", summary.message.c_str(),
+                 report_input.string().c_str());
     return exit_nothing_usable;
   }
   const std::string json = format_parameter_set(summary, entry->info(), prov);
@@ -137,7 +163,10 @@ int run(const FitOptions& o) {
     std::printf("\nnot converged: %s\n", summary.message.c_str());
   std::printf("\nparameter set: %s\ncurves:        %s\narchive:       %s\n", params.string().c_str(),
               curves.string().c_str(), archive.string().c_str());
-  if (o.report) std::printf("report:        %s\n", (dir / (stem + ".report.txt")).string().c_str());
+  std::printf("report input:  %s\n", report_input.string().c_str());
+  if (o.report)
+    std::printf("report:        %s\n               %s\n", report_html.string().c_str(),
+                (dir / (stem + ".report.txt")).string().c_str());
   std::printf("use it with:   triaxcal simulate --model %s --params %s --protocol ...\n", file.model.c_str(),
               params.string().c_str());
   std::printf("\n%s\n", kCaution);
@@ -157,7 +186,8 @@ void add_fit_command(CLI::App& app, Action& action) {
       ->check(CLI::Range(0, 1024));
   cmd->add_option("--seed", o->seed, "Seed of the design and the global stage (default: the file's option, else 1)")
       ->check(CLI::Range(0LL, 4294967295LL));
-  cmd->add_flag("--report", o->report, "Print the full report and write it beside the results");
+  cmd->add_flag("--report", o->report,
+                "Print the full summary and write the HTML report (<name>.report.html) and a text summary beside the results");
   cmd->callback([&action, o] { action = [o] { return run(*o); }; });
 }
 
