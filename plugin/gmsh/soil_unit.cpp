@@ -1,0 +1,175 @@
+#include "soil_unit.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <memory>
+
+#include "../../core/src/json_checks.hpp"
+#include "calibration_run.hpp"
+#include "triaxcal/driver.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/models/registry.hpp"
+#include "triaxcal/parameter_file.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal::gmsh {
+
+using nlohmann::json;
+
+namespace {
+
+/// Values by model order, with the status and interval a fitted set carries beside each value.
+std::vector<ParameterOutput> parameter_outputs(const ModelInfo& info, const ParameterValues& values, const json& set) {
+  std::vector<ParameterOutput> out;
+  const json* params = set.contains("parameters") ? &set.at("parameters") : nullptr;
+  for (std::size_t i = 0; i < info.parameters.size(); ++i) {
+    ParameterOutput p;
+    p.name = info.parameters[i].name;
+    p.unit = info.parameters[i].unit;
+    p.value = values[i];
+    if (params && params->contains(p.name) && params->at(p.name).is_object()) {
+      const json& j = params->at(p.name);
+      if (j.contains("status") && j.at("status").is_string()) p.status = j.at("status").get<std::string>();
+      if (j.contains("interval_95") && j.at("interval_95").is_array() && j.at("interval_95").size() == 2 &&
+          j.at("interval_95")[0].is_number() && j.at("interval_95")[1].is_number()) {
+        p.has_interval = true;
+        p.low = j.at("interval_95")[0].get<double>();
+        p.high = j.at("interval_95")[1].get<double>();
+      }
+    }
+    out.push_back(p);
+  }
+  return out;
+}
+
+TestProtocol check_test(const UnitSettings& s) {
+  TestProtocol t;
+  t.name = "check test";
+  t.initial.stress = triaxial_stress(s.check_p, s.check_p);
+  t.initial.void_ratio = s.check_void_ratio;
+  t.initial.overconsolidation_ratio = s.check_ocr;
+  Stage shear;
+  shear.type = StageType::shear;
+  shear.label = s.check_drainage + " compression";
+  shear.drainage = s.check_drainage == "undrained" ? Drainage::undrained : Drainage::drained;
+  shear.axial_strain = s.check_axial_strain;
+  shear.steps = 300;
+  t.stages.push_back(shear);
+  return t;
+}
+
+void from_parameter_set(const Project& project, const UnitSettings& s, UnitResult& r) {
+  if (s.parameter_set.empty()) throw InputError("parameter set file: not given (choose a parameter-set JSON)");
+  const std::string path = project.resolve(s.parameter_set).string();
+  const std::string text = detail::read_text_file(path);
+  const ParameterFile file = parse_parameter_file(text, path);
+  const ModelEntry* entry = nullptr;
+  try {
+    entry = &find_model(file.model);
+  } catch (const InputError& e) {
+    throw InputError(path + ": model: " + e.what());
+  }
+  const ParameterValues values = resolve_parameter_file(entry->info(), file);
+  const std::unique_ptr<Model> model = entry->create(values, path);
+  const TestProtocol protocol = check_test(s);
+  const SimulationResult sim = simulate(DriverOptions{}, *model, protocol);
+  r.model = entry->info().name;
+  // Every parameter, defaults filled in, so that a solver input writer needs no triaxcal defaults;
+  // statuses and intervals of a fitted set are kept in `parameters`.
+  r.parameters = parameter_outputs(entry->info(), values, json::parse(text));
+  r.parameter_set = plugin::parameter_set_json(entry->info(), values, "resolved from " + path);
+  Curve c;
+  c.label = "check test (" + s.check_drainage + ", p' = " + std::to_string(static_cast<int>(std::lround(s.check_p))) +
+            " kPa)";
+  for (const StepRecord& step : sim.steps) {
+    c.axial_strain.push_back(step.axial_strain);
+    c.q.push_back(step.q);
+    r.check_peak_q = std::max(r.check_peak_q, step.q);
+  }
+  r.curves.push_back(c);
+  r.ok = true;
+  r.message = "parameter set " + s.parameter_set + " (" + r.model + ") loaded";
+  if (!sim.ok()) r.message += "; the check test stopped early: " + sim.message;
+}
+
+void from_calibration(const Project& project, const UnitSettings& s, UnitResult& r,
+                      const CalibrationCallback& progress) {
+  if (s.calibration.empty()) throw InputError("calibration file: not given (choose a calibration JSON)");
+  const std::string path = project.resolve(s.calibration).string();
+  const plugin::CalibrationRun run = plugin::run_calibration(detail::read_text_file(path), path, progress);
+  const CalibrationSummary& sum = run.summary;
+  r.model = sum.model;
+  if (!sum.usable()) throw InputError(path + ": the calibration found no usable parameter set: " + sum.message);
+  r.parameter_set = json::parse(run.parameter_set);
+  r.parameters = parameter_outputs(*run.model, sum.values, r.parameter_set);
+  json curves = json::array();
+  for (const TestFit& t : sum.tests)
+    for (const CurveFit& c : t.curves) {
+      curves.push_back({{"test", t.id},
+                        {"quantity", to_string(c.y)},
+                        {"unit", unit_of(c.y)},
+                        {"rmse", plugin::number_or_null(c.rmse)},
+                        {"r_squared", plugin::number_or_null(c.r_squared)}});
+      if (c.y != Quantity::deviator_stress || c.x != Quantity::axial_strain) continue;
+      Curve m, f;
+      m.label = t.id + " measured";
+      m.measured = true;
+      f.label = t.id + " fitted";
+      m.axial_strain = c.xs;
+      f.axial_strain = c.xs;
+      m.q = c.measured;
+      f.q = c.simulated;
+      r.curves.push_back(m);
+      r.curves.push_back(f);
+    }
+  r.fit = {{"termination", to_string(sum.termination)},
+           {"message", sum.message},
+           {"objective", plugin::number_or_null(sum.objective)},
+           {"evaluations", sum.evaluations},
+           {"warnings", sum.warnings},
+           {"curves", curves}};
+  r.ok = true;
+  r.message = "calibration " + s.calibration + " (" + r.model + "): " + to_string(sum.termination) + ", objective " +
+              format_number(sum.objective);
+}
+
+}  // namespace
+
+json UnitResult::to_json(const std::string& computed) const {
+  json j = {{"status", ok ? "ok" : "error"}, {"message", message}, {"computed", computed}};
+  if (!model.empty()) j["model"] = model;
+  if (ok) {
+    json params = json::array();
+    for (const ParameterOutput& p : parameters) {
+      json o = {{"name", p.name}, {"unit", p.unit}, {"value", plugin::number_or_null(p.value)}};
+      if (!p.status.empty()) o["status"] = p.status;
+      if (p.has_interval) o["interval_95"] = {p.low, p.high};
+      params.push_back(o);
+    }
+    j["parameters"] = params;
+    j["parameter_set"] = parameter_set;
+    if (!fit.is_null()) j["fit"] = fit;
+    if (fit.is_null()) j["check_peak_q"] = check_peak_q;
+  }
+  return j;
+}
+
+UnitResult compute_unit(const Project& project, const UnitSettings& settings, const CalibrationCallback& progress) {
+  UnitResult r;
+  try {
+    switch (settings.source) {
+      case Source::parameter_set: from_parameter_set(project, settings, r); break;
+      case Source::calibration: from_calibration(project, settings, r, progress); break;
+      case Source::none: r.message = "no source chosen"; break;
+    }
+  } catch (const InputError& e) {
+    r = UnitResult{};
+    r.message = e.what();
+  } catch (const std::exception& e) {
+    r = UnitResult{};
+    r.message = std::string("internal error: ") + e.what();
+  }
+  return r;
+}
+
+}  // namespace triaxcal::gmsh

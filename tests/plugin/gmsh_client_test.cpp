@@ -1,0 +1,344 @@
+// The Gmsh ONELAB client (plugin/gmsh) with the real gmsh in batch mode ("-": initialize, check,
+// compute). Each test works in its own folder with its own GMSH_HOME (the ONELAB socket lives
+// there, so parallel tests do not collide) and runs gmsh under `timeout 60`. The model is the
+// invented two-layer example (examples/gmsh) with the invented demo series (examples/calibrate).
+// What the client wrote into Gmsh's ONELAB database is read back from the database Gmsh saves
+// (<model>.db, Solver.AutoSaveDatabase = 1).
+
+#include <catch2/catch.hpp>
+#include <nlohmann/json.hpp>
+
+#include <sys/wait.h>
+
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <map>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "cli_run.hpp"
+
+namespace fs = std::filesystem;
+using nlohmann::json;
+using triaxcal::test::slurp;
+using triaxcal::test::source_path;
+
+#if defined(TRIAXCAL_GMSH) && defined(TRIAXCAL_GMSH_CLIENT) && defined(TRIAXCAL_GMSH_OPTIONS)
+#define TRIAXCAL_HAVE_GMSH 1
+#endif
+
+namespace {
+
+/// One ONELAB parameter as Gmsh's database stores it (onelab::parameter::toChar, onelab.h 1.3).
+struct DbEntry {
+  std::string type;  ///< "number" or "string"
+  bool read_only = false;
+  std::map<std::string, std::string> attributes;
+  std::vector<std::string> values;
+};
+
+std::map<std::string, DbEntry> read_db(const fs::path& path) {
+  std::map<std::string, DbEntry> db;
+  const std::string text = slurp(path.string());
+  std::size_t pos = text.find('\n');  // first line: a comment
+  while (pos != std::string::npos && pos + 1 < text.size()) {
+    ++pos;
+    const std::size_t space = text.find(' ', pos);
+    if (space == std::string::npos) break;
+    const std::size_t n = std::stoul(text.substr(pos, space - pos));
+    const std::string record = text.substr(space + 1, n);
+    pos = space + 1 + n;  // at the '\n'
+    std::vector<std::string> f;
+    std::size_t a = 0;
+    for (std::size_t b; (b = record.find('\0', a)) != std::string::npos; a = b + 1) f.push_back(record.substr(a, b - a));
+    if (f.size() < 10) continue;
+    DbEntry e;
+    e.type = f[1];
+    e.read_only = f[7] == "1";
+    std::size_t k = 8;
+    const int attributes = std::stoi(f[k++]);
+    for (int i = 0; i < attributes && k + 1 < f.size(); ++i, k += 2) e.attributes[f[k]] = f[k + 1];
+    const int clients = std::stoi(f[k++]);
+    k += 2 * static_cast<std::size_t>(clients);
+    const int values = std::stoi(f[k++]);
+    for (int i = 0; i < values && k < f.size(); ++i) e.values.push_back(f[k++]);
+    db[f[2]] = e;
+  }
+  return db;
+}
+
+struct GmshRun {
+  int exit_code = -1;
+  std::string log;
+};
+
+/// A fresh copy of the examples: <dir>/gmsh (model, project, files) and <dir>/calibrate (series).
+fs::path fresh_case(const std::string& tag) {
+  const fs::path dir = fs::absolute(fs::path("plugin_gmsh") / tag);
+  fs::remove_all(dir);
+  fs::create_directories(dir / "home");
+  fs::copy(source_path("examples/gmsh"), dir / "gmsh", fs::copy_options::recursive);
+  fs::copy(source_path("examples/calibrate"), dir / "calibrate", fs::copy_options::recursive);
+  std::ofstream(dir / "gmsh" / "test.opt") << "Solver.AutoSaveDatabase = 1;\nSolver.AutoMesh = 0;\n";
+  return dir;
+}
+
+void write(const fs::path& path, const std::string& text) { std::ofstream(path, std::ios::binary) << text; }
+
+#ifdef TRIAXCAL_HAVE_GMSH
+/// gmsh with the build's options snippet, in <dir>/gmsh, with its own GMSH_HOME and HOME.
+GmshRun run_gmsh(const fs::path& dir, const std::string& args) {
+  const std::string cmd = "cd '" + (dir / "gmsh").string() + "' && GMSH_HOME='" + (dir / "home").string() +
+                          "' HOME='" + (dir / "home").string() + "' timeout 60 " + TRIAXCAL_GMSH + " -option '" +
+                          TRIAXCAL_GMSH_OPTIONS + "' -option test.opt " + args + " > gmsh.log 2>&1";
+  const int status = std::system(cmd.c_str());
+  GmshRun r;
+  r.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  r.log = slurp((dir / "gmsh" / "gmsh.log").string());
+  return r;
+}
+#endif
+
+std::string value(const std::map<std::string, DbEntry>& db, const std::string& name) {
+  const auto it = db.find(name);
+  if (it == db.end() || it->second.values.empty()) return "<absent>";
+  return it->second.values[0];
+}
+
+std::size_t count(const std::string& text, const std::string& what) {
+  std::size_t n = 0;
+  for (std::size_t p = text.find(what); p != std::string::npos; p = text.find(what, p + 1)) ++n;
+  return n;
+}
+
+json read_json(const fs::path& path) { return json::parse(slurp(path.string())); }
+
+}  // namespace
+
+#ifndef TRIAXCAL_HAVE_GMSH
+
+TEST_CASE("the Gmsh client tests need gmsh and libgmsh-private-headers-dev", "[plugin][gmsh]") {
+  FAIL("gmsh or onelab.h was not found when CMake ran: apt-get install gmsh libgmsh-private-headers-dev, then re-run "
+       "the configure step");
+}
+
+#else
+
+TEST_CASE("batch gmsh runs the client through initialize, check and compute; each soil unit's outputs are read-only "
+          "and highlighted in Gmsh's database",
+          "[plugin][gmsh]") {
+  const fs::path dir = fresh_case("round_trip");
+  const GmshRun r = run_gmsh(dir, "two_layers.geo two_layers.txproj -");
+  INFO(r.log);
+  REQUIRE(r.exit_code == 0);
+  CHECK(count(r.log, "Running 'triaxcal'") == 3);  // initialize, check, compute
+  CHECK(r.log.find("Error") == std::string::npos);
+  CHECK(r.log.find("triaxcal: 2 of 2 soil unit(s) computed") != std::string::npos);
+  CHECK(r.log.find("Caution: these parameters are for numerical analysis.") != std::string::npos);
+  const auto db = read_db(dir / "gmsh" / "two_layers.db");
+  CHECK(value(db, "triaxcal/Action") == "compute");
+  // One soil unit a physical surface; the boundary curves get none.
+  CHECK(value(db, "triaxcal/1Soil units/upper_sand/0Source") == "calibration");
+  CHECK(value(db, "triaxcal/1Soil units/lower_clay/0Source") == "parameter set");
+  CHECK(value(db, "triaxcal/1Soil units/base/0Source") == "<absent>");
+  CHECK(value(db, "triaxcal/1Soil units/ground_surface/0Source") == "<absent>");
+  CHECK(value(db, "triaxcal/2Results/upper_sand/0Status") == "ok");
+  CHECK(value(db, "triaxcal/2Results/upper_sand/1Model") == "mohr_coulomb");
+  CHECK(value(db, "triaxcal/2Results/lower_clay/0Status") == "ok");
+  CHECK(value(db, "triaxcal/2Results/lower_clay/1Model") == "modified_cam_clay");
+  // The parameter set's values, in model order, with units in the names.
+  CHECK(std::stod(value(db, "triaxcal/2Results/lower_clay/200lambda")) == 0.18);
+  CHECK(std::stod(value(db, "triaxcal/2Results/lower_clay/203critical_friction_angle [deg]")) == 26.0);
+  const std::string phi_name = "triaxcal/2Results/upper_sand/203friction_angle [deg]";
+  REQUIRE(db.count(phi_name) == 1);
+  const double phi = std::stod(value(db, phi_name));
+  CHECK(phi > 20.0);  // inside the calibration's box
+  CHECK(phi < 45.0);
+  CHECK(db.at(phi_name).read_only);
+  CHECK(db.at(phi_name).attributes.at("Highlight") == "LightYellow");
+  CHECK(value(db, "triaxcal/2Results/upper_sand/303friction_angle 95 % interval").rfind("[", 0) == 0);
+  CHECK(value(db, "triaxcal/2Results/upper_sand/4Fit termination") != "<absent>");
+  CHECK(std::stod(value(db, "triaxcal/2Results/upper_sand/6Fit R2 CD-100 deviator_stress")) > 0.9);
+  CHECK(std::stod(value(db, "triaxcal/2Results/lower_clay/7Check test peak q [kPa]")) > 0.0);
+  // Inputs stay editable.
+  CHECK_FALSE(db.at("triaxcal/1Soil units/lower_clay/3Check test p' [kPa]").read_only);
+  // The graph views file was written and merged.
+  CHECK(r.log.find("two_layers.triaxcal-views.pos") != std::string::npos);
+  const std::string pos = slurp((dir / "gmsh" / "two_layers.triaxcal-views.pos").string());
+  CHECK(pos.find("View \"triaxcal: upper_sand: CD-50 measured q [kPa]\"") != std::string::npos);
+  CHECK(pos.find("View \"triaxcal: upper_sand: CD-50 fitted q [kPa]\"") != std::string::npos);
+  CHECK(pos.find("View \"triaxcal: lower_clay: check test (undrained, p' = 80 kPa) q [kPa]\"") != std::string::npos);
+}
+
+TEST_CASE("the project file keeps each soil unit's settings and parameter set keyed by physical group name, and the "
+          "export holds every unit's parameter set",
+          "[plugin][gmsh]") {
+  const fs::path dir = fresh_case("project_file");
+  const GmshRun r = run_gmsh(dir, "two_layers.geo two_layers.txproj -");
+  INFO(r.log);
+  REQUIRE(r.exit_code == 0);
+  const json project = read_json(dir / "gmsh" / "two_layers.txproj");
+  CHECK(project.at("format") == "triaxcal-gmsh-project");
+  const json& units = project.at("units");
+  CHECK(units.size() == 2);
+  const json& clay = units.at("lower_clay");
+  CHECK(clay.at("tag") == 21);
+  CHECK(clay.at("dimension") == 2);
+  CHECK(clay.at("source") == "parameter_set");
+  CHECK(clay.at("check_test").at("p") == 80.0);  // the user's settings, kept
+  CHECK(clay.at("check_test").at("drainage") == "undrained");
+  CHECK(clay.at("result").at("status") == "ok");
+  CHECK(clay.at("result").at("parameter_set").at("model") == "modified_cam_clay");
+  CHECK(clay.at("result").at("parameter_set").at("parameters").at("lambda").at("value") == 0.18);
+  const json& sand = units.at("upper_sand");
+  CHECK(sand.at("tag") == 22);
+  CHECK(sand.at("result").at("status") == "ok");
+  CHECK(sand.at("result").at("parameter_set").at("format") == "triaxcal-parameters");
+  CHECK(sand.at("result").at("fit").at("curves").size() == 6);
+
+  const json exported = read_json(dir / "gmsh" / "two_layers.soil-units.json");
+  CHECK(exported.at("format") == "triaxcal-soil-units");
+  CHECK(exported.at("caution").get<std::string>().rfind("Caution:", 0) == 0);
+  CHECK(exported.at("units").size() == 2);
+  CHECK(exported.at("units").at("upper_sand").at("parameter_set") == sand.at("result").at("parameter_set"));
+  // Defaults filled in: a solver input writer needs no triaxcal defaults.
+  CHECK(exported.at("units").at("lower_clay").at("parameter_set").at("parameters").at("lode_dependence").at("value") ==
+        0.0);
+}
+
+TEST_CASE("a renumbered model (.geo_unrolled) still finds its soil units by physical group name", "[plugin][gmsh]") {
+  const fs::path dir = fresh_case("renumbered");
+  // Gmsh writes the unrolled geometry; it drops the explicit physical tags 21 and 22.
+  const GmshRun unroll = run_gmsh(dir, "two_layers.geo -0");
+  INFO(unroll.log);
+  REQUIRE(unroll.exit_code == 0);
+  REQUIRE(fs::exists(dir / "gmsh" / "two_layers.geo_unrolled"));
+  fs::rename(dir / "gmsh" / "two_layers.geo_unrolled", dir / "gmsh" / "renumbered.geo");
+  const GmshRun r = run_gmsh(dir, "renumbered.geo two_layers.txproj -");
+  INFO(r.log);
+  REQUIRE(r.exit_code == 0);
+  const auto db = read_db(dir / "gmsh" / "renumbered.db");
+  std::map<std::string, int> tags;
+  for (int i = 1; i <= 4; ++i)
+    tags[value(db, "Gmsh/Physical group " + std::to_string(i) + "/Name")] =
+        std::stoi(value(db, "Gmsh/Physical group " + std::to_string(i) + "/Number"));
+  REQUIRE(tags.count("lower_clay") == 1);
+  REQUIRE(tags.count("upper_sand") == 1);
+  CHECK(tags.at("lower_clay") != 21);  // renumbered indeed
+  CHECK(tags.at("upper_sand") != 22);
+  CHECK(value(db, "triaxcal/2Results/lower_clay/0Status") == "ok");
+  CHECK(value(db, "triaxcal/2Results/upper_sand/0Status") == "ok");
+  CHECK(value(db, "triaxcal/1Soil units/lower_clay/4Check test drainage") == "undrained");
+  const json project = read_json(dir / "gmsh" / "two_layers.txproj");
+  CHECK(project.at("units").size() == 2);
+  CHECK(project.at("units").at("lower_clay").at("tag") == tags.at("lower_clay"));
+  CHECK(project.at("units").at("lower_clay").at("check_test").at("p") == 80.0);
+}
+
+TEST_CASE("an edit made in Gmsh's tree wins over the project file and is saved to it; other settings are kept",
+          "[plugin][gmsh]") {
+  const fs::path dir = fresh_case("user_edit");
+  // The edit reaches Gmsh's ONELAB database before the client runs, as a GUI edit would (Gmsh
+  // 4.8's parser has SetNumber but no SetString; DefineConstant sets a string that is absent).
+  write(dir / "gmsh" / "edited.geo",
+        "Include \"two_layers.geo\";\n"
+        "SetNumber(\"triaxcal/1Soil units/lower_clay/3Check test p' [kPa]\", 150);\n"
+        "DefineConstant[ d = {\"drained\", Name \"triaxcal/1Soil units/lower_clay/4Check test drainage\"} ];\n");
+  const GmshRun r = run_gmsh(dir, "edited.geo two_layers.txproj -");
+  INFO(r.log);
+  REQUIRE(r.exit_code == 0);
+  const json clay = read_json(dir / "gmsh" / "two_layers.txproj").at("units").at("lower_clay");
+  CHECK(clay.at("check_test").at("p") == 150.0);
+  CHECK(clay.at("check_test").at("drainage") == "drained");
+  CHECK(clay.at("check_test").at("void_ratio") == 1.2);  // from the project file, untouched
+  CHECK(clay.at("check_test").at("ocr") == 1.5);
+  CHECK(clay.at("parameter_set") == "lower_clay.parameters.json");
+  const std::string pos = slurp((dir / "gmsh" / "two_layers.triaxcal-views.pos").string());
+  CHECK(pos.find("check test (drained, p' = 150 kPa)") != std::string::npos);
+}
+
+TEST_CASE("bad input in one soil unit shows an error in Gmsh's console and leaves the other unit's results intact",
+          "[plugin][gmsh]") {
+  const fs::path dir = fresh_case("bad_input");
+  {
+    const GmshRun first = run_gmsh(dir, "two_layers.geo two_layers.txproj -");
+    INFO(first.log);
+    REQUIRE(first.exit_code == 0);
+  }
+  const fs::path gdir = dir / "gmsh";
+  json project = read_json(gdir / "two_layers.txproj");
+  const json clay_before = project.at("units").at("lower_clay").at("result").at("parameter_set");
+  std::string expected;
+  SECTION("a parameter-set file that does not exist") {
+    project["units"]["upper_sand"]["source"] = "parameter_set";
+    project["units"]["upper_sand"]["parameter_set"] = "no_such_sand.json";
+    expected = "Error   : triaxcal - triaxcal: soil unit 'upper_sand': " + (gdir / "no_such_sand.json").string() +
+               ": cannot open the file";
+  }
+  SECTION("a malformed test series") {
+    write(dir / "calibrate" / "demo_series.json", "{\"format\": \"triaxcal-test-series\", \"version\": 1,,}");
+    expected = "Error   : triaxcal - triaxcal: soil unit 'upper_sand': " +
+               (dir / "calibrate" / "demo_series.json").lexically_normal().string() + ": line 1, column ";
+  }
+  SECTION("a calibration that finds no usable parameter set") {
+    json c = read_json(gdir / "upper_sand.calibration.json");
+    c["parameters"]["dilation_angle"] = {{"status", "tied"}, {"expression", "friction_angle + 5"}};
+    c["constraints"] = json::array();
+    c["options"]["local_evaluations"] = 20;
+    write(gdir / "upper_sand.calibration.json", c.dump());
+    expected = "Error   : triaxcal - triaxcal: soil unit 'upper_sand': " +
+               (gdir / "upper_sand.calibration.json").string() +
+               ": the calibration found no usable parameter set: ";
+  }
+  write(gdir / "two_layers.txproj", project.dump(2));
+  const GmshRun r = run_gmsh(dir, "two_layers.geo two_layers.txproj -");
+  INFO(r.log);
+  CHECK(r.log.find(expected) != std::string::npos);
+  CHECK(r.log.find("1 of 2 soil unit(s) computed, 1 failed") != std::string::npos);
+  const auto db = read_db(gdir / "two_layers.db");
+  CHECK(value(db, "triaxcal/2Results/upper_sand/0Status").rfind("error: ", 0) == 0);
+  CHECK(value(db, "triaxcal/2Results/upper_sand/203friction_angle [deg]") == "<absent>");  // no stale numbers
+  CHECK(value(db, "triaxcal/2Results/lower_clay/0Status") == "ok");
+  CHECK(std::stod(value(db, "triaxcal/2Results/lower_clay/200lambda")) == 0.18);
+  const json after = read_json(gdir / "two_layers.txproj");
+  CHECK(after.at("units").at("upper_sand").at("result").at("status") == "error");
+  CHECK(after.at("units").at("lower_clay").at("result").at("status") == "ok");
+  CHECK(after.at("units").at("lower_clay").at("result").at("parameter_set") == clay_before);
+  const json exported = read_json(gdir / "two_layers.soil-units.json");
+  CHECK(exported.at("units").size() == 1);
+  CHECK(exported.at("units").contains("lower_clay"));
+}
+
+TEST_CASE("a malformed project file is reported in Gmsh's console and left as it is", "[plugin][gmsh]") {
+  const fs::path dir = fresh_case("bad_project");
+  const std::string broken = "{\"format\": \"triaxcal-gmsh-project\", \"version\": 1, \"units\": {\"x\": 3}}";
+  write(dir / "gmsh" / "two_layers.txproj", broken);
+  const GmshRun r = run_gmsh(dir, "two_layers.geo two_layers.txproj -");
+  INFO(r.log);
+  CHECK(r.log.find("Error   : triaxcal - triaxcal: " + (dir / "gmsh" / "two_layers.txproj").string() +
+                   ": units.x: expected an object, found number (the project file is left as it is)") != std::string::npos);
+  CHECK(slurp((dir / "gmsh" / "two_layers.txproj").string()) == broken);
+}
+
+TEST_CASE("merging the views file again replaces the triaxcal views instead of adding to them", "[plugin][gmsh]") {
+  const fs::path dir = fresh_case("views");
+  const GmshRun r = run_gmsh(dir, "two_layers.geo two_layers.txproj -");
+  INFO(r.log);
+  REQUIRE(r.exit_code == 0);
+  const std::string pos = slurp((dir / "gmsh" / "two_layers.triaxcal-views.pos").string());
+  const std::size_t views = count(pos, "\nView \"triaxcal: ");
+  CHECK(views == 7);  // 3 tests x (measured, fitted) for the sand + the clay's check test
+  write(dir / "gmsh" / "count.geo",
+        "View \"someone else's view\" { SP(0,0,0){1}; };\n"
+        "Merge \"two_layers.triaxcal-views.pos\";\n"
+        "Merge \"two_layers.triaxcal-views.pos\";\n"
+        "Merge \"two_layers.triaxcal-views.pos\";\n"
+        "Printf(\"views now %g\", PostProcessing.NbViews);\n");
+  const GmshRun c = run_gmsh(dir, "count.geo -0");
+  INFO(c.log);
+  CHECK(c.log.find("views now " + std::to_string(views + 1)) != std::string::npos);
+}
+
+#endif
