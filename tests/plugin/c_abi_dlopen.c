@@ -66,6 +66,13 @@ typedef int (*validate_fn)(const char*, triaxcal_text**);
 typedef int (*create_fn)(const char*, triaxcal_model**);
 typedef void (*model_free_fn)(triaxcal_model*);
 typedef int (*simulate_fn)(const triaxcal_model*, const char*, triaxcal_text**);
+typedef int (*calibrate_fn)(const char*, const char*, triaxcal_progress_fn, void*, triaxcal_text**);
+
+static int never_stop(const char* progress_json, void* user_data) {
+  (void)progress_json;
+  (void)user_data;
+  return 0;
+}
 
 int main(int argc, char** argv) {
   void* lib;
@@ -100,6 +107,7 @@ int main(int argc, char** argv) {
     RESOLVE(create_fn, model_create, "triaxcal_model_create");
     RESOLVE(model_free_fn, model_free, "triaxcal_model_free");
     RESOLVE(simulate_fn, simulate, "triaxcal_simulate");
+    RESOLVE(calibrate_fn, calibrate, "triaxcal_calibrate");
 
     CHECK(version() != NULL && strlen(version()) >= 5);
     CHECK(abi() == TRIAXCAL_C_ABI_VERSION);
@@ -153,6 +161,14 @@ int main(int argc, char** argv) {
     text_free(NULL);
     CHECK(text_data(NULL) == NULL);
     CHECK(text_size(NULL) == 0);
+    /* calibrate: its fits are tested in c_calibrate_test.cpp; here the C calling convention with a
+     * C callback, NULL and malformed arguments. */
+    CHECK(calibrate("{\"format\": ", "fit.json", never_stop, NULL, &text) == TRIAXCAL_INVALID_INPUT);
+    CHECK(strstr(last_error(), "triaxcal_calibrate: fit.json: line 1") != NULL);
+    CHECK(text == NULL);
+    CHECK(calibrate(NULL, NULL, NULL, NULL, &text) == TRIAXCAL_NULL_ARGUMENT);
+    CHECK(strcmp(last_error(), "triaxcal_calibrate: calibration_json is NULL") == 0);
+    CHECK(calibrate("{}", NULL, NULL, NULL, NULL) == TRIAXCAL_NULL_ARGUMENT);
     free(params);
     free(protocol);
   }
