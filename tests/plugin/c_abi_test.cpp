@@ -99,7 +99,7 @@ TEST_CASE("list_models gives every registered model with the metadata of its Mod
   }
 }
 
-TEST_CASE("describe_model gives one model; an unknown name gives invalid_input naming the known models",
+TEST_CASE("describe_model gives one model, and an unknown name gives invalid_input naming the known models",
           "[plugin][c_abi]") {
   Text text;
   REQUIRE(triaxcal_describe_model("mohr_coulomb", &text.t) == TRIAXCAL_OK);
@@ -192,7 +192,7 @@ TEST_CASE("validate_parameters names the argument, key, value and rule of a bad 
   CHECK(text.t == nullptr);
 }
 
-TEST_CASE("model_create builds a model; bad sets fail like validate_parameters and leave *out NULL", "[plugin][c_abi]") {
+TEST_CASE("model_create builds a model, and bad sets fail like validate_parameters and leave *out NULL", "[plugin][c_abi]") {
   ModelHandle model;
   REQUIRE(triaxcal_model_create(sand().c_str(), &model.m) == TRIAXCAL_OK);
   CHECK(model.m != nullptr);

@@ -124,7 +124,7 @@ json read_json(const fs::path& path) { return json::parse(slurp(path.string()));
 
 }  // namespace
 
-TEST_CASE("batch gmsh runs the client through initialize, check and compute; each soil unit's outputs are read-only "
+TEST_CASE("batch gmsh runs the client through initialize, check and compute, and each soil unit's outputs are read-only "
           "and highlighted in Gmsh's database",
           "[plugin][gmsh]") {
   const fs::path dir = fresh_case("round_trip");
@@ -235,7 +235,7 @@ TEST_CASE("a renumbered model (.geo_unrolled) still finds its soil units by phys
   CHECK(project.at("units").at("lower_clay").at("check_test").at("p") == 80.0);
 }
 
-TEST_CASE("an edit made in Gmsh's tree wins over the project file and is saved to it; other settings are kept",
+TEST_CASE("an edit made in Gmsh's tree wins over the project file and is saved to it, other settings are kept",
           "[plugin][gmsh]") {
   const fs::path dir = fresh_case("user_edit");
   // The edit reaches Gmsh's ONELAB database before the client runs, as a GUI edit would (Gmsh
