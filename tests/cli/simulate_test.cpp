@@ -108,7 +108,7 @@ TEST_CASE("simulate: an unknown model gives exit 2 and the known models") {
   CHECK(r.err.rfind("triaxcal: error: unknown model 'cam_clay' (known: mohr_coulomb", 0) == 0);
 }
 
-TEST_CASE("models lists every model; models NAME lists its parameters with units and bounds") {
+TEST_CASE("models lists every model and models NAME lists its parameters with units and bounds") {
   const auto all = run_cli("models", "models");
   CHECK(all.exit_code == 0);
   CHECK(all.out.find("mohr_coulomb") != std::string::npos);

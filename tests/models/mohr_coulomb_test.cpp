@@ -148,7 +148,7 @@ TEST_CASE("drained compression at constant s3': slope E, q_f of Mohr-Coulomb, di
   CHECK(rate == Approx(-2 * spsi / (1 - spsi)).epsilon(1e-9));
 }
 
-TEST_CASE("drained path at constant s3' is straight: slope 3 in p'-q and 1 in s'-t; both criteria pick one step") {
+TEST_CASE("drained path at constant s3' is straight: slope 3 in p'-q and 1 in s'-t, and both criteria pick one step") {
   // Common practice, no source.
   const auto mc = default_mc(8.0, 33.0, 5.0);
   const auto r = simulate(DriverOptions{}, *mc, triaxial(80, Drainage::drained, 0.08, 400));
