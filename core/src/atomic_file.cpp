@@ -8,11 +8,27 @@
 
 namespace triaxcal {
 
-void write_file_atomically(const std::filesystem::path& path, std::string_view content) {
+std::filesystem::path temporary_path_beside(const std::filesystem::path& path) {
   namespace fs = std::filesystem;
   const fs::path dir = path.has_parent_path() ? path.parent_path() : fs::path(".");
   std::random_device rd;
-  const fs::path tmp = dir / ("." + path.filename().string() + ".tmp" + std::to_string(rd()));
+  return dir / ("." + path.filename().string() + ".tmp" + std::to_string(rd()));
+}
+
+void replace_with_temporary(const std::filesystem::path& tmp, const std::filesystem::path& path) {
+  namespace fs = std::filesystem;
+  std::error_code ec;
+  fs::rename(tmp, path, ec);
+  if (ec) {
+    std::error_code ignored;
+    fs::remove(tmp, ignored);
+    throw InputError(path.string() + ": cannot replace the file: " + ec.message());
+  }
+}
+
+void write_file_atomically(const std::filesystem::path& path, std::string_view content) {
+  namespace fs = std::filesystem;
+  const fs::path tmp = temporary_path_beside(path);
   {
     std::ofstream out(tmp, std::ios::binary | std::ios::trunc);
     if (!out) throw InputError(path.string() + ": cannot write (directory missing or not writable)");
@@ -24,13 +40,7 @@ void write_file_atomically(const std::filesystem::path& path, std::string_view c
       throw InputError(path.string() + ": write failed (disk full?)");
     }
   }
-  std::error_code ec;
-  fs::rename(tmp, path, ec);
-  if (ec) {
-    std::error_code ignored;
-    fs::remove(tmp, ignored);
-    throw InputError(path.string() + ": cannot replace the file: " + ec.message());
-  }
+  replace_with_temporary(tmp, path);
 }
 
 }  // namespace triaxcal

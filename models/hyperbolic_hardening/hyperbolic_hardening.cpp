@@ -194,13 +194,6 @@ double shear_locus(const HyperbolicHardening::Constants& k, double q, double s3)
   return 2.0 * q / (ei * (1.0 - q / qa)) - 2.0 * q / eur;
 }
 
-Vec6 sym_outer(const Vec3& u, const Vec3& v) {
-  Vec6 r;
-  r << u[0] * v[0], u[1] * v[1], u[2] * v[2], 0.5 * (u[0] * v[1] + u[1] * v[0]), 0.5 * (u[1] * v[2] + u[2] * v[1]),
-      0.5 * (u[2] * v[0] + u[0] * v[2]);
-  return r;
-}
-
 }  // namespace
 
 const ModelInfo& HyperbolicHardening::model_info() {
@@ -644,13 +637,13 @@ IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const 
     tangent(voigt::zx, voigt::zx) = 0.5 * coef[2];
   } else {
     Vec6 nv[3];
-    for (int i = 0; i < 3; ++i) nv[i] = sym_outer(axes.col(i), axes.col(i));
+    for (int i = 0; i < 3; ++i) nv[i] = symmetric_dyad(axes.col(i), axes.col(i));
     out.stress = r.sig[0] * nv[0] + r.sig[1] * nv[1] + r.sig[2] * nv[2];
     tangent.setZero();
     for (int a = 0; a < 3; ++a)
       for (int b = 0; b < 3; ++b) tangent.noalias() += dp(a, b) * nv[a] * nv[b].transpose();
     for (int k = 0; k < 3; ++k) {
-      const Vec6 sv = sym_outer(axes.col(pair_a[k]), axes.col(pair_b[k]));
+      const Vec6 sv = symmetric_dyad(axes.col(pair_a[k]), axes.col(pair_b[k]));
       tangent.noalias() += 2.0 * coef[k] * sv * sv.transpose();
     }
   }

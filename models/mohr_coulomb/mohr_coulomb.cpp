@@ -164,14 +164,6 @@ int shear_slot(int i, int j) {
   return lo == 0 ? (hi == 1 ? voigt::xy : voigt::zx) : voigt::yz;
 }
 
-// Voigt (stress-type) vector of sym(u v^T).
-Vec6 sym_outer(const Vec3& u, const Vec3& v) {
-  Vec6 r;
-  r << u[0] * v[0], u[1] * v[1], u[2] * v[2], 0.5 * (u[0] * v[1] + u[1] * v[0]), 0.5 * (u[1] * v[2] + u[2] * v[1]),
-      0.5 * (u[2] * v[0] + u[0] * v[2]);
-  return r;
-}
-
 }  // namespace
 
 IntegrationResult MohrCoulomb::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
@@ -238,7 +230,7 @@ IntegrationResult MohrCoulomb::integrate(const MaterialState& in, const Vec6& de
     return {Status::ok, 1};
   }
   Vec6 n[3];
-  for (int i = 0; i < 3; ++i) n[i] = sym_outer(axes.col(i), axes.col(i));
+  for (int i = 0; i < 3; ++i) n[i] = symmetric_dyad(axes.col(i), axes.col(i));
   out.stress = returned[0] * n[0] + returned[1] * n[1] + returned[2] * n[2];
 
   // Consistent tangent of an isotropic tensor function (de Souza Neto, Peric & Owen 2008,
@@ -256,7 +248,7 @@ IntegrationResult MohrCoulomb::integrate(const MaterialState& in, const Vec6& de
         coef = 2.0 * shear_ * (returned[a] - returned[b]) / gap;
       else
         coef = 0.5 * (dp(a, a) - dp(a, b) + dp(b, b) - dp(b, a));
-      const Vec6 s = sym_outer(axes.col(a), axes.col(b));
+      const Vec6 s = symmetric_dyad(axes.col(a), axes.col(b));
       tangent += 2.0 * coef * s * s.transpose();
     }
   }

@@ -114,6 +114,15 @@ inline Vec6 triaxial_stress_from_pq(double p, double q) {
   return triaxial_stress(p + 2.0 * q / 3.0, p - q / 3.0);
 }
 
+/// Voigt (stress-type) vector of the symmetric dyad sym(u v^T) = (u v^T + v u^T)/2; with unit
+/// principal directions n_a, sum_a s_a sym(n_a n_a) is the stress in the general frame.
+inline Vec6 symmetric_dyad(const Vec3& u, const Vec3& v) {
+  Vec6 r;
+  r << u[0] * v[0], u[1] * v[1], u[2] * v[2], 0.5 * (u[0] * v[1] + u[1] * v[0]), 0.5 * (u[1] * v[2] + u[2] * v[1]),
+      0.5 * (u[2] * v[0] + u[0] * v[2]);
+  return r;
+}
+
 /// Isotropic linear elastic stiffness in Voigt form with engineering shear strains.
 inline Mat6 isotropic_elastic_stiffness(double bulk_modulus, double shear_modulus) {
   Mat6 d = Mat6::Zero();

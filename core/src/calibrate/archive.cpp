@@ -3,9 +3,9 @@
 #include <hdf5.h>
 
 #include <cmath>
-#include <random>
 #include <system_error>
 
+#include "triaxcal/atomic_file.hpp"
 #include "triaxcal/calibration_output.hpp"
 #include "triaxcal/error.hpp"
 
@@ -250,9 +250,7 @@ void write_contents(const Writer& w, hid_t file, const CalibrationSummary& s, co
 void write_calibration_archive(const std::filesystem::path& path, const CalibrationSummary& summary, const ModelInfo& model,
                                const CalibrationProvenance& provenance, const std::string& parameter_set_json) {
   namespace fs = std::filesystem;
-  const fs::path dir = path.has_parent_path() ? path.parent_path() : fs::path(".");
-  std::random_device rd;
-  const fs::path tmp = dir / ("." + path.filename().string() + ".tmp" + std::to_string(rd()));
+  const fs::path tmp = temporary_path_beside(path);
   H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);
   const Writer w(path.string());
   const hid_t file = H5Fcreate(tmp.string().c_str(), H5F_ACC_TRUNC, H5P_DEFAULT, H5P_DEFAULT);
@@ -270,13 +268,7 @@ void write_calibration_archive(const std::filesystem::path& path, const Calibrat
     fs::remove(tmp, ignored);
     throw InputError(path.string() + ": cannot write the HDF5 archive (closing failed: disk full?)");
   }
-  std::error_code ec;
-  fs::rename(tmp, path, ec);
-  if (ec) {
-    std::error_code ignored;
-    fs::remove(tmp, ignored);
-    throw InputError(path.string() + ": cannot replace the file: " + ec.message());
-  }
+  replace_with_temporary(tmp, path);
 }
 
 }  // namespace triaxcal
