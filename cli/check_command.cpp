@@ -1,3 +1,4 @@
+#include <algorithm>
 #include <cstdio>
 #include <memory>
 
@@ -37,6 +38,24 @@ int run_check(const std::string& path) {
       }
     }
     std::printf("  (end state of each shear stage; strains from the data zero; compression positive)\n");
+    bool oedometer_header = false;
+    for (const Specimen& sp : s.specimens)
+      for (int k : sp.oedometer_stages()) {
+        const auto [first, last] = sp.stage_points(k);
+        if (first > last) continue;
+        if (!oedometer_header) {
+          std::printf("\n  %-10s %-5s %6s %10s %10s %10s %8s\n", "oedometer", "stage", "points", "eps_a[-]", "s_a'[kPa]",
+                      "max s_a'", "e[-]");
+          oedometer_header = true;
+        }
+        const ReducedCurves& c = sp.curves;
+        const std::size_t e = static_cast<std::size_t>(last);
+        double largest = 0.0;
+        for (int i = first; i <= last; ++i) largest = std::max(largest, c.axial_stress[static_cast<std::size_t>(i)]);
+        std::printf("  %-10s %-5d %6d %10s %10s %10s %8s\n", sp.id.c_str(), k, last - first + 1, num(c.axial_strain[e], 4).c_str(),
+                    num(c.axial_stress[e], 1).c_str(), num(largest, 1).c_str(), num(c.void_ratio[e], 3).c_str());
+      }
+    if (oedometer_header) std::printf("  (end state of each oedometer stage: effective axial stress, largest reached)\n");
   }
   if (!s.warnings.empty()) {
     std::printf("\n%zu warning(s):\n", s.warnings.size());

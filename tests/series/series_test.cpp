@@ -173,6 +173,12 @@ TEST_CASE("every specimen protocol of the invented example runs to completion wi
     REQUIRE(r.ok());
     // Without loops, the simulated axial strain of the first shear stage, from the data zero, equals
     // the measured one at the stage's last row.
+    if (sp.is_oedometer()) {
+      // An oedometer ends at its last declared stress step.
+      const auto& steps = sp.stages[static_cast<std::size_t>(sp.oedometer_stages().front())].stress_steps;
+      CHECK(r.steps.back().axial_stress == Approx(steps.back()).epsilon(1e-7));
+      continue;
+    }
     const int shear = sp.shear_stages().front();
     if (!sp.stages[static_cast<std::size_t>(shear)].loops.empty()) continue;
     int last_stage = -1;

@@ -149,6 +149,10 @@ struct Interpretation {
     std::string specimen;
     int stage = -1;
     double lambda = kNotGiven, kappa = kNotGiven;
+    std::string basis;  ///< "consolidation: e - ln p'" or "oedometer: e - ln s_a'" (s_a' as a proxy of p')
+    double compression_index = kNotGiven, swelling_index = kNotGiven;  ///< C_c, C_s in e - log10 = lambda, kappa ln 10
+    double constrained_modulus = kNotGiven;         ///< oedometer: d s_a' / d e_a on the first loading (kPa)
+    double constrained_modulus_stress = kNotGiven;  ///< the s_a' it is taken at (kPa): InterpretOptions::reference_pressure
   };
   std::vector<Compressibility> compressibility;
   // pore pressure

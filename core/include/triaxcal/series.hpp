@@ -24,7 +24,9 @@ namespace triaxcal {
 inline constexpr const char* kTestSeriesFormat = "triaxcal-test-series";
 inline constexpr int kTestSeriesVersion = 1;
 
-enum class SpecimenStageType { saturation, consolidation, shear };
+/// oedometer: a one-dimensional compression test (zero radial strain) in load steps; a specimen with an
+/// oedometer stage has no other stage.
+enum class SpecimenStageType { saturation, consolidation, shear, oedometer };
 enum class ConsolidationPath { isotropic, k0, anisotropic };
 /// CU: consolidated undrained, CD: consolidated drained, UU: unconsolidated undrained.
 enum class ShearType { cu, cd, uu };
@@ -59,6 +61,10 @@ struct SpecimenStage {
   ShearDirection direction = ShearDirection::compression;
   std::vector<UnloadReloadLoop> loops;
 
+  // oedometer: the effective axial stress (kPa) at the end of each load step, in order; a change of
+  // direction starts an unloading or reloading branch.
+  std::vector<double> stress_steps;
+
   // which data points belong to the stage
   int data_stage = -1;                 ///< value of the stage column that marks its points, or -1
   double strain_from = kNotGiven;      ///< declared axial-strain range when there is no stage column
@@ -71,13 +77,14 @@ struct ReducedCurves {
   std::vector<int> line;                      ///< 1-based line in the data file
   std::vector<double> axial_strain;           ///< from the data zero (decimal)
   std::vector<double> volumetric_strain;      ///< from the data zero (decimal; 0 when undrained)
-  std::vector<double> deviator_stress;        ///< q = s_a - s_r (kPa, signed), corrected
+  std::vector<double> deviator_stress;        ///< q = s_a - s_r (kPa, signed), corrected; NaN in an oedometer
+                                              ///< (s_r' is not measured), as are radial_stress, mean_stress, cell_pressure
   std::vector<double> excess_pore_pressure;   ///< u - back pressure (kPa)
   std::vector<double> axial_stress;           ///< s_a' (kPa)
   std::vector<double> radial_stress;          ///< s_r' (kPa)
   std::vector<double> mean_stress;            ///< p' (kPa)
   std::vector<double> cell_pressure;          ///< total radial stress (kPa), for total-stress (UU) results
-  std::vector<double> void_ratio;             ///< NaN when the void ratio is not known
+  std::vector<double> void_ratio;             ///< NaN when the void ratio is not known (oedometer: column or e0 - (1 + e0) e_a)
 
   std::size_t size() const { return axial_strain.size(); }
 };
@@ -128,6 +135,9 @@ struct Specimen {
 
   /// Indices of the shear stages, in order.
   std::vector<int> shear_stages() const;
+  /// Indices of the oedometer stages (at most one, the specimen's only stage).
+  std::vector<int> oedometer_stages() const;
+  bool is_oedometer() const { return !oedometer_stages().empty(); }
   /// Point indices [first, last] of one stage's points; empty range (first > last) when none.
   std::pair<int, int> stage_points(int stage) const;
 };
@@ -168,6 +178,10 @@ TRIAXCAL_CORE_EXPORT SeriesCheck check_test_series(const std::string& path);
 /// shared between the segments around unload-reload loops); the protocol starts after saturation.
 TRIAXCAL_CORE_EXPORT TestProtocol specimen_protocol(const Specimen& specimen, int steps_per_shear_stage /* e.g. 300 */);
 
+/// An oedometer specimen gives one drained oedometer stage per loading / unloading branch of its
+/// stress_steps (target = the branch's last step), starting isotropic at initial_effective_stress or
+/// else at the axial stress of the first data row; its steps_per_shear_stage increments are shared
+/// between the branches in proportion to |ln(s_a' end / s_a' start)| (at least 5 each).
 /// specimen_protocol with the map back to the specimen's stages.
 struct SpecimenProtocol {
   TestProtocol protocol;

@@ -413,6 +413,61 @@ StiffnessLaw fit_stiffness(const std::vector<double>& s3, const std::vector<doub
   return law;
 }
 
+/// lambda, kappa and the constrained modulus of an oedometer stage (see the note in interpret()).
+Interpretation::Compressibility interpret_oedometer(const Specimen& sp, int k, double stress) {
+  Interpretation::Compressibility cm;
+  cm.specimen = sp.id;
+  cm.stage = k;
+  cm.basis = "oedometer: e - ln s_a' (s_a' as a proxy of p')";
+  cm.constrained_modulus_stress = stress;
+  const auto [first, last] = sp.stage_points(k);
+  if (last - first + 1 < 2) return cm;
+  const auto& sa = sp.curves.axial_stress;
+  const auto& ea = sp.curves.axial_strain;
+  const auto& e = sp.curves.void_ratio;
+  const auto at = [](int i) { return static_cast<std::size_t>(i); };
+  // First loading: from the first point up to the first turning point (largest stress before a decrease).
+  int top = last;
+  for (int i = first; i < last; ++i)
+    if (sa[at(i + 1)] < sa[at(i)]) {
+      top = i;
+      break;
+    }
+  const double smax = sa[at(top)];
+  {
+    std::vector<double> x, y;
+    double running = 0.0;
+    for (int i = first; i <= top; ++i) {
+      if (sa[at(i)] < running) continue;
+      running = sa[at(i)];
+      if (sa[at(i)] >= 0.25 * smax && given(e[at(i)])) {
+        x.push_back(std::log(sa[at(i)]));
+        y.push_back(e[at(i)]);
+      }
+    }
+    if (x.size() >= 2) cm.lambda = -fit_line(x, y).slope;
+  }
+  if (top < last) {
+    std::vector<double> x, y;
+    for (int i = top; i <= last && (i == top || sa[at(i)] < sa[at(i - 1)]); ++i)
+      if (given(e[at(i)])) {
+        x.push_back(std::log(sa[at(i)]));
+        y.push_back(e[at(i)]);
+      }
+    if (x.size() >= 2) cm.kappa = -fit_line(x, y).slope;
+  }
+  for (int i = first; i < top; ++i) {
+    const double a = sa[at(i)], b = sa[at(i + 1)];
+    if (a < stress && stress <= b && ea[at(i + 1)] > ea[at(i)]) {
+      cm.constrained_modulus = stress * std::log(b / a) / (ea[at(i + 1)] - ea[at(i)]);
+      break;
+    }
+  }
+  cm.compression_index = cm.lambda * std::log(10.0);
+  cm.swelling_index = cm.kappa * std::log(10.0);
+  return cm;
+}
+
 }  // namespace
 
 Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
@@ -453,6 +508,7 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
       Interpretation::Compressibility cm;
       cm.specimen = sp.id;
       cm.stage = static_cast<int>(k);
+      cm.basis = "consolidation: e - ln p'";
       if (xl.size() >= 3) cm.lambda = -fit_line(xl, yl).slope;
       if (xu.size() >= 2) {
         // The unloading branch starts at the largest p' reached.
@@ -460,8 +516,29 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
         yu.insert(yu.begin(), yl.back());
         cm.kappa = -fit_line(xu, yu).slope;
       }
-      if (given(cm.lambda) || given(cm.kappa)) res.compressibility.push_back(cm);
+      if (given(cm.lambda) || given(cm.kappa)) {
+        cm.compression_index = cm.lambda * std::log(10.0);
+        cm.swelling_index = cm.kappa * std::log(10.0);
+        res.compressibility.push_back(cm);
+      }
     }
+    for (int k : sp.oedometer_stages()) {
+      Interpretation::Compressibility cm = interpret_oedometer(sp, k, o.reference_pressure);
+      if (given(cm.lambda) || given(cm.kappa) || given(cm.constrained_modulus)) res.compressibility.push_back(cm);
+      else res.warnings.push_back(sp.id + " stages[" + std::to_string(k) + "] (oedometer): no lambda, kappa or constrained modulus (too few loading or unloading points, or no void ratio)");
+    }
+  }
+  {
+    bool any_oedometer = false;
+    for (const auto& c : res.compressibility) any_oedometer = any_oedometer || c.basis.rfind("oedometer", 0) == 0;
+    if (any_oedometer)
+      res.notes.push_back(
+          "oedometer: lambda from e - ln s_a' on the first-loading points at the largest s_a' so far with s_a' >= s_a'max / 4, "
+          "kappa from the first unloading branch (from its turning point); the vertical effective stress s_a' is used as a "
+          "proxy of p' (on the normal compression line K0 is constant, so the slopes in ln s_a' and ln p' agree; on "
+          "unloading K0 rises and kappa from s_a' is an approximation): common practice, no source. C_c = lambda ln 10 and "
+          "C_s = kappa ln 10 (e - log10 s_a'). Constrained modulus E_oed = d s_a'/d e_a (e_a from the reference height) at "
+          "s_a' = p_ref on the first loading, interpolated as s_a' d(ln s_a')/d e_a over the step that spans p_ref");
   }
   if (!o.material.empty() && res.materials.empty()) {
     std::string list;

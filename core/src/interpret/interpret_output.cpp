@@ -137,7 +137,10 @@ std::string interpretation_json(const Interpretation& r) {
                             {"phi_cv_stress_dilatancy_mean", q(r.phi_cv_rowe, "deg")}};
   json comp = json::array();
   for (const auto& c : r.compressibility)
-    comp.push_back({{"specimen", c.specimen}, {"stage", c.stage}, {"lambda", q(c.lambda, "-")}, {"kappa", q(c.kappa, "-")}});
+    comp.push_back({{"specimen", c.specimen}, {"stage", c.stage}, {"basis", c.basis}, {"lambda", q(c.lambda, "-")},
+                    {"kappa", q(c.kappa, "-")}, {"compression_index", q(c.compression_index, "-")},
+                    {"swelling_index", q(c.swelling_index, "-")}, {"constrained_modulus", q(c.constrained_modulus, "kPa")},
+                    {"constrained_modulus_at_axial_stress", q(c.constrained_modulus_stress, "kPa")}});
   root["compressibility"] = comp;
   json b = json::array();
   for (const auto& [id, v] : r.b_values) b.push_back({{"specimen", id}, {"B", q(v, "-")}});
@@ -220,8 +223,15 @@ std::string interpretation_text(const Interpretation& r) {
                 cell(given(r.csl.slope) ? -r.csl.slope : std::nan(""), 4).c_str(), r.csl.n, cell(r.phi_cv_rowe, 2).c_str());
   o << line;
   for (const auto& c : r.compressibility) {
-    std::snprintf(line, sizeof line, "  consolidation %s stages[%d]: lambda %s, kappa %s\n", c.specimen.c_str(), c.stage,
-                  cell(c.lambda, 4).c_str(), cell(c.kappa, 4).c_str());
+    if (c.basis.rfind("oedometer", 0) == 0)
+      std::snprintf(line, sizeof line,
+                    "  oedometer %s stages[%d]: lambda %s, kappa %s (e - ln s_a'); C_c %s, C_s %s; E_oed %s kPa at s_a' %s kPa\n",
+                    c.specimen.c_str(), c.stage, cell(c.lambda, 4).c_str(), cell(c.kappa, 4).c_str(),
+                    cell(c.compression_index, 3).c_str(), cell(c.swelling_index, 3).c_str(), cell(c.constrained_modulus, 0).c_str(),
+                    cell(c.constrained_modulus_stress, 0).c_str());
+    else
+      std::snprintf(line, sizeof line, "  consolidation %s stages[%d]: lambda %s, kappa %s\n", c.specimen.c_str(), c.stage,
+                    cell(c.lambda, 4).c_str(), cell(c.kappa, 4).c_str());
     o << line;
   }
   if (!r.b_values.empty()) {

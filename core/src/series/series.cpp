@@ -40,6 +40,13 @@ std::vector<int> Specimen::shear_stages() const {
   return out;
 }
 
+std::vector<int> Specimen::oedometer_stages() const {
+  std::vector<int> out;
+  for (std::size_t i = 0; i < stages.size(); ++i)
+    if (stages[i].type == SpecimenStageType::oedometer) out.push_back(static_cast<int>(i));
+  return out;
+}
+
 std::pair<int, int> Specimen::stage_points(int stage_index) const {
   int first = -1, last = -2;
   for (std::size_t i = 0; i < curves.stage.size(); ++i)
@@ -166,9 +173,28 @@ SpecimenStage parse_stage(const json& s, const std::string& src, const std::stri
         st.loops.push_back({r.first, r.second});
       }
     }
+  } else if (type == "oedometer") {
+    detail::check_keys(s, {"type", "label", "stress_steps", "data_stage"}, src, path);
+    st.type = SpecimenStageType::oedometer;
+    if (!s.contains("stress_steps"))
+      throw InputError(detail::where(src, path + ".stress_steps") +
+                       ": missing (the effective axial stress at the end of each load step, kPa, in order)");
+    const json& steps = s.at("stress_steps");
+    if (!steps.is_array() || steps.empty())
+      throw InputError(detail::where(src, path + ".stress_steps") +
+                       ": expected a non-empty list of effective axial stresses (kPa), found " + steps.dump());
+    for (std::size_t i = 0; i < steps.size(); ++i) {
+      const std::string ip = path + ".stress_steps[" + std::to_string(i) + "]";
+      if (!steps[i].is_number() || !(steps[i].get<double>() > 0.0))
+        throw InputError(detail::where(src, ip) + ": expected a positive effective axial stress (kPa), found " + steps[i].dump());
+      const double v = steps[i].get<double>();
+      if (!st.stress_steps.empty() && v == st.stress_steps.back())
+        throw InputError(detail::where(src, ip) + ": " + fmt(v) + " kPa equals the previous step (each step changes the axial stress)");
+      st.stress_steps.push_back(v);
+    }
   } else {
     throw InputError(detail::where(src, path + ".type") + ": unknown stage type \"" + type +
-                     "\" (expected saturation, consolidation or shear)");
+                     "\" (expected saturation, consolidation, shear or oedometer)");
   }
   return st;
 }
@@ -193,6 +219,8 @@ constexpr QuantityDef kQuantities[] = {
     {"axial_displacement", QuantityKind::length, false, true},
     {"back_pressure", QuantityKind::stress, false, true},
     {"volume_gauge", QuantityKind::volume, false, true},
+    {"axial_stress", QuantityKind::stress, true, false},  // oedometer: effective axial (vertical) stress
+    {"void_ratio", QuantityKind::count, true, false},     // oedometer, optional
 };
 
 DataFileSpec parse_data(const json& d, const std::string& src, const std::string& path, const std::filesystem::path& folder) {
@@ -331,9 +359,15 @@ ParsedSeries parse_series_json(const std::string& path) {
       throw InputError(src + ": " + sp + ".stages: expected a list, found " + std::string(stages.type_name()));
     for (std::size_t k = 0; k < stages.size(); ++k)
       s.stages.push_back(parse_stage(stages[k], src, sp + ".stages[" + std::to_string(k) + "]"));
-    if (s.shear_stages().empty())
+    const std::vector<int> oedometer = s.oedometer_stages();
+    if (!oedometer.empty() && s.stages.size() > 1)
+      throw InputError(src + ": " + sp + ".stages[" + std::to_string(oedometer.front()) +
+                       "]: an oedometer stage must be the specimen's only stage (found " + std::to_string(s.stages.size()) +
+                       " stages; give the triaxial stages a specimen of their own)");
+    if (s.shear_stages().empty() && oedometer.empty())
       throw InputError(src + ": " + sp + ".stages: specimen '" + s.id +
-                       "' has no shear stage (at least one stage of type \"shear\" is required)");
+                       "' has no shear stage (at least one stage of type \"shear\" is required, or a single \"oedometer\" stage)");
+    if (!oedometer.empty() && s.stages.front().data_stage < 0) s.stages.front().data_stage = 1;
     int shear_no = 0;
     for (std::size_t k = 0; k < s.stages.size(); ++k) {
       SpecimenStage& st = s.stages[k];
@@ -386,7 +420,83 @@ bool drained_stage(const SpecimenStage& st) {
   return st.type != SpecimenStageType::shear || st.shear == ShearType::cd;
 }
 
+/// Oedometer data: axial strain and effective axial stress (and optionally the void ratio), zero radial
+/// strain so e_v = e_a. A largest stress in the file off the largest declared step by more than 5 %
+/// (2 kPa floor, as for consolidation) is reported.
+void read_oedometer_data(Specimen& s, const std::string& series_src, const std::string& sp, std::vector<SeriesWarning>& warnings) {
+  const DataFileSpec& spec = s.data;
+  const std::string src = spec.path;
+  const std::string cols_path = series_src + ": " + sp + ".data.columns";
+  if (spec.raw)
+    throw InputError(series_src + ": " + sp + ".data.kind: oedometer data must be \"reduced\" (axial strain and effective axial stress)");
+  std::vector<CsvColumnRequest> req;
+  std::map<std::string, int> col;
+  for (const DataFileSpec::Column& c : spec.columns) {
+    if (c.quantity != "stage" && c.quantity != "axial_strain" && c.quantity != "axial_stress" && c.quantity != "void_ratio")
+      throw InputError(cols_path + "." + c.quantity + ": an oedometer specimen takes stage, axial_strain, axial_stress and void_ratio columns only");
+    col[c.quantity] = static_cast<int>(req.size());
+    req.push_back({c.quantity, c.header, unit_factor(kind_of(c.quantity), c.unit, series_src)});
+  }
+  if (!col.count("axial_strain")) throw InputError(cols_path + ": oedometer data need an axial_strain column");
+  if (!col.count("axial_stress")) throw InputError(cols_path + ": oedometer data need an axial_stress column (effective axial stress)");
+  CsvLayout layout{spec.delimiter, spec.decimal, spec.skip_rows, spec.skip_after_header};
+  const CsvTable t = parse_lab_csv(detail::read_text_file(src), src, layout, req);
+  const std::size_t n = t.line.size();
+  const auto column = [&](const char* q) -> const std::vector<double>* {
+    const auto it = col.find(q);
+    return it == col.end() ? nullptr : &t.values[static_cast<std::size_t>(it->second)];
+  };
+  const int k = s.oedometer_stages().front();
+  const SpecimenStage& st = s.stages[static_cast<std::size_t>(k)];
+  if (const auto* sc = column("stage"))
+    for (std::size_t i = 0; i < n; ++i)
+      if ((*sc)[i] != static_cast<double>(st.data_stage))
+        throw InputError(src + ": line " + std::to_string(t.line[i]) + " (stage): stage " + fmt((*sc)[i]) +
+                         " matches no declared stage (data_stage values: " + std::to_string(st.data_stage) + ")");
+  if (n < static_cast<std::size_t>(kMinPoints))
+    throw InputError(src + ": specimen '" + s.id + "', stages[" + std::to_string(k) + "] (oedometer): " + std::to_string(n) +
+                     " data points, at least " + std::to_string(kMinPoints) + " are needed");
+  s.reference_height = s.height;
+  s.reference_area = 0.25 * std::numbers::pi * s.diameter * s.diameter;
+  s.reference_void_ratio = s.void_ratio;
+  s.data_zero_stage = k;
+  const auto& ea = *column("axial_strain");
+  const auto& sa = *column("axial_stress");
+  const auto* ecol = column("void_ratio");
+  ReducedCurves& c = s.curves;
+  c = ReducedCurves{};
+  double largest = 0.0;
+  for (std::size_t i = 0; i < n; ++i) {
+    const std::string at = src + ": line " + std::to_string(t.line[i]);
+    if (!(sa[i] > 0.0))
+      throw InputError(at + " (axial_stress): " + fmt(sa[i]) + " kPa, the effective axial stress must be positive");
+    if (ecol && !((*ecol)[i] > 0.0))
+      throw InputError(at + " (void_ratio): " + fmt((*ecol)[i]) + ", the void ratio must be positive");
+    largest = std::max(largest, sa[i]);
+    c.stage.push_back(k);
+    c.line.push_back(t.line[i]);
+    c.axial_strain.push_back(ea[i]);
+    c.volumetric_strain.push_back(ea[i]);  // zero radial strain
+    c.deviator_stress.push_back(kNotGiven);
+    c.excess_pore_pressure.push_back(kNotGiven);
+    c.axial_stress.push_back(sa[i]);
+    c.radial_stress.push_back(kNotGiven);
+    c.mean_stress.push_back(kNotGiven);
+    c.cell_pressure.push_back(kNotGiven);
+    c.void_ratio.push_back(ecol ? (*ecol)[i] : (given(s.void_ratio) ? void_ratio_after(s.void_ratio, ea[i]) : kNotGiven));
+  }
+  const double declared = *std::max_element(st.stress_steps.begin(), st.stress_steps.end());
+  if (std::abs(largest - declared) > std::max(kConsolidationAbs, kConsolidationRel * declared))
+    warnings.push_back({s.id, src + ": the largest effective axial stress in the file is " + fmt(largest) +
+                                  " kPa, the largest declared step " + fmt(declared) + " kPa (" + sp + ".stages[" +
+                                  std::to_string(k) + "].stress_steps)"});
+}
+
 void read_data(Specimen& s, const std::string& series_src, const std::string& sp, std::vector<SeriesWarning>& warnings) {
+  if (s.is_oedometer()) {
+    read_oedometer_data(s, series_src, sp, warnings);
+    return;
+  }
   const DataFileSpec& spec = s.data;
   const std::string src = spec.path;
   std::vector<CsvColumnRequest> req;
@@ -400,6 +510,8 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
   const auto need = [&](bool ok, const std::string& what) {
     if (!ok) throw InputError(cols_path + ": " + what);
   };
+  for (const char* q : {"axial_stress", "void_ratio"})
+    if (has(q)) throw InputError(cols_path + "." + q + ": only for oedometer specimens (triaxial stresses and void ratios are reduced from the other columns)");
   bool any_cu = false, any_cd = false, any_uu = false;
   for (const SpecimenStage& st : s.stages)
     if (st.type == SpecimenStageType::shear) {

@@ -32,6 +32,7 @@ SpecimenProtocol specimen_protocol_with_map(const Specimen& s, int steps_per_she
       if (st.type == SpecimenStageType::saturation && given(st.cell_pressure) && given(st.back_pressure) &&
           st.cell_pressure > st.back_pressure)
         p0 = st.cell_pressure - st.back_pressure;
+  if (!given(p0) && s.is_oedometer() && !s.curves.axial_stress.empty()) p0 = s.curves.axial_stress.front();
   if (!given(p0)) p0 = kAssumedInitialStress;
   p.initial.stress = triaxial_stress(p0, p0);
   p.initial.void_ratio = s.void_ratio;
@@ -42,6 +43,39 @@ SpecimenProtocol specimen_protocol_with_map(const Specimen& s, int steps_per_she
     const std::string label = s.id + " stages[" + std::to_string(k) + "]" + (st.label.empty() ? "" : " " + st.label);
     if (static_cast<int>(k) == s.data_zero_stage) out.data_zero_stage = static_cast<int>(p.stages.size());
     if (st.type == SpecimenStageType::saturation) continue;
+    if (st.type == SpecimenStageType::oedometer) {
+      // One drained oedometer stage per monotone branch of the stress steps, from p0 on.
+      struct Branch {
+        double from, to;
+      };
+      std::vector<Branch> branches;
+      double at = p0;
+      for (const double target : st.stress_steps) {
+        if (target == at) continue;
+        const bool up = target > at;
+        if (!branches.empty() && (branches.back().to > branches.back().from) == up)
+          branches.back().to = target;
+        else
+          branches.push_back({at, target});
+        at = target;
+      }
+      double total = 0.0;
+      for (const Branch& b : branches) total += std::abs(std::log(b.to / b.from));
+      int loadings = 0;
+      for (const Branch& b : branches) {
+        Stage o;
+        o.type = StageType::oedometer;
+        o.drainage = Drainage::drained;
+        o.target_axial = b.to;
+        const bool up = b.to > b.from;
+        o.label = label + (up ? (loadings++ == 0 ? " loading" : " reloading") : " unloading");
+        const double share = total > 0.0 ? std::abs(std::log(b.to / b.from)) / total : 1.0;
+        o.steps = std::max(kMinSegmentSteps, static_cast<int>(std::lround(share * steps_per_shear_stage)));
+        p.stages.push_back(o);
+        out.origin.push_back(origin);
+      }
+      continue;
+    }
     if (st.type == SpecimenStageType::consolidation) {
       Stage c;
       c.label = label;
