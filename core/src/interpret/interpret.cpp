@@ -536,7 +536,9 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
           "oedometer: lambda from e - ln s_a' on the first-loading points at the largest s_a' so far with s_a' >= s_a'max / 4, "
           "kappa from the first unloading branch (from its turning point); the vertical effective stress s_a' is used as a "
           "proxy of p' (on the normal compression line K0 is constant, so the slopes in ln s_a' and ln p' agree; on "
-          "unloading K0 rises and kappa from s_a' is an approximation): common practice, no source. C_c = lambda ln 10 and "
+          "unloading K0 rises, p' falls less than s_a', and kappa from s_a' underestimates kappa in e - ln p', for a "
+          "Modified Cam-Clay soil by half or more over a tenfold unloading: fit the model to the oedometer curve for kappa): "
+          "common practice, no source. C_c = lambda ln 10 and "
           "C_s = kappa ln 10 (e - log10 s_a'). Constrained modulus E_oed = d s_a'/d e_a (e_a from the reference height) at "
           "s_a' = p_ref on the first loading, interpolated as s_a' d(ln s_a')/d e_a over the step that spans p_ref");
   }

@@ -1,0 +1,82 @@
+#!/usr/bin/env python3
+"""Writes two more INVENTED demo tests on clay C of the fictional 'Kestrel Bay terrace' site (no real
+site, lab, client or person), made with our own simulator and invented Modified Cam-Clay parameters
+(lambda 0.12, kappa 0.02, M 1.2, nu' 0.25: the values generate_data.py uses for the clay's closed forms),
+plus small deterministic noise:
+  oed_c1.csv      oedometer, seating 10 kPa, load steps to 400 kPa, unloading to 25 kPa, reloading to 400 kPa
+                  (one reading per step, e0 = 1.15 at seating), e from e0 - (1 + e0) e_a rounded to 3 decimals
+  cu_100_ocr2.csv CU compression after isotropic consolidation to 200 kPa and unloading to 100 kPa (OCR 2)
+Demo data only, never a reference. Standard library only.
+Run from this folder: python3 generate_simulated.py PATH/TO/triaxcal
+"""
+import csv
+import json
+import os
+import random
+import subprocess
+import sys
+import tempfile
+
+random.seed(11)
+exe = sys.argv[1] if len(sys.argv) > 1 else "../../build/cli/triaxcal"
+BACK = 300.0
+PARAMS = {"format": "triaxcal-parameters", "version": 1, "model": "modified_cam_clay",
+          "description": "INVENTED clay C parameters used to make demo data",
+          "parameters": {"lambda": 0.12, "kappa": 0.02, "critical_state_ratio": 1.2, "poissons_ratio": 0.25}}
+OED_STEPS = [25, 50, 100, 200, 400, 200, 100, 50, 25, 50, 100, 200, 400]
+
+
+def simulate(protocol):
+    with tempfile.TemporaryDirectory() as tmp:
+        par, pro, out = (os.path.join(tmp, n) for n in ("params.json", "protocol.json", "out.csv"))
+        with open(par, "w") as f:
+            json.dump(PARAMS, f)
+        with open(pro, "w") as f:
+            json.dump(protocol, f)
+        subprocess.run([exe, "simulate", "--model", "modified_cam_clay", "--params", par, "--protocol", pro, "--out", out],
+                       check=True, stdout=subprocess.DEVNULL)
+        with open(out) as f:
+            return list(csv.DictReader(f))
+
+
+def write(path, header, rows):
+    with open(path, "w", newline="") as f:
+        f.write(",".join(header) + "\n")
+        for r in rows:
+            f.write(",".join(("%d" % v) if isinstance(v, int) else ("%.6g" % v) for v in r) + "\n")
+
+
+# ---------------- oedometer: one reading at the end of each load step ----------------
+E0 = 1.15
+oed = simulate({"format": "triaxcal-protocol", "version": 1, "name": "C-OED-1",
+                "initial": {"p": 10, "void_ratio": E0, "ocr": 1},
+                "stages": [{"type": "oedometer", "axial_stress": s, "steps": 40} for s in OED_STEPS]})
+ends = [oed[0]] + [r for i, r in enumerate(oed) if i + 1 == len(oed) or oed[i + 1]["stage"] != r["stage"]]
+rows = []
+for k, r in enumerate(ends):
+    ea = float(r["axial_strain[-]"]) + (random.gauss(0.0, 2e-5) if k > 0 else 0.0)
+    sa = float(r["axial_stress[kPa]"])
+    rows.append((ea, sa, round(E0 - (1 + E0) * ea, 3)))
+write("oed_c1.csv", ["strain", "sigma_v", "e"], rows)
+
+# ---------------- CU at OCR 2: consolidated to 200, unloaded to 100 kPa ----------------
+E_SET = 1.0
+cu = simulate({"format": "triaxcal-protocol", "version": 1, "name": "C-OC2-100", "back_pressure": BACK,
+               "initial": {"p": 40, "void_ratio": E_SET, "ocr": 1},
+               "stages": [{"type": "isotropic_consolidation", "p": 200, "steps": 50},
+                          {"type": "isotropic_consolidation", "p": 100, "steps": 50},
+                          {"type": "shear", "drainage": "undrained", "axial_strain": 0.15, "steps": 600}]})
+cons_end = [r for r in cu if r["stage"] == "1"][-1]
+print("C-OC2-100 end of consolidation: end_axial_strain %.5f, end_volumetric_strain %.5f"
+      % (float(cons_end["axial_strain[-]"]), float(cons_end["volumetric_strain[-]"])))
+ea0 = float(cons_end["axial_strain[-]"])
+shear = [r for r in cu if r["stage"] == "2"]
+rows = [(0.0, 0.0, BACK, BACK + 100.0)]  # the start of shear (the simulator writes the increments after it)
+for i, r in enumerate(shear):
+    if i % 10 and i != len(shear) - 1:
+        continue
+    ea = float(r["axial_strain[-]"]) - ea0
+    q = float(r["q[kPa]"]) + random.gauss(0.0, 0.2)
+    u = BACK + float(r["excess_pore_pressure[kPa]"]) + random.gauss(0.0, 0.2)
+    rows.append((ea, q, u, BACK + 100.0))
+write("cu_100_ocr2.csv", ["eps_a", "q", "u", "cell"], rows)
