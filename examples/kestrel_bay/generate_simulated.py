@@ -1,11 +1,13 @@
 #!/usr/bin/env python3
-"""Writes two more INVENTED demo tests on clay C of the fictional 'Kestrel Bay terrace' site (no real
+"""Writes four more INVENTED demo tests on clay C of the fictional 'Kestrel Bay terrace' site (no real
 site, lab, client or person), made with our own simulator and invented Modified Cam-Clay parameters
 (lambda 0.12, kappa 0.02, M 1.2, nu' 0.25: the values generate_data.py uses for the clay's closed forms),
 plus small deterministic noise:
   oed_c1.csv      oedometer, seating 10 kPa, load steps to 400 kPa, unloading to 25 kPa, reloading to 400 kPa
                   (one reading per step, e0 = 1.15 at seating), e from e0 - (1 + e0) e_a rounded to 3 decimals
   cu_100_ocr2.csv CU compression after isotropic consolidation to 200 kPa and unloading to 100 kPa (OCR 2)
+  cu_150_nc.csv   CU compression after isotropic consolidation to 150 kPa (normally consolidated)
+  cu_50_ocr4.csv  CU compression after isotropic consolidation to 200 kPa and unloading to 50 kPa (OCR 4)
 Demo data only, never a reference. Standard library only.
 Run from this folder: python3 generate_simulated.py PATH/TO/triaxcal
 """
@@ -59,24 +61,34 @@ for k, r in enumerate(ends):
     rows.append((ea, sa, round(E0 - (1 + E0) * ea, 3)))
 write("oed_c1.csv", ["strain", "sigma_v", "e"], rows)
 
-# ---------------- CU at OCR 2: consolidated to 200, unloaded to 100 kPa ----------------
+# ---------------- CU tests: consolidated to p_max, unloaded to p_shear, sheared undrained ----------------
 E_SET = 1.0
-cu = simulate({"format": "triaxcal-protocol", "version": 1, "name": "C-OC2-100", "back_pressure": BACK,
-               "initial": {"p": 40, "void_ratio": E_SET, "ocr": 1},
-               "stages": [{"type": "isotropic_consolidation", "p": 200, "steps": 50},
-                          {"type": "isotropic_consolidation", "p": 100, "steps": 50},
-                          {"type": "shear", "drainage": "undrained", "axial_strain": 0.15, "steps": 600}]})
-cons_end = [r for r in cu if r["stage"] == "1"][-1]
-print("C-OC2-100 end of consolidation: end_axial_strain %.5f, end_volumetric_strain %.5f"
-      % (float(cons_end["axial_strain[-]"]), float(cons_end["volumetric_strain[-]"])))
-ea0 = float(cons_end["axial_strain[-]"])
-shear = [r for r in cu if r["stage"] == "2"]
-rows = [(0.0, 0.0, BACK, BACK + 100.0)]  # the start of shear (the simulator writes the increments after it)
-for i, r in enumerate(shear):
-    if i % 10 and i != len(shear) - 1:
-        continue
-    ea = float(r["axial_strain[-]"]) - ea0
-    q = float(r["q[kPa]"]) + random.gauss(0.0, 0.2)
-    u = BACK + float(r["excess_pore_pressure[kPa]"]) + random.gauss(0.0, 0.2)
-    rows.append((ea, q, u, BACK + 100.0))
-write("cu_100_ocr2.csv", ["eps_a", "q", "u", "cell"], rows)
+
+
+def cu_test(name, p_max, p_shear, path):
+    stages = [{"type": "isotropic_consolidation", "p": p_max, "steps": 50}]
+    if p_shear != p_max:
+        stages.append({"type": "isotropic_consolidation", "p": p_shear, "steps": 50})
+    stages.append({"type": "shear", "drainage": "undrained", "axial_strain": 0.15, "steps": 600})
+    cu = simulate({"format": "triaxcal-protocol", "version": 1, "name": name, "back_pressure": BACK,
+                   "initial": {"p": 40, "void_ratio": E_SET, "ocr": 1}, "stages": stages})
+    last_cons = str(len(stages) - 2)
+    cons_end = [r for r in cu if r["stage"] == last_cons][-1]
+    print("%s end of consolidation: end_axial_strain %.5f, end_volumetric_strain %.5f"
+          % (name, float(cons_end["axial_strain[-]"]), float(cons_end["volumetric_strain[-]"])))
+    ea0 = float(cons_end["axial_strain[-]"])
+    shear = [r for r in cu if r["stage"] == str(len(stages) - 1)]
+    rows = [(0.0, 0.0, BACK, BACK + p_shear)]  # the start of shear (the simulator writes the increments after it)
+    for i, r in enumerate(shear):
+        if i % 10 and i != len(shear) - 1:
+            continue
+        ea = float(r["axial_strain[-]"]) - ea0
+        q = float(r["q[kPa]"]) + random.gauss(0.0, 0.2)
+        u = BACK + float(r["excess_pore_pressure[kPa]"]) + random.gauss(0.0, 0.2)
+        rows.append((ea, q, u, BACK + p_shear))
+    write(path, ["eps_a", "q", "u", "cell"], rows)
+
+
+cu_test("C-OC2-100", 200, 100, "cu_100_ocr2.csv")   # OCR 2
+cu_test("C-CU-150", 150, 150, "cu_150_nc.csv")      # normally consolidated
+cu_test("C-OC4-50", 200, 50, "cu_50_ocr4.csv")      # OCR 4
