@@ -18,6 +18,7 @@
 #include <vector>
 
 #include "hyperbolic_hardening/hyperbolic_hardening.hpp"
+#include "protocols.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/parameters.hpp"
 
@@ -33,15 +34,8 @@ ParameterValues parameters(const std::map<std::string, double>& over) {
 }
 
 TestProtocol shear(Drainage d, int steps, double pc) {
-  TestProtocol p;
-  p.initial.stress = triaxial_stress(kS3, kS3);
+  TestProtocol p = test::isotropic_shear(kS3, d, 0.2, steps);
   p.initial.preconsolidation_pressure = pc;
-  Stage s;
-  s.type = StageType::shear;
-  s.drainage = d;
-  s.axial_strain = 0.2;
-  s.steps = steps;
-  p.stages = {s};
   return p;
 }
 

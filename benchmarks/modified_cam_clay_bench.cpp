@@ -13,6 +13,7 @@
 #include <cmath>
 
 #include "modified_cam_clay/closed_form.hpp"
+#include "protocols.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/models/registry.hpp"
 #include "triaxcal/parameters.hpp"
@@ -43,15 +44,8 @@ mcc_reference::Material material() {
 }
 
 TestProtocol shear(Drainage d, int steps) {
-  TestProtocol p;
-  p.initial.stress = triaxial_stress(kP0, kP0);
+  TestProtocol p = test::isotropic_shear(kP0, d, 0.2, steps);
   p.initial.void_ratio = 1.1;  // normally consolidated: p'_c = p'_0
-  Stage s;
-  s.type = StageType::shear;
-  s.drainage = d;
-  s.axial_strain = 0.2;
-  s.steps = steps;
-  p.stages = {s};
   return p;
 }
 

@@ -5,6 +5,7 @@
 
 #include <cmath>
 
+#include "protocols.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/models/registry.hpp"
 #include "triaxcal/parameters.hpp"
@@ -24,17 +25,7 @@ std::unique_ptr<Model> model(double psi) {
                   "bench");
 }
 
-TestProtocol shear(Drainage d, int steps) {
-  TestProtocol p;
-  p.initial.stress = triaxial_stress(kS3, kS3);
-  Stage s;
-  s.type = StageType::shear;
-  s.drainage = d;
-  s.axial_strain = 0.2;
-  s.steps = steps;
-  p.stages = {s};
-  return p;
-}
+TestProtocol shear(Drainage d, int steps) { return test::isotropic_shear(kS3, d, 0.2, steps); }
 
 void run(benchmark::State& state, Drainage d, double psi) {
   const auto m = model(psi);

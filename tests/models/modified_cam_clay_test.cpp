@@ -17,6 +17,7 @@
 #include "model_checks.hpp"
 #include "modified_cam_clay/closed_form.hpp"
 #include "tolerances.hpp"
+#include "protocols.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/models/registry.hpp"
@@ -67,11 +68,7 @@ mcc_reference::Material reference_material(double shear_modulus = 0.0) {
   return m;
 }
 
-Vec6 vec(double a, double b, double c, double d = 0, double e = 0, double f = 0) {
-  Vec6 v;
-  v << a, b, c, d, e, f;
-  return v;
-}
+using test::vec;
 
 // A state at `stress` with preconsolidation pressure pc (e0 = 1.1, no strain yet).
 MaterialState state_at(const Vec6& stress, double pc) {

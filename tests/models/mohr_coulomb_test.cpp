@@ -6,6 +6,7 @@
 
 #include "model_checks.hpp"
 #include "tolerances.hpp"
+#include "protocols.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/models/registry.hpp"
@@ -32,11 +33,7 @@ MaterialState state_of(const Vec6& stress) {
   return s;
 }
 
-Vec6 vec(double a, double b, double c, double d = 0, double e = 0, double f = 0) {
-  Vec6 v;
-  v << a, b, c, d, e, f;
-  return v;
-}
+using test::vec;
 
 int active(const Model& m, const MaterialState& in, const Vec6& de, MaterialState& out) {
   Mat6 t;
@@ -45,16 +42,7 @@ int active(const Model& m, const MaterialState& in, const Vec6& de, MaterialStat
 }
 
 TestProtocol triaxial(double s3, Drainage drainage, double axial_strain, int steps) {
-  TestProtocol p;
-  p.name = "synthetic";
-  p.initial.stress = triaxial_stress(s3, s3);
-  Stage shear;
-  shear.type = StageType::shear;
-  shear.drainage = drainage;
-  shear.axial_strain = axial_strain;
-  shear.steps = steps;
-  p.stages = {shear};
-  return p;
+  return test::isotropic_shear(s3, drainage, axial_strain, steps);
 }
 
 }  // namespace
