@@ -125,3 +125,23 @@ TEST_CASE("the version and help options answer with exit 0") {
   CHECK(h.exit_code == 0);
   CHECK(h.out.find("--protocol") != std::string::npos);
 }
+
+TEST_CASE("simulate: a simulation that cannot be completed gives exit 3 and names stage, step and strain") {
+  // Modified Cam-Clay loaded isotropically far enough that the void ratio would reach zero: the model
+  // refuses the increments, the driver gives up after its cuts.
+  const auto params = write("mcc_exit3_params.json", R"({"format": "triaxcal-parameters", "version": 1,
+    "model": "modified_cam_clay", "parameters": {"lambda": 0.2, "kappa": 0.02, "critical_state_ratio": 1.2}})");
+  const auto protocol = write("mcc_exit3_protocol.json", R"({"format": "triaxcal-protocol", "version": 1,
+    "name": "crush", "initial": {"p": 10, "void_ratio": 0.5},
+    "stages": [{"type": "isotropic_consolidation", "p": 1e9, "steps": 100}]})");
+  fs::remove("exit3.csv");
+  const auto r = run_cli("simulate --model modified_cam_clay --params " + params + " --protocol " + protocol +
+                             " --out exit3.csv",
+                         "exit3");
+  CHECK(r.exit_code == 3);
+  CHECK(r.err.find("triaxcal: simulation failed: mcc_exit3_protocol.json: stage 0 (isotropic_consolidation), step ") !=
+        std::string::npos);
+  CHECK(r.err.find("could not be completed after 12 cuts") != std::string::npos);
+  // The curves up to the failure are still written, for a look at where it went wrong.
+  CHECK(fs::exists("exit3.csv"));
+}
