@@ -155,7 +155,11 @@ int main(int argc, char** argv) {
     CHECK(simulate(NULL, protocol, &text) == TRIAXCAL_NULL_ARGUMENT);
     CHECK(simulate(model, NULL, &text) == TRIAXCAL_NULL_ARGUMENT);
     CHECK(simulate(model, protocol, NULL) == TRIAXCAL_NULL_ARGUMENT);
-    CHECK(model_create(NULL, &model) == TRIAXCAL_NULL_ARGUMENT);
+    {
+      triaxcal_model* other = NULL; /* *out is cleared, not freed: a second handle keeps `model` */
+      CHECK(model_create(NULL, &other) == TRIAXCAL_NULL_ARGUMENT);
+      CHECK(other == NULL);
+    }
     model_free(model);
     model_free(NULL);
     text_free(NULL);
