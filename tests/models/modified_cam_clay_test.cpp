@@ -78,17 +78,9 @@ bool plastic(const Model& m, const MaterialState& in, const Vec6& de) {
 }
 
 TestProtocol triaxial(double p0, double ocr, Drainage drainage, double axial_strain, int steps) {
-  TestProtocol p;
-  p.name = "synthetic";
-  p.initial.stress = triaxial_stress(p0, p0);
+  TestProtocol p = test::isotropic_shear(p0, drainage, axial_strain, steps);
   p.initial.void_ratio = kE0;
   p.initial.overconsolidation_ratio = ocr;
-  Stage shear;
-  shear.type = StageType::shear;
-  shear.drainage = drainage;
-  shear.axial_strain = axial_strain;
-  shear.steps = steps;
-  p.stages = {shear};
   return p;
 }
 
