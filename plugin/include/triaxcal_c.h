@@ -111,7 +111,9 @@ typedef int (*triaxcal_progress_fn)(const char* progress_json, void* user_data);
  *  ("triaxcal-calibration", docs/calibration-format.md). `source` is the path the JSON came from:
  *  it names the JSON in messages, and a relative "series" path resolves against its folder
  *  (NULL: "calibration_json", relative to the current directory). Writes no file.
- *  `progress` (may be NULL) is called on the calling thread after every objective evaluation with
+ *  `progress` (may be NULL) is called on the calling thread (never another one) after every objective
+ *  evaluation made on that thread (global runs, design points and the Jacobian also run on worker
+ *  threads; "evaluations" counts them all) with
  *  {"stage": "start"/"design"/"global"/"local", "evaluations", "objective", "best", "elapsed" (s)};
  *  a nonzero return stops the run, which then ends cleanly with the best point so far
  *  (TRIAXCAL_STOPPED, *out filled).

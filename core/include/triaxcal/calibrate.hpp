@@ -117,12 +117,18 @@ struct CalibrationProgress {
   double elapsed = 0.0;    ///< seconds
 };
 
-/// Return false to stop: the calibration ends cleanly with the best point found so far.
+/// Called on the thread that called calibrate(), after each evaluation made on that thread (the
+/// counts include the evaluations of the other threads). Return false to stop: the calibration
+/// ends cleanly with the best point found so far.
 using CalibrationCallback = std::function<bool(const CalibrationProgress&)>;
 
 struct CalibrationOptions {
   GlobalAlgorithm global = GlobalAlgorithm::none;   ///< derivative-free global stage; none = skip
   long global_evaluations = 4000;                   ///< budget of the global stage
+  /// Independent searches of the global stage (crs2, isres), each from the best point so far with
+  /// its share of the budget and its own seed, run side by side on the threads; the best goes on.
+  /// The result depends on this number, never on the thread count. direct_l always runs once.
+  int global_runs = 2;
   LocalAlgorithm local = LocalAlgorithm::bobyqa;    ///< derivative-free local polish; none = skip
   long local_evaluations = 3000;                    ///< budget of each local run
   int starts = 1;              ///< local runs: from the best point, then from the best design points
@@ -131,7 +137,7 @@ struct CalibrationOptions {
   double x_tolerance = 1e-7;           ///< local stop: change of the scaled unit-box coordinates
   double max_seconds = 0.0;            ///< wall-time limit over all stages; 0 = none
   unsigned long seed = 1;              ///< design, global stage and NLopt's generator
-  int threads = 0;                     ///< tests simulated in parallel; 0 = all cores
+  int threads = 0;                     ///< tests, global runs, design points and Jacobian columns in parallel; 0 = all cores
   Loss loss = Loss::linear;
   double loss_scale = 0.05;            ///< robust loss: error (fraction of the range) where it bends
   double failure_penalty = 10.0;       ///< per failed test, times its weights

@@ -5,9 +5,12 @@
 #include <Eigen/Eigenvalues>
 
 #include <algorithm>
+#include <atomic>
 #include <chrono>
 #include <cmath>
 #include <cstdint>
+#include <memory>
+#include <mutex>
 #include <numeric>
 #include <random>
 #include <sstream>
@@ -72,6 +75,7 @@ void CalibrationOptions::validate() const {
   if (local != LocalAlgorithm::none && local_evaluations < 1)
     fail("local_evaluations", static_cast<double>(local_evaluations), "must be at least 1");
   if (starts < 1 || starts > 1000) fail("starts", starts, "must be in [1, 1000]");
+  if (global_runs < 1 || global_runs > 64) fail("global_runs", global_runs, "must be in [1, 64]");
   if (design_points < 0 || design_points > 1000000) fail("design_points", design_points, "must be in [0, 1000000]");
   if (starts > 1 && design_points < starts - 1)
     fail("design_points", design_points, "must be at least starts - 1 = " + std::to_string(starts - 1) +
@@ -93,9 +97,10 @@ namespace {
 
 using Clock = std::chrono::steady_clock;
 
-int resolve_threads(int asked, std::size_t tests) {
+// Threads asked (0 = all cores), at most as many as there are parallel jobs in any stage.
+int resolve_threads(int asked, std::size_t jobs) {
   int n = asked > 0 ? asked : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
-  return std::max(1, std::min<int>(n, static_cast<int>(tests)));
+  return std::max(1, std::min<int>(n, static_cast<int>(jobs)));
 }
 
 // Uniform [0, 1) from the top 53 bits: the same numbers on every platform for the same seed.
@@ -115,36 +120,67 @@ std::vector<std::vector<double>> latin_hypercube(int points, std::size_t dims, s
 
 struct Run;
 
+// One evaluation context: an evaluator and what its evaluations found since the last merge. The
+// main lane simulates the tests of an evaluation in parallel; side lanes simulate serially and run
+// side by side (design points, global runs, Jacobian columns). Lanes are merged into the summary
+// in a fixed order, so the result never depends on the number of threads.
+struct Lane {
+  detail::Evaluator evaluator;
+  long evaluations = 0, failed = 0, design = 0, global = 0, local = 0;
+  double best = std::numeric_limits<double>::infinity();
+  std::vector<double> best_unit;
+  std::vector<HistoryEntry> history;  // evaluation and best are set when merged
+  nlopt_opt current = nullptr;
+
+  Lane(const detail::Prepared& p, const CalibrationOptions& o, int threads) : evaluator(p, o, threads) {}
+};
+
 struct StageContext {
   Run* run;
+  Lane* lane;
   int stage;
-  nlopt_opt opt;
 };
 
 struct Run {
   const detail::Prepared& prepared;
   const CalibrationOptions& options;
-  detail::Evaluator evaluator;
+  Lane main;
+  std::vector<std::unique_ptr<Lane>> side;
   CalibrationSummary& summary;
   Clock::time_point begin = Clock::now();
+  std::thread::id caller = std::this_thread::get_id();
   std::size_t n = 0;
   std::vector<double> best_unit;
   double best = std::numeric_limits<double>::infinity();
-  bool stop_requested = false;
-  bool time_up = false;
+  std::atomic<bool> stop_requested{false};
+  std::atomic<bool> time_up{false};
   bool native_constraints = false;
   double penalty_all = 0.0;
-  nlopt_opt current = nullptr;
   std::vector<std::pair<double, std::vector<double>>> design_ranked;
+  // Progress across lanes (for the callback only; the summary is built from the merged lanes).
+  std::atomic<long> total_evaluations{0};
+  std::mutex best_mutex;
+  double shared_best = std::numeric_limits<double>::infinity();
 
   Run(const detail::Prepared& p, const CalibrationOptions& o, int threads, CalibrationSummary& s)
-      : prepared(p), options(o), evaluator(p, o, threads), summary(s), n(p.free.size()) {
+      : prepared(p), options(o), main(p, o, threads), summary(s), n(p.free.size()) {
     for (const auto& t : p.tests) penalty_all += o.failure_penalty * t.total_weight;
   }
 
   double elapsed() const { return std::chrono::duration<double>(Clock::now() - begin).count(); }
 
-  double evaluate(const double* u, int stage) {
+  /// At least k side lanes (serial evaluators).
+  void side_lanes(std::size_t k) {
+    while (side.size() < k) side.push_back(std::make_unique<Lane>(prepared, options, 1));
+  }
+
+  /// Runs fn(lane index) for lanes 0..k-1 of `side` on the main lane's threads.
+  void on_side_lanes(int k, const std::function<void(int)>& fn) {
+    side_lanes(static_cast<std::size_t>(k));
+    main.evaluator.run_tasks(k, fn);
+  }
+
+  double evaluate(Lane& lane, const double* u, int stage) {
     std::vector<double> unit(u, u + n);
     const ParameterValues values = prepared.values(unit);
     double f;
@@ -153,42 +189,73 @@ struct Run {
       // Outside the constraints: penalised without simulating, growing with the violation.
       f = penalty_all * (1.0 + violation);
     } else {
-      const bool built = evaluator.simulate(values, false);
-      f = evaluator.objective(built);
-      summary.failed_simulations += built ? evaluator.failed_tests() : static_cast<long>(prepared.tests.size());
+      const bool built = lane.evaluator.simulate(values, false);
+      f = lane.evaluator.objective(built);
+      lane.failed += built ? lane.evaluator.failed_tests() : static_cast<long>(prepared.tests.size());
     }
-    ++summary.evaluations;
-    if (stage == 0) ++summary.design_evaluations;
-    if (stage == 1) ++summary.global_evaluations;
-    if (stage == 2) ++summary.local_evaluations;
-    if (f < best) {
-      best = f;
-      best_unit = unit;
+    ++lane.evaluations;
+    if (stage == 0) ++lane.design;
+    if (stage == 1) ++lane.global;
+    if (stage == 2) ++lane.local;
+    if (f < lane.best) {
+      lane.best = f;
+      lane.best_unit = unit;
     }
-    if (options.record_history) summary.history.push_back({summary.evaluations, stage, f, best});
+    if (options.record_history) lane.history.push_back({0, stage, f, 0.0});
+    const long total = total_evaluations.fetch_add(1) + 1;
+    double best_now;
+    {
+      std::lock_guard<std::mutex> lock(best_mutex);
+      shared_best = std::min(shared_best, f);
+      best_now = shared_best;
+    }
     const double t = elapsed();
-    if (options.progress) {
+    // The callback runs on the calling thread only; it sees the evaluations of every lane.
+    if (options.progress && std::this_thread::get_id() == caller) {
       static const char* names[] = {"design", "global", "local"};
-      CalibrationProgress p{summary.evaluations == 1 ? "start" : names[stage], summary.evaluations, f, best, t};
+      CalibrationProgress p{total == 1 ? "start" : names[stage], total, f, best_now, t};
       if (!options.progress(p)) stop_requested = true;
     }
     if (options.max_seconds > 0.0 && t >= options.max_seconds) time_up = true;
-    if ((stop_requested || time_up) && current != nullptr) nlopt_force_stop(current);
+    if (halted() && lane.current != nullptr) nlopt_force_stop(lane.current);
     return f;
   }
 
-  bool halted() const { return stop_requested || time_up; }
+  bool halted() const { return stop_requested.load() || time_up.load(); }
 
-  nlopt_result optimise(nlopt_algorithm algorithm, int stage, long budget, std::vector<double>& x, double step) {
+  /// Moves what the lane found into the summary (counts, history in order, best so far).
+  void merge(Lane& lane) {
+    summary.evaluations += lane.evaluations;
+    summary.failed_simulations += lane.failed;
+    summary.design_evaluations += lane.design;
+    summary.global_evaluations += lane.global;
+    summary.local_evaluations += lane.local;
+    for (HistoryEntry h : lane.history) {
+      h.evaluation = static_cast<long>(summary.history.size()) + 1;
+      h.best = summary.history.empty() ? h.objective : std::min(summary.history.back().best, h.objective);
+      summary.history.push_back(h);
+    }
+    if (lane.best < best) {
+      best = lane.best;
+      best_unit = lane.best_unit;
+    }
+    lane.evaluations = lane.failed = lane.design = lane.global = lane.local = 0;
+    lane.history.clear();
+    lane.best = std::numeric_limits<double>::infinity();
+    lane.best_unit.clear();
+  }
+
+  nlopt_result optimise(Lane& lane, nlopt_algorithm algorithm, int stage, long budget, std::vector<double>& x,
+                        double step, unsigned long seed) {
     nlopt_opt opt = nlopt_create(algorithm, static_cast<unsigned>(n));
     nlopt_set_lower_bounds1(opt, 0.0);
     nlopt_set_upper_bounds1(opt, 1.0);
-    StageContext ctx{this, stage, opt};
+    StageContext ctx{this, &lane, stage};
     nlopt_set_min_objective(
         opt,
         [](unsigned, const double* u, double*, void* data) {
           auto* c = static_cast<StageContext*>(data);
-          return c->run->evaluate(u, c->stage);
+          return c->run->evaluate(*c->lane, u, c->stage);
         },
         &ctx);
     if (native_constraints) {
@@ -209,12 +276,15 @@ struct Run {
       nlopt_set_initial_step1(opt, step);
     }
     if (options.max_seconds > 0.0) nlopt_set_maxtime(opt, std::max(1e-3, options.max_seconds - elapsed()));
-    nlopt_srand(options.seed + static_cast<unsigned long>(stage));
-    current = opt;
+    // NLopt's generator is thread-local (libnlopt 2.7 keeps its state in thread-local storage):
+    // seeding here, on the thread that runs this optimisation, makes it reproducible even when
+    // other calibrations or global runs go on in other threads.
+    nlopt_srand(seed);
+    lane.current = opt;
     double f = 0.0;
     for (double& v : x) v = std::clamp(v, 0.0, 1.0);
     const nlopt_result result = nlopt_optimize(opt, x.data(), &f);
-    current = nullptr;
+    lane.current = nullptr;
     nlopt_destroy(opt);
     return result;
   }
@@ -243,7 +313,7 @@ nlopt_algorithm local_algorithm(LocalAlgorithm a) {
 
 std::string options_text(const CalibrationOptions& o) {
   std::ostringstream s;
-  s << "global = " << to_string(o.global) << "\nglobal_evaluations = " << o.global_evaluations
+  s << "global = " << to_string(o.global) << "\nglobal_evaluations = " << o.global_evaluations << "\nglobal_runs = " << o.global_runs
     << "\nlocal = " << to_string(o.local) << "\nlocal_evaluations = " << o.local_evaluations << "\nstarts = " << o.starts
     << "\ndesign_points = " << o.design_points << "\nrelative_tolerance = " << format_number(o.relative_tolerance)
     << "\nx_tolerance = " << format_number(o.x_tolerance) << "\nmax_seconds = " << format_number(o.max_seconds)
@@ -278,7 +348,9 @@ bool residuals(const detail::Prepared& p, const detail::Evaluator& ev, Eigen::Ve
 // weight of each point (w / range^2) and Sigma the noise variance of each curve estimated from its
 // residuals, Cov = H^+ (J^T A Sigma A J) H^+ with H = J^T A J; this reduces to the textbook
 // s^2 (J^T J)^-1 when one curve with unit weights is fitted (e.g. Bates & Watts 1988, "Nonlinear
-// Regression Analysis and Its Applications", eq. 2.23; the sandwich form: White 1980).
+// Regression Analysis and Its Applications", eq. 2.23; the sandwich form: White 1980). A robust
+// loss makes it the M-estimator's sandwich (Huber 1981, "Robust Statistics", ch. 7):
+// H = J^T A Psi' J and Sigma from the influences psi(e) = rho'(e^2) e instead of the residuals.
 void uncertainty(Run& run, const ParameterValues& best_values, const Eigen::VectorXd& d0) {
   const detail::Prepared& p = run.prepared;
   CalibrationSummary& s = run.summary;
@@ -286,22 +358,33 @@ void uncertainty(Run& run, const ParameterValues& best_values, const Eigen::Vect
   const Eigen::Index N = p.points;
   Eigen::MatrixXd jac = Eigen::MatrixXd::Zero(N, static_cast<Eigen::Index>(n));
   std::vector<bool> have(n, true);
-  Eigen::VectorXd dp, dm;
   const double h = run.options.jacobian_step;
+  // The 2n simulations beside the optimum are independent: side lanes run them in parallel.
+  const int jobs = static_cast<int>(2 * n);
+  std::vector<std::vector<double>> at_unit(static_cast<std::size_t>(jobs), run.best_unit);
+  for (std::size_t k = 0; k < n; ++k) {
+    at_unit[2 * k][k] = std::min(1.0, run.best_unit[k] + h);
+    at_unit[2 * k + 1][k] = std::max(0.0, run.best_unit[k] - h);
+  }
+  std::vector<Eigen::VectorXd> shifted(static_cast<std::size_t>(jobs));
+  std::vector<char> shifted_ok(static_cast<std::size_t>(jobs), 0);
+  const int lanes = std::max(1, std::min(run.main.evaluator.threads(), jobs));
+  run.on_side_lanes(lanes, [&](int lane) {
+    detail::Evaluator& ev = run.side[static_cast<std::size_t>(lane)]->evaluator;
+    for (int j = lane; j < jobs; j += lanes) {
+      const auto i = static_cast<std::size_t>(j);
+      const bool built = ev.simulate(p.values(at_unit[i]), false);
+      shifted_ok[i] = built && residuals(p, ev, shifted[i]) ? 1 : 0;
+    }
+  });
+  s.jacobian_evaluations += jobs;
   for (std::size_t k = 0; k < n; ++k) {
     const int free_index = static_cast<int>(k);
     const std::string& name = p.names[static_cast<std::size_t>(p.free[k])];
-    std::vector<double> up = run.best_unit, down = run.best_unit;
-    up[k] = std::min(1.0, up[k] + h);
-    down[k] = std::max(0.0, down[k] - h);
-    auto at = [&](const std::vector<double>& u, Eigen::VectorXd& out) {
-      const bool built = run.evaluator.simulate(p.values(u), false);
-      ++s.jacobian_evaluations;
-      return built && residuals(p, run.evaluator, out);
-    };
-    const bool ok_up = at(up, dp);
-    const bool ok_down = at(down, dm);
-    const double tp = p.to_physical(free_index, up[k]), tm = p.to_physical(free_index, down[k]);
+    const Eigen::VectorXd& dp = shifted[2 * k];
+    const Eigen::VectorXd& dm = shifted[2 * k + 1];
+    const bool ok_up = shifted_ok[2 * k] != 0, ok_down = shifted_ok[2 * k + 1] != 0;
+    const double tp = p.to_physical(free_index, at_unit[2 * k][k]), tm = p.to_physical(free_index, at_unit[2 * k + 1][k]);
     const double t0 = best_values[static_cast<std::size_t>(p.free[k])];
     if (ok_up && ok_down) {
       jac.col(static_cast<Eigen::Index>(k)) = (dp - dm) / (tp - tm);
@@ -315,24 +398,34 @@ void uncertainty(Run& run, const ParameterValues& best_values, const Eigen::Vect
                            " could not be computed (the simulations next to the optimum failed); it has no interval.");
     }
   }
-  // Weights and per-curve noise variance.
-  Eigen::VectorXd a(N), sigma2(N);
+  // Weights and per-curve noise variance. a_i = w / range^2 is a point's weight in the objective.
+  // With a robust loss (an M-estimator) the curvature takes each point with psi'(e_i) and the
+  // noise is that of the influences psi(e_i) = rho'(e_i^2) e_i, so an outlier counts at most
+  // with the loss scale; for the linear loss both reduce to the plain residuals.
+  Eigen::VectorXd a(N), a_curv(N), sigma2(N);
   {
     Eigen::Index k = 0;
     const double share = 1.0 - static_cast<double>(n) / static_cast<double>(std::max<Eigen::Index>(N, 1));
+    const Loss kind = run.options.loss;
+    const double c_loss = run.options.loss_scale;
     for (const auto& t : p.tests)
       for (const auto& c : t.curves) {
         double ssr = 0.0;
-        for (std::size_t j = 0; j < c.xs.size(); ++j) ssr += d0[k + static_cast<Eigen::Index>(j)] * d0[k + static_cast<Eigen::Index>(j)];
-        const double dof = std::max(1.0, static_cast<double>(c.xs.size()) * share);
+        const Eigen::Index k0 = k;
         for (std::size_t j = 0; j < c.xs.size(); ++j, ++k) {
+          const double d = d0[k];
+          const double z = (d / c.range) * (d / c.range);
+          const double psi = detail::loss_weight(kind, z, c_loss) * d;  // in the unit of the curve
           a[k] = c.weight / (c.range * c.range);
-          sigma2[k] = ssr / dof;
+          a_curv[k] = a[k] * detail::loss_curvature(kind, z, c_loss);
+          ssr += psi * psi;
         }
+        const double dof = std::max(1.0, static_cast<double>(c.xs.size()) * share);
+        for (Eigen::Index j = k0; j < k; ++j) sigma2[j] = ssr / dof;
       }
   }
   const Eigen::MatrixXd aj = a.asDiagonal() * jac;
-  const Eigen::MatrixXd H = jac.transpose() * aj;
+  const Eigen::MatrixXd H = jac.transpose() * (a_curv.asDiagonal() * jac);
   const Eigen::MatrixXd M = aj.transpose() * sigma2.asDiagonal() * aj;
   // Scaled pseudo-inverse: parameters with no effect or in a null direction get no interval.
   const Eigen::Index P = static_cast<Eigen::Index>(n);
@@ -434,7 +527,14 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
   summary.local_algorithm = to_string(options.local);
   summary.loss = to_string(options.loss);
   summary.options_text = options_text(options);
-  summary.threads = resolve_threads(options.threads, prepared.tests.size());
+  {
+    // Parallel jobs: the tests of an evaluation, the global runs, the Jacobian columns (2 per free
+    // parameter), the design points.
+    std::size_t jobs = std::max(prepared.tests.size(), 2 * prepared.free.size());
+    if (options.global != GlobalAlgorithm::none) jobs = std::max(jobs, static_cast<std::size_t>(options.global_runs));
+    jobs = std::max(jobs, static_cast<std::size_t>(options.design_points));
+    summary.threads = resolve_threads(options.threads, jobs);
+  }
   const std::size_t n = prepared.free.size();
   for (int k : prepared.free) summary.free_names.push_back(prepared.names[static_cast<std::size_t>(k)]);
 
@@ -442,16 +542,26 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
   const bool wants_native = !prepared.constraints.empty();
   std::vector<double> x(n);
   for (std::size_t k = 0; k < n; ++k) x[k] = prepared.to_unit(static_cast<int>(k), prepared.start[k]);
-  summary.start_objective = run.evaluate(x.data(), 0);
+  summary.start_objective = run.evaluate(run.main, x.data(), 0);
+  run.merge(run.main);
 
-  // Space-filling design: ranked, its best points seed the extra local runs.
+  // Space-filling design, evaluated on side lanes in contiguous chunks and merged in point order;
+  // ranked, its best points seed the extra local runs.
   std::mt19937_64 rng(options.seed);
   if (options.design_points > 0 && !run.halted()) {
     const auto design = latin_hypercube(options.design_points, n, rng);
-    for (const auto& u : design) {
-      if (run.halted()) break;
-      run.design_ranked.emplace_back(run.evaluate(u.data(), 0), u);
-    }
+    const int points = static_cast<int>(design.size());
+    const int lanes = std::max(1, std::min(summary.threads, points));
+    std::vector<double> f(design.size(), std::numeric_limits<double>::quiet_NaN());
+    run.on_side_lanes(lanes, [&](int lane) {
+      const int from = static_cast<int>(static_cast<long>(points) * lane / lanes);
+      const int to = static_cast<int>(static_cast<long>(points) * (lane + 1) / lanes);
+      for (int i = from; i < to && !run.halted(); ++i)
+        f[static_cast<std::size_t>(i)] = run.evaluate(*run.side[static_cast<std::size_t>(lane)], design[static_cast<std::size_t>(i)].data(), 0);
+    });
+    for (int lane = 0; lane < lanes; ++lane) run.merge(*run.side[static_cast<std::size_t>(lane)]);
+    for (std::size_t i = 0; i < design.size(); ++i)
+      if (!std::isnan(f[i])) run.design_ranked.emplace_back(f[i], design[i]);
     std::stable_sort(run.design_ranked.begin(), run.design_ranked.end(),
                      [](const auto& l, const auto& r) { return l.first < r.first; });
   }
@@ -460,8 +570,32 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
   std::string last_stage = "start";
   if (options.global != GlobalAlgorithm::none && !run.halted()) {
     run.native_constraints = wants_native && options.global == GlobalAlgorithm::isres;
-    std::vector<double> g = run.best_unit;
-    last = run.optimise(global_algorithm(options.global), 1, options.global_evaluations, g, 0.0);
+    // DIRECT-L is deterministic and ignores the start: one run. The stochastic searches run
+    // global_runs independent searches from the best point so far, each with its share of the
+    // budget and its own seed, side by side; the best of them goes on to the local stage.
+    const int runs = options.global == GlobalAlgorithm::direct_l ? 1 : options.global_runs;
+    if (runs == 1) {
+      std::vector<double> g = run.best_unit;
+      last = run.optimise(run.main, global_algorithm(options.global), 1, options.global_evaluations, g, 0.0,
+                          options.seed + 1);
+      run.merge(run.main);
+    } else {
+      std::vector<nlopt_result> results(static_cast<std::size_t>(runs), NLOPT_SUCCESS);
+      const std::vector<double> from = run.best_unit;
+      run.on_side_lanes(runs, [&](int i) {
+        const long budget = options.global_evaluations * (i + 1) / runs - options.global_evaluations * i / runs;
+        std::vector<double> g = from;
+        results[static_cast<std::size_t>(i)] =
+            run.optimise(*run.side[static_cast<std::size_t>(i)], global_algorithm(options.global), 1, std::max(1L, budget),
+                         g, 0.0, options.seed + 1 + 7919UL * static_cast<unsigned long>(i));
+      });
+      // The result code of the run that found the best point.
+      int winner = 0;
+      for (int i = 0; i < runs; ++i)
+        if (run.side[static_cast<std::size_t>(i)]->best < run.side[static_cast<std::size_t>(winner)]->best) winner = i;
+      last = results[static_cast<std::size_t>(winner)];
+      for (int i = 0; i < runs; ++i) run.merge(*run.side[static_cast<std::size_t>(i)]);
+    }
     last_stage = "global (" + to_string(options.global) + ")";
   }
   if (options.local != LocalAlgorithm::none && !run.halted()) {
@@ -472,12 +606,13 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
       if (u != run.best_unit) starts.push_back(u);
     }
     const double step = options.global != GlobalAlgorithm::none ? 0.05 : 0.1;
-    std::vector<double> winner;
     double winner_f = std::numeric_limits<double>::infinity();
     nlopt_result winner_result = NLOPT_SUCCESS;
     for (std::size_t i = 0; i < starts.size() && !run.halted(); ++i) {
       std::vector<double> l = starts[i];
-      const nlopt_result r = run.optimise(local_algorithm(options.local), 2, options.local_evaluations, l, i == 0 ? step : 0.1);
+      const nlopt_result r = run.optimise(run.main, local_algorithm(options.local), 2, options.local_evaluations, l,
+                                          i == 0 ? step : 0.1, options.seed + 2);
+      run.merge(run.main);
       ++summary.local_runs;
       if (run.best < winner_f || i == 0) {
         winner_f = run.best;
@@ -532,13 +667,13 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
     fp.upper = prepared.upper[k];
     fp.at_bound = run.best_unit[k] < 1e-6 || run.best_unit[k] > 1.0 - 1e-6;
   }
-  const bool built = run.evaluator.simulate(best_values, true);
+  const bool built = run.main.evaluator.simulate(best_values, true);
   std::vector<double> shares;
-  run.evaluator.objective(built, &shares);
+  run.main.evaluator.objective(built, &shares);
   int simulated = 0;
   for (std::size_t t = 0; t < prepared.tests.size(); ++t) {
     const auto& pt = prepared.tests[t];
-    const auto& o = run.evaluator.outcome(static_cast<int>(t));
+    const auto& o = run.main.evaluator.outcome(static_cast<int>(t));
     TestFit tf;
     tf.id = pt.test->id;
     tf.simulated = built && o.ok;
@@ -574,7 +709,7 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
     if (!tf.simulated)
       summary.warnings.push_back("Test " + tf.id + " could not be simulated with the fitted parameters: " + tf.message);
     summary.tests.push_back(std::move(tf));
-    summary.simulations.push_back(run.evaluator.outcome(static_cast<int>(t)).result);
+    summary.simulations.push_back(run.main.evaluator.outcome(static_cast<int>(t)).result);
   }
   if (!built || simulated == 0) {
     summary.termination = CalibrationTermination::no_usable_result;
@@ -591,7 +726,7 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
   }
   Eigen::VectorXd d0;
   if (options.uncertainty && summary.usable() && summary.termination != CalibrationTermination::stopped &&
-      residuals(prepared, run.evaluator, d0))
+      residuals(prepared, run.main.evaluator, d0))
     uncertainty(run, best_values, d0);
   summary.message = msg.str() + "; objective " + format_number(summary.objective) + " (start " +
                     format_number(summary.start_objective) + ")";

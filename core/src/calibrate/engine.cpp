@@ -571,6 +571,27 @@ double loss(Loss kind, double z, double c) {
 }
 }  // namespace
 
+double loss_weight(Loss kind, double z, double c) {
+  switch (kind) {
+    case Loss::linear: return 1.0;
+    case Loss::soft_l1: return 1.0 / std::sqrt(1.0 + z / (c * c));
+    case Loss::huber: return z <= c * c ? 1.0 : c / std::sqrt(z);
+  }
+  return 1.0;
+}
+
+double loss_curvature(Loss kind, double z, double c) {
+  switch (kind) {
+    case Loss::linear: return 1.0;
+    case Loss::soft_l1: {
+      const double r = 1.0 + z / (c * c);
+      return 1.0 / (r * std::sqrt(r));
+    }
+    case Loss::huber: return z <= c * c ? 1.0 : 0.0;
+  }
+  return 1.0;
+}
+
 double Evaluator::objective(bool model_built, std::vector<double>* per_test) const {
   double total = 0.0;
   if (per_test) per_test->assign(outcomes_.size(), 0.0);

@@ -108,6 +108,8 @@ class Evaluator {
   const TestOutcome& outcome(int t) const { return outcomes_[static_cast<std::size_t>(t)]; }
   int failed_tests() const;
   int threads() const { return pool_.threads(); }
+  /// Runs n independent tasks on this evaluator's threads (none of them may use this evaluator).
+  void run_tasks(int n, const std::function<void(int)>& task) { pool_.run(n, task); }
 
  private:
   void run_test(int t);
@@ -120,6 +122,13 @@ class Evaluator {
   bool keep_ = false;
   std::function<void(int)> task_;
 };
+
+/// rho'(z) of the loss at z = e^2 (1 for the linear loss): psi(e) = rho'(e^2) e is a point's
+/// influence on the gradient of the objective.
+double loss_weight(Loss kind, double z, double c);
+/// psi'(e) = rho'(z) + 2 z rho''(z) at z = e^2 (1 for the linear loss): a point's share of the
+/// Gauss-Newton curvature.
+double loss_curvature(Loss kind, double z, double c);
 
 /// The compared value of a simulated curve at each x (forward-moving search, see the .cpp).
 void interpolate_curve(const SimulationResult& result, const PreparedCurve& curve, double* out);
