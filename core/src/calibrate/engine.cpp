@@ -70,6 +70,25 @@ double value_of(const StepRecord& r, Quantity quantity) {
   return kNotGiven;
 }
 
+namespace {
+// The record member a quantity reads (value_of without the switch, for the hot loops).
+const double StepRecord::*member_of(Quantity quantity) {
+  switch (quantity) {
+    case Quantity::axial_strain: return &StepRecord::axial_strain;
+    case Quantity::radial_strain: return &StepRecord::radial_strain;
+    case Quantity::volumetric_strain: return &StepRecord::volumetric_strain;
+    case Quantity::axial_stress: return &StepRecord::axial_stress;
+    case Quantity::radial_stress: return &StepRecord::radial_stress;
+    case Quantity::mean_stress: return &StepRecord::p;
+    case Quantity::deviator_stress: return &StepRecord::q;
+    case Quantity::excess_pore_pressure: return &StepRecord::excess_pore_pressure;
+    case Quantity::void_ratio: return &StepRecord::void_ratio;
+    case Quantity::stress_ratio: return &StepRecord::stress_ratio;
+  }
+  return &StepRecord::q;
+}
+}  // namespace
+
 std::string to_string(ParameterStatus status) {
   switch (status) {
     case ParameterStatus::free: return "free";
@@ -474,15 +493,30 @@ void interpolate_curve(const SimulationResult& result, const PreparedCurve& curv
   const bool shift_y = curve.zero_stage >= 0 && is_strain(curve.y);
   const double x0 = shift_x ? value_of(base, curve.x) : 0.0;
   const double y0 = shift_y ? value_of(base, curve.y) : 0.0;
-  auto X = [&](std::size_t j) { return value_of(steps[j], curve.x) - x0; };
-  auto Y = [&](std::size_t j) { return value_of(steps[j], curve.y) - y0; };
+  // The compared columns of the records, copied once into contiguous arrays (indices relative to
+  // `first`): the searches below then read plain doubles.
+  thread_local std::vector<double> xs_sim, ys_sim;
+  const std::size_t count = last - first + 1;
+  xs_sim.resize(count);
+  ys_sim.resize(count);
+  const double StepRecord::*mx = member_of(curve.x);
+  const double StepRecord::*my = member_of(curve.y);
+  for (std::size_t j = 0; j < count; ++j) {
+    xs_sim[j] = steps[first + j].*mx - x0;
+    ys_sim[j] = steps[first + j].*my - y0;
+  }
+  const double* xv = xs_sim.data();
+  const double* yv = ys_sim.data();
+  auto X = [xv](std::size_t j) { return xv[j]; };
+  auto Y = [yv](std::size_t j) { return yv[j]; };
+  const std::size_t end = count - 1;
   const std::size_t n = curve.xs.size();
   thread_local std::vector<std::size_t> runs;
-  const double sim_range = std::abs(X(last) - X(first)) + 1e-300;
-  split_runs(first, last, X, 1e-9 * std::max(sim_range, curve.x_span), runs);
+  const double sim_range = std::abs(X(end) - X(0)) + 1e-300;
+  split_runs(0, end, X, 1e-9 * std::max(sim_range, curve.x_span), runs);
   if (runs.size() == curve.runs.size() && runs.size() > 1) {
     for (std::size_t k = 0; k < runs.size(); ++k) {
-      const std::size_t a = runs[k], b = k + 1 < runs.size() ? runs[k + 1] : last;
+      const std::size_t a = runs[k], b = k + 1 < runs.size() ? runs[k + 1] : end;
       const std::size_t p0 = curve.runs[k], p1 = k + 1 < curve.runs.size() ? curve.runs[k + 1] : n;
       std::size_t cursor = a;
       for (std::size_t i = p0; i < p1; ++i)
@@ -490,9 +524,9 @@ void interpolate_curve(const SimulationResult& result, const PreparedCurve& curv
     }
     return;
   }
-  std::size_t cursor = first;
+  std::size_t cursor = 0;
   for (std::size_t i = 0; i < n; ++i)
-    if (!bracket(cursor, last, curve.xs[i], X, Y, out[i])) out[i] = nearest(cursor, last, curve.xs[i], X, Y);
+    if (!bracket(cursor, end, curve.xs[i], X, Y, out[i])) out[i] = nearest(cursor, end, curve.xs[i], X, Y);
 }
 
 // ---------------------------------------------------------------------------------------------
