@@ -84,11 +84,13 @@ int run(const FitOptions& o) {
   } catch (const InputError& e) {
     throw InputError(o.calibration + ": model: " + e.what());
   }
+  // Bounds and starts the file leaves out come from the classical interpretation of the series;
+  // the problem is checked with them filled in.
+  for (const std::string& note : seed_from_interpretation(file, series, entry->info())) std::printf("%s\n", note.c_str());
   auto create = entry->create;
   const std::string where = o.calibration;
   CalibrationProblem problem =
       build_calibration_problem(file, series, entry->info(), [create, where](const ParameterValues& v) { return create(v, where); });
-  for (const std::string& note : seed_starts_from_interpretation(problem, series)) std::printf("%s\n", note.c_str());
 
   namespace fs = std::filesystem;
   const std::string stem = fs::path(o.calibration).stem().string();

@@ -9,7 +9,7 @@
 namespace triaxcal::plugin {
 
 CalibrationRun run_calibration(const std::string& text, const std::string& source, const CalibrationCallback& progress) {
-  const CalibrationFile file = parse_calibration_file(text, source);
+  CalibrationFile file = parse_calibration_file(text, source);
   const TestSeries series = read_test_series(file.series);
   const ModelEntry* entry = nullptr;
   try {
@@ -17,12 +17,13 @@ CalibrationRun run_calibration(const std::string& text, const std::string& sourc
   } catch (const InputError& e) {
     throw InputError(source + ": model: " + e.what());
   }
+  CalibrationRun run;
+  run.model = &entry->info();
+  // Missing bounds and starts from the classical interpretation, before the problem is checked.
+  run.notes = seed_from_interpretation(file, series, entry->info());
   auto create = entry->create;
   CalibrationProblem problem = build_calibration_problem(
       file, series, entry->info(), [create, source](const ParameterValues& v) { return create(v, source); });
-  CalibrationRun run;
-  run.model = &entry->info();
-  run.notes = seed_starts_from_interpretation(problem, series);
 
   CalibrationProvenance prov;
   prov.software_version = kPluginVersion;

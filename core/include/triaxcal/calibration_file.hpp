@@ -50,18 +50,37 @@ TRIAXCAL_CORE_EXPORT CalibrationFile read_calibration_file(const std::string& pa
 /// The problem of `file` on `series`: each test is its specimen's protocol (specimen_protocol) and
 /// its measured curves, strains zeroed where the series zeroes them. Throws InputError naming the
 /// calibration file: "<source>: tests[i].specimen: ...", "<source>: parameters.<name>: ...".
-/// A free parameter without "start" starts in the middle of its box unless
-/// seed_starts_from_interpretation gives it one.
+/// Every free parameter needs both bounds here: call seed_from_interpretation first to fill the
+/// ones the file leaves out. A free parameter without "start" starts in the middle of its box
+/// unless seed_from_interpretation gives it one.
 TRIAXCAL_CORE_EXPORT CalibrationProblem build_calibration_problem(const CalibrationFile& file, const TestSeries& series,
                                                                   const ModelInfo& model, ModelFactory create);
 
-/// Starting values from the classical interpretation of the series (interpret.hpp) for free
-/// parameters that have none, by parameter name: friction_angle and cohesion (s'-t envelope),
-/// dilation_angle (peak dilation rate), youngs_modulus (initial stiffness), secant_stiffness_ref,
-/// stress_exponent and unloading_stiffness_ref (stiffness laws), critical_state_ratio and
-/// critical_state_friction_angle (critical states, Rowe), lambda and kappa (consolidation stages).
-/// Values are clamped into the bounds. Returns one line per parameter seeded. Bounds stay required.
-TRIAXCAL_CORE_EXPORT std::vector<std::string> seed_starts_from_interpretation(CalibrationProblem& problem,
-                                                                             const TestSeries& series);
+/// Missing bounds and starts of the free parameters of `file` from the classical interpretation
+/// of `series` (interpret.hpp; only the specimens' material when every fitted specimen has the
+/// same one; the stiffness laws at the model's fixed reference_pressure where it has one), by
+/// parameter name, with v the interpretation's value:
+///   friction_angle, cohesion            s'-t envelope
+///   dilation_angle                      mean peak dilation angle of the CD stages
+///   youngs_modulus                      mean initial stiffness of the CD stages
+///   secant_stiffness_ref, stress_exponent   secant stiffness law
+///   unloading_stiffness_ref             unload-reload stiffness law
+///   oedometer_stiffness_ref             mean constrained modulus of the oedometer stages at s_a' = p_ref
+///   critical_state_ratio, critical_state_friction_angle   critical states, else Rowe's phi_cv
+///   lambda, kappa                       consolidation and oedometer stages
+/// Bounds not given (either one or both) follow a rule per parameter: stiffnesses, lambda and kappa
+/// [v/4, 4 v]; friction_angle and critical_state_friction_angle [v - 8, v + 8] deg; dilation_angle
+/// [0, max(v + 8, 5)] deg; cohesion [0, max(3 v, 20)] kPa; stress_exponent
+/// [max(0.1, v - 0.3), min(1, v + 0.3)]; critical_state_ratio [0.75 v, 1.25 v]. v is first taken
+/// into the model's range (ParameterInfo, open ends moved inward by 1e-4 max(1, |end|)), the
+/// derived bounds are cut to that range and widened to include a start given in the file; a given
+/// bound is kept as given. A start not given is v clamped into the bounds.
+/// Throws InputError "<source>: parameters.<name>: lower and upper are needed: the interpretation
+/// of the series gives no value for <name>" (or "lower is needed", "upper is needed") when a bound
+/// is missing and v is not there, and when a derived bound does not leave lower < upper beside a
+/// given one. Parameters the model does not have are left to build_calibration_problem.
+/// Returns one line a derived bound pair and one a seeded start, for the user.
+TRIAXCAL_CORE_EXPORT std::vector<std::string> seed_from_interpretation(CalibrationFile& file, const TestSeries& series,
+                                                                       const ModelInfo& model);
 
 }  // namespace triaxcal

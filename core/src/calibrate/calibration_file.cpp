@@ -1,6 +1,7 @@
 #include "triaxcal/calibration_file.hpp"
 
 #include <algorithm>
+#include <cassert>
 #include <cmath>
 #include <filesystem>
 
@@ -58,8 +59,9 @@ ParameterSpec parse_parameter(const std::string& name, const json& v, const std:
       break;
     case ParameterStatus::free: {
       detail::check_keys(v, {"status", "lower", "upper", "start", "scale", "note"}, src, path);
-      s.lower = detail::get_number(v, "lower", src, path);
-      s.upper = detail::get_number(v, "upper", src, path);
+      // Either bound may be left out: seed_from_interpretation derives it (NaN until then).
+      s.lower = detail::get_number_or(v, "lower", kNotGiven, src, path);
+      s.upper = detail::get_number_or(v, "upper", kNotGiven, src, path);
       s.start = detail::get_number_or(v, "start", kNotGiven, src, path);
       const std::string scale = detail::get_string_or(v, "scale", "linear", src, path);
       s.scale = choose<ParameterScale>(scale, {{"linear", ParameterScale::linear}, {"log", ParameterScale::log}},
@@ -298,49 +300,253 @@ double mean_of(const std::vector<double>& v) {
   return n > 0 ? sum / n : kNotGiven;
 }
 
+/// A value of the interpretation and what it comes from.
+struct Seed {
+  double value = kNotGiven;
+  std::string basis;
+};
+
+/// The interpretation's value for each parameter name it can seed (kNotGiven where it has none).
+class InterpretationSeeds {
+ public:
+  InterpretationSeeds(const TestSeries& series, const InterpretOptions& options) {
+    try {
+      in_ = interpret(series, options);
+      ok_ = true;
+    } catch (const std::exception& e) {
+      failure_ = e.what();
+    }
+    if (!ok_) return;
+    std::vector<double> dilation, initial_stiffness, lambdas, kappas, constrained;
+    for (const StageInterpretation& s : in_.stages)
+      if (s.test == ShearType::cd) {
+        dilation.push_back(s.dilation_angle);
+        initial_stiffness.push_back(s.initial_stiffness);
+      }
+    for (const auto& c : in_.compressibility) {
+      lambdas.push_back(c.lambda);
+      kappas.push_back(c.kappa);
+      // The constrained modulus is taken at s_a' = InterpretOptions::reference_pressure.
+      if (c.constrained_modulus_stress == options.reference_pressure) constrained.push_back(c.constrained_modulus);
+    }
+    dilation_mean_ = mean_of(dilation);
+    initial_mean_ = mean_of(initial_stiffness);
+    lambda_mean_ = mean_of(lambdas);
+    kappa_mean_ = mean_of(kappas);
+    constrained_mean_ = mean_of(constrained);
+    reference_pressure_ = options.reference_pressure;
+  }
+
+  /// Names with a rule: seed_for gives them a value when the series has the data.
+  static bool known(const std::string& name) {
+    for (const char* n : {"friction_angle", "cohesion", "dilation_angle", "youngs_modulus", "secant_stiffness_ref",
+                          "stress_exponent", "unloading_stiffness_ref", "oedometer_stiffness_ref", "critical_state_ratio",
+                          "critical_state_friction_angle", "lambda", "kappa"})
+      if (name == n) return true;
+    return false;
+  }
+
+  Seed seed_for(const std::string& name) const {
+    if (!ok_) return {};
+    const StrengthEnvelope* env = in_.envelopes.empty() ? nullptr : &in_.envelopes.front();
+    if (name == "friction_angle") return {env ? env->phi : kNotGiven, "s'-t envelope"};
+    if (name == "cohesion") return {env && std::isfinite(env->cohesion) ? std::max(0.0, env->cohesion) : kNotGiven, "s'-t envelope"};
+    if (name == "dilation_angle") return {dilation_mean_, "mean peak dilation of the CD stages"};
+    if (name == "youngs_modulus") return {initial_mean_, "mean initial stiffness of the CD stages"};
+    if (name == "secant_stiffness_ref") return {in_.secant_law.reference, "secant stiffness law at " + pressure()};
+    if (name == "stress_exponent") return {in_.secant_law.exponent, "secant stiffness law"};
+    if (name == "unloading_stiffness_ref") return {in_.unload_reload_law.reference, "unload-reload stiffness law at " + pressure()};
+    if (name == "oedometer_stiffness_ref")
+      return {constrained_mean_, "mean constrained modulus of the oedometer stages at s_a' = " + format_number(reference_pressure_) + " kPa"};
+    if (name == "critical_state_ratio") return {in_.critical_m, "critical states"};
+    if (name == "critical_state_friction_angle")
+      return std::isfinite(in_.phi_cs) ? Seed{in_.phi_cs, "critical states"} : Seed{in_.phi_cv_rowe, "Rowe's stress-dilatancy"};
+    if (name == "lambda") return {lambda_mean_, "consolidation and oedometer stages"};
+    if (name == "kappa") return {kappa_mean_, "consolidation and oedometer stages"};
+    return {};
+  }
+
+  bool ok() const { return ok_; }
+  const std::string& failure() const { return failure_; }
+
+ private:
+  std::string pressure() const { return "s3' = " + format_number(reference_pressure_) + " kPa"; }
+
+  Interpretation in_;
+  bool ok_ = false;
+  std::string failure_;
+  double dilation_mean_ = kNotGiven, initial_mean_ = kNotGiven, lambda_mean_ = kNotGiven, kappa_mean_ = kNotGiven;
+  double constrained_mean_ = kNotGiven, reference_pressure_ = kNotGiven;
+};
+
+/// How bounds follow from the interpretation's value v (docs/calibration-format.md). Widths are
+/// common practice for a first search box, no source: wide enough that a fit is not pinned by them,
+/// narrow enough to keep a global search among physically sensible values.
+struct BoundsRule {
+  double lower = kNotGiven, upper = kNotGiven;
+  std::string text;    ///< the rule, for the note
+  bool usable = true;  ///< false: v cannot set bounds by this rule (e.g. a stiffness <= 0)
+  std::string needs;   ///< what v must be when not usable
+};
+
+BoundsRule box(double lower, double upper, const char* text) {
+  BoundsRule r;
+  r.lower = lower;
+  r.upper = upper;
+  r.text = text;
+  return r;
+}
+
+BoundsRule unusable(const char* needs) {
+  BoundsRule r;
+  r.usable = false;
+  r.needs = needs;
+  return r;
+}
+
+BoundsRule bounds_rule(const std::string& name, double v) {
+  if (name == "youngs_modulus" || name == "secant_stiffness_ref" || name == "oedometer_stiffness_ref" ||
+      name == "unloading_stiffness_ref" || name == "lambda" || name == "kappa")
+    return v > 0.0 ? box(v / 4.0, 4.0 * v, "v/4 to 4 v") : unusable("> 0");
+  if (name == "friction_angle" || name == "critical_state_friction_angle") return box(v - 8.0, v + 8.0, "v +- 8 deg");
+  if (name == "dilation_angle") return box(0.0, std::max(v + 8.0, 5.0), "0 to max(v + 8, 5) deg");
+  if (name == "cohesion") return box(0.0, std::max(3.0 * v, 20.0), "0 to max(3 v, 20 kPa)");
+  if (name == "stress_exponent")
+    return box(std::max(0.1, v - 0.3), std::min(1.0, v + 0.3), "max(0.1, v - 0.3) to min(1, v + 0.3)");
+  if (name == "critical_state_ratio") return v > 0.0 ? box(0.75 * v, 1.25 * v, "0.75 v to 1.25 v") : unusable("> 0");
+  return unusable("");  // not reached: seed_for gives no value for other names
+}
+
+/// The model's range with open ends moved inward by 1e-4 max(1, |end|): a derived bound must be a
+/// value the model accepts (the engine checks lower and upper against the open range).
+std::pair<double, double> closed_range(const ParameterInfo& pi) {
+  const auto step = [](double end) { return 1e-4 * std::max(1.0, std::abs(end)); };
+  const double lo = pi.lower_open && std::isfinite(pi.lower) ? pi.lower + step(pi.lower) : pi.lower;
+  const double hi = pi.upper_open && std::isfinite(pi.upper) ? pi.upper - step(pi.upper) : pi.upper;
+  return {lo, hi};
+}
+
+std::string with_unit(const std::string& number, const ParameterInfo& pi) {
+  return pi.unit.empty() || pi.unit == "-" ? number : number + " " + pi.unit;
+}
+
+std::string missing_of(bool lower, bool upper) {
+  return lower && upper ? "lower and upper are needed" : (lower ? "lower is needed" : "upper is needed");
+}
+
+/// The material of the fitted specimens when they all have the same one, else "" (all specimens).
+std::string material_of_tests(const CalibrationFile& file, const TestSeries& series) {
+  std::string material;
+  bool first = true;
+  for (const CalibrationTestSpec& t : file.tests)
+    for (const Specimen& s : series.specimens)
+      if (s.id == t.specimen) {
+        if (!first && s.material != material) return "";
+        material = s.material;
+        first = false;
+      }
+  return material;
+}
+
+/// The reference pressure of the stiffness laws: the model's fixed reference_pressure where it has
+/// one (E_ref is the stiffness at s3' = reference_pressure), else the interpretation's default.
+double reference_pressure_of(const CalibrationFile& file, const ModelInfo& model) {
+  const int i = parameter_index(model, "reference_pressure");
+  if (i < 0) return InterpretOptions{}.reference_pressure;
+  double value = model.parameters[static_cast<std::size_t>(i)].default_value;
+  for (const ParameterSpec& p : file.parameters)
+    if (p.name == "reference_pressure")
+      value = p.status == ParameterStatus::fixed ? (std::isnan(p.value) ? value : p.value) : kNotGiven;
+  return std::isfinite(value) && value > 0.0 ? value : InterpretOptions{}.reference_pressure;
+}
+
 }  // namespace
 
-std::vector<std::string> seed_starts_from_interpretation(CalibrationProblem& problem, const TestSeries& series) {
+std::vector<std::string> seed_from_interpretation(CalibrationFile& file, const TestSeries& series, const ModelInfo& model) {
   std::vector<std::string> notes;
-  Interpretation in;
-  try {
-    in = interpret(series, InterpretOptions{});
-  } catch (const std::exception&) {
-    return notes;  // no interpretation, no seeds: the middle of each box
-  }
-  std::vector<double> dilation, initial_stiffness, lambdas, kappas;
-  for (const StageInterpretation& s : in.stages) {
-    if (s.test == ShearType::cd) dilation.push_back(s.dilation_angle);
-    if (s.test == ShearType::cd) initial_stiffness.push_back(s.initial_stiffness);
-  }
-  for (const auto& c : in.compressibility) {
-    lambdas.push_back(c.lambda);
-    kappas.push_back(c.kappa);
-  }
-  const StrengthEnvelope* env = in.envelopes.empty() ? nullptr : &in.envelopes.front();
-  auto seed_for = [&](const std::string& name) -> std::pair<double, std::string> {
-    if (name == "friction_angle" && env) return {env->phi, "s'-t envelope"};
-    if (name == "cohesion" && env) return {std::max(0.0, env->cohesion), "s'-t envelope"};
-    if (name == "dilation_angle") return {mean_of(dilation), "mean peak dilation of the CD stages"};
-    if (name == "youngs_modulus") return {mean_of(initial_stiffness), "mean initial stiffness of the CD stages"};
-    if (name == "secant_stiffness_ref") return {in.secant_law.reference, "secant stiffness law"};
-    if (name == "stress_exponent") return {in.secant_law.exponent, "secant stiffness law"};
-    if (name == "unloading_stiffness_ref") return {in.unload_reload_law.reference, "unload-reload stiffness law"};
-    if (name == "critical_state_ratio") return {in.critical_m, "critical states"};
-    if (name == "critical_state_friction_angle")
-      return std::isfinite(in.phi_cs) ? std::pair<double, std::string>{in.phi_cs, "critical states"}
-                                      : std::pair<double, std::string>{in.phi_cv_rowe, "Rowe's stress-dilatancy"};
-    if (name == "lambda") return {mean_of(lambdas), "consolidation stages"};
-    if (name == "kappa") return {mean_of(kappas), "consolidation stages"};
-    return {kNotGiven, ""};
-  };
-  for (ParameterSpec& p : problem.parameters) {
-    if (p.status != ParameterStatus::free || !std::isnan(p.start)) continue;
-    const auto [value, basis] = seed_for(p.name);
-    if (!std::isfinite(value)) continue;
-    p.start = std::clamp(value, p.lower, p.upper);
-    notes.push_back(p.name + ": start " + format_number(p.start) + " from the interpretation (" + basis + ")" +
-                    (p.start != value ? ", clamped from " + format_number(value) : ""));
+  bool needed = false;
+  for (const ParameterSpec& p : file.parameters)
+    needed = needed || (p.status == ParameterStatus::free && (std::isnan(p.start) || std::isnan(p.lower) || std::isnan(p.upper)));
+  if (!needed) return notes;
+
+  InterpretOptions options;
+  options.material = material_of_tests(file, series);
+  options.reference_pressure = reference_pressure_of(file, model);
+  const InterpretationSeeds seeds(series, options);
+  const std::string& src = file.source;
+
+  for (ParameterSpec& p : file.parameters) {
+    if (p.status != ParameterStatus::free) continue;
+    const int index = parameter_index(model, p.name);
+    if (index < 0) continue;  // build_calibration_problem names the unknown parameter
+    const ParameterInfo& pi = model.parameters[static_cast<std::size_t>(index)];
+    const std::string where = src + ": parameters." + p.name + ": ";
+    const Seed seed = seeds.seed_for(p.name);
+    const bool lower_missing = std::isnan(p.lower), upper_missing = std::isnan(p.upper);
+
+    if (lower_missing || upper_missing) {
+      const std::string missing = where + missing_of(lower_missing, upper_missing) + ": ";
+      if (!std::isfinite(seed.value)) {
+        std::string why = "the interpretation of the series gives no value for " + p.name;
+        if (!seeds.ok()) why += " (the interpretation failed: " + seeds.failure() + ")";
+        else if (InterpretationSeeds::known(p.name)) why += " (it would come from the " + seed.basis + ")";
+        throw InputError(missing + why);
+      }
+      // Take v into the model's range first, so that the rule gives a box the model accepts.
+      const auto [range_lo, range_hi] = closed_range(pi);
+      assert(range_lo < range_hi && "a model's range leaves no room for a value");
+      const double v = std::clamp(seed.value, range_lo, range_hi);
+      const BoundsRule rule = bounds_rule(p.name, v);
+      if (!rule.usable)
+        throw InputError(missing + "the interpretation of the series gives " + p.name + " = " + format_number(seed.value) +
+                         " (" + seed.basis + "), which cannot set bounds (it must be " + rule.needs + ")");
+      std::string extra;
+      if (v != seed.value) extra += "; v = " + format_number(seed.value) + " taken as " + format_number(v) + ", inside the model's range " + format_bounds(pi);
+      double lower = rule.lower, upper = rule.upper;
+      if ((lower_missing && lower < range_lo) || (upper_missing && upper > range_hi))
+        extra += "; cut to the model's range " + format_bounds(pi);
+      lower = std::max(lower, range_lo);
+      upper = std::min(upper, range_hi);
+      // A start given in the file widens the derived side to include it (not beyond the model's range).
+      if (std::isfinite(p.start)) {
+        if (lower_missing && p.start < lower && p.start >= range_lo) {
+          lower = p.start;
+          extra += "; widened to include the start " + format_number(p.start);
+        }
+        if (upper_missing && p.start > upper && p.start <= range_hi) {
+          upper = p.start;
+          extra += "; widened to include the start " + format_number(p.start);
+        }
+      }
+      if (lower_missing) p.lower = lower;
+      if (upper_missing) p.upper = upper;
+      const std::string from = " from the interpretation (" + seed.basis + ", v = " + format_number(seed.value) + ", " + rule.text + extra + ")";
+      if (!(p.lower < p.upper)) {
+        if (lower_missing && upper_missing)  // only where a model's range is narrower than the rule
+          throw InputError(where + "the bounds [" + format_number(p.lower) + ", " + format_number(p.upper) + "]" + from +
+                           " leave no room; give lower and upper");
+        // One bound given: the derived one falls on the wrong side of it.
+        throw InputError(where + "the " + (upper_missing ? "upper" : "lower") + " bound " +
+                         format_number(upper_missing ? p.upper : p.lower) + from + " is not " +
+                         (upper_missing ? "above the given lower = " + format_number(p.lower)
+                                        : "below the given upper = " + format_number(p.upper)) +
+                         "; give " + (upper_missing ? "upper" : "lower") + " too");
+      }
+      if (lower_missing && upper_missing)
+        notes.push_back(p.name + ": bounds [" + format_number(p.lower) + ", " + with_unit(format_number(p.upper) + "]", pi) + from);
+      else if (lower_missing)
+        notes.push_back(p.name + ": lower bound " + with_unit(format_number(p.lower), pi) + from + ", upper " +
+                        format_number(p.upper) + " as given");
+      else
+        notes.push_back(p.name + ": upper bound " + with_unit(format_number(p.upper), pi) + from + ", lower " +
+                        format_number(p.lower) + " as given");
+    }
+
+    // A box that is reversed is left to build_calibration_problem, which says so.
+    if (!std::isnan(p.start) || !std::isfinite(seed.value) || !(p.lower < p.upper)) continue;
+    p.start = std::clamp(seed.value, p.lower, p.upper);
+    notes.push_back(p.name + ": start " + format_number(p.start) + " from the interpretation (" + seed.basis + ")" +
+                    (p.start != seed.value ? ", clamped from " + format_number(seed.value) : ""));
   }
   return notes;
 }
