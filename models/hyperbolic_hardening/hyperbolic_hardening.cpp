@@ -1,7 +1,6 @@
 #include "hyperbolic_hardening/hyperbolic_hardening.hpp"
 
 #include <Eigen/Eigenvalues>
-#include <bit>
 
 #include <algorithm>
 #include <cmath>
@@ -35,7 +34,6 @@ using hyperbolic::smaller;
 using hyperbolic::value;
 constexpr int kUnknowns = 5;  // three principal stresses and at most two multipliers
 using D5 = Dual<kUnknowns>;
-using Mat5 = Eigen::Matrix<double, kUnknowns, kUnknowns>;
 
 // Everything the return mapping needs at one principal stress and set of multipliers.
 template <class T>
@@ -362,11 +360,253 @@ void HyperbolicHardening::initialise(const InitialConditions& c, MaterialState& 
 
 namespace {
 
+using Method = HyperbolicHardening::LocalJacobian;
+
+// ---------------------------------------------------------------------------------------------
+// The hand-written Jacobian. It mirrors evaluate<T> branch by branch (isotropic limit, stiffness
+// floor, q_y = min(q_f, q_h), the caps on sin phi_m and the dilatancy cut-off, the cap hardening
+// law), so that it equals the forward-AD derivative of the same residual (checked in the tests).
+// Principal stresses sigma_k; P_ik = delta_ik - 1/3 = d s_i / d sigma_k; J2 = s.s/2, J3 = s1 s2 s3.
+//   dq/ds_i = 3 s_i / (2 q)                d2q = (3/(2q)) (P_ik - s_i s_k / (2 J2))
+//   dX/ds_i = A_i / J2 - 2/3,  A_i = s_i^2 - X s_i
+//   d2X = [(2 s_i - X) delta_ik + X/3 - (s_i A_k + A_i s_k)/J2] / J2
+// (from dJ3/dsigma_i = s_i^2 - 2 J2/3 for a deviator; common practice, no source needed beyond
+// the chain rule). Everything else depends on sigma through q, X, s3 and p only.
+// ---------------------------------------------------------------------------------------------
+
+// Derivatives of the surfaces in the active set at one point.
+struct LocalDerivatives {
+  double dn[3][3][3];  // dn[s][i][k] = d n_{s,i} / d sigma_k
+  double df[3][3];     // df[s][k] = d f_s / d sigma_k
+  double df_dl[3];     // d f_s / d dl_s (no f_s depends on another surface's multiplier)
+};
+
+// p_p(eps) as hardened_cap, and d p_p / d eps.
+double hardened_cap_slope(const HyperbolicHardening::Constants& k, const History& h, double eps, double& slope) {
+  const double e = 1.0 - k.m;
+  if (e < 1e-9) {
+    const double pp = h.pp * std::exp(eps * (k.h_ref / k.p_ref));
+    slope = pp * (k.h_ref / k.p_ref);
+    return pp;
+  }
+  const double rate = e * k.h_ref / k.p_ref;
+  double base = h.pp_pow + eps * rate;
+  double base_slope = rate;
+  if (!(base >= 1e-300)) {
+    base = 1e-300;
+    base_slope = 0.0;
+  }
+  if (e == 0.5) {
+    slope = k.p_ref * 2.0 * base * base_slope;
+    return k.p_ref * (base * base);
+  }
+  const double r = std::pow(base, 1.0 / e);
+  slope = k.p_ref * (r / (e * base)) * base_slope;
+  return k.p_ref * r;
+}
+
+// Values of all three surfaces at (sig, dl) into `o` (as evaluate<double>), and the derivatives of
+// the surfaces in `mask` into `d`.
+void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double sig[3], const double dl[3], int mask,
+                          const History& h, Point<double>& o, LocalDerivatives& d) {
+  constexpr double third = 1.0 / 3.0;
+  const double p = (sig[0] + sig[1] + sig[2]) / 3.0;
+  const double s[3] = {sig[0] - p, sig[1] - p, sig[2] - p};
+  const double j2 = 0.5 * (s[0] * s[0] + s[1] * s[1] + s[2] * s[2]);
+  const double c1 = 0.5 * (1.0 + k.delta);
+  const double c2 = 2.25 * (k.delta - 1.0);
+  double q = 0.0, x = 0.0, qt2 = 0.0;
+  double dq[3], dx[3], qt_dqt[3];
+  double hq[3][3], hx[3][3], hqt[3][3];  // d2q, d2X, d(qt_dqt_i)/d sigma_k
+  if (j2 > kIsotropic * (p * p + 1.0)) {
+    q = std::sqrt(3.0 * j2);
+    const double inv_j2 = 1.0 / j2;
+    const double inv_q = 1.0 / q;
+    x = s[0] * s[1] * s[2] * inv_j2;
+    const double qt = c1 * q - c2 * x;
+    qt2 = qt * qt;
+    double a[3], dqt[3];
+    for (int i = 0; i < 3; ++i) {
+      dq[i] = 1.5 * s[i] * inv_q;
+      a[i] = s[i] * s[i] - x * s[i];
+      dx[i] = a[i] * inv_j2 - 2.0 / 3.0;
+      dqt[i] = c1 * dq[i] - c2 * dx[i];
+      qt_dqt[i] = qt * dqt[i];
+    }
+    for (int i = 0; i < 3; ++i)
+      for (int j = i; j < 3; ++j) {
+        const double kron = i == j ? 1.0 : 0.0;
+        hq[i][j] = hq[j][i] = 1.5 * inv_q * (kron - third - 0.5 * s[i] * s[j] * inv_j2);
+        hx[i][j] = hx[j][i] = inv_j2 * ((2.0 * s[i] - x) * kron + x * third - (s[i] * a[j] + a[i] * s[j]) * inv_j2);
+        hqt[i][j] = hqt[j][i] = dqt[i] * dqt[j] + qt * (c1 * hq[i][j] - c2 * hx[i][j]);
+      }
+  } else {
+    // Isotropic: q~^2 = 3 J2, q = X = 0 with no derivatives (as evaluate<T>).
+    qt2 = 3.0 * j2;
+    for (int i = 0; i < 3; ++i) {
+      dq[i] = dx[i] = 0.0;
+      qt_dqt[i] = 1.5 * s[i];
+      for (int j = 0; j < 3; ++j) {
+        hq[i][j] = hx[i][j] = 0.0;
+        hqt[i][j] = 1.5 * ((i == j ? 1.0 : 0.0) - third);
+      }
+    }
+  }
+  const double s3 = p - 0.5 * q + 0.75 * x;
+  double ds3[3];
+  for (int i = 0; i < 3; ++i) ds3[i] = third - 0.5 * dq[i] + 0.75 * dx[i];
+  const double shifted = s3 + k.c_cot;
+
+  // Shear hardening surface: q_y(shifted, gamma) and its two partial derivatives.
+  const bool above_floor = shifted >= k.floor;
+  const double ratio = power((above_floor ? shifted : k.floor) / (k.p_ref + k.c_cot), k.m);
+  const double dlog_ratio = above_floor ? k.m / shifted : 0.0;  // d ln(ratio) / d shifted
+  const double a = 2.0 / ((2.0 * k.e50_ref / (2.0 - k.rf)) * ratio);  // 2 / E_i
+  const double b = 2.0 / (k.eur_ref * ratio);                          // 2 / E_ur
+  const double a_s = -a * dlog_ratio, b_s = -b * dlog_ratio;
+  const double qf = k.kf * shifted;
+  o.gamma = h.gamma + dl[0];
+  double qy = qf, qy_s = k.kf, qy_g = 0.0;
+  if (qf > 0.0) {
+    const double qa = qf / k.rf;
+    const double u = o.gamma / qa;  // gamma / q_a
+    const double u_s = -u * k.kf / qf, u_g = 1.0 / qa;
+    const double bb = a - b + u;
+    const double disc = std::sqrt(bb * bb + 4.0 * b * o.gamma / qa);
+    const double den = bb + disc;
+    const double qh = 2.0 * o.gamma / den;
+    if (!(qf <= qh)) {
+      const double bb_s = a_s - b_s + u_s;
+      const double den_s = bb_s + (bb * bb_s + 2.0 * (b_s * u + b * u_s)) / disc;
+      const double den_g = u_g + (bb * u_g + 2.0 * b * u_g) / disc;
+      qy = qh;
+      qy_s = -qh * den_s / den;
+      qy_g = (2.0 - qh * den_g) / den;
+    }
+  }
+  o.f[0] = q - qy;
+
+  // Mobilised friction and Rowe's dilatancy, with their gradients.
+  const double denom = 2.0 * shifted + q;
+  double sphm = k.sin_phi;
+  double dsphm[3] = {0.0, 0.0, 0.0};
+  if (denom > 0.0) {
+    sphm = q / denom;
+    const double c = 2.0 / (denom * denom);
+    for (int i = 0; i < 3; ++i) dsphm[i] = c * (shifted * dq[i] - q * ds3[i]);
+  }
+  if (!(sphm <= k.sin_phi)) {
+    sphm = k.sin_phi;
+    dsphm[0] = dsphm[1] = dsphm[2] = 0.0;
+  }
+  double spsi = 0.0;
+  double dspsi[3] = {0.0, 0.0, 0.0};
+  if (k.rule != 2) {
+    const double den = 1.0 - sphm * k.sin_cv;
+    spsi = (sphm - k.sin_cv) / den;
+    const double slope = (1.0 - k.sin_cv * k.sin_cv) / (den * den);
+    for (int i = 0; i < 3; ++i) dspsi[i] = slope * dsphm[i];
+    if (k.rule == 1 && !(spsi >= 0.0)) {
+      spsi = 0.0;
+      dspsi[0] = dspsi[1] = dspsi[2] = 0.0;
+    }
+  }
+  o.sin_phi_m = sphm;
+  o.sin_psi_m = spsi;
+  const double half_c = 0.5 - 0.5 * spsi;
+  for (int i = 0; i < 3; ++i) o.n[0][i] = dq[i] * half_c - spsi * ds3[i];
+  if (mask & 1) {
+    for (int i = 0; i < 3; ++i) {
+      d.df[0][i] = dq[i] - qy_s * ds3[i];
+      for (int j = 0; j < 3; ++j)
+        d.dn[0][i][j] = (hq[i][j] * half_c - spsi * (-0.5 * hq[i][j] + 0.75 * hx[i][j])) -
+                        (0.5 * dq[i] + ds3[i]) * dspsi[j];
+    }
+    d.df_dl[0] = -qy_g;
+  }
+
+  // Cap.
+  const double inv_a2 = 1.0 / k.alpha2;
+  const double big_f = std::sqrt(qt2 * inv_a2 + p * p);
+  const double inv_f = 1.0 / big_f;
+  for (int i = 0; i < 3; ++i) o.n[1][i] = (qt_dqt[i] * inv_a2 + p * third) * inv_f;
+  o.cap_strain = dl[1] * p * inv_f;
+  if (mask & 2) {
+    double slope = 0.0;
+    o.pp = hardened_cap_slope(k, h, o.cap_strain, slope);
+    for (int i = 0; i < 3; ++i) {
+      const double deps = dl[1] * (third - p * o.n[1][i] * inv_f) * inv_f;  // d eps_v^pc / d sigma_i
+      d.df[1][i] = o.n[1][i] - slope * deps;
+      for (int j = 0; j < 3; ++j)
+        d.dn[1][i][j] = (hqt[i][j] * inv_a2 + third * third - o.n[1][i] * o.n[1][j]) * inv_f;
+    }
+    d.df_dl[1] = -slope * p * inv_f;
+  } else {
+    o.pp = h.pp;
+  }
+  o.f[1] = big_f - o.pp;
+
+  // Tension cut-off.
+  o.f[2] = -s3 - k.tension;
+  for (int i = 0; i < 3; ++i) o.n[2][i] = -ds3[i];
+  if (mask & 4) {
+    for (int i = 0; i < 3; ++i) {
+      d.df[2][i] = -ds3[i];
+      for (int j = 0; j < 3; ++j) d.dn[2][i][j] = 0.5 * hq[i][j] - 0.75 * hx[i][j];
+    }
+    d.df_dl[2] = 0.0;
+  }
+}
+
+// LU with partial pivoting of an N x N matrix (N = 4 or 5: three stresses and one or two
+// multipliers); the reciprocals of the pivots are kept, so that a solve has no division.
+struct SmallLu {
+  double a[kUnknowns][kUnknowns];
+  double inv[kUnknowns];
+  int piv[kUnknowns];
+
+  template <int N>
+  bool factor(const double (&m)[kUnknowns][kUnknowns]) {
+    for (int r = 0; r < N; ++r)
+      for (int c = 0; c < N; ++c) a[r][c] = m[r][c];
+    for (int c = 0; c < N; ++c) {
+      int best = c;
+      for (int r = c + 1; r < N; ++r)
+        if (std::abs(a[r][c]) > std::abs(a[best][c])) best = r;
+      piv[c] = best;
+      if (!(std::abs(a[best][c]) > 0.0) || !std::isfinite(a[best][c])) return false;
+      if (best != c)
+        for (int j = 0; j < N; ++j) std::swap(a[c][j], a[best][j]);
+      inv[c] = 1.0 / a[c][c];
+      for (int r = c + 1; r < N; ++r) {
+        const double f = a[r][c] * inv[c];
+        a[r][c] = f;
+        for (int j = c + 1; j < N; ++j) a[r][j] -= f * a[c][j];
+      }
+    }
+    return true;
+  }
+  template <int N>
+  void solve(double* b) const {
+    for (int c = 0; c < N; ++c)
+      if (piv[c] != c) std::swap(b[c], b[piv[c]]);
+    for (int c = 0; c < N; ++c)
+      for (int r = c + 1; r < N; ++r) b[r] -= a[r][c] * b[c];
+    for (int r = N - 1; r >= 0; --r) {
+      double v = b[r];
+      for (int j = r + 1; j < N; ++j) v -= a[r][j] * b[j];
+      b[r] = v * inv[r];
+    }
+  }
+};
+
 struct LocalSolve {
   double sig[3];
   double dl[3];
   Point<double> point;
-  Mat5 jac;
+  double jac[kUnknowns][kUnknowns];  // leading (3 + na) block used
+  SmallLu lu;                        // factors of jac when `factored`
+  bool factored;
   int iterations;
 };
 
@@ -383,42 +623,6 @@ void copy_values(const Point<Dual<N>>& a, Point<double>& b) {
   b.sin_psi_m = a.sin_psi_m.v;
 }
 
-// LU with partial pivoting of the leading n x n block (n <= 5), in place; false when singular.
-struct SmallLu {
-  Mat5 a;
-  int piv[kUnknowns];
-  int n;
-  bool factor(const Mat5& m, int size) {
-    a = m;
-    n = size;
-    for (int c = 0; c < n; ++c) {
-      int best = c;
-      for (int r = c + 1; r < n; ++r)
-        if (std::abs(a(r, c)) > std::abs(a(best, c))) best = r;
-      piv[c] = best;
-      if (!(std::abs(a(best, c)) > 0.0) || !std::isfinite(a(best, c))) return false;
-      if (best != c) a.row(c).swap(a.row(best));
-      const double inv = 1.0 / a(c, c);
-      for (int r = c + 1; r < n; ++r) {
-        const double f = a(r, c) * inv;
-        a(r, c) = f;
-        for (int j = c + 1; j < n; ++j) a(r, j) -= f * a(c, j);
-      }
-    }
-    return true;
-  }
-  void solve(double* b) const {
-    for (int c = 0; c < n; ++c)
-      if (piv[c] != c) std::swap(b[c], b[piv[c]]);
-    for (int c = 0; c < n; ++c)
-      for (int r = c + 1; r < n; ++r) b[r] -= a(r, c) * b[c];
-    for (int r = n - 1; r >= 0; --r) {
-      for (int j = r + 1; j < n; ++j) b[r] -= a(r, j) * b[j];
-      b[r] /= a(r, r);
-    }
-  }
-};
-
 // Residual R = [sigma - trial + D_p sum dl_k n_k ; f_k (active)] at a point already evaluated.
 template <class T>
 void residual(const Point<T>& pt, const T sig[3], const T dl[3], const double trial[3], const int active[2], int na,
@@ -432,63 +636,112 @@ void residual(const Point<T>& pt, const T sig[3], const T dl[3], const double tr
   }
 }
 
+// The local equations at x = (sigma, multipliers of the active surfaces): the point's values into
+// `pt`, R into `rv`, dR/dx into the leading (3 + na) block of `jac`.
+struct LocalEquations {
+  const HyperbolicHardening::Constants& k;
+  const double* trial;
+  const History& h;
+  double lame, two_g;
+  int active[2];
+  int na;
+  int mask;
+
+  LocalEquations(const HyperbolicHardening::Constants& kk, const double* tr, const History& hh, double l, double g2,
+                 int m)
+      : k(kk), trial(tr), h(hh), lame(l), two_g(g2), active{0, 0}, na(0), mask(m) {
+    for (int s = 0; s < 3; ++s)
+      if (mask & (1 << s)) active[na++] = s;
+  }
+
+  template <Method method, int N>
+  void system(const double x[kUnknowns], Point<double>& pt, double rv[kUnknowns],
+              double (&jac)[kUnknowns][kUnknowns]) const {
+    constexpr int n = N;
+    if constexpr (method == Method::automatic) {
+      D5 sig[3];
+      for (int i = 0; i < 3; ++i) sig[i] = D5::variable(x[i], i);
+      D5 dl[3] = {D5(0.0), D5(0.0), D5(0.0)};
+      for (int j = 0; j < na; ++j) dl[active[j]] = D5::variable(x[3 + j], 3 + j);
+      Point<D5> ad;
+      evaluate(k, sig, dl, (mask & 2) != 0, h, ad);
+      D5 res[kUnknowns];
+      residual(ad, sig, dl, trial, active, na, lame, two_g, res);
+      for (int i = 0; i < n; ++i) {
+        rv[i] = res[i].v;
+        for (int j = 0; j < n; ++j) jac[i][j] = res[i].d[j];
+      }
+      copy_values(ad, pt);
+    } else {
+      const double sig[3] = {x[0], x[1], x[2]};
+      double dl[3] = {0.0, 0.0, 0.0};
+      for (int j = 0; j < na; ++j) dl[active[j]] = x[3 + j];
+      LocalDerivatives d;
+      evaluate_derivatives(k, sig, dl, mask, h, pt, d);
+      residual(pt, sig, dl, trial, active, na, lame, two_g, rv);
+      // Stress rows: delta_ik + sum_s dl_s (lame tr(dn_s/dsigma_k) + 2G dn_{s,i}/dsigma_k); then
+      // the column of each multiplier, lame tr(n_s) + 2G n_s,i.
+      for (int i = 0; i < 3; ++i)
+        for (int c = 0; c < 3; ++c) jac[i][c] = i == c ? 1.0 : 0.0;
+      for (int j = 0; j < n - 3; ++j) {
+        const int s = active[j];
+        const double tr = pt.n[s][0] + pt.n[s][1] + pt.n[s][2];
+        for (int c = 0; c < 3; ++c) {
+          const double dtr = d.dn[s][0][c] + d.dn[s][1][c] + d.dn[s][2][c];
+          for (int i = 0; i < 3; ++i) jac[i][c] += dl[s] * (lame * dtr + two_g * d.dn[s][i][c]);
+        }
+        for (int i = 0; i < 3; ++i) jac[i][3 + j] = lame * tr + two_g * pt.n[s][i];
+        for (int c = 0; c < 3; ++c) jac[3 + j][c] = d.df[s][c];
+        for (int c = 0; c < n - 3; ++c) jac[3 + j][3 + c] = c == j ? d.df_dl[s] : 0.0;
+      }
+    }
+  }
+};
+
 // Newton on R = 0 for the surfaces in `mask`, from the guess dl = guess[k] with
 // sigma = trial - sum guess_k D_p n_k(trial). On success r.jac is dR/dx at the solution, or at the
 // last iterate when that iterate was already within kQuadratic (quadratic convergence then puts
-// the solution within round-off, and the Jacobian within |dx| of the exact one).
+// the solution within round-off, and the Jacobian within |dx| of the exact one); r.lu holds its
+// factors when r.factored.
 constexpr double kQuadratic = 1e-6;
 
-bool solve_local(const HyperbolicHardening::Constants& k, const double trial[3], const Point<double>& at_trial,
-                 const double guess[3], double lame, double two_g, const History& h, int mask, double scale,
+template <Method method, int N>
+bool solve_local(const LocalEquations& eq, const Point<double>& at_trial, const double guess[3], double scale,
                  LocalSolve& r) {
-  int active[2];
-  int na = 0;
-  for (int s = 0; s < 3; ++s)
-    if (mask & (1 << s)) active[na++] = s;
-  const int n = 3 + na;
+  constexpr int na = N - 3;
+  constexpr int n = N;
+  const double* trial = eq.trial;
   double x[kUnknowns] = {trial[0], trial[1], trial[2], 0.0, 0.0};
   for (int j = 0; j < na; ++j) {
-    const int s = active[j];
+    const int s = eq.active[j];
     const double g = guess[s];
     if (!(g > 0.0)) continue;
     x[3 + j] = g;
     const double tr = at_trial.n[s][0] + at_trial.n[s][1] + at_trial.n[s][2];
-    for (int i = 0; i < 3; ++i) x[i] -= g * (lame * tr + two_g * at_trial.n[s][i]);
+    for (int i = 0; i < 3; ++i) x[i] -= g * (eq.lame * tr + eq.two_g * at_trial.n[s][i]);
   }
-  const bool cap_active = (mask & 2) != 0;
   const double tol = kLocalTolerance * scale;
   auto finish = [&](int it) {
     for (int i = 0; i < 3; ++i) r.sig[i] = x[i];
     r.dl[0] = r.dl[1] = r.dl[2] = 0.0;
-    for (int j = 0; j < na; ++j) r.dl[active[j]] = x[3 + j];
+    for (int j = 0; j < na; ++j) r.dl[eq.active[j]] = x[3 + j];
     r.iterations = it;
   };
   for (int it = 0; it < kMaxLocalIterations; ++it) {
-    D5 sig[3];
-    for (int i = 0; i < 3; ++i) sig[i] = D5::variable(x[i], i);
-    D5 dl[3] = {D5(0.0), D5(0.0), D5(0.0)};
-    for (int j = 0; j < na; ++j) dl[active[j]] = D5::variable(x[3 + j], 3 + j);
-    Point<D5> pt;
-    evaluate(k, sig, dl, cap_active, h, pt);
-    D5 res[kUnknowns];
-    residual(pt, sig, dl, trial, active, na, lame, two_g, res);
-    double worst = 0.0;
     double rv[kUnknowns];
-    r.jac.setIdentity();
+    eq.system<method, N>(x, r.point, rv, r.jac);
+    double worst = 0.0;
     for (int i = 0; i < n; ++i) {
-      rv[i] = res[i].v;
       if (!std::isfinite(rv[i])) return false;
       worst = std::max(worst, std::abs(rv[i]));
-      for (int j = 0; j < n; ++j) r.jac(i, j) = res[i].d[j];
     }
     if (worst <= tol) {
       finish(it);
-      copy_values(pt, r.point);
+      r.factored = false;
       return true;
     }
-    SmallLu lu;
-    if (!lu.factor(r.jac, n)) return false;
-    lu.solve(rv);
+    if (!r.lu.factor<N>(r.jac)) return false;
+    r.lu.solve<N>(rv);
     for (int i = 0; i < n; ++i) {
       x[i] -= rv[i];
       if (!std::isfinite(x[i])) return false;
@@ -496,12 +749,15 @@ bool solve_local(const HyperbolicHardening::Constants& k, const double trial[3],
     if (worst <= kQuadratic * scale) {
       // Check the new iterate with a plain evaluation; keep this Jacobian if it has converged.
       finish(it + 1);
-      evaluate(k, r.sig, r.dl, cap_active, h, r.point);
+      evaluate(eq.k, r.sig, r.dl, (eq.mask & 2) != 0, eq.h, r.point);
       double rd[kUnknowns];
-      residual(r.point, r.sig, r.dl, trial, active, na, lame, two_g, rd);
+      residual(r.point, r.sig, r.dl, trial, eq.active, na, eq.lame, eq.two_g, rd);
       double w = 0.0;
       for (int i = 0; i < n; ++i) w = std::max(w, std::abs(rd[i]));
-      if (w <= tol) return true;
+      if (w <= tol) {
+        r.factored = true;
+        return true;
+      }
     }
   }
   return false;
@@ -511,6 +767,45 @@ bool solve_local(const HyperbolicHardening::Constants& k, const double trial[3],
 
 IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
                                                  Mat6& tangent) const {
+  return integrate_impl<LocalJacobian::hand_written>(in, de, out, tangent);
+}
+
+IntegrationResult HyperbolicHardening::integrate_with(LocalJacobian method, const MaterialState& in, const Vec6& de,
+                                                      MaterialState& out, Mat6& tangent) const {
+  if (method == LocalJacobian::automatic) return integrate_impl<LocalJacobian::automatic>(in, de, out, tangent);
+  return integrate_impl<LocalJacobian::hand_written>(in, de, out, tangent);
+}
+
+HyperbolicHardening::LocalSystem HyperbolicHardening::local_system(LocalJacobian method, const double principal[3],
+                                                                   const double multipliers[3], int mask,
+                                                                   double gamma_n, double pp_n, double eur,
+                                                                   const double trial[3]) const {
+  const History history(k_, gamma_n, pp_n);
+  const double bulk = eur / (3.0 * (1.0 - 2.0 * k_.nu));
+  const double shear_mod = eur / (2.0 * (1.0 + k_.nu));
+  const LocalEquations eq(k_, trial, history, bulk - 2.0 * shear_mod / 3.0, 2.0 * shear_mod, mask & 7);
+  double x[kUnknowns] = {principal[0], principal[1], principal[2], 0.0, 0.0};
+  for (int j = 0; j < eq.na; ++j) x[3 + j] = multipliers[eq.active[j]];
+  Point<double> pt;
+  LocalSystem s;
+  s.size = 3 + eq.na;
+  if (method == LocalJacobian::automatic) {
+    if (eq.na == 1)
+      eq.system<LocalJacobian::automatic, 4>(x, pt, s.residual, s.jacobian);
+    else
+      eq.system<LocalJacobian::automatic, 5>(x, pt, s.residual, s.jacobian);
+  } else {
+    if (eq.na == 1)
+      eq.system<LocalJacobian::hand_written, 4>(x, pt, s.residual, s.jacobian);
+    else
+      eq.system<LocalJacobian::hand_written, 5>(x, pt, s.residual, s.jacobian);
+  }
+  return s;
+}
+
+template <HyperbolicHardening::LocalJacobian method>
+IntegrationResult HyperbolicHardening::integrate_impl(const MaterialState& in, const Vec6& de, MaterialState& out,
+                                                      Mat6& tangent) const {
   out = in;
   // Elasticity with E_ur at the stress at the start of the increment.
   const Measures m0 = measures(in.stress, k_.delta);
@@ -518,8 +813,10 @@ IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const 
   const double bulk = eur / (3.0 * (1.0 - 2.0 * k_.nu));
   const double shear_mod = eur / (2.0 * (1.0 + k_.nu));
   const double lame = bulk - 2.0 * shear_mod / 3.0;
-  const Mat6 elastic = isotropic_elastic_stiffness(bulk, shear_mod);
-  const Vec6 trial = in.stress + elastic * de;
+  const double diag = bulk + 4.0 * shear_mod / 3.0;  // as isotropic_elastic_stiffness
+  Vec6 trial;
+  for (int i = 0; i < 3; ++i) trial[i] = in.stress[i] + diag * de[i] + lame * (de[(i + 1) % 3] + de[(i + 2) % 3]);
+  for (int i = 3; i < 6; ++i) trial[i] = in.stress[i] + shear_mod * de[i];
   if (!trial.allFinite()) return {Status::numerical_issue, 0};
   const double gamma_n = in.internal[shear_hardening];
   const double pp_n = in.internal[cap_pressure];
@@ -550,7 +847,7 @@ IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const 
     if (at_trial.f[s] > ytol) violated |= 1 << s;
   if (violated == 0) {
     out.stress = trial;
-    tangent = elastic;
+    tangent = isotropic_elastic_stiffness(bulk, shear_mod);
     out.internal[mobilised_friction] = radians_to_degrees(std::asin(at_trial.sin_phi_m));
     out.internal[mobilised_dilation] = radians_to_degrees(std::asin(at_trial.sin_psi_m));
     out.internal[active_surfaces] = 0.0;
@@ -578,12 +875,16 @@ IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const 
   // Warm start: the multipliers per unit strain increment of the last plastic step.
   const double strain_norm = de.norm();
   const double guess[3] = {in.internal[shear_rate] * strain_norm, in.internal[cap_rate] * strain_norm, 0.0};
-  LocalSolve r{};
+  LocalSolve r;
   int accepted = -1;
+  int n_unknowns = 0;
   int iterations = 0;
   for (int ci = 0; ci < nc && accepted < 0; ++ci) {
     const int mask = candidates[ci];
-    if (!solve_local(k_, principal, at_trial, guess, lame, 2.0 * shear_mod, history, mask, scale, r)) continue;
+    const LocalEquations eq(k_, principal, history, lame, 2.0 * shear_mod, mask);
+    const bool solved = eq.na == 1 ? solve_local<method, 4>(eq, at_trial, guess, scale, r)
+                                   : solve_local<method, 5>(eq, at_trial, guess, scale, r);
+    if (!solved) continue;
     iterations += r.iterations;
     bool ok = true;
     for (int s = 0; s < 3; ++s) {
@@ -592,19 +893,24 @@ IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const 
       else
         ok = ok && r.point.f[s] <= ytol;
     }
-    if (ok) accepted = mask;
+    if (ok) {
+      accepted = mask;
+      n_unknowns = 3 + eq.na;
+    }
   }
   if (accepted < 0) return {Status::no_convergence, iterations};
 
   // d sigma / d trial (principal) = leading 3 x 3 block of J^-1 (columns J^-1 e_j), then times D_p.
-  SmallLu lu;
-  const int n_active = std::popcount(static_cast<unsigned>(accepted));
-  if (!lu.factor(r.jac, 3 + n_active)) return {Status::numerical_issue, iterations};
+  if (!r.factored && !(n_unknowns == 4 ? r.lu.factor<4>(r.jac) : r.lu.factor<5>(r.jac)))
+    return {Status::numerical_issue, iterations};
   Mat3 dsig;
   for (int j = 0; j < 3; ++j) {
     double col[kUnknowns] = {0.0, 0.0, 0.0, 0.0, 0.0};
     col[j] = 1.0;
-    lu.solve(col);
+    if (n_unknowns == 4)
+      r.lu.solve<4>(col);
+    else
+      r.lu.solve<5>(col);
     for (int i = 0; i < 3; ++i) dsig(i, j) = col[i];
   }
   Mat3 dp_elastic;

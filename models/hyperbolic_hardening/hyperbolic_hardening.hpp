@@ -31,8 +31,12 @@
 //   k0_nc and oedometer_stiffness_ref (see calibrate_cap in the .cpp).
 // - Tension cut-off: s3 >= -min(tensile_strength, c cot phi), associated.
 // Integration: implicit (backward Euler) return mapping in principal stress space, multi-surface
-// (shear, cap, tension), Newton with an exact Jacobian by forward automatic differentiation, and the
-// consistent tangent of an isotropic tensor function (de Souza Neto, Peric & Owen 2008, eq. A.46).
+// (shear, cap, tension), Newton with an exact Jacobian, and the consistent tangent of an isotropic
+// tensor function (de Souza Neto, Peric & Owen 2008, eq. A.46). The Jacobian is written out by hand
+// (chain rule through q, X = J3/J2 and s3, whose second derivatives are in closed form) for the
+// surfaces in the active set only; forward automatic differentiation (dual.hpp) of the same
+// residual is kept as the reference (LocalJacobian::automatic), and the tests compare the two.
+// The consistent tangent reuses the LU factors of the last Newton iteration.
 
 #include <memory>
 #include <string>
@@ -85,6 +89,27 @@ class HyperbolicHardening final : public Model {
   IntegrationResult integrate(const MaterialState& in, const Vec6& strain_increment, MaterialState& out,
                               Mat6& tangent) const override;
 
+  /// How the local Newton solve gets its Jacobian: written out by hand (what integrate uses) or by
+  /// forward automatic differentiation of the residual (the reference, slower).
+  enum class LocalJacobian { hand_written, automatic };
+  /// integrate() with the Jacobian of the local solve chosen (for tests and benchmarks).
+  IntegrationResult integrate_with(LocalJacobian method, const MaterialState& in, const Vec6& strain_increment,
+                                   MaterialState& out, Mat6& tangent) const;
+
+  /// The local equations at one point, for tests: unknowns x = (s1', s2', s3', multipliers of the
+  /// surfaces in the active set in the order shear, cap, tension); residual R(x) and dR/dx.
+  struct LocalSystem {
+    int size = 0;              ///< 3 + number of active surfaces
+    double residual[5]{};      ///< principal stress rows (kPa), then yield functions (kPa)
+    double jacobian[5][5]{};   ///< jacobian[i][j] = dR_i / dx_j
+  };
+  /// R and dR/dx at principal stresses `principal` (kPa) and multipliers `multipliers` (shear, cap,
+  /// tension; those outside `mask` are ignored) for the surfaces in `mask` (bits 1 shear, 2 cap,
+  /// 4 tension, at most two), from hardening state (gamma_n, p_p,n), elastic modulus `eur` (kPa)
+  /// and principal trial stress `trial` (kPa).
+  LocalSystem local_system(LocalJacobian method, const double principal[3], const double multipliers[3], int mask,
+                           double gamma_n, double pp_n, double eur, const double trial[3]) const;
+
   double cap_alpha() const { return alpha_; }          ///< cap shape alpha (-)
   double cap_modulus_ref() const { return cap_h_ref_; } ///< H_ref = p_ref / beta (kPa)
 
@@ -97,6 +122,10 @@ class HyperbolicHardening final : public Model {
   };
 
  private:
+  template <LocalJacobian method>
+  IntegrationResult integrate_impl(const MaterialState& in, const Vec6& strain_increment, MaterialState& out,
+                                   Mat6& tangent) const;
+
   Constants k_{};
   double alpha_ = 0.0;
   double cap_h_ref_ = 0.0;

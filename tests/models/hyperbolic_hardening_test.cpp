@@ -3,10 +3,13 @@
 
 #include <catch2/catch.hpp>
 
+#include <algorithm>
 #include <cmath>
 #include <map>
+#include <random>
 #include <string>
 
+#include "allocation_counter.hpp"
 #include "cli_run.hpp"
 #include "hyperbolic_hardening/hyperbolic_hardening.hpp"
 #include "tolerances.hpp"
@@ -417,4 +420,227 @@ TEST_CASE("hyperbolic_hardening is registered and `triaxcal models hyperbolic_ha
   for (const ParameterInfo& p : HyperbolicHardening::model_info().parameters) CHECK(r.out.find(p.name) != std::string::npos);
   const auto all = triaxcal::test::run_cli("models", "hh_models_all");
   CHECK(all.out.find("hyperbolic_hardening") != std::string::npos);
+}
+
+namespace {
+
+// Parameter sets that reach every branch of the local equations between them: power law with the
+// square root (m = 0.5), a general exponent, m = 1 (exponential cap hardening) and m = 0; each
+// dilatancy rule; cohesion with a tension cut-off; R_f = 1.
+const Overrides kBranchSets[] = {
+    Overrides{},
+    Overrides{{"cohesion", 10.0}, {"tensile_strength", 5.0}, {"stress_exponent", 0.7}, {"dilatancy_rule", 0.0},
+              {"friction_angle", 35.0}, {"critical_state_friction_angle", 30.0}},
+    Overrides{{"stress_exponent", 1.0}, {"dilatancy_rule", 1.0}, {"cohesion", 2.0}},
+    Overrides{{"stress_exponent", 0.0}, {"dilatancy_rule", 2.0}, {"friction_angle", 38.0},
+              {"critical_state_friction_angle", 32.0}},
+    Overrides{{"stress_exponent", 0.3}, {"failure_ratio", 1.0}, {"dilatancy_rule", 0.0}, {"cohesion", 20.0},
+              {"tensile_strength", 30.0}},
+};
+
+using Jacobian = HyperbolicHardening::LocalJacobian;
+
+}  // namespace
+
+// The hand-written Jacobian of the local return-mapping equations against forward automatic
+// differentiation of the same residual (dual.hpp), at random points that are not solutions:
+// general, triaxial compression and extension, isotropic and nearly isotropic stresses, stresses
+// near and beyond the apex (stiffness floor, q_f <= 0), beyond failure (sin phi_m capped), below
+// phi_cv (the cut-off of rule 1), gamma_p = 0 (q_y = q_h), a large gamma_p (q_y = q_f), every
+// active set of one or two surfaces. Both are exact derivatives of the same residual, so they agree
+// to round-off (common practice, no source).
+TEST_CASE("hand-written local Jacobian equals the forward-AD Jacobian to 1e-9 on random points and every active set",
+          "[hyperbolic_hardening]") {
+  std::mt19937 rng(1999);
+  std::uniform_real_distribution<double> u01(0.0, 1.0);
+  auto uniform = [&](double a, double b) { return a + (b - a) * u01(rng); };
+  int compared = 0;
+  for (const Overrides& over : kBranchSets) {
+    const HyperbolicHardening model(values(over), "test");
+    const double c_cot = param(over, "cohesion") / std::tan(degrees_to_radians(param(over, "friction_angle")));
+    double worst_jacobian = 0.0, worst_residual = 0.0;
+    std::string worst_where;
+    for (int sample = 0; sample < 240; ++sample) {
+      const double p = uniform(20.0, 400.0);
+      double sig[3];
+      switch (sample % 6) {
+        case 0:  // general
+          for (double& v : sig) v = p * uniform(0.3, 1.7);
+          break;
+        case 1: {  // triaxial compression
+          const double r = uniform(0.2, 1.0);
+          sig[0] = p;
+          sig[1] = sig[2] = r * p;
+          break;
+        }
+        case 2: {  // triaxial extension
+          const double r = uniform(0.2, 1.0);
+          sig[0] = sig[1] = p;
+          sig[2] = r * p;
+          break;
+        }
+        case 3:  // isotropic
+          sig[0] = sig[1] = sig[2] = p;
+          break;
+        case 4:  // minor stress near the apex: below the stiffness floor, or q_f <= 0
+          sig[0] = p;
+          sig[1] = p * uniform(0.2, 0.8);
+          sig[2] = -c_cot + uniform(-5.0, 0.1);
+          break;
+        default:  // nearly isotropic: J2 below the isotropic threshold (deviator 1e-13 p), or a small
+                  // deviator (1e-3 p; closer to isotropy the round-off of s = sigma - p, amplified by
+                  // p/q, grows alike in both derivatives and beyond the tolerance)
+          sig[0] = p * (1.0 + (sample % 12 < 6 ? 1e-13 : 1e-3));
+          sig[1] = sig[2] = p;
+          break;
+      }
+      std::shuffle(sig, sig + 3, rng);  // the equations are symmetric in the principal values
+      const double dl[3] = {uniform(0.0, 2e-3), uniform(0.0, 2e-3), uniform(0.0, 2e-3)};
+      const double gamma_n = sample % 3 == 0 ? 0.0 : (sample % 3 == 1 ? uniform(0.0, 0.01) : 1.0);
+      const double pp_n = std::max(10.0, p) * uniform(0.7, 2.0);
+      const double eur = param(over, "unloading_stiffness_ref") * uniform(0.5, 2.0);
+      const double trial[3] = {sig[0] + uniform(0.0, 50.0), sig[1] + uniform(0.0, 50.0), sig[2] + uniform(0.0, 50.0)};
+      const double scale = std::max({1.0, std::abs(sig[0]), std::abs(sig[1]), std::abs(sig[2])});
+      for (int mask : {1, 2, 4, 3, 5, 6}) {
+        const auto hand = model.local_system(Jacobian::hand_written, sig, dl, mask, gamma_n, pp_n, eur, trial);
+        const auto ad = model.local_system(Jacobian::automatic, sig, dl, mask, gamma_n, pp_n, eur, trial);
+        REQUIRE(hand.size == ad.size);
+        // Norm-wise per block (stress / yield rows times stress / multiplier columns): near an
+        // isotropic stress the stress block holds entries ~ E dl / q that cancel, and the round-off
+        // of s = sigma - p is amplified by p / q in both; the block's largest entry is the scale.
+        // Floors: 1 for the dimensionless stress columns, E_ur for the multiplier columns (kPa).
+        double block_max[2][2] = {{1.0, eur}, {1.0, eur}};
+        for (int i = 0; i < ad.size; ++i)
+          for (int j = 0; j < ad.size; ++j) {
+            INFO("sample " << sample << ", mask " << mask << ", entry (" << i << ", " << j << ")");
+            REQUIRE(std::isfinite(ad.jacobian[i][j]));
+            double& m = block_max[i < 3 ? 0 : 1][j < 3 ? 0 : 1];
+            m = std::max(m, std::abs(ad.jacobian[i][j]));
+          }
+        for (int i = 0; i < ad.size; ++i) {
+          REQUIRE(std::isfinite(ad.residual[i]));
+          worst_residual = std::max(worst_residual, std::abs(hand.residual[i] - ad.residual[i]) / scale);
+          for (int j = 0; j < ad.size; ++j) {
+            const double err =
+                std::abs(hand.jacobian[i][j] - ad.jacobian[i][j]) / block_max[i < 3 ? 0 : 1][j < 3 ? 0 : 1];
+            if (err > worst_jacobian) {
+              worst_jacobian = err;
+              worst_where = "sample " + std::to_string(sample) + ", mask " + std::to_string(mask) + ", entry (" +
+                            std::to_string(i) + ", " + std::to_string(j) + "): hand " +
+                            std::to_string(hand.jacobian[i][j]) + ", AD " + std::to_string(ad.jacobian[i][j]);
+            }
+          }
+        }
+        ++compared;
+      }
+    }
+    INFO("worst relative Jacobian difference " << worst_jacobian << " at " << worst_where << "; residual "
+                                                << worst_residual);
+    CHECK(worst_jacobian < test::kRoundOff);
+    CHECK(worst_residual < test::kRoundOff);
+  }
+  CHECK(compared == 5 * 240 * 6);
+}
+
+// The whole increment with the hand-written Jacobian against the forward-AD reference: stress,
+// internal state and consistent tangent, along random strain paths (loading, unloading, general
+// increments with shear components) from normally and overconsolidated, isotropic and K0 states.
+// The same equations solved to the same tolerance: round-off agreement (common practice, no source).
+TEST_CASE("integrate with the hand-written Jacobian matches the forward-AD reference in stress, state and tangent",
+          "[hyperbolic_hardening]") {
+  std::mt19937 rng(2008);
+  std::uniform_real_distribution<double> u01(0.0, 1.0);
+  auto uniform = [&](double a, double b) { return a + (b - a) * u01(rng); };
+  std::map<int, int> seen;  // active set -> increments
+  double worst_stress = 0.0, worst_state = 0.0, worst_tangent = 0.0;
+  for (const Overrides& over : kBranchSets) {
+    const HyperbolicHardening model(values(over), "test");
+    struct Start {
+      double axial, radial, ocr;
+      Vec6 bias;  // mean direction of the strain increments
+    };
+    Vec6 compression, isotropic, extension;
+    compression << 1.0, -0.3, -0.3, 0.0, 0.0, 0.0;
+    isotropic << 1.0, 1.0, 1.0, 0.0, 0.0, 0.0;
+    extension << -1.0, 0.4, 0.4, 0.0, 0.0, 0.0;
+    const Start starts[] = {{100.0, 100.0, 1.0, compression}, {100.0, 50.0, 1.0, compression},
+                            {160.0, 100.0, 4.0, compression}, {120.0, 80.0, 1.0, isotropic},
+                            {200.0, 200.0, 1.5, extension}};
+    for (const Start& st : starts) {
+      InitialConditions ic;
+      ic.stress = triaxial_stress(st.axial, st.radial);
+      ic.overconsolidation_ratio = st.ocr;
+      MaterialState state;
+      model.initialise(ic, state);
+      for (int step = 0; step < 40; ++step) {
+        Vec6 de = st.bias;
+        for (int i = 0; i < 6; ++i) de[i] += uniform(-0.5, 0.5) * (i < 3 || step % 2 ? 1.0 : 0.0);
+        if (step % 7 == 6) de = -de;  // an unloading increment now and then
+        de *= std::pow(10.0, uniform(-5.0, -3.3));
+        MaterialState hand_out, ad_out;
+        Mat6 hand_tangent, ad_tangent;
+        const IntegrationResult hand = model.integrate_with(Jacobian::hand_written, state, de, hand_out, hand_tangent);
+        const IntegrationResult ad = model.integrate_with(Jacobian::automatic, state, de, ad_out, ad_tangent);
+        REQUIRE(hand.status == ad.status);
+        if (hand.status != Status::ok) break;  // the path has left the admissible region (both say so)
+        const int active = static_cast<int>(ad_out.internal[HyperbolicHardening::active_surfaces]);
+        INFO("step " << step << ", active set " << active);
+        REQUIRE(static_cast<int>(hand_out.internal[HyperbolicHardening::active_surfaces]) == active);
+        ++seen[active];
+        for (int i = 0; i < 6; ++i)
+          worst_stress = std::max(worst_stress, std::abs(hand_out.stress[i] - ad_out.stress[i]) /
+                                                    (ad_out.stress.cwiseAbs().maxCoeff() + test::kStressFloor));
+        for (int v = 0; v < 8; ++v) {
+          // Strain-like variables (gamma_p, eps_v^pc, multiplier rates) and p_p, angles in degrees.
+          const double floor = (v == HyperbolicHardening::cap_pressure) ? test::kStressFloor : test::kStrainFloor;
+          worst_state = std::max(worst_state, std::abs(hand_out.internal[v] - ad_out.internal[v]) /
+                                                  (std::abs(ad_out.internal[v]) + floor));
+        }
+        worst_tangent = std::max(worst_tangent,
+                                 (hand_tangent - ad_tangent).cwiseAbs().maxCoeff() / ad_tangent.cwiseAbs().maxCoeff());
+        state = ad_out;
+      }
+    }
+  }
+  std::string sets;
+  for (const auto& [mask, count] : seen) sets += " " + std::to_string(mask) + ":" + std::to_string(count);
+  INFO("increments per active set:" << sets << "; worst relative stress " << worst_stress << ", state " << worst_state
+                                    << ", tangent " << worst_tangent);
+  CHECK(worst_stress < test::kRoundOff);
+  CHECK(worst_state < test::kRoundOff);
+  CHECK(worst_tangent < test::kRoundOff);
+  // The paths reach elastic, shear, cap, and shear-and-cap steps.
+  CHECK(seen[0] > 10);
+  CHECK(seen[1] > 10);
+  CHECK(seen[2] > 10);
+  CHECK(seen[3] > 10);
+}
+
+TEST_CASE("hyperbolic_hardening integrate allocates nothing on elastic, shear, cap and general increments",
+          "[hyperbolic_hardening]") {
+  if (!test::kCountingAllocations) {
+    WARN("allocation counting is off under AddressSanitizer; the Release run checks it");
+    return;
+  }
+  const auto model = make({{"cohesion", 5.0}});
+  MaterialState oc, nc;
+  InitialConditions ic;
+  ic.stress = triaxial_stress(160.0, 100.0);
+  ic.overconsolidation_ratio = 4.0;
+  model->initialise(ic, oc);
+  ic.overconsolidation_ratio = 1.0;
+  model->initialise(ic, nc);
+  Vec6 triaxial, general, isotropic;
+  triaxial << 2e-4, -0.6e-4, -0.6e-4, 0.0, 0.0, 0.0;
+  general << 1.5e-4, -0.4e-4, -0.7e-4, 0.8e-4, -0.3e-4, 0.5e-4;
+  isotropic << 1e-4, 1e-4, 1e-4, 0.0, 0.0, 0.0;
+  MaterialState out;
+  Mat6 t;
+  int ok = 0;
+  const long before = test::g_allocations.load();
+  for (const MaterialState* in : {&oc, &nc})
+    for (const Vec6& de : {Vec6(-triaxial), triaxial, general, isotropic}) ok += model->integrate(*in, de, out, t).status == Status::ok;
+  const long after = test::g_allocations.load();
+  CHECK(ok == 8);
+  CHECK(after == before);
 }
