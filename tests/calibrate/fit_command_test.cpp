@@ -118,7 +118,7 @@ TEST_CASE("bad calibration files exit 2 with exact messages and write nothing", 
   {
     const std::string f = write("fit_bad_key.json", calibration(parameters(), kTests, R"({"globl": "crs2"})"));
     CHECK(error_of(f) == "triaxcal: error: " + f + ": options.globl: unknown key 'globl' (expected one of: global, "
-                                                   "global_evaluations, local, local_evaluations, starts, design_points, "
+                                                   "global_evaluations, global_runs, local, local_evaluations, starts, design_points, "
                                                    "relative_tolerance, x_tolerance, max_seconds, seed, threads, loss, "
                                                    "loss_scale, failure_penalty, uncertainty, jacobian_step, correlation_warning)\n");
   }

@@ -75,7 +75,7 @@ ParameterSpec parse_parameter(const std::string& name, const json& v, const std:
 CalibrationOptions parse_options(const json& o, const std::string& src) {
   const std::string path = "options";
   detail::check_keys(o,
-                     {"global", "global_evaluations", "local", "local_evaluations", "starts", "design_points",
+                     {"global", "global_evaluations", "global_runs", "local", "local_evaluations", "starts", "design_points",
                       "relative_tolerance", "x_tolerance", "max_seconds", "seed", "threads", "loss", "loss_scale",
                       "failure_penalty", "uncertainty", "jacobian_step", "correlation_warning"},
                      src, path);
@@ -97,6 +97,7 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
                         {{"linear", Loss::linear}, {"soft_l1", Loss::soft_l1}, {"huber", Loss::huber}},
                         src + ": options.loss");
   c.global_evaluations = detail::get_int_or(o, "global_evaluations", static_cast<int>(c.global_evaluations), src, path);
+  c.global_runs = detail::get_int_or(o, "global_runs", c.global_runs, src, path);
   c.local_evaluations = detail::get_int_or(o, "local_evaluations", static_cast<int>(c.local_evaluations), src, path);
   c.starts = detail::get_int_or(o, "starts", c.starts, src, path);
   c.design_points = detail::get_int_or(o, "design_points", c.design_points, src, path);
