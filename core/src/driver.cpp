@@ -128,6 +128,15 @@ struct Control {
   Vec6 from = Vec6::Zero();
   Vec6 to = Vec6::Zero();
   std::array<bool, 6> pore{};
+  // The nonzero entries of the free rows, in the order of `free` (set by finish()): the hot loop
+  // reads two or three coefficients a row instead of twelve.
+  struct SparseRow {
+    int n = 0;
+    std::array<int, 6> index{};
+    std::array<double, 6> value{};
+    double abs_sum = 0.0;
+  };
+  std::array<SparseRow, 6> a_rows{}, c_rows{};
 
   void reset() {
     a.setIdentity();
@@ -157,6 +166,19 @@ struct Control {
     nfree = 0;
     for (int i = 0; i < 6; ++i)
       if (!pure[i]) free[nfree++] = i;
+    auto sparse = [](const Mat6& m, int i, SparseRow& row) {
+      row = SparseRow{};
+      for (int j = 0; j < 6; ++j)
+        if (m(i, j) != 0.0) {
+          row.index[row.n] = j;
+          row.value[row.n++] = m(i, j);
+          row.abs_sum += std::abs(m(i, j));
+        }
+    };
+    for (int ii = 0; ii < nfree; ++ii) {
+      sparse(a, free[ii], a_rows[ii]);
+      sparse(c, free[ii], c_rows[ii]);
+    }
   }
   void set_targets(double f, double u) {
     for (int i = 0; i < 6; ++i) b[i] = from[i] + f * (to[i] - from[i]) - (pore[i] ? u : 0.0);
@@ -355,7 +377,6 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int phase, C
 bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc, Vec6& d,
                      MaterialState& out, Mat6& tangent, bool elastic_predictor) {
   // Targets move linearly over the step: b(s) = C sigma_step_start + s (b - C sigma_step_start).
-  const Vec6 target = cs_start + s1 * (c.b - cs_start);
   const double ds = s1 - s0;
   for (int i = 0; i < 6; ++i) d[i] = c.pure[i] ? ds * c.b[i] : 0.0;
   if (c.nfree == 0) {
@@ -366,10 +387,12 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
   double jac[6][6];
   double r[6];
   double tol[6];
+  double target[6];
   const double scale = std::max(1.0, state_.stress.cwiseAbs().maxCoeff());
   for (int ii = 0; ii < k; ++ii) {
     const int i = c.free[ii];
-    tol[ii] = opt_.newton_tolerance * c.c.row(i).cwiseAbs().sum() * scale + 1e-12 * c.a.row(i).cwiseAbs().sum();
+    target[ii] = cs_start[i] + s1 * (c.b[i] - cs_start[i]);
+    tol[ii] = opt_.newton_tolerance * c.c_rows[ii].abs_sum * scale + 1e-12 * c.a_rows[ii].abs_sum;
   }
   // Predictor with the last converged tangent, linearised about the substep start. Where that
   // tangent is singular for this control (a perfectly plastic state under stress control) or a
@@ -382,21 +405,32 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
   }
   bool have_stress = false;
   for (int iter = 0; iter <= opt_.max_newton_iterations; ++iter) {
-    const Vec6 total = d_acc + d;
-    const Vec6 sig = have_stress ? out.stress : Vec6(state_.stress + *dmat * d);
+    // Residuals of the free rows: a_i . (d_acc + d) + c_i . sigma - target_i, with sigma the
+    // predicted stress (state + D d) before the first model call, the model's after.
     double worst = 0.0;
     for (int ii = 0; ii < k; ++ii) {
-      const int i = c.free[ii];
-      r[ii] = c.a.row(i).dot(total) + c.c.row(i).dot(sig) - target[i];
-      worst = std::max(worst, std::abs(r[ii]) / tol[ii]);
+      const Control::SparseRow& ar = c.a_rows[ii];
+      const Control::SparseRow& cr = c.c_rows[ii];
+      double v = -target[ii];
+      for (int m = 0; m < ar.n; ++m) v += ar.value[m] * (d_acc[ar.index[m]] + d[ar.index[m]]);
+      for (int m = 0; m < cr.n; ++m) {
+        const int j = cr.index[m];
+        const double sig = have_stress ? out.stress[j] : state_.stress[j] + dmat->row(j).dot(d);
+        v += cr.value[m] * sig;
+      }
+      r[ii] = v;
+      worst = std::max(worst, std::abs(v) / tol[ii]);
     }
     if (have_stress && worst <= 1.0) return true;
     if (iter == opt_.max_newton_iterations) break;
     for (int ii = 0; ii < k; ++ii) {
       const int i = c.free[ii];
+      const Control::SparseRow& cr = c.c_rows[ii];
       for (int jj = 0; jj < k; ++jj) {
         const int j = c.free[jj];
-        jac[ii][jj] = c.a(i, j) + c.c.row(i).dot(dmat->col(j));
+        double v = c.a(i, j);
+        for (int m = 0; m < cr.n; ++m) v += cr.value[m] * (*dmat)(cr.index[m], j);
+        jac[ii][jj] = v;
       }
     }
     if (!solve_small(jac, r, k)) {
