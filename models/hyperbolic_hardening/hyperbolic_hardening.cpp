@@ -457,31 +457,37 @@ void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double 
   for (int i = 0; i < 3; ++i) ds3[i] = third - 0.5 * dq[i] + 0.75 * dx[i];
   const double shifted = s3 + k.c_cot;
 
-  // Shear hardening surface: q_y(shifted, gamma) and its two partial derivatives.
+  // Shear hardening surface: q_y(shifted, gamma) and its two partial derivatives. (Reciprocals
+  // are formed once: fewer divisions on the dependency chain than evaluate<T>, same values to
+  // round-off.)
   const bool above_floor = shifted >= k.floor;
-  const double ratio = power((above_floor ? shifted : k.floor) / (k.p_ref + k.c_cot), k.m);
+  const double ratio = power((above_floor ? shifted : k.floor) * (1.0 / (k.p_ref + k.c_cot)), k.m);
   const double dlog_ratio = above_floor ? k.m / shifted : 0.0;  // d ln(ratio) / d shifted
-  const double a = 2.0 / ((2.0 * k.e50_ref / (2.0 - k.rf)) * ratio);  // 2 / E_i
-  const double b = 2.0 / (k.eur_ref * ratio);                          // 2 / E_ur
+  const double inv_ratio = 1.0 / ratio;
+  const double a = ((2.0 - k.rf) / k.e50_ref) * inv_ratio;  // 2 / E_i
+  const double b = (2.0 / k.eur_ref) * inv_ratio;           // 2 / E_ur
   const double a_s = -a * dlog_ratio, b_s = -b * dlog_ratio;
   const double qf = k.kf * shifted;
   o.gamma = h.gamma + dl[0];
   double qy = qf, qy_s = k.kf, qy_g = 0.0;
   if (qf > 0.0) {
-    const double qa = qf / k.rf;
-    const double u = o.gamma / qa;  // gamma / q_a
-    const double u_s = -u * k.kf / qf, u_g = 1.0 / qa;
+    const double inv_qf = 1.0 / qf;
+    const double u_g = k.rf * inv_qf;  // 1 / q_a
+    const double u = o.gamma * u_g;    // gamma / q_a
+    const double u_s = -u * k.kf * inv_qf;
     const double bb = a - b + u;
-    const double disc = std::sqrt(bb * bb + 4.0 * b * o.gamma / qa);
+    const double disc = std::sqrt(bb * bb + 4.0 * b * u);
     const double den = bb + disc;
-    const double qh = 2.0 * o.gamma / den;
+    const double inv_den = 1.0 / den;
+    const double qh = 2.0 * o.gamma * inv_den;
     if (!(qf <= qh)) {
+      const double inv_disc = 1.0 / disc;
       const double bb_s = a_s - b_s + u_s;
-      const double den_s = bb_s + (bb * bb_s + 2.0 * (b_s * u + b * u_s)) / disc;
-      const double den_g = u_g + (bb * u_g + 2.0 * b * u_g) / disc;
+      const double den_s = bb_s + (bb * bb_s + 2.0 * (b_s * u + b * u_s)) * inv_disc;
+      const double den_g = u_g + (bb * u_g + 2.0 * b * u_g) * inv_disc;
       qy = qh;
-      qy_s = -qh * den_s / den;
-      qy_g = (2.0 - qh * den_g) / den;
+      qy_s = -qh * den_s * inv_den;
+      qy_g = (2.0 - qh * den_g) * inv_den;
     }
   }
   o.f[0] = q - qy;
@@ -491,8 +497,9 @@ void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double 
   double sphm = k.sin_phi;
   double dsphm[3] = {0.0, 0.0, 0.0};
   if (denom > 0.0) {
-    sphm = q / denom;
-    const double c = 2.0 / (denom * denom);
+    const double inv_denom = 1.0 / denom;
+    sphm = q * inv_denom;
+    const double c = 2.0 * inv_denom * inv_denom;
     for (int i = 0; i < 3; ++i) dsphm[i] = c * (shifted * dq[i] - q * ds3[i]);
   }
   if (!(sphm <= k.sin_phi)) {
@@ -502,9 +509,9 @@ void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double 
   double spsi = 0.0;
   double dspsi[3] = {0.0, 0.0, 0.0};
   if (k.rule != 2) {
-    const double den = 1.0 - sphm * k.sin_cv;
-    spsi = (sphm - k.sin_cv) / den;
-    const double slope = (1.0 - k.sin_cv * k.sin_cv) / (den * den);
+    const double inv_den = 1.0 / (1.0 - sphm * k.sin_cv);
+    spsi = (sphm - k.sin_cv) * inv_den;
+    const double slope = (1.0 - k.sin_cv * k.sin_cv) * inv_den * inv_den;
     for (int i = 0; i < 3; ++i) dspsi[i] = slope * dsphm[i];
     if (k.rule == 1 && !(spsi >= 0.0)) {
       spsi = 0.0;
@@ -565,8 +572,10 @@ struct SmallLu {
   double inv[kUnknowns];
   int piv[kUnknowns];
 
+  /// Factors m; with b given, also overwrites b with m^-1 b (the elimination of b runs with the
+  /// factorisation).
   template <int N>
-  bool factor(const double (&m)[kUnknowns][kUnknowns]) {
+  bool factor(const double (&m)[kUnknowns][kUnknowns], double* b = nullptr) {
     for (int r = 0; r < N; ++r)
       for (int c = 0; c < N; ++c) a[r][c] = m[r][c];
     for (int c = 0; c < N; ++c) {
@@ -575,28 +584,49 @@ struct SmallLu {
         if (std::abs(a[r][c]) > std::abs(a[best][c])) best = r;
       piv[c] = best;
       if (!(std::abs(a[best][c]) > 0.0) || !std::isfinite(a[best][c])) return false;
-      if (best != c)
+      if (best != c) {
         for (int j = 0; j < N; ++j) std::swap(a[c][j], a[best][j]);
+        if (b) std::swap(b[c], b[best]);
+      }
       inv[c] = 1.0 / a[c][c];
       for (int r = c + 1; r < N; ++r) {
         const double f = a[r][c] * inv[c];
         a[r][c] = f;
         for (int j = c + 1; j < N; ++j) a[r][j] -= f * a[c][j];
+        if (b) b[r] -= f * b[c];
       }
     }
+    if (b) back_substitute<N>(b);
     return true;
   }
   template <int N>
-  void solve(double* b) const {
-    for (int c = 0; c < N; ++c)
-      if (piv[c] != c) std::swap(b[c], b[piv[c]]);
-    for (int c = 0; c < N; ++c)
-      for (int r = c + 1; r < N; ++r) b[r] -= a[r][c] * b[c];
+  void back_substitute(double* b) const {
     for (int r = N - 1; r >= 0; --r) {
       double v = b[r];
       for (int j = r + 1; j < N; ++j) v -= a[r][j] * b[j];
       b[r] = v * inv[r];
     }
+  }
+  /// The leading 3 x 3 block of the inverse, inverse3[i][j] = (J^-1)_ij: three right-hand sides
+  /// e_j solved together, so that their substitution chains interleave.
+  template <int N>
+  void inverse_block(double (&inverse3)[3][3]) const {
+    double b[kUnknowns][3];  // b[row][rhs]
+    for (int r = 0; r < N; ++r)
+      for (int m = 0; m < 3; ++m) b[r][m] = r == m ? 1.0 : 0.0;
+    for (int c = 0; c < N; ++c)
+      if (piv[c] != c)
+        for (int m = 0; m < 3; ++m) std::swap(b[c][m], b[piv[c]][m]);
+    for (int c = 0; c < N; ++c)
+      for (int r = c + 1; r < N; ++r)
+        for (int m = 0; m < 3; ++m) b[r][m] -= a[r][c] * b[c][m];
+    for (int r = N - 1; r >= 0; --r) {
+      for (int j = r + 1; j < N; ++j)
+        for (int m = 0; m < 3; ++m) b[r][m] -= a[r][j] * b[j][m];
+      for (int m = 0; m < 3; ++m) b[r][m] *= inv[r];
+    }
+    for (int i = 0; i < 3; ++i)
+      for (int m = 0; m < 3; ++m) inverse3[i][m] = b[i][m];
   }
 };
 
@@ -740,8 +770,7 @@ bool solve_local(const LocalEquations& eq, const Point<double>& at_trial, const 
       r.factored = false;
       return true;
     }
-    if (!r.lu.factor<N>(r.jac)) return false;
-    r.lu.solve<N>(rv);
+    if (!r.lu.factor<N>(r.jac, rv)) return false;
     for (int i = 0; i < n; ++i) {
       x[i] -= rv[i];
       if (!std::isfinite(x[i])) return false;
@@ -903,20 +932,17 @@ IntegrationResult HyperbolicHardening::integrate_impl(const MaterialState& in, c
   // d sigma / d trial (principal) = leading 3 x 3 block of J^-1 (columns J^-1 e_j), then times D_p.
   if (!r.factored && !(n_unknowns == 4 ? r.lu.factor<4>(r.jac) : r.lu.factor<5>(r.jac)))
     return {Status::numerical_issue, iterations};
-  Mat3 dsig;
-  for (int j = 0; j < 3; ++j) {
-    double col[kUnknowns] = {0.0, 0.0, 0.0, 0.0, 0.0};
-    col[j] = 1.0;
-    if (n_unknowns == 4)
-      r.lu.solve<4>(col);
-    else
-      r.lu.solve<5>(col);
-    for (int i = 0; i < 3; ++i) dsig(i, j) = col[i];
+  double dsig[3][3];
+  if (n_unknowns == 4)
+    r.lu.inverse_block<4>(dsig);
+  else
+    r.lu.inverse_block<5>(dsig);
+  // dp = dsig D_p with D_p = lame 1 1^T + 2G I.
+  Mat3 dp;
+  for (int i = 0; i < 3; ++i) {
+    const double row = lame * (dsig[i][0] + dsig[i][1] + dsig[i][2]);
+    for (int j = 0; j < 3; ++j) dp(i, j) = row + 2.0 * shear_mod * dsig[i][j];
   }
-  Mat3 dp_elastic;
-  dp_elastic.setConstant(lame);
-  dp_elastic.diagonal().array() += 2.0 * shear_mod;
-  const Mat3 dp = dsig * dp_elastic;
   if (!dp.allFinite()) return {Status::numerical_issue, iterations};
 
   // Consistent tangent of an isotropic tensor function (de Souza Neto, Peric & Owen 2008,
@@ -934,10 +960,12 @@ IntegrationResult HyperbolicHardening::integrate_impl(const MaterialState& in, c
       coef[k] = 0.5 * (dp(a, a) - dp(a, b) + dp(b, b) - dp(b, a));
   }
   if (diagonal) {
-    out.stress.setZero();
-    for (int i = 0; i < 3; ++i) out.stress[i] = r.sig[i];
-    tangent.setZero();
-    tangent.topLeftCorner<3, 3>() = dp;
+    for (int i = 0; i < 3; ++i) {
+      out.stress[i] = r.sig[i];
+      out.stress[3 + i] = 0.0;
+    }
+    for (int j = 0; j < 6; ++j)
+      for (int i = 0; i < 6; ++i) tangent(i, j) = i < 3 && j < 3 ? dp(i, j) : 0.0;
     tangent(voigt::xy, voigt::xy) = 0.5 * coef[0];
     tangent(voigt::yz, voigt::yz) = 0.5 * coef[1];
     tangent(voigt::zx, voigt::zx) = 0.5 * coef[2];
