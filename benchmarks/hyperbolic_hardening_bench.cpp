@@ -8,6 +8,9 @@
 //     err_hyperbola = largest relative |q - q_hyperbola(eps_a)| up to 0.95 q_f, against
 //     eps_a = q / (E_i (1 - q/q_a)) (Kondner 1963; Duncan & Chang 1970; Schanz, Vermeer & Bonnier 1999).
 //     The implicit return satisfies it at every step end, so it stays at round-off for any count.
+//   drained_automatic: drained with the local Newton's Jacobian by forward automatic
+//     differentiation (the reference that the tests compare the hand-written Jacobian with): the
+//     same curve, and what the hand-written Jacobian saves.
 //   create: the model's constructor, which calibrates the cap (alpha, H) from the oedometer
 //     stiffness and K0_nc; a calibration calls it once per objective evaluation.
 // Material: the model's defaults (invented round numbers), s3' = 200 kPa.
@@ -53,8 +56,24 @@ void set_time_per_increment(benchmark::State& state, int steps) {
                                                          benchmark::Counter::kInvert);
 }
 
-void run(benchmark::State& state, Drainage d) {
-  const HyperbolicHardening model(parameters({}), "bench");
+// The model with the forward-AD local Jacobian.
+class AutomaticJacobian final : public Model {
+ public:
+  explicit AutomaticJacobian(const HyperbolicHardening& m) : m_(m) {}
+  const ModelInfo& info() const override { return m_.info(); }
+  void initialise(const InitialConditions& c, MaterialState& s) const override { m_.initialise(c, s); }
+  IntegrationResult integrate(const MaterialState& in, const Vec6& de, MaterialState& out, Mat6& t) const override {
+    return m_.integrate_with(HyperbolicHardening::LocalJacobian::automatic, in, de, out, t);
+  }
+
+ private:
+  const HyperbolicHardening& m_;
+};
+
+void run(benchmark::State& state, Drainage d, bool automatic = false) {
+  const HyperbolicHardening hand_written(parameters({}), "bench");
+  const AutomaticJacobian with_ad(hand_written);
+  const Model& model = automatic ? static_cast<const Model&>(with_ad) : hand_written;
   const int steps = static_cast<int>(state.range(0));
   const TestProtocol p = shear(d, steps, kNotGiven);
   SimulationResult r;
@@ -83,6 +102,7 @@ void run(benchmark::State& state, Drainage d) {
 
 void BM_drained(benchmark::State& state) { run(state, Drainage::drained); }
 void BM_undrained(benchmark::State& state) { run(state, Drainage::undrained); }
+void BM_drained_automatic(benchmark::State& state) { run(state, Drainage::drained, true); }
 
 void BM_hyperbola(benchmark::State& state) {
   const HyperbolicHardening model(parameters({{"dilatancy_rule", 2.0}}), "bench");
@@ -125,6 +145,7 @@ void BM_create(benchmark::State& state) {
 
 BENCHMARK(BM_drained)->Arg(1000)->Arg(2000)->Arg(4000)->Arg(8000)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_undrained)->Arg(1000)->Arg(2000)->Arg(4000)->Arg(8000)->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_drained_automatic)->Arg(1000)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_hyperbola)->Arg(1000)->Arg(2000)->Arg(4000)->Arg(8000)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_create)->Unit(benchmark::kNanosecond);
 
