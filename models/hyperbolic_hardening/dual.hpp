@@ -1,7 +1,8 @@
 #pragma once
-// Forward-mode automatic differentiation with a fixed number of partial derivatives: the local
-// Newton solve of the hyperbolic hardening model gets its exact Jacobian (and so the consistent
-// tangent) from the same code that evaluates the residual. Fixed size: no allocation.
+// Forward-mode automatic differentiation with a fixed number of partial derivatives: the reference
+// Jacobian of the hyperbolic hardening model's local Newton solve (the hand-written one is checked
+// against it), and the derivatives of the cap calibration, from the same code that evaluates the
+// residual. Fixed size: no allocation.
 
 #include <array>
 #include <cmath>

@@ -367,11 +367,11 @@ using Method = HyperbolicHardening::LocalJacobian;
 // floor, q_y = min(q_f, q_h), the caps on sin phi_m and the dilatancy cut-off, the cap hardening
 // law), so that it equals the forward-AD derivative of the same residual (checked in the tests).
 // Principal stresses sigma_k; P_ik = delta_ik - 1/3 = d s_i / d sigma_k; J2 = s.s/2, J3 = s1 s2 s3.
-//   dq/ds_i = 3 s_i / (2 q)                d2q = (3/(2q)) (P_ik - s_i s_k / (2 J2))
-//   dX/ds_i = A_i / J2 - 2/3,  A_i = s_i^2 - X s_i
+//   dq/dsigma_i = 3 s_i / (2 q)            d2q = (3/(2q)) (P_ik - s_i s_k / (2 J2))
+//   dX/dsigma_i = A_i / J2 - 2/3,  A_i = s_i^2 - X s_i
 //   d2X = [(2 s_i - X) delta_ik + X/3 - (s_i A_k + A_i s_k)/J2] / J2
-// (from dJ3/dsigma_i = s_i^2 - 2 J2/3 for a deviator; common practice, no source needed beyond
-// the chain rule). Everything else depends on sigma through q, X, s3 and p only.
+// (with dJ3/dsigma_i = s_i^2 - 2 J2/3 for a deviator; common practice, no source). Everything else
+// depends on sigma through q, X, s3 and p only.
 // ---------------------------------------------------------------------------------------------
 
 // Derivatives of the surfaces in the active set at one point.

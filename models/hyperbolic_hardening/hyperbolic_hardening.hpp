@@ -36,7 +36,8 @@
 // (chain rule through q, X = J3/J2 and s3, whose second derivatives are in closed form) for the
 // surfaces in the active set only; forward automatic differentiation (dual.hpp) of the same
 // residual is kept as the reference (LocalJacobian::automatic), and the tests compare the two.
-// The consistent tangent reuses the LU factors of the last Newton iteration.
+// The consistent tangent is formed from the LU factors of the Jacobian at the last iterate (those
+// of the last Newton step when the plain check after it has converged).
 
 #include <memory>
 #include <string>
