@@ -30,6 +30,9 @@ constexpr double kMaxExponent = 600.0;        // keeps exp() finite
 // exp(t) for the Newton corrections of the return: a Taylor polynomial where |t| < 1e-3 (truncation
 // t^5/120 < 1e-17, below round-off), else the library function. Most corrections after the first
 // are that small, and exp dominated the cost of a plastic step.
+// Largest warm-start guess of d eps_v^p: the Newton step limit (a factor e^0.5 in p' or p'_c).
+inline double step_limit_guess(double a, double b) { return 0.5 / std::max(a, b); }
+
 inline double exp_correction(double t) {
   if (std::abs(t) < 1e-3) return 1.0 + t * (1.0 + t * (0.5 + t * (1.0 / 6.0 + t * (1.0 / 24.0))));
   return std::exp(t);
@@ -105,7 +108,7 @@ const ModelInfo& ModifiedCamClay::model_info() {
            "6 sin(phi_cs)/(3 + sin(phi_cs)) in extension"},
       },
       {"reference_void_ratio", "preconsolidation_pressure", "void_ratio", "volumetric_strain",
-       "plastic_volumetric_strain"},
+       "plastic_volumetric_strain", "plastic_rate", "multiplier_rate"},
   };
   return info;
 }
@@ -276,6 +279,7 @@ IntegrationResult ModifiedCamClay::integrate(const MaterialState& in, const Vec6
   if (!(out.internal[void_ratio] > 0.0)) return {Status::invalid_input, 0};
 
   if (f_tr <= kYieldTolerance * pc2) {
+    out.internal[plastic_rate] = out.internal[multiplier_rate] = 0.0;
     out.stress = s_tr + p_tr * one;
     tangent = (a * p_tr) * one * one.transpose() + dev_stiffness;
     return {Status::ok, 0};
@@ -285,16 +289,20 @@ IntegrationResult ModifiedCamClay::integrate(const MaterialState& in, const Vec6
   //   p' = p'_n exp(a (d eps_v - x)),  p'_c = p'_c,n exp(b x),  q = q_tr / (1 + 6 G dl),
   //   r1 = x - dl M^2 (2 p' - p'_c) = 0            (flow rule, d eps_v^p = dl dg/dp')
   //   r2 = (q^2 + M^2 p' (p' - p'_c)) / p'_c,n^2 = 0 (consistency)
-  double x = 0.0;
-  double dl = 0.0;
-  double p = p_tr;
-  double pc = pc_n;
+  // Warm start: the last plastic step's rates times this step's strain-increment norm (a smooth
+  // path takes about one Newton step fewer); from zero after an elastic step.
+  const double strain_norm = de.norm();
+  double x = in.internal[plastic_rate] * strain_norm;
+  double dl = std::max(0.0, in.internal[multiplier_rate] * strain_norm);
+  if (!(std::abs(x) < step_limit_guess(a, b)) || !std::isfinite(dl)) x = dl = 0.0;
+  double p = p_tr * std::exp(-a * x);
+  double pc = pc_n * std::exp(b * x);
   double d = 1.0;
   double q = q_tr;
   Eigen::Matrix2d jac;
   int iterations = 0;
   bool converged = false;
-  const double step_limit = 0.5 / std::max(a, b);  // at most a factor e^0.5 in p' or p'_c a step
+  const double step_limit = step_limit_guess(a, b);  // at most a factor e^0.5 in p' or p'_c a step
   // p' and p'_c follow x multiplicatively: p' = p'_tr exp(-a x), p'_c = p'_c,n exp(b x).
   for (; iterations <= kMaxIterations; ++iterations) {
     d = 1.0 + 6.0 * shear * dl;
@@ -333,6 +341,9 @@ IntegrationResult ModifiedCamClay::integrate(const MaterialState& in, const Vec6
   out.stress = s + p * one;
   out.internal[preconsolidation_pressure] = pc;
   out.internal[plastic_volumetric_strain] = in.internal[plastic_volumetric_strain] + x;
+  const double inv_norm = strain_norm > 0.0 ? 1.0 / strain_norm : 0.0;
+  out.internal[plastic_rate] = x * inv_norm;
+  out.internal[multiplier_rate] = dl * inv_norm;
 
   // Consistent tangent: differentiate r(x, dl; d eps_v, q_tr, M) = 0 with respect to the strain
   // increment, d eps_v = m . d eps, d q_tr = (3 G / q_tr) s_tr . d eps, d M = M' grad(sin 3theta) . 2GP d eps.

@@ -61,6 +61,8 @@ class ModifiedCamClay final : public Model {
     void_ratio,                 ///< e = e0 - (1 + e0) eps_v (-)
     volumetric_strain,          ///< eps_v = dV/V0 since the start (-)
     plastic_volumetric_strain,  ///< eps_v^p since the start (-)
+    plastic_rate,               ///< d eps_v^p of the last plastic step per unit strain-increment norm
+    multiplier_rate,            ///< plastic multiplier likewise (both only warm-start the local solve)
   };
 
   static const ModelInfo& model_info();
