@@ -329,3 +329,33 @@ TEST_CASE("oedometer_stiffness_ref takes bounds v/4 to 4 v from the constrained 
                               format_number(pref) + " kPa, v = " + format_number(eoed) + ", v/4 to 4 v)"));
   }
 }
+
+TEST_CASE("Modified Cam-Clay's critical_friction_angle takes its start and bounds v +- 8 deg from the critical states",
+          "[interpretation][bounds]") {
+  const TestSeries series = read_test_series(kKestrelSeries);
+  std::string specimen, material;
+  for (const Specimen& s : series.specimens)
+    if (s.material.find("clay") != std::string::npos || s.material.find("Clay") != std::string::npos) {
+      if (s.oedometer_stages().empty() && specimen.empty()) {
+        specimen = s.id;
+        material = s.material;
+      }
+    }
+  REQUIRE(!specimen.empty());
+  InterpretOptions io;
+  io.material = material;
+  const Interpretation in = interpret(series, io);
+  const double v = std::isfinite(in.phi_cs) ? in.phi_cs : in.phi_cv_rowe;
+  REQUIRE(std::isfinite(v));
+  json c = example_with({{"critical_state_ratio", 0}, {"critical_friction_angle", {{"status", "free"}}}});
+  c["series"] = kKestrelSeries;
+  c["model"] = "modified_cam_clay";
+  c["tests"] = json::array({{{"specimen", specimen}, {"curves", {"deviator_stress"}}}});
+  CalibrationFile f = parse_calibration_file(c.dump(), "cal.json");
+  const std::vector<std::string> notes = seed_from_interpretation(f, series, model("modified_cam_clay"));
+  const ParameterSpec& s = spec_of(f, "critical_friction_angle");
+  INFO("phi_cs from the interpretation: " << v);
+  CHECK(s.start == Approx(v).epsilon(1e-12));
+  CHECK(s.lower == Approx(v - 8.0).epsilon(1e-12));
+  CHECK(s.upper == Approx(v + 8.0).epsilon(1e-12));
+}

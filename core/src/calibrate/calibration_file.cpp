@@ -342,7 +342,7 @@ class InterpretationSeeds {
   static bool known(const std::string& name) {
     for (const char* n : {"friction_angle", "cohesion", "dilation_angle", "youngs_modulus", "secant_stiffness_ref",
                           "stress_exponent", "unloading_stiffness_ref", "oedometer_stiffness_ref", "critical_state_ratio",
-                          "critical_state_friction_angle", "lambda", "kappa"})
+                          "critical_state_friction_angle", "critical_friction_angle", "lambda", "kappa"})
       if (name == n) return true;
     return false;
   }
@@ -360,7 +360,9 @@ class InterpretationSeeds {
     if (name == "oedometer_stiffness_ref")
       return {constrained_mean_, "mean constrained modulus of the oedometer stages at s_a' = " + format_number(reference_pressure_) + " kPa"};
     if (name == "critical_state_ratio") return {in_.critical_m, "critical states"};
-    if (name == "critical_state_friction_angle")
+    // critical_state_friction_angle (hyperbolic_hardening) and critical_friction_angle
+    // (modified_cam_clay) are the same angle phi_cs.
+    if (name == "critical_state_friction_angle" || name == "critical_friction_angle")
       return std::isfinite(in_.phi_cs) ? Seed{in_.phi_cs, "critical states"} : Seed{in_.phi_cv_rowe, "Rowe's stress-dilatancy"};
     if (name == "lambda") return {lambda_mean_, "consolidation and oedometer stages"};
     if (name == "kappa") return {kappa_mean_, "consolidation and oedometer stages"};
@@ -409,7 +411,8 @@ BoundsRule bounds_rule(const std::string& name, double v) {
   if (name == "youngs_modulus" || name == "secant_stiffness_ref" || name == "oedometer_stiffness_ref" ||
       name == "unloading_stiffness_ref" || name == "lambda" || name == "kappa")
     return v > 0.0 ? box(v / 4.0, 4.0 * v, "v/4 to 4 v") : unusable("> 0");
-  if (name == "friction_angle" || name == "critical_state_friction_angle") return box(v - 8.0, v + 8.0, "v +- 8 deg");
+  if (name == "friction_angle" || name == "critical_state_friction_angle" || name == "critical_friction_angle")
+    return box(v - 8.0, v + 8.0, "v +- 8 deg");
   if (name == "dilation_angle") return box(0.0, std::max(v + 8.0, 5.0), "0 to max(v + 8, 5) deg");
   if (name == "cohesion") return box(0.0, std::max(3.0 * v, 20.0), "0 to max(3 v, 20 kPa)");
   if (name == "stress_exponent")
