@@ -179,43 +179,62 @@ struct Control {
       sparse(a, free[ii], a_rows[ii]);
       sparse(c, free[ii], c_rows[ii]);
     }
+    for (int i = 0; i < 6; ++i) {
+      pure_mask[i] = pure[i] ? 1.0 : 0.0;
+      pore_mask[i] = pore[i] ? 1.0 : 0.0;
+    }
   }
-  void set_targets(double f, double u) {
-    for (int i = 0; i < 6; ++i) b[i] = from[i] + f * (to[i] - from[i]) - (pore[i] ? u : 0.0);
-  }
+  // 1 on the rows that are pure / subtract the pore pressure, else 0 (set by finish()).
+  Vec6 pure_mask = Vec6::Zero();
+  Vec6 pore_mask = Vec6::Zero();
+  void set_targets(double f, double u) { b = from + f * (to - from) - u * pore_mask; }
 };
 
-// Gaussian elimination with partial pivoting on the k x k leading block (k <= 6), solving in place
+// Gaussian elimination with partial pivoting on the K x K leading block (K <= 6), solving in place
 // into b. Written out because the systems are 1 to 3 unknowns in the hot loop, where Eigen's
-// dynamic-size LU cost a third of a drained increment. Returns false when a pivot falls below
-// 1e-13 of the largest entry (singular for this control).
-bool solve_small(double (&a)[6][6], double (&b)[6], int k) {
+// dynamic-size LU cost a third of a drained increment; K is a template argument so that the loops
+// unroll (solve_small dispatches). Returns false when a pivot falls below 1e-13 of the largest
+// entry (singular for this control).
+template <int K>
+bool solve_fixed(double (&a)[6][6], double (&b)[6]) {
   double largest = 0.0;
-  for (int i = 0; i < k; ++i)
-    for (int j = 0; j < k; ++j) largest = std::max(largest, std::abs(a[i][j]));
+  for (int i = 0; i < K; ++i)
+    for (int j = 0; j < K; ++j) largest = std::max(largest, std::abs(a[i][j]));
   if (!(largest > 0.0) || !std::isfinite(largest)) return false;
   const double tiny = 1e-13 * largest;
-  for (int col = 0; col < k; ++col) {
+  for (int col = 0; col < K; ++col) {
     int pivot = col;
-    for (int i = col + 1; i < k; ++i)
+    for (int i = col + 1; i < K; ++i)
       if (std::abs(a[i][col]) > std::abs(a[pivot][col])) pivot = i;
     if (!(std::abs(a[pivot][col]) > tiny)) return false;
     if (pivot != col) {
-      for (int j = 0; j < k; ++j) std::swap(a[col][j], a[pivot][j]);
+      for (int j = 0; j < K; ++j) std::swap(a[col][j], a[pivot][j]);
       std::swap(b[col], b[pivot]);
     }
-    for (int i = col + 1; i < k; ++i) {
+    for (int i = col + 1; i < K; ++i) {
       const double f = a[i][col] / a[col][col];
-      for (int j = col; j < k; ++j) a[i][j] -= f * a[col][j];
+      for (int j = col; j < K; ++j) a[i][j] -= f * a[col][j];
       b[i] -= f * b[col];
     }
   }
-  for (int i = k - 1; i >= 0; --i) {
+  for (int i = K - 1; i >= 0; --i) {
     double sum = b[i];
-    for (int j = i + 1; j < k; ++j) sum -= a[i][j] * b[j];
+    for (int j = i + 1; j < K; ++j) sum -= a[i][j] * b[j];
     b[i] = sum / a[i][i];
   }
   return true;
+}
+
+bool solve_small(double (&a)[6][6], double (&b)[6], int k) {
+  switch (k) {
+    case 1: return solve_fixed<1>(a, b);
+    case 2: return solve_fixed<2>(a, b);
+    case 3: return solve_fixed<3>(a, b);
+    case 4: return solve_fixed<4>(a, b);
+    case 5: return solve_fixed<5>(a, b);
+    case 6: return solve_fixed<6>(a, b);
+  }
+  return false;
 }
 
 class Runner {
@@ -239,6 +258,9 @@ class Runner {
   bool step(int stage, int step_in_stage, const Control& control, Drainage drainage);
   bool substep(const Control& control, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc,
                Vec6& d_eps, MaterialState& out, Mat6& tangent, bool elastic_predictor);
+  template <int K>
+  bool newton(const Control& control, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc, Vec6& d,
+              MaterialState& out, Mat6& tangent, bool elastic_predictor);
   void record(int stage, int step, int cuts);
   void fail(int stage, int step, const std::string& why);
   void build_control(const Stage& stage, const StageStart& start, int phase, Control& control) const;
@@ -259,22 +281,13 @@ class Runner {
 };
 
 void Runner::record(int stage, int step_in_stage, int cuts) {
-  StepRecord& r = result_.steps.emplace_back();
-  r.stage = stage;
-  r.step = step_in_stage;
-  r.axial_strain = strain_[0];
-  r.radial_strain = 0.5 * (strain_[1] + strain_[2]);
-  r.volumetric_strain = volumetric_strain(strain_);
+  // Every member given in order: emplace_back() would value-initialise the 160-byte record first.
+  const double eps_v = volumetric_strain(strain_);
   const TriaxialInvariants t = triaxial_invariants(state_.stress);
-  r.axial_stress = t.axial;
-  r.radial_stress = t.radial;
-  r.p = t.p;
-  r.q = t.q;
-  r.excess_pore_pressure = u_ - protocol_.back_pressure;
-  r.void_ratio = given(e0_) ? e0_ - (1.0 + e0_) * r.volumetric_strain : kNotGiven;
-  r.stress_ratio = t.radial != 0.0 ? t.axial / t.radial : kNotGiven;
-  r.cuts = cuts;
-  r.state = state_.internal;
+  result_.steps.push_back(StepRecord{stage, step_in_stage, strain_[0], 0.5 * (strain_[1] + strain_[2]), eps_v, t.axial,
+                                     t.radial, t.p, t.q, u_ - protocol_.back_pressure,
+                                     given(e0_) ? e0_ - (1.0 + e0_) * eps_v : kNotGiven,
+                                     t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state_.internal});
 }
 
 void Runner::fail(int stage, int step_in_stage, const std::string& why) {
@@ -378,12 +391,25 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
                      MaterialState& out, Mat6& tangent, bool elastic_predictor) {
   // Targets move linearly over the step: b(s) = C sigma_step_start + s (b - C sigma_step_start).
   const double ds = s1 - s0;
-  for (int i = 0; i < 6; ++i) d[i] = c.pure[i] ? ds * c.b[i] : 0.0;
+  d = (ds * c.b).cwiseProduct(c.pure_mask);
   if (c.nfree == 0) {
     ++result_.model_calls;
     return model_.integrate(state_, d, out, tangent).status == Status::ok;
   }
-  const int k = c.nfree;
+  switch (c.nfree) {
+    case 1: return newton<1>(c, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
+    case 2: return newton<2>(c, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
+    case 3: return newton<3>(c, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
+    default: return newton<0>(c, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
+  }
+}
+
+// Newton on the K free rows (K = 0: c.nfree, not known at compile time; a template argument so
+// that the loops over the rows unroll). d holds the pure rows' increments on entry.
+template <int K>
+bool Runner::newton(const Control& c, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc, Vec6& d,
+                    MaterialState& out, Mat6& tangent, bool elastic_predictor) {
+  const int k = K > 0 ? K : c.nfree;
   double jac[6][6];
   double r[6];
   double tol[6];
@@ -407,7 +433,7 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
   for (int iter = 0; iter <= opt_.max_newton_iterations; ++iter) {
     // Residuals of the free rows: a_i . (d_acc + d) + c_i . sigma - target_i, with sigma the
     // predicted stress (state + D d) before the first model call, the model's after.
-    double worst = 0.0;
+    bool converged = true;
     for (int ii = 0; ii < k; ++ii) {
       const Control::SparseRow& ar = c.a_rows[ii];
       const Control::SparseRow& cr = c.c_rows[ii];
@@ -419,9 +445,9 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
         v += cr.value[m] * sig;
       }
       r[ii] = v;
-      worst = std::max(worst, std::abs(v) / tol[ii]);
+      converged = converged && std::abs(v) <= tol[ii];
     }
-    if (have_stress && worst <= 1.0) return true;
+    if (have_stress && converged) return true;
     if (iter == opt_.max_newton_iterations) break;
     for (int ii = 0; ii < k; ++ii) {
       const int i = c.free[ii];
@@ -433,7 +459,12 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
         jac[ii][jj] = v;
       }
     }
-    if (!solve_small(jac, r, k)) {
+    bool solved;
+    if constexpr (K > 0)
+      solved = solve_fixed<K>(jac, r);
+    else
+      solved = solve_small(jac, r, k);
+    if (!solved) {
       if (have_stress || elastic_predictor) return false;
       return substep(c, cs_start, s0, s1, d_acc, d, out, tangent, true);
     }
@@ -449,7 +480,14 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
 }
 
 bool Runner::step(int stage, int n, const Control& c, Drainage drainage) {
-  const Vec6 cs_start = c.c * state_.stress;
+  // C sigma at the step start, on the free rows (the only ones substep reads).
+  Vec6 cs_start = Vec6::Zero();
+  for (int ii = 0; ii < c.nfree; ++ii) {
+    const Control::SparseRow& cr = c.c_rows[ii];
+    double v = 0.0;
+    for (int m = 0; m < cr.n; ++m) v += cr.value[m] * state_.stress[cr.index[m]];
+    cs_start[c.free[ii]] = v;
+  }
   const Vec6 strain_start = strain_;
   const double u_start = u_;
   Vec6 d_acc = Vec6::Zero();
@@ -572,17 +610,33 @@ void Runner::run() {
   for (std::size_t i = 0; i < protocol_.stages.size(); ++i)
     if (!run_stage(static_cast<int>(i))) return;
   result_.termination = Termination::completed;
-  result_.message = "all " + std::to_string(protocol_.stages.size()) + " stages completed";
+  result_.message.assign("all ").append(std::to_string(protocol_.stages.size())).append(" stages completed");
 }
 
 }  // namespace
 
 SimulationResult simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol) {
-  options.validate();
-  validate_protocol(protocol);
   SimulationResult result;
-  Runner(options, model, protocol, result).run();
+  simulate(options, model, protocol, result);
   return result;
+}
+
+void simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol, SimulationResult& result,
+              bool checked) {
+  if (!checked) {
+    options.validate();
+    validate_protocol(protocol);
+  }
+  result.termination = Termination::not_run;
+  result.message.clear();
+  result.steps.clear();
+  result.stages.clear();
+  result.total_cuts = 0;
+  result.newton_iterations = 0;
+  result.model_calls = 0;
+  result.failed_stage = -1;
+  result.failed_step = -1;
+  Runner(options, model, protocol, result).run();
 }
 
 }  // namespace triaxcal

@@ -60,6 +60,9 @@ class MohrCoulomb final : public Model {
   Plane planes_[kSurfaces];
   ActiveSet sets_[kSets];
   bool admissible(const Vec3& s, double tol) const;
+  template <int N>
+  bool try_set(const ActiveSet& set, const Vec3& trial, double scale, double ftol, Vec3& stress,
+               double& multiplier) const;
   void prepare_return();
 };
 

@@ -70,6 +70,13 @@ struct SimulationResult {
 TRIAXCAL_CORE_EXPORT SimulationResult simulate(const DriverOptions& options, const Model& model,
                                                const TestProtocol& protocol);
 
+/// The same into `result`, which is cleared first; its vectors keep their capacity, so a caller
+/// that simulates the same protocol many times (the optimiser) allocates nothing after the first
+/// run. `checked` = the caller has already passed `options` and `protocol` through
+/// DriverOptions::validate and validate_protocol, which are then skipped.
+TRIAXCAL_CORE_EXPORT void simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol,
+                                   SimulationResult& result, bool checked = false);
+
 /// Checks that every stage has what it needs; throws InputError "stages[i]: ...".
 TRIAXCAL_CORE_EXPORT void validate_protocol(const TestProtocol& protocol);
 

@@ -189,7 +189,7 @@ struct Run {
       // Outside the constraints: penalised without simulating, growing with the violation.
       f = penalty_all * (1.0 + violation);
     } else {
-      const bool built = lane.evaluator.simulate(values, false);
+      const bool built = lane.evaluator.simulate(values);
       f = lane.evaluator.objective(built);
       lane.failed += built ? lane.evaluator.failed_tests() : static_cast<long>(prepared.tests.size());
     }
@@ -373,7 +373,7 @@ void uncertainty(Run& run, const ParameterValues& best_values, const Eigen::Vect
     detail::Evaluator& ev = run.side[static_cast<std::size_t>(lane)]->evaluator;
     for (int j = lane; j < jobs; j += lanes) {
       const auto i = static_cast<std::size_t>(j);
-      const bool built = ev.simulate(p.values(at_unit[i]), false);
+      const bool built = ev.simulate(p.values(at_unit[i]));
       shifted_ok[i] = built && residuals(p, ev, shifted[i]) ? 1 : 0;
     }
   });
@@ -667,7 +667,7 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
     fp.upper = prepared.upper[k];
     fp.at_bound = run.best_unit[k] < 1e-6 || run.best_unit[k] > 1.0 - 1e-6;
   }
-  const bool built = run.main.evaluator.simulate(best_values, true);
+  const bool built = run.main.evaluator.simulate(best_values);
   std::vector<double> shares;
   run.main.evaluator.objective(built, &shares);
   int simulated = 0;
@@ -738,7 +738,7 @@ double calibration_objective(const CalibrationOptions& options, const Calibratio
                              const ParameterValues& values) {
   const detail::Prepared prepared = detail::prepare(problem);
   detail::Evaluator ev(prepared, options, resolve_threads(options.threads, prepared.tests.size()));
-  const bool built = ev.simulate(values, false);
+  const bool built = ev.simulate(values);
   return built ? ev.objective(true) : std::numeric_limits<double>::infinity();
 }
 

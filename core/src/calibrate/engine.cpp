@@ -288,6 +288,7 @@ double range_floor(Quantity q) {
 
 Prepared prepare(const CalibrationProblem& problem) {
   if (problem.model == nullptr || !problem.create) throw InputError("calibration: no model given");
+  problem.driver.validate();
   const ModelInfo& info = *problem.model;
   Prepared p;
   p.problem = &problem;
@@ -544,7 +545,10 @@ void Evaluator::run_test(int t) {
   TestOutcome& o = outcomes_[static_cast<std::size_t>(t)];
   o.ok = false;
   try {
-    SimulationResult r = triaxcal::simulate(prepared_.problem->driver, *model_, pt.test->protocol);
+    // Into the test's own result: its vectors keep their capacity from one evaluation to the next.
+    // The driver options and the protocol were checked when the problem was prepared.
+    SimulationResult& r = o.result;
+    triaxcal::simulate(prepared_.problem->driver, *model_, pt.test->protocol, r, true);
     if (r.ok()) {
       double* out = o.simulated.data();
       for (const PreparedCurve& c : pt.curves) {
@@ -554,34 +558,28 @@ void Evaluator::run_test(int t) {
       o.ok = true;
       for (double v : o.simulated) o.ok = o.ok && std::isfinite(v);
     }
-    if (keep_) o.result = std::move(r);
   } catch (const std::exception& e) {
     // A model that rejects the initial conditions (InputError) fails this test like a diverged run.
-    if (keep_) {
-      o.result = SimulationResult{};
-      o.result.termination = Termination::failed;
-      o.result.message = e.what();
-    }
+    o.result.termination = Termination::failed;
+    o.result.message = e.what();
   }
 }
 
-bool Evaluator::simulate(const ParameterValues& values, bool keep) {
+bool Evaluator::simulate(const ParameterValues& values) {
   std::unique_ptr<Model> model;
   try {
     model = prepared_.problem->create(values);
   } catch (const std::exception& e) {
     for (TestOutcome& o : outcomes_) {
       o.ok = false;
-      if (keep) {
-        o.result = SimulationResult{};
-        o.result.termination = Termination::failed;
-        o.result.message = std::string("the model rejected the parameters: ") + e.what();
-      }
+      o.result.termination = Termination::failed;
+      o.result.message = std::string("the model rejected the parameters: ") + e.what();
+      o.result.steps.clear();
+      o.result.stages.clear();
     }
     return false;
   }
   model_ = model.get();
-  keep_ = keep;
   pool_.run(static_cast<int>(outcomes_.size()), task_);
   model_ = nullptr;
   return true;

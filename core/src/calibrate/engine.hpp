@@ -66,7 +66,7 @@ struct PreparedTest {
 struct TestOutcome {
   bool ok = false;
   std::vector<double> simulated;  ///< at the compared points, curves in order
-  SimulationResult result;        ///< kept only when asked
+  SimulationResult result;        ///< of the last simulate(); reused, so its vectors keep their capacity
 };
 
 struct Prepared {
@@ -100,9 +100,9 @@ class Evaluator {
  public:
   Evaluator(const Prepared& prepared, const CalibrationOptions& options, int threads);
 
-  /// Simulates every test at `values`; fills outcome(t). `keep` keeps the simulation results.
-  /// Returns false when the model could not be built.
-  bool simulate(const ParameterValues& values, bool keep);
+  /// Simulates every test at `values`; fills outcome(t), whose `result` holds the simulation (or
+  /// why it failed) until the next call. Returns false when the model could not be built.
+  bool simulate(const ParameterValues& values);
   /// Objective of the last simulate() (see calibrate.hpp), summed in test order.
   double objective(bool model_built, std::vector<double>* per_test = nullptr) const;
   const TestOutcome& outcome(int t) const { return outcomes_[static_cast<std::size_t>(t)]; }
@@ -119,7 +119,6 @@ class Evaluator {
   TaskPool pool_;
   std::vector<TestOutcome> outcomes_;
   const Model* model_ = nullptr;
-  bool keep_ = false;
   std::function<void(int)> task_;
 };
 
