@@ -225,6 +225,26 @@ bool solve_fixed(double (&a)[6][6], double (&b)[6]) {
   return true;
 }
 
+// Two unknowns (every drained triaxial stage): Cramer's rule with one division instead of three
+// in a dependent chain, and the same singularity test as the elimination (first pivot the larger
+// of the first column, second pivot det / first).
+template <>
+bool solve_fixed<2>(double (&a)[6][6], double (&b)[6]) {
+  const double largest = std::max(std::max(std::abs(a[0][0]), std::abs(a[0][1])),
+                                  std::max(std::abs(a[1][0]), std::abs(a[1][1])));
+  if (!(largest > 0.0) || !std::isfinite(largest)) return false;
+  const double tiny = 1e-13 * largest;
+  const double first = std::max(std::abs(a[0][0]), std::abs(a[1][0]));
+  const double det = a[0][0] * a[1][1] - a[0][1] * a[1][0];
+  if (!(first > tiny) || !(std::abs(det) > tiny * first)) return false;
+  const double inv = 1.0 / det;
+  const double x0 = (b[0] * a[1][1] - a[0][1] * b[1]) * inv;
+  const double x1 = (a[0][0] * b[1] - b[0] * a[1][0]) * inv;
+  b[0] = x0;
+  b[1] = x1;
+  return true;
+}
+
 bool solve_small(double (&a)[6][6], double (&b)[6], int k) {
   switch (k) {
     case 1: return solve_fixed<1>(a, b);
@@ -284,10 +304,10 @@ void Runner::record(int stage, int step_in_stage, int cuts) {
   // Every member given in order: emplace_back() would value-initialise the 160-byte record first.
   const double eps_v = volumetric_strain(strain_);
   const TriaxialInvariants t = triaxial_invariants(state_.stress);
-  result_.steps.push_back(StepRecord{stage, step_in_stage, strain_[0], 0.5 * (strain_[1] + strain_[2]), eps_v, t.axial,
+  result_.steps.emplace_back(stage, step_in_stage, strain_[0], 0.5 * (strain_[1] + strain_[2]), eps_v, t.axial,
                                      t.radial, t.p, t.q, u_ - protocol_.back_pressure,
                                      given(e0_) ? e0_ - (1.0 + e0_) * eps_v : kNotGiven,
-                                     t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state_.internal});
+                                     t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state_.internal);
 }
 
 void Runner::fail(int stage, int step_in_stage, const std::string& why) {
