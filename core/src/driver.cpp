@@ -261,6 +261,8 @@ class Runner {
  public:
   Runner(const DriverOptions& options, const Model& model, const TestProtocol& protocol, SimulationResult& result)
       : opt_(options), model_(model), protocol_(protocol), result_(result) {}
+  Runner(const Runner&) = delete;  // holds pointers into itself
+  Runner& operator=(const Runner&) = delete;
 
   void run();
 
@@ -290,9 +292,15 @@ class Runner {
   const TestProtocol& protocol_;
   SimulationResult& result_;
 
-  MaterialState state_;
+  // The converged state and tangent and the spare pair a step writes into: swapped on success, not
+  // copied (the pair is 400 bytes, a tenth of a drained Mohr-Coulomb increment).
+  MaterialState states_[2];
+  Mat6 tangents_[2] = {Mat6::Zero(), Mat6::Zero()};
+  MaterialState* state_ = &states_[0];
+  MaterialState* spare_state_ = &states_[1];
+  Mat6* tangent_ = &tangents_[0];  // last converged tangent (predictor)
+  Mat6* spare_tangent_ = &tangents_[1];
   Vec6 strain_ = Vec6::Zero();  // total strain since the start of the protocol
-  Mat6 tangent_ = Mat6::Zero(); // last converged tangent (predictor)
   Mat6 restart_tangent_ = Mat6::Zero();  // tangent of a zero increment (fallback predictor)
   double u_ = 0.0;              // absolute pore pressure
   double e0_ = kNotGiven;
@@ -303,11 +311,11 @@ class Runner {
 void Runner::record(int stage, int step_in_stage, int cuts) {
   // Every member given in order: emplace_back() would value-initialise the 160-byte record first.
   const double eps_v = volumetric_strain(strain_);
-  const TriaxialInvariants t = triaxial_invariants(state_.stress);
+  const TriaxialInvariants t = triaxial_invariants(state_->stress);
   result_.steps.emplace_back(stage, step_in_stage, strain_[0], 0.5 * (strain_[1] + strain_[2]), eps_v, t.axial,
                                      t.radial, t.p, t.q, u_ - protocol_.back_pressure,
                                      given(e0_) ? e0_ - (1.0 + e0_) * eps_v : kNotGiven,
-                                     t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state_.internal);
+                                     t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state_->internal);
 }
 
 void Runner::fail(int stage, int step_in_stage, const std::string& why) {
@@ -414,7 +422,7 @@ bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s
   d = (ds * c.b).cwiseProduct(c.pure_mask);
   if (c.nfree == 0) {
     ++result_.model_calls;
-    return model_.integrate(state_, d, out, tangent).status == Status::ok;
+    return model_.integrate(*state_, d, out, tangent).status == Status::ok;
   }
   switch (c.nfree) {
     case 1: return newton<1>(c, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
@@ -434,7 +442,7 @@ bool Runner::newton(const Control& c, const Vec6& cs_start, double s0, double s1
   double r[6];
   double tol[6];
   double target[6];
-  const double scale = std::max(1.0, state_.stress.cwiseAbs().maxCoeff());
+  const double scale = std::max(1.0, state_->stress.cwiseAbs().maxCoeff());
   for (int ii = 0; ii < k; ++ii) {
     const int i = c.free[ii];
     target[ii] = cs_start[i] + s1 * (c.b[i] - cs_start[i]);
@@ -443,10 +451,10 @@ bool Runner::newton(const Control& c, const Vec6& cs_start, double s0, double s1
   // Predictor with the last converged tangent, linearised about the substep start. Where that
   // tangent is singular for this control (a perfectly plastic state under stress control) or a
   // previous try failed, the tangent of a zero increment (elastic for every model here) is used.
-  const Mat6* dmat = &tangent_;
+  const Mat6* dmat = tangent_;
   if (elastic_predictor) {
     ++result_.model_calls;
-    if (model_.integrate(state_, Vec6::Zero(), out, restart_tangent_).status != Status::ok) return false;
+    if (model_.integrate(*state_, Vec6::Zero(), out, restart_tangent_).status != Status::ok) return false;
     dmat = &restart_tangent_;
   }
   bool have_stress = false;
@@ -461,7 +469,7 @@ bool Runner::newton(const Control& c, const Vec6& cs_start, double s0, double s1
       for (int m = 0; m < ar.n; ++m) v += ar.value[m] * (d_acc[ar.index[m]] + d[ar.index[m]]);
       for (int m = 0; m < cr.n; ++m) {
         const int j = cr.index[m];
-        const double sig = have_stress ? out.stress[j] : state_.stress[j] + dmat->row(j).dot(d);
+        const double sig = have_stress ? out.stress[j] : state_->stress[j] + dmat->row(j).dot(d);
         v += cr.value[m] * sig;
       }
       r[ii] = v;
@@ -491,7 +499,7 @@ bool Runner::newton(const Control& c, const Vec6& cs_start, double s0, double s1
     for (int ii = 0; ii < k; ++ii) d[c.free[ii]] -= r[ii];
     ++result_.newton_iterations;
     ++result_.model_calls;
-    if (model_.integrate(state_, d, out, tangent).status != Status::ok) return false;
+    if (model_.integrate(*state_, d, out, tangent).status != Status::ok) return false;
     if (!out.stress.allFinite()) return false;
     have_stress = true;
     dmat = &tangent;
@@ -505,23 +513,21 @@ bool Runner::step(int stage, int n, const Control& c, Drainage drainage) {
   for (int ii = 0; ii < c.nfree; ++ii) {
     const Control::SparseRow& cr = c.c_rows[ii];
     double v = 0.0;
-    for (int m = 0; m < cr.n; ++m) v += cr.value[m] * state_.stress[cr.index[m]];
+    for (int m = 0; m < cr.n; ++m) v += cr.value[m] * state_->stress[cr.index[m]];
     cs_start[c.free[ii]] = v;
   }
   const Vec6 strain_start = strain_;
   const double u_start = u_;
   Vec6 d_acc = Vec6::Zero();
   Vec6 d;
-  MaterialState out;
-  Mat6 tangent;
   double s0 = 0.0;
   double ds = 1.0;
   int cuts = 0;
   while (s0 < 1.0) {
     const double s1 = (1.0 - s0 - ds < 1e-12) ? 1.0 : s0 + ds;
-    if (substep(c, cs_start, s0, s1, d_acc, d, out, tangent, cuts > 0)) {
-      state_ = out;
-      tangent_ = tangent;
+    if (substep(c, cs_start, s0, s1, d_acc, d, *spare_state_, *spare_tangent_, cuts > 0)) {
+      std::swap(state_, spare_state_);
+      std::swap(tangent_, spare_tangent_);
       d_acc += d;
       strain_ = strain_start + d_acc;
       s0 = s1;
@@ -541,7 +547,7 @@ bool Runner::step(int stage, int n, const Control& c, Drainage drainage) {
   if (drainage == Drainage::drained) {
     u_ = protocol_.back_pressure;
   } else if (incompressible_) {
-    u_ = 0.5 * (start_.cell[1] + start_.cell[2]) - 0.5 * (state_.stress[1] + state_.stress[2]);
+    u_ = 0.5 * (start_.cell[1] + start_.cell[2]) - 0.5 * (state_->stress[1] + state_->stress[2]);
   } else {
     u_ = u_start + protocol_.pore_fluid_stiffness * volumetric_strain(d_acc);
   }
@@ -553,11 +559,11 @@ bool Runner::run_stage(int index) {
   const Stage& stage = protocol_.stages[index];
   // A drained stage starts with the excess pore pressure dissipated.
   if (stage.drainage == Drainage::drained) u_ = protocol_.back_pressure;
-  start_.stress = state_.stress;
+  start_.stress = state_->stress;
   start_.u = u_;
-  start_.cell = state_.stress;
+  start_.cell = state_->stress;
   for (int i = 0; i < 3; ++i) start_.cell[i] += u_;
-  const TriaxialInvariants t = triaxial_invariants(state_.stress);
+  const TriaxialInvariants t = triaxial_invariants(state_->stress);
   start_.p = t.p;
   start_.q = t.q;
 
@@ -612,11 +618,11 @@ void Runner::run() {
   e0_ = protocol_.initial.void_ratio;
   incompressible_ = std::isinf(protocol_.pore_fluid_stiffness);
   u_ = protocol_.back_pressure;
-  model_.initialise(protocol_.initial, state_);
+  model_.initialise(protocol_.initial, *state_);
   {
     MaterialState probe;
     ++result_.model_calls;
-    if (model_.integrate(state_, Vec6::Zero(), probe, tangent_).status != Status::ok) {
+    if (model_.integrate(*state_, Vec6::Zero(), probe, *tangent_).status != Status::ok) {
       result_.termination = Termination::failed;
       result_.message = "the model could not evaluate its tangent at the initial state";
       return;
