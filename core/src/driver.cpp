@@ -43,6 +43,19 @@ void DriverOptions::validate() const {
   if (max_total_cuts < 0) fail("max_total_cuts", max_total_cuts, "must be at least 0");
 }
 
+void SimulationResult::clear() {
+  std::string kept_message = std::move(message);
+  std::vector<StepRecord> kept_steps = std::move(steps);
+  std::vector<StageSummary> kept_stages = std::move(stages);
+  *this = SimulationResult{};
+  kept_message.clear();
+  kept_steps.clear();
+  kept_stages.clear();
+  message = std::move(kept_message);
+  steps = std::move(kept_steps);
+  stages = std::move(kept_stages);
+}
+
 std::string SimulationResult::brief() const {
   std::ostringstream out;
   if (termination == Termination::completed) {
@@ -309,13 +322,14 @@ class Runner {
 };
 
 void Runner::record(int stage, int step_in_stage, int cuts) {
-  // Every member given in order: emplace_back() would value-initialise the 160-byte record first.
+  // Built in place from every member, in declaration order: an emplace_back() without arguments
+  // would value-initialise the 160-byte record before it is filled.
   const double eps_v = volumetric_strain(strain_);
   const TriaxialInvariants t = triaxial_invariants(state_->stress);
   result_.steps.emplace_back(stage, step_in_stage, strain_[0], 0.5 * (strain_[1] + strain_[2]), eps_v, t.axial,
-                                     t.radial, t.p, t.q, u_ - protocol_.back_pressure,
-                                     given(e0_) ? e0_ - (1.0 + e0_) * eps_v : kNotGiven,
-                                     t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state_->internal);
+                             t.radial, t.p, t.q, u_ - protocol_.back_pressure,
+                             given(e0_) ? e0_ - (1.0 + e0_) * eps_v : kNotGiven,
+                             t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state_->internal);
 }
 
 void Runner::fail(int stage, int step_in_stage, const std::string& why) {
@@ -653,15 +667,7 @@ void simulate(const DriverOptions& options, const Model& model, const TestProtoc
     options.validate();
     validate_protocol(protocol);
   }
-  result.termination = Termination::not_run;
-  result.message.clear();
-  result.steps.clear();
-  result.stages.clear();
-  result.total_cuts = 0;
-  result.newton_iterations = 0;
-  result.model_calls = 0;
-  result.failed_stage = -1;
-  result.failed_step = -1;
+  result.clear();
   Runner(options, model, protocol, result).run();
 }
 

@@ -58,8 +58,8 @@ MohrCoulomb::MohrCoulomb(const ParameterValues& v) {
   strength_ = 2.0 * v[cohesion] * std::sqrt(k_phi_);
   const double apex = v[cohesion] / std::tan(degrees_to_radians(v[friction_angle]));
   tension_ = std::min(v[tensile_strength], apex);
-  const double lame = bulk_ - 2.0 * shear_ / 3.0;
-  elastic_principal_.setConstant(lame);
+  lame_ = bulk_ - 2.0 * shear_ / 3.0;
+  elastic_principal_.setConstant(lame_);
   elastic_principal_.diagonal().array() += 2.0 * shear_;
   elastic_ = isotropic_elastic_stiffness(bulk_, shear_);
   prepare_return();
@@ -194,7 +194,7 @@ int shear_slot(int i, int j) {
 IntegrationResult MohrCoulomb::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
                                          Mat6& tangent) const {
   // Elastic trial D de, written out for the isotropic D (a third of the cost of the 6x6 product).
-  const double lame_vol = (bulk_ - 2.0 * shear_ / 3.0) * (de[0] + de[1] + de[2]);
+  const double lame_vol = lame_ * (de[0] + de[1] + de[2]);
   Vec6 trial;
   for (int i = 0; i < 3; ++i) trial[i] = in.stress[i] + lame_vol + 2.0 * shear_ * de[i];
   for (int i = 3; i < 6; ++i) trial[i] = in.stress[i] + shear_ * de[i];

@@ -34,6 +34,7 @@ class MohrCoulomb final : public Model {
  private:
   double bulk_ = 0.0;
   double shear_ = 0.0;
+  double lame_ = 0.0;    // K - 2G/3
   double k_phi_ = 0.0;   // (1 + sin phi) / (1 - sin phi)
   double k_psi_ = 0.0;   // (1 + sin psi) / (1 - sin psi)
   double strength_ = 0.0;  // 2 c sqrt(k_phi): s_A - k_phi s_C <= strength_

@@ -61,6 +61,8 @@ struct SimulationResult {
   int failed_step = -1;
 
   bool ok() const { return termination == Termination::completed; }
+  /// Back to a default (not run) result; the vectors and the message keep their capacity.
+  TRIAXCAL_CORE_EXPORT void clear();
   std::string brief() const;
 };
 

@@ -560,6 +560,7 @@ void Evaluator::run_test(int t) {
     }
   } catch (const std::exception& e) {
     // A model that rejects the initial conditions (InputError) fails this test like a diverged run.
+    o.result.clear();
     o.result.termination = Termination::failed;
     o.result.message = e.what();
   }
@@ -572,10 +573,9 @@ bool Evaluator::simulate(const ParameterValues& values) {
   } catch (const std::exception& e) {
     for (TestOutcome& o : outcomes_) {
       o.ok = false;
+      o.result.clear();
       o.result.termination = Termination::failed;
-      o.result.message = std::string("the model rejected the parameters: ") + e.what();
-      o.result.steps.clear();
-      o.result.stages.clear();
+      o.result.message.append("the model rejected the parameters: ").append(e.what());
     }
     return false;
   }
