@@ -314,6 +314,7 @@ class Runner {
   Mat6* tangent_ = &tangents_[0];  // last converged tangent (predictor)
   Mat6* spare_tangent_ = &tangents_[1];
   Vec6 strain_ = Vec6::Zero();  // total strain since the start of the protocol
+  Vec6 stage_strain_start_ = Vec6::Zero();  // strain_ at the start of the current stage
   Mat6 restart_tangent_ = Mat6::Zero();  // tangent of a zero increment (fallback predictor)
   double u_ = 0.0;              // absolute pore pressure
   double e0_ = kNotGiven;
@@ -326,9 +327,11 @@ void Runner::record(int stage, int step_in_stage, int cuts) {
   // would value-initialise the 160-byte record before it is filled.
   const double eps_v = volumetric_strain(strain_);
   const TriaxialInvariants t = triaxial_invariants(state_->stress);
-  result_.steps.emplace_back(stage, step_in_stage, strain_[0], 0.5 * (strain_[1] + strain_[2]), eps_v, t.axial,
+  result_.steps.emplace_back(stage, step_in_stage, strain_[0], 0.5 * (strain_[1] + strain_[2]), eps_v,
+                             engineering_strain(strain_[0] - stage_strain_start_[0]),
+                             engineering_strain(eps_v - volumetric_strain(stage_strain_start_)), t.axial,
                              t.radial, t.p, t.q, u_ - protocol_.back_pressure,
-                             given(e0_) ? e0_ - (1.0 + e0_) * eps_v : kNotGiven,
+                             given(e0_) ? (1.0 + e0_) * std::exp(-eps_v) - 1.0 : kNotGiven,
                              t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state_->internal);
 }
 
@@ -382,10 +385,10 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int phase, C
       if (given(stage.target_axial))
         c.effective_stress(0, s.stress[0], stage.target_axial);
       else
-        c.strain(0, stage.axial_strain / stage.steps);
+        c.strain(0, natural_strain(stage.axial_strain) / stage.steps);
       break;
     case StageType::shear: {
-      const double de = stage.axial_strain / stage.steps;
+      const double de = natural_strain(stage.axial_strain) / stage.steps;
       c.strain(0, de);
       if (stage.drainage == Drainage::drained) {
         drained_radial(radial0, radial0);
@@ -399,7 +402,7 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int phase, C
       break;
     }
     case StageType::constant_p_shear: {
-      c.strain(0, stage.axial_strain / stage.steps);
+      c.strain(0, natural_strain(stage.axial_strain) / stage.steps);
       Vec6 third = Vec6::Zero();
       third.head<3>().setConstant(1.0 / 3.0);
       c.mixed(1, Vec6::Zero(), third, s.p, s.p);
@@ -574,6 +577,7 @@ bool Runner::run_stage(int index) {
   // A drained stage starts with the excess pore pressure dissipated.
   if (stage.drainage == Drainage::drained) u_ = protocol_.back_pressure;
   start_.stress = state_->stress;
+  stage_strain_start_ = strain_;
   start_.u = u_;
   start_.cell = state_->stress;
   for (int i = 0; i < 3; ++i) start_.cell[i] += u_;
@@ -654,6 +658,10 @@ void Runner::run() {
 }
 
 }  // namespace
+
+double stage_fraction_at(const Stage& stage, double engineering_stage_strain) {
+  return natural_strain(engineering_stage_strain) / natural_strain(stage.axial_strain);
+}
 
 SimulationResult simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol) {
   SimulationResult result;

@@ -50,6 +50,16 @@ inline double mean_stress(const Vec6& s) { return (s[0] + s[1] + s[2]) / 3.0; }
 /// Volumetric strain eps_v = tr(eps), compression positive.
 inline double volumetric_strain(const Vec6& e) { return e[0] + e[1] + e[2]; }
 
+// Strain measures. The driver integrates natural (logarithmic) strain increments, additive over a
+// protocol: eps = ln(L0 / L) axially, ln(V0 / V) volumetrically (compression positive). Laboratories
+// report engineering strains relative to the specimen at the start of a stage (dL / L_start,
+// dV / V_start); every strain a user sees or a measured curve is compared with is engineering.
+
+/// Engineering strain (compression positive) of a natural strain increment: 1 - exp(-eps_nat).
+inline double engineering_strain(double natural) { return -std::expm1(-natural); }
+/// Natural strain of an engineering strain (compression positive, below 1): -ln(1 - eps_eng).
+inline double natural_strain(double engineering) { return -std::log1p(-engineering); }
+
 /// Deviatoric part of a stress vector (tensor shear components).
 inline Vec6 stress_deviator(const Vec6& s) {
   Vec6 d = s;

@@ -11,6 +11,12 @@
 namespace triaxcal {
 
 struct DriverOptions {
+  /// Local error tolerance of the adaptive substepping (relative; see DEVELOPERS.md "The driver"):
+  /// the default keeps the simulated curves at the recorded points within 0.1 % of each curve's
+  /// range of the converged solution.
+  double tolerance = 1e-4;
+  /// true: every record step is one increment (halved only when the model fails), no error control.
+  bool fixed_steps = false;
   int max_newton_iterations = 25;      ///< per (sub)increment on the stress-controlled rows
   double newton_tolerance = 1e-10;     ///< relative to the largest stress component (floor 1 kPa)
   int max_cuts = 12;                   ///< bisections of one increment before the run gives up
@@ -24,15 +30,19 @@ struct DriverOptions {
 struct StepRecord {
   int stage = 0;                   ///< index into TestProtocol::stages
   int step = 0;                    ///< 1-based within the stage (0 = initial state)
-  double axial_strain = 0.0;       ///< eps_11 since the start of the protocol
+  // Natural (logarithmic) strains since the start of the protocol, additive (conventions.hpp).
+  double axial_strain = 0.0;       ///< eps_11 = ln(L0/L)
   double radial_strain = 0.0;      ///< (eps_22 + eps_33) / 2
-  double volumetric_strain = 0.0;  ///< eps_11 + eps_22 + eps_33 (= dV/V0)
+  double volumetric_strain = 0.0;  ///< eps_11 + eps_22 + eps_33 = ln(V0/V)
+  // Engineering strains relative to the specimen at the start of this record's stage (lab convention).
+  double stage_axial_strain = 0.0;       ///< dL / L_stage_start
+  double stage_volumetric_strain = 0.0;  ///< dV / V_stage_start
   double axial_stress = 0.0;       ///< s_a' (kPa)
   double radial_stress = 0.0;      ///< s_r' (kPa)
   double p = 0.0;                  ///< p' (kPa)
   double q = 0.0;                  ///< s_a' - s_r' (kPa, signed)
   double excess_pore_pressure = 0.0;  ///< u - back pressure (kPa)
-  double void_ratio = kNotGiven;   ///< e0 - (1 + e0) eps_v, NaN when e0 is unknown
+  double void_ratio = kNotGiven;   ///< (1 + e0) exp(-eps_v) - 1, NaN when e0 is unknown
   double stress_ratio = 0.0;       ///< s_a' / s_r'
   int cuts = 0;                    ///< bisections needed by this step
   std::array<double, kMaxStateVariables> state{};  ///< model internal variables
@@ -55,6 +65,8 @@ struct SimulationResult {
   std::vector<StepRecord> steps;   ///< record 0 is the initial state
   std::vector<StageSummary> stages;
   int total_cuts = 0;
+  long substeps = 0;               ///< accepted substeps (error-controlled) or increments (fixed)
+  long rejected_substeps = 0;      ///< substeps rejected by the error estimate
   long newton_iterations = 0;
   long model_calls = 0;
   int failed_stage = -1;
@@ -78,6 +90,11 @@ TRIAXCAL_CORE_EXPORT SimulationResult simulate(const DriverOptions& options, con
 /// DriverOptions::validate and validate_protocol, which are then skipped.
 TRIAXCAL_CORE_EXPORT void simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol,
                                    SimulationResult& result, bool checked = false);
+
+/// For a strain-controlled stage (shear, constant_p_shear, oedometer by axial_strain): the fraction
+/// of the stage's control path at which its engineering stage axial strain equals
+/// `engineering_stage_strain` (same sign convention as Stage::axial_strain), for Stage::record_at.
+TRIAXCAL_CORE_EXPORT double stage_fraction_at(const Stage& stage, double engineering_stage_strain);
 
 /// Checks that every stage has what it needs; throws InputError "stages[i]: ...".
 TRIAXCAL_CORE_EXPORT void validate_protocol(const TestProtocol& protocol);

@@ -39,7 +39,11 @@ struct Stage {
   double target_axial = kNotGiven;  ///< kPa, effective axial stress target
   double target_radial = kNotGiven; ///< kPa, effective radial stress target
   double target_deviator = kNotGiven;  ///< kPa, unload-reload: q at the bottom of the loop
-  double axial_strain = kNotGiven;  ///< signed stage increment (compression positive) for strain control
+  double axial_strain = kNotGiven;  ///< signed engineering stage strain dL/L_stage_start (compression positive) for strain control
+  /// Where records are written, as fractions of the stage's control path in (0, 1], strictly
+  /// increasing, ending at 1 (for strain control the fraction of the natural axial strain of the
+  /// stage, see stage_fraction_at); empty = `steps` equal steps. Unload-reload: each half.
+  std::vector<double> record_at;
   StopCriterion stop = StopCriterion::none;
   double stop_value = kNotGiven;    ///< for StopCriterion::axial_strain (decimal)
 };
