@@ -462,6 +462,8 @@ Prepared prepare(const CalibrationProblem& problem) {
       pt.total_weight += test.weight * m.weight;
       pt.curves.push_back(std::move(pc));
     }
+    pt.protocol = test.protocol;
+    if (!problem.driver.fixed_steps) place_records(pt.protocol, pt.curves);
     p.points += pt.points;
     p.tests.push_back(std::move(pt));
   }
@@ -489,11 +491,14 @@ void interpolate_curve(const SimulationResult& result, const PreparedCurve& curv
     first = stage_start(curve.stage);
     last = static_cast<std::size_t>(result.stages[static_cast<std::size_t>(curve.stage)].last);
   }
+  // Records carry natural strains since the protocol start; measured strains are engineering
+  // strains relative to the curve's origin (the start of zero_stage, or of the protocol), so a
+  // strain column becomes 1 - exp(-(eps - eps_origin)) (conventions.hpp).
   const StepRecord& base = steps[stage_start(curve.zero_stage)];
-  const bool shift_x = curve.zero_stage >= 0 && is_strain(curve.x);
-  const bool shift_y = curve.zero_stage >= 0 && is_strain(curve.y);
-  const double x0 = shift_x ? value_of(base, curve.x) : 0.0;
-  const double y0 = shift_y ? value_of(base, curve.y) : 0.0;
+  const bool strain_x = is_strain(curve.x), strain_y = is_strain(curve.y);
+  const bool shift = curve.zero_stage >= 0;
+  const double x0 = strain_x && shift ? value_of(base, curve.x) : 0.0;
+  const double y0 = strain_y && shift ? value_of(base, curve.y) : 0.0;
   // The compared columns of the records, copied once into contiguous arrays (indices relative to
   // `first`): the searches below then read plain doubles.
   thread_local std::vector<double> xs_sim, ys_sim;
@@ -503,8 +508,9 @@ void interpolate_curve(const SimulationResult& result, const PreparedCurve& curv
   const double StepRecord::*mx = member_of(curve.x);
   const double StepRecord::*my = member_of(curve.y);
   for (std::size_t j = 0; j < count; ++j) {
-    xs_sim[j] = steps[first + j].*mx - x0;
-    ys_sim[j] = steps[first + j].*my - y0;
+    const double x = steps[first + j].*mx - x0, y = steps[first + j].*my - y0;
+    xs_sim[j] = strain_x ? engineering_strain(x) : x;
+    ys_sim[j] = strain_y ? engineering_strain(y) : y;
   }
   const double* xv = xs_sim.data();
   const double* yv = ys_sim.data();
@@ -531,6 +537,68 @@ void interpolate_curve(const SimulationResult& result, const PreparedCurve& curv
 }
 
 // ---------------------------------------------------------------------------------------------
+// Record points
+
+namespace {
+
+bool strain_controlled(const Stage& s) {
+  return s.type == StageType::shear || s.type == StageType::constant_p_shear ||
+         (s.type == StageType::oedometer && std::isnan(s.target_axial));
+}
+
+}  // namespace
+
+void place_records(TestProtocol& protocol, const std::vector<PreparedCurve>& curves) {
+  const std::size_t n = protocol.stages.size();
+  std::vector<std::vector<double>> fractions(n);
+  for (const PreparedCurve& c : curves) {
+    if (c.x != Quantity::axial_strain) continue;
+    // Natural axial strain of each stage's start relative to the curve's origin, walking forward
+    // from the origin; a stress-controlled stage is taken to leave it unchanged (see the header).
+    const std::size_t origin = c.zero_stage < 0 ? 0 : static_cast<std::size_t>(c.zero_stage);
+    if (c.zero_stage < 0) {
+      // Strains from the protocol start: only known when every stage up to the compared ones is
+      // strain-controlled, which is rare (consolidation comes first); place nothing then.
+      bool all = true;
+      for (std::size_t k = 0; k < n && all; ++k) all = strain_controlled(protocol.stages[k]);
+      if (!all) continue;
+    }
+    double offset = 0.0;
+    for (std::size_t k = origin; k < n; ++k) {
+      const Stage& st = protocol.stages[k];
+      if (!strain_controlled(st)) continue;
+      if (c.stage >= 0 && static_cast<std::size_t>(c.stage) != k) {
+        offset += natural_strain(st.axial_strain);
+        continue;
+      }
+      const double span = natural_strain(st.axial_strain);
+      for (double xe : c.xs) {
+        if (!(xe < 1.0)) continue;
+        const double f = (natural_strain(xe) - offset) / span;
+        if (f > 1e-9 && f < 1.0 - 1e-9) fractions[k].push_back(f);
+      }
+      offset += span;
+    }
+  }
+  for (std::size_t k = 0; k < n; ++k) {
+    std::vector<double>& f = fractions[k];
+    if (f.empty()) continue;
+    Stage& st = protocol.stages[k];
+    // Only the measured points and the stage end: the error control sets the substeps between
+    // records, so sparse data do not make a coarse simulation.
+    f.push_back(1.0);
+    for (double g : st.record_at) f.push_back(g);
+    std::sort(f.begin(), f.end());
+    std::vector<double> kept;
+    kept.reserve(f.size());
+    for (double g : f)
+      if (kept.empty() || g - kept.back() > 1e-9) kept.push_back(g);
+    kept.back() = 1.0;
+    st.record_at = std::move(kept);
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
 // Evaluator
 
 Evaluator::Evaluator(const Prepared& prepared, const CalibrationOptions& options, int threads)
@@ -548,7 +616,7 @@ void Evaluator::run_test(int t) {
     // Into the test's own result: its vectors keep their capacity from one evaluation to the next.
     // The driver options and the protocol were checked when the problem was prepared.
     SimulationResult& r = o.result;
-    triaxcal::simulate(prepared_.problem->driver, *model_, pt.test->protocol, r, true);
+    triaxcal::simulate(prepared_.problem->driver, *model_, pt.protocol, r, true);
     if (r.ok()) {
       double* out = o.simulated.data();
       for (const PreparedCurve& c : pt.curves) {

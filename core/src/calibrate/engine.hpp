@@ -57,6 +57,9 @@ struct PreparedCurve {
 
 struct PreparedTest {
   const CalibrationTest* test = nullptr;
+  /// The test's protocol with record points (Stage::record_at) at the measured axial strains of
+  /// its strain-controlled stages (see place_records); the test's own protocol with fixed steps.
+  TestProtocol protocol;
   std::vector<PreparedCurve> curves;
   int points = 0;
   double total_weight = 0.0;  ///< w_test * sum of curve weights (penalty scale)
@@ -128,6 +131,13 @@ double loss_weight(Loss kind, double z, double c);
 /// psi'(e) = rho'(z) + 2 z rho''(z) at z = e^2 (1 for the linear loss): a point's share of the
 /// Gauss-Newton curvature.
 double loss_curvature(Loss kind, double z, double c);
+
+/// Sets Stage::record_at of the strain-controlled stages of `protocol` so that records fall on the
+/// measured axial strains of `curves` (engineering, relative to each curve's origin) and the stage
+/// end, instead of the stage's `steps` equal steps. Points of stages whose start strain is not known in advance
+/// (after a stress-controlled stage inside the compared range) are placed as if that stage left
+/// the axial strain unchanged: they then lie near, not on, a record.
+void place_records(TestProtocol& protocol, const std::vector<PreparedCurve>& curves);
 
 /// The compared value of a simulated curve at each x (forward-moving search, see the .cpp).
 void interpolate_curve(const SimulationResult& result, const PreparedCurve& curve, double* out);
