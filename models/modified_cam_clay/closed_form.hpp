@@ -1,8 +1,17 @@
 #pragma once
 // Reference solutions of Modified Cam-Clay for triaxial compression from an isotropic state
-// (p'_0, q = 0) with preconsolidation pressure p'_c0 >= p'_0, independent of the return mapping in
-// modified_cam_clay.cpp. Tests and benchmarks compare the integrated model with them; they are
-// plain functions so an interpretation or report module may use them too.
+// (p'_0, q = 0, void ratio e_0) with preconsolidation pressure p'_c0 >= p'_0, and the isotropic
+// e-ln p' lines, independent of the return mapping in modified_cam_clay.cpp (no code shared).
+// Tests and benchmarks compare the integrated model with them; they are plain functions so an
+// interpretation or report module may use them too.
+//
+// Strains are natural (logarithmic), as the driver integrates them: eps_v = ln(V0/V) =
+// ln((1 + e_0)/(1 + e)), d eps_v = -de/(1 + e) with the current void ratio e, and
+// eps_a = eps_q + eps_v/3 (natural strains are additive, so the triaxial split holds exactly).
+// Volumetric laws (Wood 1990, "Soil Behaviour and Critical State Soil Mechanics", CUP, ch. 4 and 6):
+// de = -kappa d ln p' - (lambda - kappa) d ln p'_c, so along any path
+//   e = e_0 - kappa ln(p'/p'_0) - (lambda - kappa) ln(p'_c/p'_c0)            (exact, no quadrature),
+// with K = (1 + e) p'/kappa and, from Poisson's ratio, G = 3 (1 - 2 nu) K / (2 (1 + nu)).
 //
 // Sources:
 // - Undrained (constant volume) effective stress path: Wood (1990), "Soil Behaviour and Critical
@@ -15,9 +24,13 @@
 // - Drained compression at constant s3': q = 3 (p' - p'_0) meets q = M p' at p' = 3 p'_0/(3 - M);
 //   the critical state line follows from the normal compression line e = N - lambda ln p' as
 //   e = Gamma - lambda ln p' with Gamma = N - (lambda - kappa) ln 2 (Wood 1990, ch. 6).
-// - Axial strain along either path: the flow rule of the model (associated, d eps_q^p / d eps_v^p =
-//   2 q / (M^2 (2 p' - p'_c))), elastic shear d eps_q^e = dq / (3 G(p')), and the volumetric laws of
-//   modified_cam_clay.hpp, integrated by Gauss-Legendre quadrature in a path parameter s with
+// - Axial strain along either path: the flow rule (associated, d eps_q^p / d eps_v^p =
+//   2 q / (M^2 (2 p' - p'_c))), elastic shear d eps_q^e = dq / (3 G(p', e)), and the volumetric laws
+//   above, d eps_v^e = kappa dp'/((1 + e) p'), d eps_v^p = (lambda - kappa) dp'_c/((1 + e) p'_c);
+//   undrained, e = e_0 throughout. Elastic part of the drained path in closed form: with
+//   G = g (1 + e) p'/kappa and dq = 3 dp', d eps_q^e = dp'/G = d eps_v^e / g, so
+//   eps_q^e = eps_v^e / g = ln((1 + e_0)/(1 + e))/g. Yielding parts by Gauss-Legendre quadrature
+//   in a path parameter s with
 //   p'(s) = p'_cs + (p'_y - p'_cs) exp(-s^2) (smooth at the yield point and at critical state).
 //   Semi-analytical: exact up to quadrature error (below 1e-10 relative with the defaults).
 
@@ -32,19 +45,37 @@ struct Material {
   double lambda = 0.0;
   double kappa = 0.0;
   double m = 0.0;               ///< M on the path (compression value)
-  double e0 = 0.0;              ///< void ratio at the start (reference of the bulk modulus)
+  double e0 = 0.0;              ///< void ratio at the start of the path (p'_0)
   double poissons_ratio = 0.3;  ///< used when shear_modulus == 0
   double shear_modulus = 0.0;   ///< constant G (kPa), 0 = from Poisson's ratio
 
-  double kappa_star() const { return kappa / (1.0 + e0); }
-  double plastic_star() const { return (lambda - kappa) / (1.0 + e0); }
   double big_lambda() const { return (lambda - kappa) / lambda; }
-  /// Tangent shear modulus at p' (kPa).
-  double shear_at(double p) const {
-    return shear_modulus > 0.0 ? shear_modulus
-                               : 1.5 * (1.0 - 2.0 * poissons_ratio) / (1.0 + poissons_ratio) * p / kappa_star();
+  /// g = G / K from Poisson's ratio, 3 (1 - 2 nu) / (2 (1 + nu)).
+  double shear_to_bulk() const { return 1.5 * (1.0 - 2.0 * poissons_ratio) / (1.0 + poissons_ratio); }
+  /// Tangent bulk modulus (1 + e) p'/kappa at p' and void ratio e (kPa).
+  double bulk_at(double p, double e) const { return (1.0 + e) * p / kappa; }
+  /// Tangent shear modulus at p' and void ratio e (kPa).
+  double shear_at(double p, double e) const {
+    return shear_modulus > 0.0 ? shear_modulus : shear_to_bulk() * bulk_at(p, e);
+  }
+  /// Void ratio at (p', p'_c) from the start (p'_0, p'_c0, e_0): the e-ln p' laws, exact.
+  double void_ratio_at(double p0, double pc0, double p, double pc) const {
+    return e0 - kappa * std::log(p / p0) - (lambda - kappa) * std::log(pc / pc0);
   }
 };
+
+/// Isotropic normal compression line through (p'_ref, e_ref): e = e_ref - lambda ln(p'/p'_ref).
+inline double normal_compression_void_ratio(const Material& mat, double p_ref, double e_ref, double p) {
+  return e_ref - mat.lambda * std::log(p / p_ref);
+}
+
+/// Unloading-reloading line through (p'_ref, e_ref): e = e_ref - kappa ln(p'/p'_ref).
+inline double swelling_void_ratio(const Material& mat, double p_ref, double e_ref, double p) {
+  return e_ref - mat.kappa * std::log(p / p_ref);
+}
+
+/// Natural volumetric strain from void ratio e_from to e_to: ln((1 + e_from)/(1 + e_to)).
+inline double natural_volumetric_strain(double e_from, double e_to) { return std::log((1.0 + e_from) / (1.0 + e_to)); }
 
 struct PathPoint {
   double axial_strain = 0.0;
@@ -122,10 +153,11 @@ inline std::vector<PathPoint> undrained_path(const Material& mat, double p0, dou
   path.reserve(panels + 2);
   path.push_back({0.0, p0, 0.0, 0.0});
   const double q_y = mat.m * std::sqrt(p0 * (pc0 - p0));
-  PathPoint yield{q_y / (3.0 * mat.shear_at(p0)), p0, q_y, 0.0};  // elastic: p' constant at constant volume
+  // Elastic: p' (and e) constant at constant volume, so G is constant.
+  PathPoint yield{q_y / (3.0 * mat.shear_at(p0, mat.e0)), p0, q_y, 0.0};
   if (q_y > 0.0) path.push_back(yield);
   const double p_cs = undrained_critical_p(mat, p0, pc0);
-  const double ks = mat.kappa_star();
+  const double ks = mat.kappa / (1.0 + mat.e0);  // e = e0 throughout
   const double ratio = mat.kappa / (mat.lambda - mat.kappa);
   const double m2 = mat.m * mat.m;
   auto rates = [&](double p, double& da, double& dv) {
@@ -133,7 +165,7 @@ inline std::vector<PathPoint> undrained_path(const Material& mat, double p0, dou
     const double q = undrained_q_at_p(mat, p0, pc0, p);
     const double dq = m2 * (pc * (1.0 - ratio) - 2.0 * p) / (2.0 * q);
     const double dvp = -ks / p;  // d eps_v^p = -d eps_v^e
-    da = dq / (3.0 * mat.shear_at(p)) + dvp * 2.0 * q / (m2 * (2.0 * p - pc));
+    da = dq / (3.0 * mat.shear_at(p, mat.e0)) + dvp * 2.0 * q / (m2 * (2.0 * p - pc));
     dv = 0.0;
   };
   auto q_of_p = [&](double p) { return undrained_q_at_p(mat, p0, pc0, p); };
@@ -153,30 +185,27 @@ inline std::vector<PathPoint> drained_path(const Material& mat, double p0, doubl
   const double a1 = -(18.0 * p0 + m2 * pc0);
   const double a0 = 9.0 * p0 * p0;
   const double p_y = (-a1 + std::sqrt(std::max(0.0, a1 * a1 - 4.0 * a2 * a0))) / (2.0 * a2);
-  const double ks = mat.kappa_star();
-  const double ps = mat.plastic_star();
-  // Elastic part: eps_v = kappa* ln(p/p0); eps_q = int dq / 3G = int dp / G.
-  const double g_const = mat.shear_modulus;
-  const double eq_y = g_const > 0.0 ? (p_y - p0) / g_const : std::log(p_y / p0) * p0 / mat.shear_at(p0);
-  const double ev_y = ks * std::log(p_y / p0);
-  PathPoint yield{eq_y + ev_y / 3.0, p_y, 3.0 * (p_y - p0), ev_y};
+  // Elastic part, closed form (header): e on the unloading-reloading line, eps_q = eps_v / g.
+  auto elastic_point = [&](double p) {
+    const double ev = natural_volumetric_strain(mat.e0, swelling_void_ratio(mat, p0, mat.e0, p));
+    const double eq = mat.shear_modulus > 0.0 ? (p - p0) / mat.shear_modulus : ev / mat.shear_to_bulk();
+    return PathPoint{eq + ev / 3.0, p, 3.0 * (p - p0), ev};
+  };
+  const PathPoint yield = elastic_point(p_y);
   if (p_y > p0) {
-    constexpr int kElastic = 200;  // the elastic part is curved when G depends on p'
-    for (int i = 1; i <= kElastic; ++i) {
-      const double p = p0 + (p_y - p0) * i / kElastic;
-      const double eq = g_const > 0.0 ? (p - p0) / g_const : std::log(p / p0) * p0 / mat.shear_at(p0);
-      const double ev = ks * std::log(p / p0);
-      path.push_back({eq + ev / 3.0, p, 3.0 * (p - p0), ev});
-    }
+    constexpr int kElastic = 200;  // table points on the elastic part (curved when G depends on p')
+    for (int i = 1; i <= kElastic; ++i) path.push_back(elastic_point(p0 + (p_y - p0) * i / kElastic));
   }
   const double p_cs = drained_critical_p(mat, p0);
+  const double plastic = mat.lambda - mat.kappa;
   auto rates = [&](double p, double& da, double& dv) {
     const double q = 3.0 * (p - p0);
     const double pc = p + q * q / (m2 * p);
     const double dpc = 1.0 + (6.0 * q * p - q * q) / (m2 * p * p);
-    const double dvp = ps * dpc / pc;
-    const double dve = ks / p;
-    const double dqe = 1.0 / mat.shear_at(p);  // dq/(3G) with dq = 3 dp
+    const double e = mat.void_ratio_at(p0, pc0, p, pc);
+    const double dvp = plastic * dpc / ((1.0 + e) * pc);
+    const double dve = mat.kappa / ((1.0 + e) * p);
+    const double dqe = 1.0 / mat.shear_at(p, e);  // dq/(3G) with dq = 3 dp
     const double dqp = dvp * 2.0 * q / (m2 * (2.0 * p - pc));
     dv = dvp + dve;
     da = dqe + dqp + dv / 3.0;

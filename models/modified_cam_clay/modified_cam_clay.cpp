@@ -38,6 +38,20 @@ inline double exp_correction(double t) {
   return std::exp(t);
 }
 
+// phi(d) = (1 - exp(-d))/d and its derivative phi'(d) = (exp(-d) - phi)/d, the chord factor of
+// 1 + e over an increment of natural volumetric strain d (header comment). Below |d| = 1e-3 the
+// derivative from its Taylor series, -1/2 + d/3 - d^2/8 + d^3/30 - d^4/144 (next term 6 d^5/7! <
+// 1.2e-18), where the closed form would lose digits to cancellation.
+inline double chord_factor(double d, double& slope) {
+  if (std::abs(d) < 1e-3) {
+    slope = -0.5 + d * (1.0 / 3.0 + d * (-1.0 / 8.0 + d * (1.0 / 30.0 - d * (1.0 / 144.0))));
+    return 1.0 + d * (-0.5 + d * (1.0 / 6.0 + d * (-1.0 / 24.0 + d * (1.0 / 120.0 - d * (1.0 / 720.0)))));
+  }
+  const double phi = -std::expm1(-d) / d;
+  slope = (std::exp(-d) - phi) / d;
+  return phi;
+}
+
 // 2 G P: deviatoric projection of an engineering strain increment to stress (Voigt).
 Mat6 deviatoric_stiffness(double shear) {
   Mat6 d = Mat6::Zero();
@@ -94,7 +108,8 @@ const ModelInfo& ModifiedCamClay::model_info() {
           {"lambda", "-", kNaN, 0.0, inf, true, true,
            "slope of the normal compression line in e-ln p' (natural log)"},
           {"kappa", "-", kNaN, 0.0, inf, true, true,
-           "slope of unloading-reloading lines in e-ln p'; elastic K = (1 + e0) p'/kappa; kappa < lambda"},
+           "slope of unloading-reloading lines in e-ln p'; elastic K = (1 + e) p'/kappa with the current e; "
+           "kappa < lambda"},
           {"critical_state_ratio", "-", 0.0, 0.0, 3.0, false, true,
            "M = q/p' at critical state in triaxial compression; 0 = from critical_friction_angle"},
           {"critical_friction_angle", "deg", 0.0, 0.0, 90.0, false, true,
@@ -107,8 +122,7 @@ const ModelInfo& ModifiedCamClay::model_info() {
            "0 = M the same in every direction; 1 = M(Lode angle) of Sheng, Sloan & Yu (2000): "
            "6 sin(phi_cs)/(3 + sin(phi_cs)) in extension"},
       },
-      {"reference_void_ratio", "preconsolidation_pressure", "void_ratio", "volumetric_strain",
-       "plastic_volumetric_strain", "plastic_rate", "multiplier_rate"},
+      {"preconsolidation_pressure", "void_ratio", "plastic_rate", "multiplier_rate"},
   };
   return info;
 }
@@ -230,28 +244,34 @@ void ModifiedCamClay::initialise(const InitialConditions& c, MaterialState& stat
   }
   state = MaterialState{};
   state.stress = c.stress;
-  state.internal[reference_void_ratio] = c.void_ratio;
   state.internal[preconsolidation_pressure] = pc;
   state.internal[void_ratio] = c.void_ratio;
-  state.internal[volumetric_strain] = 0.0;
-  state.internal[plastic_volumetric_strain] = 0.0;
 }
 
 IntegrationResult ModifiedCamClay::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
                                              Mat6& tangent) const {
   out = in;
-  const double e0 = in.internal[reference_void_ratio];
+  const double e_n = in.internal[void_ratio];
   const double pc_n = in.internal[preconsolidation_pressure];
   const double p_n = mean_stress(in.stress);
-  if (!(p_n > 0.0) || !(pc_n > 0.0) || !(e0 > 0.0) || !de.allFinite() || !in.stress.allFinite())
+  if (!(p_n > 0.0) || !(pc_n > 0.0) || !(e_n > 0.0) || !de.allFinite() || !in.stress.allFinite())
     return {Status::invalid_input, 0};
 
-  const double kstar = kappa_ / (1.0 + e0);
-  const double a = 1.0 / kstar;                                  // d ln p' / d eps_v^e
-  const double b = (1.0 + e0) / (lambda_ - kappa_);              // d ln p'_c / d eps_v^p
-  const double shear = shear_ > 0.0 ? shear_ : 1.5 * (1.0 - 2.0 * nu_) / (1.0 + nu_) * p_n * a;
-
+  // Exact void ratio over the increment and the chord s of 1 + e (header comment).
   const double dev = de[0] + de[1] + de[2];
+  double phi_slope;
+  const double chord = (1.0 + e_n) * chord_factor(dev, phi_slope);
+  const double chord_slope = (1.0 + e_n) * phi_slope;  // ds/dd
+  const double e_new = e_n - chord * dev;
+  // No pore space left: the parameters and e do not describe this stress range.
+  if (!(e_new > 0.0)) return {Status::invalid_input, 0};
+  const double a = chord / kappa_;             // d ln p' / d eps_v^e
+  const double b = chord / (lambda_ - kappa_); // d ln p'_c / d eps_v^p
+  const double a_slope = chord_slope / kappa_;
+  const double b_slope = chord_slope / (lambda_ - kappa_);
+  const double bulk_n = (1.0 + e_n) * p_n / kappa_;  // tangent K at the start of the increment
+  const double shear = shear_ > 0.0 ? shear_ : 1.5 * (1.0 - 2.0 * nu_) / (1.0 + nu_) * bulk_n;
+
   if (std::abs(a * dev) > kMaxExponent) return {Status::numerical_issue, 0};
   const Vec6 s_n = stress_deviator(in.stress);
   Vec6 s_tr = s_n;
@@ -273,15 +293,12 @@ IntegrationResult ModifiedCamClay::integrate(const MaterialState& in, const Vec6
   const double pc2 = pc_n * pc_n;
   const double f_tr = q_tr2 + m2 * p_tr * (p_tr - pc_n);
 
-  out.internal[volumetric_strain] = in.internal[volumetric_strain] + dev;
-  out.internal[void_ratio] = e0 - (1.0 + e0) * out.internal[volumetric_strain];
-  // No pore space left: the parameters and e0 do not describe this stress range.
-  if (!(out.internal[void_ratio] > 0.0)) return {Status::invalid_input, 0};
+  out.internal[void_ratio] = e_new;
 
   if (f_tr <= kYieldTolerance * pc2) {
     out.internal[plastic_rate] = out.internal[multiplier_rate] = 0.0;
     out.stress = s_tr + p_tr * one;
-    tangent = (a * p_tr) * one * one.transpose() + dev_stiffness;
+    tangent = ((a + a_slope * dev) * p_tr) * one * one.transpose() + dev_stiffness;
     return {Status::ok, 0};
   }
 
@@ -340,26 +357,29 @@ IntegrationResult ModifiedCamClay::integrate(const MaterialState& in, const Vec6
   const Vec6 s = s_tr / d;
   out.stress = s + p * one;
   out.internal[preconsolidation_pressure] = pc;
-  out.internal[plastic_volumetric_strain] = in.internal[plastic_volumetric_strain] + x;
   const double inv_norm = strain_norm > 0.0 ? 1.0 / strain_norm : 0.0;
   out.internal[plastic_rate] = x * inv_norm;
   out.internal[multiplier_rate] = dl * inv_norm;
 
-  // Consistent tangent: differentiate r(x, dl; d eps_v, q_tr, M) = 0 with respect to the strain
-  // increment, d eps_v = m . d eps, d q_tr = (3 G / q_tr) s_tr . d eps, d M = M' grad(sin 3theta) . 2GP d eps.
+  // Consistent tangent: differentiate r(x, dl; d, q_tr, M) = 0 with respect to the strain increment,
+  // d = m . d eps (through the exponent and the chord s(d): d ln p'/dd = a + a'(d - x),
+  // d ln p'_c/dd = b' x), d q_tr = (3 G / q_tr) s_tr . d eps, d M = M' grad(sin 3theta) . 2GP d eps.
   jac(0, 0) = 1.0 + dl * m2 * (2.0 * a * p + b * pc);
   jac(0, 1) = -m2 * (2.0 * p - pc);
   jac(1, 0) = m2 * (-a * p * (2.0 * p - pc) - b * p * pc) / pc2;
   jac(1, 1) = -12.0 * shear * q * q / d / pc2;
   const Eigen::Matrix2d jinv = jac.inverse();
-  const Eigen::Vector2d r_v(-2.0 * dl * m2 * a * p, m2 * a * p * (2.0 * p - pc) / pc2);
+  const double lnp_d = a + a_slope * (dev - x);
+  const double lnpc_d = b_slope * x;
+  const Eigen::Vector2d r_v(-dl * m2 * (2.0 * p * lnp_d - pc * lnpc_d),
+                            m2 * p * (lnp_d * (2.0 * p - pc) - pc * lnpc_d) / pc2);
   const Eigen::Vector2d r_q(0.0, 2.0 * q / d / pc2);
   const Eigen::Vector2d r_m(-2.0 * m * dl * (2.0 * p - pc), 2.0 * m * p * (p - pc) / pc2);
   Eigen::Matrix<double, 2, 6> rhs = r_v * one.transpose();
   if (q_tr > 0.0) rhs += r_q * ((3.0 * shear / q_tr) * s_tr.transpose());
   if (slope != 0.0) rhs += r_m * (slope * grad3.transpose() * dev_stiffness);
   const Eigen::Matrix<double, 2, 6> y = -jinv * rhs;  // rows: dx/d eps, d dl/d eps
-  tangent = (a * p) * one * (one.transpose() - y.row(0)) + dev_stiffness / d -
+  tangent = p * one * (lnp_d * one.transpose() - a * y.row(0)) + dev_stiffness / d -
             (6.0 * shear / (d * d)) * s_tr * y.row(1);
   return {Status::ok, iterations};
 }

@@ -6,21 +6,36 @@
 //   f = q^2 + M(theta)^2 p' (p' - p'_c) = 0,
 // with q = sqrt(3 J2) and p'_c the preconsolidation pressure (isotropic hardening).
 //
-// Volumetric behaviour, chosen so that isotropic loading and unloading lie exactly on straight
-// lines of slope lambda and kappa in e-ln p' with the engineering volumetric strain the driver and
-// a laboratory report, eps_v = dV/V0 = (e0 - e)/(1 + e0):
-//   elastic:  p' = p'_n exp(d eps_v^e / kappa*),      kappa* = kappa / (1 + e0)
-//   plastic:  p'_c = p'_c,n exp(d eps_v^p / (lambda* - kappa*)),  lambda* = lambda / (1 + e0)
-// so the tangent bulk modulus is K = (1 + e0) p' / kappa with e0 the void ratio at the start of the
-// protocol (kept as the state variable `reference_void_ratio`), and e = e0 - (1 + e0) eps_v (state
-// variable `void_ratio`, identical to the driver's). Both laws are integrated exactly over an
-// increment (exponential update), so e-ln p' slopes hold to round-off whatever the increment size.
-// An increment that would bring e to zero or below returns Status::invalid_input (the driver then
-// stops with its failure report): lambda, kappa and e0 do not fit that stress range.
+// Strain measure: the driver's natural (logarithmic) strain increments, eps_v = ln(V0/V), so that
+// d eps_v = dV/V = -de/(1 + e) on the CURRENT void ratio e (state variable `void_ratio`). No
+// quantity of the protocol's start enters the response: the state is (stress, e, p'_c) plus the
+// warm-start rates of the local solve, and the same state answers the same way however reached.
+//
+// Volumetric laws (Wood 1990, "Soil Behaviour and Critical State Soil Mechanics", CUP, ch. 4 and 6):
+// straight lines in e-ln p', de^e = -kappa d ln p' (unloading-reloading) and
+// de^p = -(lambda - kappa) d ln p'_c (normal compression: de = -lambda d ln p' with p' = p'_c),
+// so the tangent bulk modulus is K = (1 + e) p'/kappa. Over one increment with total natural
+// volumetric strain d (known: the increment is strain-driven) the void ratio changes exactly,
+//   e_{n+1} = (1 + e_n) exp(-d) - 1,   de = e_{n+1} - e_n = -s d,
+//   s(d) = (1 + e_n) (1 - exp(-d))/d   (chord of 1 + e over the increment; s -> 1 + e_n as d -> 0),
+// and the elastic and plastic parts of d share that chord, de^e = -s d eps_v^e, de^p = -s d eps_v^p:
+//   p'   = p'_n   exp(a (d - d eps_v^p)),   a = s / kappa,
+//   p'_c = p'_c,n exp(b d eps_v^p),         b = s / (lambda - kappa).
+// On isotropic paths this is the e-ln p' line itself (slope kappa, or lambda where p' = p'_c), to
+// round-off whatever the increment size. An increment that would bring e to zero or below returns
+// Status::invalid_input (the driver then stops with its failure report): lambda, kappa and e do not
+// fit that stress range.
+//
+// Consistent tangent: s depends on d = m . d eps (m = [1 1 1 0 0 0]), s' = ds/dd =
+// (1 + e_n) phi'(d) with phi(d) = (1 - exp(-d))/d, phi' = (exp(-d) - phi)/d (-1/2 at d = 0; a
+// series near zero). So d ln p'/d eps = (a + a'(d - d eps_v^p)) m - a d(d eps_v^p)/d eps and
+// d ln p'_c/d eps = b' d eps_v^p m + b d(d eps_v^p)/d eps, with a' = s'/kappa, b' = s'/(lambda - kappa);
+// these terms enter the right-hand side of the linearised local equations of the return.
 //
 // Shear modulus: either constant (`shear_modulus` > 0) or from Poisson's ratio,
-// G = 3 (1 - 2 nu) K / (2 (1 + nu)), evaluated at p' at the start of the increment (constant over
-// the increment, so the deviatoric return is radial and the local problem stays two-dimensional).
+// G = 3 (1 - 2 nu) K / (2 (1 + nu)) with the current K = (1 + e_n) p'_n / kappa at the start of the
+// increment (constant over the increment, so the deviatoric return is radial and the local problem
+// stays two-dimensional).
 //
 // Integration: implicit (backward Euler) return mapping in p'-q from the elastic trial state, two
 // unknowns (plastic volumetric strain increment, plastic multiplier), Newton with a bounded,
@@ -56,11 +71,8 @@ class ModifiedCamClay final : public Model {
     lode_dependence,
   };
   enum StateVariable {
-    reference_void_ratio,       ///< e0 at the start of the protocol (-)
     preconsolidation_pressure,  ///< p'_c (kPa)
-    void_ratio,                 ///< e = e0 - (1 + e0) eps_v (-)
-    volumetric_strain,          ///< eps_v = dV/V0 since the start (-)
-    plastic_volumetric_strain,  ///< eps_v^p since the start (-)
+    void_ratio,                 ///< current e (-); the driver's (1 + e0) exp(-eps_v) - 1
     plastic_rate,               ///< d eps_v^p of the last plastic step per unit strain-increment norm
     multiplier_rate,            ///< plastic multiplier likewise (both only warm-start the local solve)
   };
