@@ -36,7 +36,11 @@ struct CalibrationFile {
   std::string description;
   std::string series;        ///< test-series path, resolved against the calibration file's folder
   std::string model;         ///< registry name
+  /// Record density: records of a stage whose points do not place them (Stage::steps of the shear
+  /// stages); with fixed_steps, the increments of each shear stage.
   int steps_per_shear_stage = 200;
+  double simulation_tolerance = DriverOptions{}.tolerance;  ///< -> CalibrationProblem::driver.tolerance
+  bool fixed_steps = false;  ///< -> CalibrationProblem::driver.fixed_steps (no error control)
   std::vector<CalibrationTestSpec> tests;
   std::vector<ParameterSpec> parameters;
   std::vector<std::string> constraints;
@@ -48,7 +52,10 @@ TRIAXCAL_CORE_EXPORT CalibrationFile parse_calibration_file(const std::string& t
 TRIAXCAL_CORE_EXPORT CalibrationFile read_calibration_file(const std::string& path);
 
 /// The problem of `file` on `series`: each test is its specimen's protocol (specimen_protocol) and
-/// its measured curves, strains zeroed where the series zeroes them. Throws InputError naming the
+/// its measured curves: one curve per shear stage and quantity, compared on the stage's own strains
+/// with the records of that stage (an oedometer specimen: one curve per quantity, strains from the
+/// protocol start); consolidation rows are not compared. Driver options from simulation_tolerance
+/// and fixed_steps. Throws InputError naming the
 /// calibration file: "<source>: tests[i].specimen: ...", "<source>: parameters.<name>: ...".
 /// Every free parameter needs both bounds here: call seed_from_interpretation first to fill the
 /// ones the file leaves out. A free parameter without "start" starts in the middle of its box

@@ -4,12 +4,13 @@
 // points to. Units are converted once, where the files are read: inside, stresses are kPa, strains
 // decimals (compression positive), lengths mm, forces N, volumes mm^3 (conventions.hpp).
 //
-// Strain zero of a specimen's curves: every point's axial and volumetric strain is measured from
-// the specimen's *data zero*, the state at the start of the first stage that has data points
-// (usually the first shear stage). The reference height and area of the reduction are those at the
-// data zero (see Specimen::reference_height / reference_area). specimen_protocol() starts at the
-// state after saturation, so a comparison subtracts the simulated strain at the start of
-// SpecimenProtocol::data_zero_stage from the simulated strains.
+// Strains of the curves (the lab convention, docs/test-series-format.md "Strains"): every point's
+// axial and volumetric strain is an engineering strain relative to the specimen at the start of the
+// point's own stage (dL / L_stage_start, dV / V_stage_start), whatever the data file's convention
+// (DataFileSpec::strain_origin); the reader converts exactly. The reference height and area of the
+// reduction are those at the *data zero*, the start of the first stage that has data points, and
+// void ratios follow the volume change from there. specimen_protocol() starts at the state after
+// saturation; a shear stage's curves are compared with the simulation from that stage's start.
 
 #include <string>
 #include <utility>
@@ -32,8 +33,9 @@ enum class ConsolidationPath { isotropic, k0, anisotropic };
 enum class ShearType { cu, cd, uu };
 enum class ShearDirection { compression, extension };
 
-/// An axial-strain range (decimal, same zero as the curves) in which a shear stage unloads and
-/// reloads; the axial strain may go backwards only inside a declared loop.
+/// An axial-strain range in which a shear stage unloads and reloads; the axial strain may go
+/// backwards only inside a declared loop. Declared in the data file's strain convention; after
+/// reading, engineering strains relative to the stage's start like the curves.
 struct UnloadReloadLoop {
   double from_strain = kNotGiven;  ///< axial strain where unloading starts
   double to_strain = kNotGiven;    ///< axial strain where the reload has passed the start again
@@ -68,15 +70,15 @@ struct SpecimenStage {
   // which data points belong to the stage
   int data_stage = -1;                 ///< value of the stage column that marks its points, or -1
   double strain_from = kNotGiven;      ///< declared axial-strain range when there is no stage column
-  double strain_to = kNotGiven;
+  double strain_to = kNotGiven;        ///< (the file's own strains, continuous from the data zero)
 };
 
 /// Reduced measured curves of one specimen, one entry a data row (struct of arrays, equal sizes).
 struct ReducedCurves {
   std::vector<int> stage;                     ///< index into Specimen::stages
   std::vector<int> line;                      ///< 1-based line in the data file
-  std::vector<double> axial_strain;           ///< from the data zero (decimal)
-  std::vector<double> volumetric_strain;      ///< from the data zero (decimal; 0 when undrained)
+  std::vector<double> axial_strain;           ///< dL / L at the start of the point's stage (decimal)
+  std::vector<double> volumetric_strain;      ///< dV / V at the start of the point's stage (decimal; constant when undrained)
   std::vector<double> deviator_stress;        ///< q = s_a - s_r (kPa, signed), corrected; NaN in an oedometer
                                               ///< (s_r' is not measured), as are radial_stress, mean_stress, cell_pressure
   std::vector<double> excess_pore_pressure;   ///< u - back pressure (kPa)
@@ -84,9 +86,17 @@ struct ReducedCurves {
   std::vector<double> radial_stress;          ///< s_r' (kPa)
   std::vector<double> mean_stress;            ///< p' (kPa)
   std::vector<double> cell_pressure;          ///< total radial stress (kPa), for total-stress (UU) results
-  std::vector<double> void_ratio;             ///< NaN when the void ratio is not known (oedometer: column or e0 - (1 + e0) e_a)
+  std::vector<double> void_ratio;             ///< NaN when the void ratio is not known (oedometer: column or e0 - (1 + e0) e_a);
+                                              ///< from the volume change since the data zero
 
   std::size_t size() const { return axial_strain.size(); }
+};
+
+/// What the axial_strain and volumetric_strain (or volume_change) columns of a data file are
+/// relative to (key data.strain_origin).
+enum class StrainOrigin {
+  stage_start,  ///< "stage_start" (default): the specimen at the start of each row's own stage (lab convention)
+  data_start,   ///< "data_start": the specimen at the start of the first stage with rows, continuous over later stages
 };
 
 /// How a data file is laid out and what its columns hold (docs/test-series-format.md).
@@ -97,6 +107,9 @@ struct DataFileSpec {
   char decimal = '.';       ///< '.' or ','
   int skip_rows = 0;        ///< lines before the header row
   int skip_after_header = 0;  ///< lines between the header row and the data (e.g. a units row)
+  /// Reduced data: what the strain columns are relative to. Raw readings are continuous by nature
+  /// (data_start, the key is an error there).
+  StrainOrigin strain_origin = StrainOrigin::stage_start;
   struct Column {
     std::string quantity;   ///< our quantity key, e.g. "axial_strain", "axial_load"
     std::string header;     ///< the column's name in the header row
@@ -173,9 +186,17 @@ struct SeriesCheck {
 TRIAXCAL_CORE_EXPORT SeriesCheck check_test_series(const std::string& path);
 
 /// The simulation protocol of a specimen's history (initial state, consolidation, shear stages, unload-reload
-/// loops, multi-stage sequences) so that a model can be run on it and compared at the measured points.
-/// Shear stages run to the axial strain their data reach (steps_per_shear_stage increments each,
-/// shared between the segments around unload-reload loops); the protocol starts after saturation.
+/// loops, multi-stage sequences) so that a model can be run on it and compared at the measured points;
+/// the protocol starts after saturation (docs/test-series-format.md "Simulation protocol of a specimen").
+/// - Each shear stage runs from its start to the stage strain of its last row (Stage::axial_strain,
+///   engineering), split into shear / unload_reload / shear around each declared loop.
+/// - Multi-stage: the last consolidation before each later shear stage (stage 2, 3, ...) is a drained
+///   anisotropic reconsolidation from wherever the simulation of the stage before ended to the
+///   effective stresses s_a', s_r' measured in that shear stage's first row (its declared target when
+///   the row has no effective stresses); the first shear stage follows the declared consolidation.
+/// - steps_per_shear_stage: increments of each shear stage (shared between the segments around loops)
+///   with DriverOptions::fixed_steps, else the record density where no measured points place the
+///   records (Stage::record_at).
 TRIAXCAL_CORE_EXPORT TestProtocol specimen_protocol(const Specimen& specimen, int steps_per_shear_stage /* e.g. 300 */);
 
 /// An oedometer specimen gives one drained oedometer stage per loading / unloading branch of its
@@ -186,7 +207,18 @@ TRIAXCAL_CORE_EXPORT TestProtocol specimen_protocol(const Specimen& specimen, in
 struct SpecimenProtocol {
   TestProtocol protocol;
   std::vector<int> origin;   ///< for each protocol stage, the index of the specimen stage it comes from
-  int data_zero_stage = -1;  ///< protocol stage at whose start the curves' strains are zero
+  int data_zero_stage = -1;  ///< protocol stage at whose start the first specimen stage with rows begins
+
+  /// First and last protocol stage made from specimen stage `specimen_stage` ({0, -1} when none).
+  std::pair<int, int> stages_of(int specimen_stage) const {
+    int first = -1, last = -1;
+    for (std::size_t k = 0; k < origin.size(); ++k)
+      if (origin[k] == specimen_stage) {
+        if (first < 0) first = static_cast<int>(k);
+        last = static_cast<int>(k);
+      }
+    return first < 0 ? std::pair<int, int>{0, -1} : std::pair<int, int>{first, last};
+  }
 };
 TRIAXCAL_CORE_EXPORT SpecimenProtocol specimen_protocol_with_map(const Specimen& specimen, int steps_per_shear_stage);
 

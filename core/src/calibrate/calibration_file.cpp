@@ -131,8 +131,8 @@ CalibrationFile parse_calibration_file(const std::string& text, const std::strin
   const json root = detail::parse_json(text, source);
   detail::check_format(root, kCalibrationFormat, kCalibrationVersion, source);
   detail::check_keys(root,
-                     {"format", "version", "description", "series", "model", "steps_per_shear_stage", "tests",
-                      "parameters", "constraints", "options"},
+                     {"format", "version", "description", "series", "model", "steps_per_shear_stage", "simulation_tolerance",
+                      "fixed_steps", "tests", "parameters", "constraints", "options"},
                      source, "");
   CalibrationFile f;
   f.source = source;
@@ -145,6 +145,16 @@ CalibrationFile parse_calibration_file(const std::string& text, const std::strin
   if (f.steps_per_shear_stage < 2 || f.steps_per_shear_stage > 100000)
     throw InputError(source + ": steps_per_shear_stage: must be in [2, 100000], found " +
                      std::to_string(f.steps_per_shear_stage));
+  f.simulation_tolerance = detail::get_number_or(root, "simulation_tolerance", f.simulation_tolerance, source, "");
+  // The driver's range (DriverOptions::validate), named by this file's key.
+  if (!(f.simulation_tolerance >= 1e-10 && f.simulation_tolerance <= 0.1))
+    throw InputError(source + ": simulation_tolerance: must be in [1e-10, 0.1] (the local relative error of the simulation), found " +
+                     root.at("simulation_tolerance").dump());
+  if (root.contains("fixed_steps")) {
+    if (!root.at("fixed_steps").is_boolean())
+      throw InputError(source + ": fixed_steps: expected true or false, found " + root.at("fixed_steps").dump());
+    f.fixed_steps = root.at("fixed_steps").get<bool>();
+  }
 
   if (!root.contains("tests")) throw InputError(source + ": tests: missing (a list of the specimens to fit is required)");
   const json& tests = root.at("tests");
@@ -223,6 +233,34 @@ const std::vector<double>* column(const ReducedCurves& c, Quantity q) {
   }
 }
 
+/// Which rows of a specimen one measured curve holds and which records it is compared with.
+struct StageWindow {
+  int specimen_stage = -1;  ///< rows of this specimen stage; -1 = every row
+  int zero_stage = -1;      ///< MeasuredCurve::strain_zero_stage
+  int stage = -1;           ///< MeasuredCurve::stage
+};
+
+/// A triaxial specimen: one window per shear stage, compared on its own strains (from the stage's
+/// start) with the records of its own protocol stage. A stage split around unload-reload loops spans
+/// several protocol stages: it is compared with the records from its start to the protocol's end,
+/// which only the specimen's last stage can be. Consolidation rows are not compared. An oedometer
+/// specimen: every row, strains from the protocol start.
+std::vector<StageWindow> compared_stages(const Specimen& specimen, const SpecimenProtocol& sp, const std::string& where) {
+  if (specimen.is_oedometer()) return {StageWindow{-1, sp.data_zero_stage, -1}};
+  std::vector<StageWindow> out;
+  const int protocol_last = static_cast<int>(sp.protocol.stages.size()) - 1;
+  for (const int k : specimen.shear_stages()) {
+    const auto [first, last] = sp.stages_of(k);
+    if (first > last) continue;
+    if (first != last && last != protocol_last)
+      throw InputError(where + ": specimen '" + specimen.id + "', stages[" + std::to_string(k) +
+                       "]: a shear stage with unload-reload loops that is followed by another stage cannot be compared yet (its "
+                       "curves would span several protocol stages; only the last stage of a specimen may have loops in a fit)");
+    out.push_back({k, first, first == last ? first : -1});
+  }
+  return out;
+}
+
 }  // namespace
 
 CalibrationProblem build_calibration_problem(const CalibrationFile& file, const TestSeries& series, const ModelInfo& model,
@@ -233,6 +271,8 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
   p.create = std::move(create);
   p.parameters = file.parameters;
   p.constraints = file.constraints;
+  p.driver.tolerance = file.simulation_tolerance;
+  p.driver.fixed_steps = file.fixed_steps;
   for (std::size_t i = 0; i < file.tests.size(); ++i) {
     const CalibrationTestSpec& spec = file.tests[i];
     const std::string path = "tests[" + std::to_string(i) + "]";
@@ -255,28 +295,37 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
       throw InputError(src + ": " + path + ": " + e.what());
     }
     test.protocol = sp.protocol;
+    const std::vector<StageWindow> windows = compared_stages(*specimen, sp, src + ": " + path);
     for (std::size_t c = 0; c < spec.curves.size(); ++c) {
       const CalibrationCurveSpec& cs = spec.curves[c];
       const std::vector<double>* ys = column(specimen->curves, cs.y);
       if (ys == nullptr || ys->size() != specimen->curves.size())
         throw InputError(src + ": " + path + ".curves[" + std::to_string(c) + "]: specimen '" + specimen->id + "' has no " +
                          to_string(cs.y) + " data");
-      MeasuredCurve m;
-      m.x = Quantity::axial_strain;
-      m.y = cs.y;
-      m.weight = cs.weight;
-      m.strain_zero_stage = sp.data_zero_stage;
-      m.x_min = spec.strain_min;
-      m.x_max = spec.strain_max;
-      // Points with a value missing (e.g. void ratio unknown) are not compared.
-      for (std::size_t k = 0; k < ys->size(); ++k) {
-        const double x = specimen->curves.axial_strain[k], y = (*ys)[k];
-        if (std::isfinite(x) && std::isfinite(y)) {
-          m.xs.push_back(x);
-          m.ys.push_back(y);
+      const std::size_t before = test.curves.size();
+      for (const StageWindow& w : windows) {
+        MeasuredCurve m;
+        m.x = Quantity::axial_strain;
+        m.y = cs.y;
+        m.weight = cs.weight;
+        m.strain_zero_stage = w.zero_stage;
+        m.stage = w.stage;
+        m.x_min = spec.strain_min;
+        m.x_max = spec.strain_max;
+        // Points with a value missing (e.g. void ratio unknown) are not compared.
+        for (std::size_t k = 0; k < ys->size(); ++k) {
+          if (w.specimen_stage >= 0 && specimen->curves.stage[k] != w.specimen_stage) continue;
+          const double x = specimen->curves.axial_strain[k], y = (*ys)[k];
+          if (std::isfinite(x) && std::isfinite(y)) {
+            m.xs.push_back(x);
+            m.ys.push_back(y);
+          }
         }
+        if (!m.xs.empty()) test.curves.push_back(std::move(m));
       }
-      test.curves.push_back(std::move(m));
+      if (test.curves.size() == before)
+        throw InputError(src + ": " + path + ".curves[" + std::to_string(c) + "]: specimen '" + specimen->id + "' has no " +
+                         to_string(cs.y) + " values (every one is unknown)");
     }
     p.tests.push_back(std::move(test));
   }

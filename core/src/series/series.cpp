@@ -66,6 +66,9 @@ bool given(double v) { return !std::isnan(v); }
 constexpr int kMinPoints = 5;
 /// Axial-strain decrease tolerated as rounding in a file (decimal strain).
 constexpr double kStrainRoundOff = 1e-6;
+/// Largest axial strain at the first row of a later stage when strains are relative to each
+/// stage's start: seating and the first reading stay well below 0.5 % (common practice, no source).
+constexpr double kStageStartStrain = 0.005;
 /// Disagreement between the file's and the declared consolidation stress that is reported:
 /// 5 % with a 2 kPa floor (common practice for cell-pressure control, no source).
 constexpr double kConsolidationRel = 0.05;
@@ -224,7 +227,8 @@ constexpr QuantityDef kQuantities[] = {
 };
 
 DataFileSpec parse_data(const json& d, const std::string& src, const std::string& path, const std::filesystem::path& folder) {
-  detail::check_keys(d, {"file", "kind", "delimiter", "decimal", "skip_rows", "skip_after_header", "columns", "membrane"},
+  detail::check_keys(d, {"file", "kind", "delimiter", "decimal", "skip_rows", "skip_after_header", "strain_origin", "columns",
+                         "membrane"},
                      src, path);
   DataFileSpec spec;
   const std::string file = detail::get_string(d, "file", src, path);
@@ -249,6 +253,19 @@ DataFileSpec parse_data(const json& d, const std::string& src, const std::string
   if (spec.decimal == ',' && spec.delimiter == ',')
     throw InputError(detail::where(src, path + ".delimiter") +
                      ": \"comma\" cannot be the delimiter when the decimal separator is a comma (use \"semicolon\" or \"tab\")");
+  if (d.contains("strain_origin")) {
+    const std::string origin = detail::get_string(d, "strain_origin", src, path);
+    if (origin == "stage_start") spec.strain_origin = StrainOrigin::stage_start;
+    else if (origin == "data_start") spec.strain_origin = StrainOrigin::data_start;
+    else
+      throw InputError(detail::where(src, path + ".strain_origin") + ": expected \"stage_start\" (strains relative to the start of each " +
+                       "row's stage) or \"data_start\" (continuous from the start of the first stage with rows), found \"" + origin + "\"");
+    if (spec.raw)
+      throw InputError(detail::where(src, path + ".strain_origin") +
+                       ": only for reduced data (raw readings are continuous; strains are computed from the first row)");
+  } else if (spec.raw) {
+    spec.strain_origin = StrainOrigin::data_start;
+  }
   spec.skip_rows = detail::get_int_or(d, "skip_rows", 0, src, path);
   spec.skip_after_header = detail::get_int_or(d, "skip_after_header", 0, src, path);
   if (spec.skip_rows < 0)
@@ -533,6 +550,12 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
     if (any_cd) need(has("volumetric_strain") || has("volume_change"), "a CD test needs a volumetric_strain or volume_change column");
   }
   (void)any_uu;
+  const bool continuous = spec.strain_origin == StrainOrigin::data_start;  // raw data are continuous too
+  if (s.shear_stages().size() > 1 && !has("stage") && !continuous)
+    throw InputError(series_src + ": " + sp +
+                     ".data: several shear stages and no stage column: rows are assigned to stages by their continuous "
+                     "axial strain, so declare \"strain_origin\": \"data_start\" (and each shear stage's strain_range), or add "
+                     "a stage column");
   if (s.shear_stages().size() > 1 && !has("stage")) {
     for (int k : s.shear_stages())
       if (!given(s.stages[static_cast<std::size_t>(k)].strain_from))
@@ -547,7 +570,8 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
     const auto it = col.find(q);
     return it == col.end() ? nullptr : &t.values[static_cast<std::size_t>(it->second)];
   };
-  // Stage of each row.
+  // Stage of each row; the rows of a stage are together and the stages in their declared order, so
+  // a stage's first row is its start.
   std::vector<int> stage(n, -1);
   if (const auto* sc = column("stage")) {
     for (std::size_t i = 0; i < n; ++i) {
@@ -561,6 +585,10 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
         throw InputError(src + ": line " + std::to_string(t.line[i]) + " (stage): stage " + fmt(v) +
                          " matches no declared stage (data_stage values: " + list + ")");
       }
+      if (i > 0 && stage[i] < stage[i - 1])
+        throw InputError(src + ": line " + std::to_string(t.line[i]) + " (stage): stage " + fmt(v) + " after rows of stage " +
+                         std::to_string(s.stages[static_cast<std::size_t>(stage[i - 1])].data_stage) +
+                         " (the rows of each stage must be together, the stages in the order of " + sp + ".stages)");
     }
   }
   // Reference dimensions at the data zero.
@@ -569,8 +597,8 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
   s.reference_area = a0;
   s.reference_void_ratio = s.void_ratio;
   if (n == 0) throw InputError(src + ": no data rows after the header (at least " + std::to_string(kMinPoints) + " are needed)");
-  // Axial strain first (needed to assign stages by strain range).
-  std::vector<double> ea(n), ev(n, 0.0);
+  // Axial strain first (needed to assign stages by strain range), as the file gives it.
+  std::vector<double> ea_file(n);
   int first_stage = stage[0];
   if (first_stage < 0) {
     // Without a stage column the data start with the first shear stage.
@@ -607,9 +635,9 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
   const double v_ref = s.reference_height * s.reference_area;
   if (spec.raw) {
     const auto& d = *column("axial_displacement");
-    for (std::size_t i = 0; i < n; ++i) ea[i] = axial_strain_from_displacement(d[i], d[0], s.reference_height);
+    for (std::size_t i = 0; i < n; ++i) ea_file[i] = axial_strain_from_displacement(d[i], d[0], s.reference_height);
   } else {
-    ea = *column("axial_strain");
+    ea_file = *column("axial_strain");
   }
   if (!column("stage")) {
     const std::vector<int> shear = s.shear_stages();
@@ -619,13 +647,13 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
       std::size_t cur = 0;
       const double tol = kStrainRoundOff;
       for (std::size_t i = 0; i < n; ++i) {
-        while (cur + 1 < shear.size() && ea[i] > s.stages[static_cast<std::size_t>(shear[cur])].strain_to + tol) ++cur;
+        while (cur + 1 < shear.size() && ea_file[i] > s.stages[static_cast<std::size_t>(shear[cur])].strain_to + tol) ++cur;
         const SpecimenStage& st = s.stages[static_cast<std::size_t>(shear[cur])];
-        if (ea[i] > st.strain_to + tol || ea[i] < st.strain_from - tol) {
+        if (ea_file[i] > st.strain_to + tol || ea_file[i] < st.strain_from - tol) {
           bool in_loop = false;
-          for (const auto& l : st.loops) in_loop = in_loop || (ea[i] >= l.from_strain - tol && ea[i] <= l.to_strain + tol);
+          for (const auto& l : st.loops) in_loop = in_loop || (ea_file[i] >= l.from_strain - tol && ea_file[i] <= l.to_strain + tol);
           if (!in_loop)
-            throw InputError(src + ": line " + std::to_string(t.line[i]) + " (axial_strain): " + fmt(ea[i]) +
+            throw InputError(src + ": line " + std::to_string(t.line[i]) + " (axial_strain): " + fmt(ea_file[i]) +
                              " is outside every declared strain_range (stages[" + std::to_string(shear[cur]) + "] has [" +
                              fmt(st.strain_from) + ", " + fmt(st.strain_to) + "])");
         }
@@ -634,19 +662,88 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
     }
   }
   s.data_zero_stage = stage[0];
-  // Volumetric strain: from the gauge or the column where given, held constant in undrained stages.
+  // A stage after the first with rows starts near zero strain when the strains are relative to each
+  // stage's start; a larger start means the file's strains run on.
+  if (!continuous)
+    for (std::size_t i = 1; i < n; ++i)
+      if (stage[i] != stage[i - 1] && std::abs(ea_file[i]) > kStageStartStrain)
+        throw InputError(src + ": line " + std::to_string(t.line[i]) + " (axial_strain): stages[" + std::to_string(stage[i]) +
+                         "] starts at axial strain " + fmt(ea_file[i]) + ", but with strains relative to each stage's start (" + sp +
+                         ".data.strain_origin \"stage_start\", the default) a stage starts within " + fmt(kStageStartStrain) +
+                         " of zero; if the file's strains run on from the first stage with rows, declare \"strain_origin\": "
+                         "\"data_start\"");
+
+  // Strains of each row relative to the start of its stage (ea, ev: the lab convention, stored) and
+  // the volumetric strain relative to the data zero (ev_c: area correction and void ratio).
+  // Continuous files (data_start, raw): the first row of each later stage is its start, and a strain
+  // eps from the data zero becomes (eps - eps_k0) / (1 - eps_k0) relative to the stage start k0
+  // (dL / L_k0 with L_k0 = L_ref (1 - eps_k0); the same for volumes). Files relative to each stage's
+  // start: the stage starts where the previous one with rows ended (its last row), unless a
+  // consolidation without rows lies between them; then the volume since the data zero is unknown.
   const std::vector<double>* vcol = spec.raw ? column("volume_gauge") : (column("volumetric_strain") ? column("volumetric_strain") : column("volume_change"));
   const bool vol_is_strain = !spec.raw && column("volumetric_strain");
-  for (std::size_t i = 0; i < n; ++i) {
-    const SpecimenStage& st = s.stages[static_cast<std::size_t>(stage[i])];
-    if (!vcol) {
-      ev[i] = 0.0;
-    } else if (!drained_stage(st) && i > 0 && stage[i - 1] == stage[i]) {
-      ev[i] = ev[i - 1];
-    } else {
-      ev[i] = vol_is_strain ? (*vcol)[i] : ((*vcol)[i] - (*vcol)[0]) / v_ref;
+  std::vector<double> ea(n), ev(n, 0.0), ev_c(n, 0.0);
+  std::vector<char> volume_known(n, 1);
+  {
+    double ea0 = 0.0, ev0 = 0.0;  // continuous strains at the start of the row's stage
+    bool chain = true;            // (stage_start files) the volume since the data zero is known
+    for (std::size_t i = 0; i < n; ++i) {
+      const int k = stage[i];
+      const SpecimenStage& st = s.stages[static_cast<std::size_t>(k)];
+      const bool first_row = i == 0 || stage[i - 1] != k;
+      const bool hold = !drained_stage(st) && !first_row;  // undrained: no volume change within the stage
+      bool rows_between = false;  // a consolidation without rows between this stage and the previous rows
+      if (first_row && i > 0)
+        for (int j = stage[i - 1] + 1; j < k; ++j)
+          rows_between = rows_between || s.stages[static_cast<std::size_t>(j)].type == SpecimenStageType::consolidation;
+      if (continuous) {
+        if (!vcol) ev_c[i] = 0.0;
+        else if (hold) ev_c[i] = ev_c[i - 1];
+        else ev_c[i] = vol_is_strain ? (*vcol)[i] : ((*vcol)[i] - (*vcol)[0]) / v_ref;
+        if (first_row && i > 0) {
+          ea0 = ea_file[i];
+          ev0 = ev_c[i];
+        }
+        ea[i] = (ea_file[i] - ea0) / (1.0 - ea0);
+        ev[i] = (ev_c[i] - ev0) / (1.0 - ev0);
+        // Without a volume column the volume change of a consolidation without rows is not seen.
+        if (rows_between && !vcol) chain = false;
+      } else {
+        if (first_row && i > 0) {
+          ev0 = ev_c[i - 1];
+          chain = chain && !rows_between;
+        }
+        ea[i] = ea_file[i];
+        if (!vcol) {
+          ev[i] = 0.0;
+        } else if (hold) {
+          ev[i] = ev[i - 1];
+        } else if (vol_is_strain) {
+          ev[i] = (*vcol)[i];
+        } else {
+          // volume_change since the stage start over the volume at the stage start.
+          if (!chain)
+            throw InputError(src + ": line " + std::to_string(t.line[i]) + " (volume_change): the volume at the start of stages[" +
+                             std::to_string(k) + "] is unknown (a consolidation without rows comes before it and the " +
+                             "volume changes are relative to each stage's start); give a volumetric_strain column or " +
+                             "continuous volume changes with \"strain_origin\": \"data_start\"");
+          ev[i] = (*vcol)[i] / (v_ref * (1.0 - ev0));
+        }
+        ev_c[i] = 1.0 - (1.0 - ev0) * (1.0 - ev[i]);
+      }
+      volume_known[i] = chain ? 1 : 0;
     }
   }
+  // Loops declared in a continuous file's strains become stage strains like the curves.
+  if (continuous)
+    for (std::size_t i = 1; i < n; ++i) {
+      if (stage[i] == stage[i - 1]) continue;
+      const double e0 = ea_file[i];
+      for (UnloadReloadLoop& l : s.stages[static_cast<std::size_t>(stage[i])].loops) {
+        l.from_strain = (l.from_strain - e0) / (1.0 - e0);
+        l.to_strain = (l.to_strain - e0) / (1.0 - e0);
+      }
+    }
   ReducedCurves& c = s.curves;
   c = ReducedCurves{};
   const bool membrane = given(spec.membrane_modulus) && given(spec.membrane_thickness);
@@ -657,10 +754,11 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
     const std::string at = src + ": line " + std::to_string(t.line[i]);
     double q = 0.0;
     if (spec.raw) {
-      const double area = corrected_area(s.reference_area, ev[i], ea[i]);
-      if (!(area > 0.0)) throw InputError(at + ": the corrected area is not positive (axial strain " + fmt(ea[i]) + ")");
+      // Area and membrane on the strains since the data zero (raw readings are continuous).
+      const double area = corrected_area(s.reference_area, ev_c[i], ea_file[i]);
+      if (!(area > 0.0)) throw InputError(at + ": the corrected area is not positive (axial strain " + fmt(ea_file[i]) + ")");
       q = deviator_from_load((*column("axial_load"))[i], area);
-      if (membrane) q -= membrane_correction(spec.membrane_modulus, spec.membrane_thickness, ea[i], d_ref);
+      if (membrane) q -= membrane_correction(spec.membrane_modulus, spec.membrane_thickness, ea_file[i], d_ref);
     } else {
       q = (*column("deviator_stress"))[i];
     }
@@ -693,14 +791,7 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
     c.axial_stress.push_back(sa);
     c.mean_stress.push_back(given(sr) ? sr + q / 3.0 : kNotGiven);
     c.cell_pressure.push_back(cell);
-    // A consolidation between the data zero and this stage with no rows in the file and no volume
-    // column leaves the volume change unknown.
-    bool volume_known = true;
-    for (int j = s.data_zero_stage + 1; j < k; ++j)
-      if (s.stages[static_cast<std::size_t>(j)].type == SpecimenStageType::consolidation && !vcol &&
-          std::find(stage.begin(), stage.end(), j) == stage.end())
-        volume_known = false;
-    c.void_ratio.push_back(given(s.reference_void_ratio) && volume_known ? void_ratio_after(s.reference_void_ratio, ev[i]) : kNotGiven);
+    c.void_ratio.push_back(given(s.reference_void_ratio) && volume_known[i] ? void_ratio_after(s.reference_void_ratio, ev_c[i]) : kNotGiven);
   }
   // Per-stage checks.
   for (std::size_t k = 0; k < s.stages.size(); ++k) {

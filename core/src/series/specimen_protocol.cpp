@@ -2,6 +2,7 @@
 #include <cmath>
 #include <limits>
 
+#include "triaxcal/conventions.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/series.hpp"
 
@@ -16,6 +17,40 @@ bool given(double v) { return !std::isnan(v); }
 constexpr double kAssumedInitialStress = 10.0;
 constexpr int kConsolidationSteps = 50;
 constexpr int kMinSegmentSteps = 5;
+
+/// The effective stresses measured at the start of a later shear stage of a multi-stage specimen.
+struct MeasuredStart {
+  bool found = false;
+  int stage = -1;  ///< the shear stage (specimen index)
+  double axial = kNotGiven, radial = kNotGiven;
+};
+
+/// For consolidation stage `k`: when a shear stage comes before it and it is the last consolidation
+/// before the next shear stage, that shear stage's first row, if it has both effective stresses
+/// (positive). A multi-stage specimen's reconsolidation then ends on the measured state; the first
+/// shear stage keeps its declared consolidation (the stress history the lab applied).
+MeasuredStart measured_start_after(const Specimen& s, int k) {
+  MeasuredStart m;
+  bool sheared_before = false;
+  for (int j = 0; j < k; ++j) sheared_before = sheared_before || s.stages[static_cast<std::size_t>(j)].type == SpecimenStageType::shear;
+  if (!sheared_before) return m;
+  for (std::size_t j = static_cast<std::size_t>(k) + 1; j < s.stages.size(); ++j) {
+    const SpecimenStage& st = s.stages[j];
+    if (st.type == SpecimenStageType::consolidation) return m;  // not the last one before the shear
+    if (st.type != SpecimenStageType::shear) continue;
+    const auto [first, last] = s.stage_points(static_cast<int>(j));
+    if (first > last) return m;
+    const double sa = s.curves.axial_stress[static_cast<std::size_t>(first)];
+    const double sr = s.curves.radial_stress[static_cast<std::size_t>(first)];
+    if (!(given(sa) && given(sr) && sa > 0.0 && sr > 0.0)) return m;
+    m.found = true;
+    m.stage = static_cast<int>(j);
+    m.axial = sa;
+    m.radial = sr;
+    return m;
+  }
+  return m;
+}
 
 }  // namespace
 
@@ -81,6 +116,16 @@ SpecimenProtocol specimen_protocol_with_map(const Specimen& s, int steps_per_she
       c.label = label;
       c.steps = kConsolidationSteps;
       c.drainage = Drainage::drained;
+      if (const MeasuredStart m = measured_start_after(s, static_cast<int>(k)); m.found) {
+        // Reconsolidation of a multi-stage specimen: to the state measured at the next stage's start.
+        c.type = StageType::anisotropic_consolidation;
+        c.target_axial = m.axial;
+        c.target_radial = m.radial;
+        c.label += " (to the measured start of stages[" + std::to_string(m.stage) + "])";
+        p.stages.push_back(c);
+        out.origin.push_back(origin);
+        continue;
+      }
       switch (st.path) {
         case ConsolidationPath::isotropic:
           c.type = StageType::isotropic_consolidation;
@@ -100,22 +145,24 @@ SpecimenProtocol specimen_protocol_with_map(const Specimen& s, int steps_per_she
       out.origin.push_back(origin);
       continue;
     }
-    // Shear: run to the axial strain the data reach, with the declared loops in between.
+    // Shear: from the stage start to the stage strain of its last row (engineering, relative to the
+    // stage start like the curves), split around the declared loops. A segment after a loop starts
+    // where the reload is taken to return, the loop's top strain E_a, and runs to E_b:
+    // (E_b - E_a) / (1 - E_a) relative to its own start (exact for the natural strains the driver adds).
     const auto [first, last] = s.stage_points(origin);
     if (first > last)
       throw InputError("specimen '" + s.id + "', stages[" + std::to_string(k) + "]: no data points, so the strain to shear to is unknown");
     const auto& ea = s.curves.axial_strain;
     const auto& q = s.curves.deviator_stress;
-    const double start = ea[static_cast<std::size_t>(first)];
     const double end = ea[static_cast<std::size_t>(last)];
     const double dir = st.direction == ShearDirection::compression ? 1.0 : -1.0;
     const Drainage drainage = st.shear == ShearType::cd ? Drainage::drained : Drainage::undrained;
     struct Segment {
-      double strain;           // increment (signed)
+      double from, to;            // stage strains (engineering, signed)
       double loop_q = kNotGiven;  // when an unload-reload loop follows
     };
     std::vector<Segment> segments;
-    double at = start;
+    double at = 0.0;
     std::vector<UnloadReloadLoop> loops = st.loops;
     std::sort(loops.begin(), loops.end(), [](const auto& a, const auto& b) { return a.from_strain < b.from_strain; });
     if (dir < 0) std::reverse(loops.begin(), loops.end());
@@ -134,20 +181,21 @@ SpecimenProtocol specimen_protocol_with_map(const Specimen& s, int steps_per_she
         if (inside(i)) bottom = std::min(bottom, dir * q[static_cast<std::size_t>(i)]);
       if (top < 0 || bottom == std::numeric_limits<double>::infinity()) continue;
       const double top_strain = ea[static_cast<std::size_t>(top)];
-      segments.push_back({top_strain - at, dir * bottom});
+      segments.push_back({at, top_strain, dir * bottom});
       at = top_strain;
     }
-    segments.push_back({end - at, kNotGiven});
+    segments.push_back({at, end, kNotGiven});
     double total = 0.0;
-    for (const Segment& g : segments) total += std::abs(g.strain);
+    for (const Segment& g : segments) total += std::abs(natural_strain(g.to) - natural_strain(g.from));
     for (const Segment& g : segments) {
-      if (std::abs(g.strain) > 1e-9) {
+      const double span = natural_strain(g.to) - natural_strain(g.from);
+      if (std::abs(span) > 1e-9) {
         Stage sh;
         sh.type = StageType::shear;
         sh.label = label;
         sh.drainage = drainage;
-        sh.axial_strain = g.strain;
-        const double share = total > 0.0 ? std::abs(g.strain) / total : 1.0;
+        sh.axial_strain = (g.to - g.from) / (1.0 - g.from);
+        const double share = total > 0.0 ? std::abs(span) / total : 1.0;
         sh.steps = std::max(kMinSegmentSteps, static_cast<int>(std::lround(share * steps_per_shear_stage)));
         p.stages.push_back(sh);
         out.origin.push_back(origin);
