@@ -17,7 +17,8 @@ enum ExitCode : int {
   exit_internal = 1,        ///< a bug: please report
   exit_bad_input = 2,       ///< a file, key or option is wrong; the message names it
   exit_simulation_failed = 3,  ///< a simulation could not be completed
-  exit_nothing_usable = 4,  ///< an optimiser found nothing usable
+  exit_nothing_usable = 4,  ///< an optimiser found nothing usable (outcome failed)
+  exit_not_converged = 5,   ///< fit --require-converged: the outcome was stopped or poor_fit (files written)
 };
 
 /// The caution every summary carries.

@@ -35,6 +35,7 @@ struct FitOptions {
   int threads = -1;
   long long seed = -1;
   bool report = false;
+  bool require_converged = false;
 };
 
 std::atomic<bool> g_interrupted{false};
@@ -147,7 +148,7 @@ int run(const FitOptions& o) {
   }
   if (!summary.usable()) {
     std::signal(SIGINT, previous);
-    std::fprintf(stderr, "triaxcal: fit: %s (report input: %s)\n", summary.message.c_str(),
+    std::fprintf(stderr, "triaxcal: fit: %s (report input: %s)\n", summary.outcome_line().c_str(),
                  report_input.string().c_str());
     return exit_nothing_usable;
   }
@@ -161,9 +162,9 @@ int run(const FitOptions& o) {
   if (o.report) write_file_atomically(dir / (stem + ".report.txt"), summary.full() + "\n" + kCaution + "\n");
   std::signal(SIGINT, previous);
 
-  if (summary.termination != CalibrationTermination::converged)
-    std::printf("\nnot converged: %s\n", summary.message.c_str());
-  std::printf("\nparameter set: %s\ncurves:        %s\narchive:       %s\n", params.string().c_str(),
+  const bool converged = summary.outcome == CalibrationOutcome::converged;
+  std::printf("\noutcome:       %s\n", summary.outcome_line().c_str());
+  std::printf("parameter set: %s\ncurves:        %s\narchive:       %s\n", params.string().c_str(),
               curves.string().c_str(), archive.string().c_str());
   std::printf("report input:  %s\n", report_input.string().c_str());
   if (o.report)
@@ -172,6 +173,12 @@ int run(const FitOptions& o) {
   std::printf("use it with:   triaxcal simulate --model %s --params %s --protocol ...\n", file.model.c_str(),
               params.string().c_str());
   std::printf("\n%s\n", kCaution);
+  if (!converged) {
+    // Stopped and poor fit still write every file; the warning says which and why.
+    std::fflush(stdout);
+    std::fprintf(stderr, "triaxcal: warning: fit: %s\n", summary.outcome_line().c_str());
+    if (o.require_converged) return exit_not_converged;
+  }
   return exit_ok;
 }
 
@@ -190,6 +197,15 @@ void add_fit_command(CLI::App& app, Action& action) {
       ->check(CLI::Range(0LL, 4294967295LL));
   cmd->add_flag("--report", o->report,
                 "Print the full summary and write the HTML report (<name>.report.html) and a text summary beside the results");
+  cmd->add_flag("--require-converged", o->require_converged,
+                "Exit 5 (files still written) when the outcome is stopped or poor_fit instead of 0");
+  cmd->footer(
+      "Outcome (printed as \"outcome: ...\", in the files as fit.outcome): converged; stopped (a budget, the time "
+      "limit or Ctrl-C ended it: the line names the option to raise); poor_fit (a used curve has R^2 below "
+      "options.min_r_squared, default 0.9: the line names it); failed (no usable parameter set).\n"
+      "Exit codes: 0 converged, and also stopped or poor_fit (files written, a warning line on stderr; "
+      "--require-converged makes these 5); 2 bad input; 4 failed "
+      "(only the report input is written); 1 internal error.");
   cmd->callback([&action, o] { action = [o] { return run(*o); }; });
 }
 

@@ -27,8 +27,8 @@ int run(const ReportOptions& o) {
   if (!o.title.empty()) data.title = o.title;
   const fs::path out = o.out.empty() ? fs::path(o.dir) / (stem + ".report.html") : fs::path(o.out);
   write_file_atomically(out, report::render_report(data));
-  std::printf("outcome: %s%s%s\n", report::to_string(data.outcome).c_str(), data.message.empty() ? "" : ": ",
-              data.message.c_str());
+  std::printf("outcome: %s%s%s\n", to_string(data.outcome).c_str(), data.outcome_reason.empty() ? "" : ": ",
+              data.outcome_reason.c_str());
   std::printf("report:  %s\n", out.string().c_str());
   std::printf("\n%s\n", kCaution);
   return exit_ok;

@@ -99,7 +99,7 @@ void from_calibration(const Project& project, const UnitSettings& s, UnitResult&
   const plugin::CalibrationRun run = plugin::run_calibration(detail::read_text_file(path), path, progress);
   const CalibrationSummary& sum = run.summary;
   r.model = sum.model;
-  if (!sum.usable()) throw InputError(path + ": the calibration found no usable parameter set: " + sum.message);
+  if (!sum.usable()) throw InputError(path + ": calibration " + sum.outcome_line());
   r.parameter_set = json::parse(run.parameter_set);
   r.parameters = parameter_outputs(*run.model, sum.values, r.parameter_set);
   json curves = json::array();
@@ -109,7 +109,8 @@ void from_calibration(const Project& project, const UnitSettings& s, UnitResult&
                         {"quantity", to_string(c.y)},
                         {"unit", unit_of(c.y)},
                         {"rmse", plugin::number_or_null(c.rmse)},
-                        {"r_squared", plugin::number_or_null(c.r_squared)}});
+                        {"r_squared", plugin::number_or_null(c.r_squared)},
+                        {"poor_fit", c.poor}});
       if (c.y != Quantity::deviator_stress || c.x != Quantity::axial_strain) continue;
       Curve m, f;
       m.label = t.id + " measured";
@@ -122,14 +123,17 @@ void from_calibration(const Project& project, const UnitSettings& s, UnitResult&
       r.curves.push_back(m);
       r.curves.push_back(f);
     }
-  r.fit = {{"termination", to_string(sum.termination)},
+  r.fit = {{"outcome", to_string(sum.outcome)},
+           {"outcome_reason", sum.outcome_reason},
+           {"termination", to_string(sum.termination)},
            {"message", sum.message},
            {"objective", plugin::number_or_null(sum.objective)},
            {"evaluations", sum.evaluations},
            {"warnings", sum.warnings},
            {"curves", curves}};
   r.ok = true;
-  r.message = "calibration " + s.calibration + " (" + r.model + "): " + to_string(sum.termination) + ", objective " +
+  r.converged = sum.outcome == CalibrationOutcome::converged;
+  r.message = "calibration " + s.calibration + " (" + r.model + "): " + sum.outcome_line() + "; objective " +
               format_number(sum.objective);
 }
 

@@ -31,11 +31,12 @@ struct ParameterOutput {
 
 struct UnitResult {
   bool ok = false;
-  std::string message;      ///< the error, or one line on what was done
+  bool converged = true;    ///< calibration: the outcome is converged (false: stopped or poor_fit, a warning)
+  std::string message;      ///< the error, or one line on what was done (a calibration: its outcome and reason)
   std::string model;
   nlohmann::json parameter_set;  ///< "triaxcal-parameters" object (null on error)
   std::vector<ParameterOutput> parameters;
-  nlohmann::json fit;       ///< calibration: termination, objective, curves' RMSE and R^2; else null
+  nlohmann::json fit;       ///< calibration: outcome, outcome_reason, termination, objective, curves' RMSE and R^2; else null
   double check_peak_q = 0.0;  ///< parameter set: largest q of the check test (kPa)
   std::vector<Curve> curves;
 

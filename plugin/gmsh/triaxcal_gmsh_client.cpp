@@ -280,9 +280,22 @@ class Session {
   void publish(const std::string& unit, const json& result) {
     clear_outputs(unit);
     const std::string status = result.value("status", "");
-    out_string(output(unit, "0Status"), status == "ok" ? "ok" : "error: " + result.value("message", ""),
-               status != "ok");
-    if (status != "ok") return;
+    if (status != "ok") {
+      out_string(output(unit, "0Status"), "error: " + result.value("message", ""), true);
+      return;
+    }
+    // A calibrated unit's status is its outcome in plain words (docs/calibration-format.md, "Outcome"):
+    // only converged reads "ok"; stopped and poor fit are warnings with their reason.
+    std::string outcome_word;
+    if (result.contains("fit")) outcome_word = result.at("fit").value("outcome", "");
+    if (outcome_word.empty() || outcome_word == "converged") {
+      out_string(output(unit, "0Status"), outcome_word.empty() ? "ok" : "ok: converged");
+    } else {
+      CalibrationOutcome o{};
+      const std::string what = parse_outcome(outcome_word, o) ? explain(o) : outcome_word;
+      out_string(output(unit, "0Status"),
+                 "warning: " + what + ": " + result.at("fit").value("outcome_reason", ""), true);
+    }
     out_string(output(unit, "1Model"), result.value("model", ""));
     // Model order, as UnitResult::to_json keeps them.
     int k = 0;
@@ -308,6 +321,7 @@ class Session {
     }
     if (result.contains("fit")) {
       const json& fit = result.at("fit");
+      out_string(output(unit, "4Fit outcome"), fit.value("outcome", ""), true);
       out_string(output(unit, "4Fit termination"), fit.value("termination", ""), true);
       if (fit.contains("objective") && fit.at("objective").is_number())
         out_number(output(unit, "5Fit objective"), fit.at("objective").get<double>(),
@@ -360,7 +374,10 @@ class Session {
       unit.result = r.to_json(now);
       publish(g.name, unit.result);
       if (r.ok) {
-        c_.sendInfo("triaxcal: soil unit '" + g.name + "': " + r.message);
+        if (r.converged)
+          c_.sendInfo("triaxcal: soil unit '" + g.name + "': " + r.message);
+        else
+          c_.sendWarning("triaxcal: soil unit '" + g.name + "': " + r.message);
         views.push_back({g.name, r.curves});
       } else {
         ++failed;

@@ -107,6 +107,27 @@ TRIAXCAL_C_API int triaxcal_simulate(const triaxcal_model* model, const char* pr
  *  anything else to stop cleanly. */
 typedef int (*triaxcal_progress_fn)(const char* progress_json, void* user_data);
 
+/** The outcome of a calibration, one vocabulary with the CLI, the report and the files
+ *  (docs/calibration-format.md, "Outcome"). Values are fixed; new ones are only ever appended. */
+typedef enum triaxcal_outcome {
+  TRIAXCAL_OUTCOME_CONVERGED = 0, /**< the optimiser converged and the model follows every used curve */
+  TRIAXCAL_OUTCOME_STOPPED = 1,   /**< a budget, the time limit or a stop request ended it before it converged */
+  TRIAXCAL_OUTCOME_POOR_FIT = 2,  /**< a used curve has R^2 below options.min_r_squared (named in "outcome_reason") */
+  TRIAXCAL_OUTCOME_FAILED = 3     /**< no usable parameter set */
+} triaxcal_outcome;
+
+/** "converged", "stopped", "poor_fit", "failed" (the words of the result's "outcome" key);
+ *  "unknown" for any other value (static, never NULL). */
+TRIAXCAL_C_API const char* triaxcal_outcome_name(int outcome);
+
+/** One line in plain words on what the outcome means, for a user interface (static, never NULL;
+ *  "" for an unknown value). */
+TRIAXCAL_C_API const char* triaxcal_outcome_explanation(int outcome);
+
+/** The outcome of a result of triaxcal_calibrate (its JSON text, e.g. triaxcal_text_data(out)) as a
+ *  triaxcal_outcome in *outcome. TRIAXCAL_INVALID_INPUT when the text is not such a result. */
+TRIAXCAL_C_API int triaxcal_calibration_outcome(const char* calibration_result_json, int* outcome);
+
 /** Fits a model to a test series as `triaxcal fit` does, from a calibration-file JSON
  *  ("triaxcal-calibration", docs/calibration-format.md). `source` is the path the JSON came from:
  *  it names the JSON in messages, and a relative "series" path resolves against its folder
@@ -117,15 +138,18 @@ typedef int (*triaxcal_progress_fn)(const char* progress_json, void* user_data);
  *  {"stage": "start"/"design"/"global"/"local", "evaluations", "objective", "best", "elapsed" (s)};
  *  a nonzero return stops the run, which then ends cleanly with the best point so far
  *  (TRIAXCAL_STOPPED, *out filled).
- *  *out is {"format": "triaxcal-calibration-result", "version": 1, "model", "termination", "message",
- *  "usable", "objective", "start_objective", "evaluations", "failed_simulations", "wall_time",
- *  "warnings", "notes", "parameter_set" (a "triaxcal-parameters" object with intervals, fit quality,
- *  provenance and caution; null when nothing usable was found), "tests": [{"id", "simulated",
- *  "message", "objective", "curves": [{"x", "y", "unit", "points", "rmse", "r_squared", "x_values",
- *  "measured", "simulated"}]}], "caution"}.
- *  Codes: TRIAXCAL_OK (also when the optimiser ran out of budget: "termination" says so),
- *  TRIAXCAL_STOPPED, TRIAXCAL_NO_USABLE_RESULT (every evaluation failed; *out filled),
- *  TRIAXCAL_INVALID_INPUT (bad file, series, model or problem; *out NULL). */
+ *  *out is {"format": "triaxcal-calibration-result", "version": 1, "model", "outcome" (see
+ *  triaxcal_outcome_name), "outcome_reason" (which budget or limit ended it and the option that
+ *  raises it, the poorly fitted curves with their R^2, or what failed), "outcome_explanation",
+ *  "termination", "message", "usable", "objective", "start_objective", "evaluations",
+ *  "failed_simulations", "wall_time", "warnings", "notes", "parameter_set" (a "triaxcal-parameters"
+ *  object with intervals, fit quality, provenance and caution; null when nothing usable was found),
+ *  "tests": [{"id", "simulated", "message", "objective", "curves": [{"x", "y", "unit", "points",
+ *  "rmse", "r_squared", "used", "poor_fit", "x_values", "measured", "simulated"}]}], "caution"}.
+ *  Codes: TRIAXCAL_OK for the outcomes converged, stopped by a budget or the time limit, and poor_fit
+ *  ("outcome" says which: check it, or use triaxcal_calibration_outcome), TRIAXCAL_STOPPED (the
+ *  callback stopped it; *out holds the best so far), TRIAXCAL_NO_USABLE_RESULT (outcome failed;
+ *  *out filled), TRIAXCAL_INVALID_INPUT (bad file, series, model or problem; *out NULL). */
 TRIAXCAL_C_API int triaxcal_calibrate(const char* calibration_json, const char* source, triaxcal_progress_fn progress,
                                       void* user_data, triaxcal_text** out);
 

@@ -31,16 +31,58 @@ TRIAXCAL_C_API int triaxcal_calibrate(const char* calibration_json, const char* 
       };
     const CalibrationRun run = run_calibration(calibration_json, source ? source : "calibration_json", callback);
     put_text(out, dump(calibration_result_json(run)));
-    switch (run.summary.termination) {
-      case CalibrationTermination::stopped:
-        set_last_error(fn, run.summary.message.c_str(), "stopped by the progress callback: ");
-        return int(TRIAXCAL_STOPPED);
-      case CalibrationTermination::no_usable_result:
-      case CalibrationTermination::not_run:
-        set_last_error(fn, run.summary.message.c_str());
-        return int(TRIAXCAL_NO_USABLE_RESULT);
-      default: return int(TRIAXCAL_OK);
+    if (run.summary.outcome == CalibrationOutcome::failed) {
+      set_last_error(fn, run.summary.outcome_line().c_str());
+      return int(TRIAXCAL_NO_USABLE_RESULT);
     }
+    if (run.summary.termination == CalibrationTermination::stopped) {
+      set_last_error(fn, run.summary.outcome_line().c_str(), "stopped by the progress callback: ");
+      return int(TRIAXCAL_STOPPED);
+    }
+    return int(TRIAXCAL_OK);
+  });
+}
+
+namespace {
+// Indexed by triaxcal_outcome, which follows CalibrationOutcome's order (checked below).
+constexpr CalibrationOutcome kOutcomes[] = {CalibrationOutcome::converged, CalibrationOutcome::stopped,
+                                            CalibrationOutcome::poor_fit, CalibrationOutcome::failed};
+static_assert(static_cast<int>(CalibrationOutcome::converged) == TRIAXCAL_OUTCOME_CONVERGED &&
+                  static_cast<int>(CalibrationOutcome::stopped) == TRIAXCAL_OUTCOME_STOPPED &&
+                  static_cast<int>(CalibrationOutcome::poor_fit) == TRIAXCAL_OUTCOME_POOR_FIT &&
+                  static_cast<int>(CalibrationOutcome::failed) == TRIAXCAL_OUTCOME_FAILED,
+              "triaxcal_outcome must follow CalibrationOutcome");
+bool known_outcome(int outcome) { return outcome >= 0 && outcome < 4; }
+}  // namespace
+
+TRIAXCAL_C_API const char* triaxcal_outcome_name(int outcome) {
+  static const std::string names[] = {to_string(kOutcomes[0]), to_string(kOutcomes[1]), to_string(kOutcomes[2]),
+                                      to_string(kOutcomes[3])};
+  return known_outcome(outcome) ? names[outcome].c_str() : "unknown";
+}
+
+TRIAXCAL_C_API const char* triaxcal_outcome_explanation(int outcome) {
+  static const std::string lines[] = {explain(kOutcomes[0]), explain(kOutcomes[1]), explain(kOutcomes[2]),
+                                      explain(kOutcomes[3])};
+  return known_outcome(outcome) ? lines[outcome].c_str() : "";
+}
+
+TRIAXCAL_C_API int triaxcal_calibration_outcome(const char* calibration_result_json, int* outcome) {
+  static constexpr const char* fn = "triaxcal_calibration_outcome";
+  if (!outcome) return null_argument(fn, "outcome");
+  if (!calibration_result_json) return null_argument(fn, "calibration_result_json");
+  return guarded(fn, [&] {
+    const json root = json::parse(calibration_result_json, nullptr, false);
+    if (root.is_discarded() || !root.is_object() || root.value("format", std::string()) != kCalibrationResultFormat)
+      throw InputError(std::string("calibration_result_json: format: expected \"") + kCalibrationResultFormat +
+                       "\" (a result of triaxcal_calibrate)");
+    const std::string word = root.contains("outcome") && root["outcome"].is_string() ? root["outcome"].get<std::string>() : "";
+    CalibrationOutcome o{};
+    if (!parse_outcome(word, o))
+      throw InputError("calibration_result_json: outcome: expected converged, stopped, poor_fit or failed, found \"" +
+                       word + "\"");
+    *outcome = static_cast<int>(o);
+    return int(TRIAXCAL_OK);
   });
 }
 

@@ -61,6 +61,8 @@ json calibration_result_json(const CalibrationRun& run) {
                         {"points", c.points},
                         {"rmse", number_or_null(c.rmse)},
                         {"r_squared", number_or_null(c.r_squared)},
+                        {"used", c.used},
+                        {"poor_fit", c.poor},
                         {"x_values", xs},
                         {"measured", measured},
                         {"simulated", simulated}});
@@ -74,6 +76,9 @@ json calibration_result_json(const CalibrationRun& run) {
   return {{"format", kCalibrationResultFormat},
           {"version", 1},
           {"model", s.model},
+          {"outcome", to_string(s.outcome)},
+          {"outcome_reason", s.outcome_reason},
+          {"outcome_explanation", explain(s.outcome)},
           {"termination", to_string(s.termination)},
           {"message", s.message},
           {"usable", s.usable()},

@@ -24,10 +24,11 @@ struct CalibrationRun {
 /// Throws InputError for a bad file, series, model or problem (the messages name file and key).
 CalibrationRun run_calibration(const std::string& text, const std::string& source, const CalibrationCallback& progress);
 
-/// {"format": "triaxcal-calibration-result", "version": 1, "model", "termination", "message", "usable",
-///  "objective", "start_objective", "evaluations", "failed_simulations", "wall_time", "warnings",
-///  "notes", "parameter_set" (object or null), "tests": [{"id", "simulated", "message", "objective",
-///  "curves": [{"x", "y", "unit", "points", "rmse", "r_squared", "x_values", "measured", "simulated"}]}]}
+/// {"format": "triaxcal-calibration-result", "version": 1, "model", "outcome", "outcome_reason",
+///  "outcome_explanation", "termination", "message", "usable", "objective", "start_objective",
+///  "evaluations", "failed_simulations", "wall_time", "warnings", "notes", "parameter_set" (object or
+///  null), "tests": [{"id", "simulated", "message", "objective", "curves": [{"x", "y", "unit", "points",
+///  "rmse", "r_squared", "used", "poor_fit", "x_values", "measured", "simulated"}]}]}
 json calibration_result_json(const CalibrationRun& run);
 
 }  // namespace triaxcal::plugin

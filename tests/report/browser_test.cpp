@@ -96,7 +96,9 @@ TEST_CASE("the report renders in headless Chromium with every plot and table and
     CHECK(std::find(plots.begin(), plots.end(), id) != plots.end());
   // Strong correlations are highlighted: -0.96 twice (symmetric), nothing else.
   CHECK(l.dom->by_id("table-correlation")->by_class("strong").size() == 2);
-  CHECK(l.dom->by_id("outcome")->get("data-outcome") == "success");
+  CHECK(l.dom->by_id("outcome")->get("data-outcome") == "converged");
+  CHECK(l.dom->by_id("outcome")->has_class("outcome-converged"));
+  CHECK(l.run.dom.find("<b>Converged.</b>") != std::string::npos);
   check_png("report_full.png");
 }
 
@@ -108,7 +110,11 @@ TEST_CASE("a report of a failed calibration still renders and says what failed")
   REQUIRE(outcome != nullptr);
   CHECK(outcome->get("data-outcome") == "failed");
   const std::string dom = l.run.dom;
-  CHECK(dom.find("Calibration failed: no usable parameter set.") != std::string::npos);
+  CHECK(outcome->has_class("outcome-failed"));
+  CHECK(dom.find("<b>Failed: no usable parameter set.</b>") != std::string::npos);
+  CHECK(l.dom->by_id("outcome-reason")->text ==
+        "no point free of a failure penalty in 40 evaluations; at the best point these tests could not be simulated: "
+        "CU-50 (no convergence)");
   CHECK(dom.find("no usable result: no evaluation in 40 succeeded (40 failed simulations)") != std::string::npos);
   CHECK(dom.find("no convergence after 8 increment cuts") != std::string::npos);
   CHECK(l.dom->by_id("failed-tests") != nullptr);
@@ -116,20 +122,29 @@ TEST_CASE("a report of a failed calibration still renders and says what failed")
   check_png("report_failed.png");
 }
 
-TEST_CASE("a report of a partly failed calibration names the failed test and keeps the others' curves") {
-  const report::ReportData data = partial_report();
-  const Loaded l = load(data, "partial");
-  check_complete(data, l);
-  CHECK(l.dom->by_id("outcome")->get("data-outcome") == "partial");
-  const Element* failed = l.dom->by_id("failed-tests");
-  REQUIRE(failed != nullptr);
-  CHECK(l.run.dom.find("local return mapping did not converge") != std::string::npos);
-  // The failed test's deviator plot has measured points but no model line; another test has both.
-  const Element* bad = l.dom->by_id("plot-deviator-CU-100");
-  REQUIRE(bad != nullptr);
-  CHECK(bad->by_class("simulated").empty());
-  CHECK_FALSE(bad->by_class("measured").empty());
-  const Element* good = l.dom->by_id("plot-deviator-CU-50");
-  REQUIRE(good != nullptr);
-  CHECK_FALSE(good->by_class("simulated").empty());
+TEST_CASE("a poor fit and a stopped fit show as warnings with their reason, never as a success") {
+  {
+    const report::ReportData data = poor_fit_report();
+    const Loaded l = load(data, "poor_fit");
+    check_complete(data, l);
+    const Element* outcome = l.dom->by_id("outcome");
+    REQUIRE(outcome != nullptr);
+    CHECK(outcome->get("data-outcome") == "poor_fit");
+    CHECK(outcome->has_class("outcome-poor_fit"));
+    CHECK_FALSE(outcome->has_class("outcome-converged"));
+    CHECK(l.run.dom.find("<b>Warning: poor fit.</b>") != std::string::npos);
+    CHECK(l.dom->by_id("outcome-reason")->text ==
+          "the model does not follow 1 used curve (R^2 below min_r_squared = 0.9): CU-100 deviator_stress (R^2 = -2.100)");
+  }
+  {
+    const report::ReportData data = stopped_report();
+    const Loaded l = load(data, "stopped");
+    check_complete(data, l);
+    const Element* outcome = l.dom->by_id("outcome");
+    REQUIRE(outcome != nullptr);
+    CHECK(outcome->get("data-outcome") == "stopped");
+    CHECK(outcome->has_class("outcome-stopped"));
+    CHECK(l.run.dom.find("<b>Warning: stopped before converging.</b>") != std::string::npos);
+    CHECK(l.dom->by_id("outcome-reason")->text.find("raise options.local_evaluations") != std::string::npos);
+  }
 }

@@ -57,7 +57,9 @@ TEST_CASE("report data from a calibration carries its tests, curves, parameters,
   const Fitted& f = fitted();
   REQUIRE(f.summary.usable());
   const report::ReportData d = report::report_from_calibration(f.summary, f.problem, f.provenance);
-  CHECK(d.outcome == report::Outcome::success);
+  CHECK(d.outcome == CalibrationOutcome::converged);
+  CHECK(f.summary.outcome == CalibrationOutcome::converged);
+  CHECK(d.outcome_reason == f.summary.outcome_reason);
   CHECK(d.model == "mohr_coulomb");
   REQUIRE(d.tests.size() == 2);
   for (std::size_t i = 0; i < 2; ++i) {
@@ -88,14 +90,26 @@ TEST_CASE("report data from a calibration carries its tests, curves, parameters,
   CHECK(root->by_id("plot-history") != nullptr);
 }
 
-TEST_CASE("a test that failed at the optimum makes the report data partial and names the test") {
+TEST_CASE("a calibration stopped by its evaluation budget is reported as stopped with the option to raise") {
   Fitted f = fitted();
-  f.summary.tests[1].simulated = false;
-  f.summary.tests[1].message = "stage 0, step 12: no convergence (invented for the test)";
+  // Started near the invented truth, so the curves fit (no poor fit) but the budget ends the search.
+  f.problem.parameters[0].start = 24000.0;
+  f.problem.parameters[1].start = 32.5;
+  CalibrationOptions o;
+  o.local_evaluations = 4;  // fewer than BOBYQA needs to build its first model (2 n + 1 = 5)
+  o.threads = 1;
+  o.uncertainty = false;
+  f.summary = calibrate(o, f.problem);
+  REQUIRE(f.summary.outcome == CalibrationOutcome::stopped);
   const report::ReportData d = report::report_from_calibration(f.summary, f.problem, f.provenance);
-  CHECK(d.outcome == report::Outcome::partial);
-  CHECK(d.message.find("1 of 2 tests could not be simulated at the reported parameters") != std::string::npos);
-  CHECK(d.tests[1].deviator.simulated.empty());
-  CHECK_FALSE(d.tests[1].deviator.measured.empty());
-  CHECK(report::render_report(d).find("no convergence (invented for the test)") != std::string::npos);
+  CHECK(d.outcome == CalibrationOutcome::stopped);
+  CHECK(d.termination == "evaluation_limit");
+  CHECK(d.outcome_reason ==
+        "the local (bobyqa) stage used its budget of 4 evaluations before it met its tolerance: raise options.local_evaluations");
+  const auto root = parse_xml(report::render_report(d));
+  const Element* banner = root->by_id("outcome");
+  REQUIRE(banner != nullptr);
+  CHECK(banner->has_class("outcome-stopped"));
+  CHECK(banner->get("data-outcome") == "stopped");
+  CHECK(root->by_id("outcome-reason")->text == d.outcome_reason);
 }

@@ -17,7 +17,9 @@ inline report::ReportData demo_report() {
   d.project = "Invented test fixture \"Marsh Lane\" <demo> & co: not a real site";
   d.model = "hyperbolic_hardening";
   d.model_description = "double-hardening model after Schanz, Vermeer & Bonnier (1999)";
-  d.outcome = Outcome::success;
+  d.outcome = CalibrationOutcome::converged;
+  d.outcome_reason = "the local (bobyqa) stage met its tolerance; every used curve has R^2 >= 0.9 (lowest 0.962, "
+                     "CD-300 volumetric_strain)";
   d.termination = "converged";
   d.message = "local stage met the relative tolerance 1e-10 after 412 evaluations";
   d.objective = 0.0123;
@@ -129,7 +131,9 @@ inline report::ReportData demo_report() {
 /// The demo with a calibration that found nothing: no history, no simulated curves.
 inline report::ReportData failed_report() {
   report::ReportData d = demo_report();
-  d.outcome = report::Outcome::failed;
+  d.outcome = CalibrationOutcome::failed;
+  d.outcome_reason = "no point free of a failure penalty in 40 evaluations; at the best point these tests could not "
+                     "be simulated: CU-50 (no convergence)";
   d.termination = "no_usable_result";
   d.message = "no usable result: no evaluation in 40 succeeded (40 failed simulations)";
   d.objective = report::kUnknown;
@@ -148,18 +152,25 @@ inline report::ReportData failed_report() {
   return d;
 }
 
-/// The demo with one test that could not be simulated at the optimum.
-inline report::ReportData partial_report() {
+/// The demo whose deviator curve of CU-100 the model does not follow (R^2 = -2.1, the value of the
+/// reviewer's case in issue 12): a poor fit, shown as a warning.
+inline report::ReportData poor_fit_report() {
   report::ReportData d = demo_report();
-  d.outcome = report::Outcome::partial;
-  d.termination = "converged";
-  d.message = "1 of 6 tests failed at the optimum";
-  report::TestReport& t = d.tests[1];
-  t.simulated = false;
-  t.message = "stage 1, step 57, axial strain 0.031: local return mapping did not converge";
-  t.deviator.simulated = {};
-  t.pore_pressure.simulated = {};
-  t.stress_path.simulated = {};
+  d.outcome = CalibrationOutcome::poor_fit;
+  d.outcome_reason = "the model does not follow 1 used curve (R^2 below min_r_squared = 0.9): CU-100 "
+                     "deviator_stress (R^2 = -2.100)";
+  d.tests[1].quality.at(0).r_squared = -2.1;
+  return d;
+}
+
+/// The demo stopped at its evaluation budget.
+inline report::ReportData stopped_report() {
+  report::ReportData d = demo_report();
+  d.outcome = CalibrationOutcome::stopped;
+  d.termination = "evaluation_limit";
+  d.outcome_reason = "the local (bobyqa) stage used its budget of 400 evaluations before it met its tolerance: raise "
+                     "options.local_evaluations";
+  d.message = "the local (bobyqa) stage used its budget of 400 evaluations; not converged to the tolerance";
   return d;
 }
 

@@ -92,7 +92,7 @@ TEST_CASE("a failed calibration's report says so at the top and keeps the measur
   const Element* o = root->by_id("outcome");
   REQUIRE(o != nullptr);
   CHECK(o->has_class("outcome-failed"));
-  CHECK(html.find("Calibration failed: no usable parameter set.") != std::string::npos);
+  CHECK(html.find("<b>Failed: no usable parameter set.</b>") != std::string::npos);
   CHECK(html.find("The parameter table shows the starting values and bounds; they are not a result.") !=
         std::string::npos);
   const Element* dev = root->by_id("plot-deviator-CD-300");
@@ -107,7 +107,7 @@ TEST_CASE("a failed calibration's report says so at the top and keeps the measur
 
 TEST_CASE("an empty report still renders with a note in place of each missing plot") {
   report::ReportData d;
-  d.outcome = report::Outcome::failed;
+  d.outcome = CalibrationOutcome::failed;
   d.message = "nothing was run";
   const std::string html = report::render_report(d);
   const auto root = parse_xml(html);

@@ -22,6 +22,7 @@
 #include "triaxcal/core_export.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/model.hpp"
+#include "triaxcal/outcome.hpp"
 #include "triaxcal/protocol.hpp"
 
 namespace triaxcal {
@@ -145,6 +146,8 @@ struct CalibrationOptions {
   double jacobian_step = 1e-4;         ///< central-difference step, fraction of each box width
   double correlation_warning = 0.95;   ///< |correlation| above this gives an identifiability warning
   bool record_history = true;          ///< keep every evaluation in the summary
+  /// A used curve (weight > 0) whose R^2 at the result is below this makes the outcome poor_fit.
+  double min_r_squared = 0.9;
   CalibrationCallback progress;        ///< may be empty
 
   /// Throws InputError "calibration options: <field> = <value> <rule>".
@@ -156,10 +159,14 @@ enum class CalibrationTermination {
   evaluation_limit,  ///< a stage used its whole budget
   time_limit,        ///< max_seconds reached
   stopped,           ///< the progress callback asked to stop
-  no_usable_result,  ///< every evaluation failed
+  optimiser_halted,  ///< NLopt ended the stage with an error code (e.g. roundoff limited) before its tolerance
+  no_usable_result,  ///< no evaluation without a failure penalty (a test failed, the model or a constraint rejected it)
   not_run,
 };
 TRIAXCAL_CORE_EXPORT std::string to_string(CalibrationTermination termination);
+
+// Beside the detailed termination: the outcome a user reads (converged, stopped, poor_fit, failed),
+// CalibrationOutcome in triaxcal/outcome.hpp (its own header, so the report needs no Eigen).
 
 struct FittedParameter {
   std::string name;
@@ -183,6 +190,8 @@ struct CurveFit {
   double rmse = kNotGiven;     ///< in the unit of y
   double r_squared = kNotGiven;
   double range = 0.0;          ///< measured range used for normalisation
+  bool used = true;            ///< weight > 0: counts in the objective and in the outcome
+  bool poor = false;           ///< used, and R^2 below min_r_squared (R^2 undefined: never poor)
   std::vector<double> xs, measured, simulated;  ///< the compared points
 };
 
@@ -204,6 +213,10 @@ struct HistoryEntry {
 struct CalibrationSummary {
   CalibrationTermination termination = CalibrationTermination::not_run;
   std::string message;
+  CalibrationOutcome outcome = CalibrationOutcome::failed;
+  /// Why, with the numbers: the budget or limit reached and the option that raises it, each poorly
+  /// fitted curve with its R^2, or what failed.
+  std::string outcome_reason;
   std::string model;
   double objective = std::numeric_limits<double>::infinity();
   double start_objective = std::numeric_limits<double>::infinity();
@@ -226,10 +239,11 @@ struct CalibrationSummary {
   std::vector<SimulationResult> simulations;  ///< at the optimum, one a test
   std::vector<HistoryEntry> history;
 
-  /// A parameter set was found (some evaluation succeeded).
-  bool usable() const { return termination != CalibrationTermination::no_usable_result &&
-                               termination != CalibrationTermination::not_run; }
-  /// A few lines: termination, objective, counts, each free parameter with its interval.
+  /// A parameter set was found: the outcome is not failed.
+  bool usable() const { return outcome != CalibrationOutcome::failed; }
+  /// "<outcome>: <reason>", the line every front end shows.
+  std::string outcome_line() const;
+  /// A few lines: outcome, objective, counts, each free parameter with its interval.
   std::string brief() const;
   /// Everything: options asked against used, per-test/per-curve fit, correlations, warnings.
   std::string full() const;

@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "triaxcal/core_export.hpp"
+#include "triaxcal/outcome.hpp"
 
 namespace triaxcal {
 
@@ -135,15 +136,14 @@ struct Excluded {
   std::string reason;
 };
 
-enum class Outcome { success, partial, failed };
-
 struct ReportData {
   std::string title = "Calibration report";
   std::string project;            ///< free text (invented demo data says so here)
   std::string model;              ///< model name, e.g. "hyperbolic_hardening"
   std::string model_description;
-  Outcome outcome = Outcome::success;
-  std::string termination;        ///< e.g. "converged"
+  CalibrationOutcome outcome = CalibrationOutcome::converged;  ///< only converged shows as a success
+  std::string outcome_reason;     ///< why (the budget reached and how to raise it, poor curves, what failed)
+  std::string termination;        ///< the optimiser's detailed termination, e.g. "evaluation_limit"
   std::string message;            ///< the calibration's message (what failed, with its numbers)
   double objective = kUnknown;
   double start_objective = kUnknown;
@@ -160,8 +160,6 @@ struct ReportData {
   std::vector<std::pair<std::string, std::string>> provenance;  ///< key, value (hashes, version, settings)
   std::string caution = kCautionText;
 };
-
-TRIAXCAL_CORE_EXPORT std::string to_string(Outcome outcome);
 
 /// The ids of the plots and tables render_report writes for `data`, in page order
 /// ("plot-deviator-T1", "table-parameters", ...). Tests look for exactly these.

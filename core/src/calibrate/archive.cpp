@@ -136,6 +136,8 @@ void write_contents(const Writer& w, hid_t file, const CalibrationSummary& s, co
   H5Gclose(params);
 
   const hid_t summary = w.group(file, "summary");
+  w.attribute(summary, "outcome", to_string(s.outcome));
+  w.attribute(summary, "outcome_reason", s.outcome_reason);
   w.attribute(summary, "termination", to_string(s.termination));
   w.attribute(summary, "message", s.message);
   w.attribute(summary, "objective", s.objective);
@@ -197,6 +199,8 @@ void write_contents(const Writer& w, hid_t file, const CalibrationSummary& s, co
       w.doubles(cg, "measured", c.measured, unit_of(c.y));
       w.doubles(cg, "simulated", c.simulated, unit_of(c.y));
       w.attribute(cg, "rmse", c.rmse);
+      w.attribute(cg, "used", std::string(c.used ? "true" : "false"));
+      w.attribute(cg, "poor_fit", std::string(c.poor ? "true" : "false"));
       w.attribute(cg, "unit", unit_of(c.y));
       w.attribute(cg, "r_squared", c.r_squared);
       w.attribute(cg, "normalisation_range", c.range);

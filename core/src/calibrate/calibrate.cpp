@@ -59,6 +59,7 @@ std::string to_string(CalibrationTermination t) {
     case CalibrationTermination::evaluation_limit: return "evaluation_limit";
     case CalibrationTermination::time_limit: return "time_limit";
     case CalibrationTermination::stopped: return "stopped";
+    case CalibrationTermination::optimiser_halted: return "optimiser_halted";
     case CalibrationTermination::no_usable_result: return "no_usable_result";
     case CalibrationTermination::not_run: return "not_run";
   }
@@ -90,6 +91,7 @@ void CalibrationOptions::validate() const {
   if (!(jacobian_step > 0.0 && jacobian_step <= 0.1)) fail("jacobian_step", jacobian_step, "must be in (0, 0.1]");
   if (!(correlation_warning > 0.0 && correlation_warning <= 1.0))
     fail("correlation_warning", correlation_warning, "must be in (0, 1]");
+  if (!(min_r_squared >= -1.0 && min_r_squared <= 1.0)) fail("min_r_squared", min_r_squared, "must be in [-1, 1]");
 }
 
 void validate_problem(const CalibrationProblem& problem) { (void)detail::prepare(problem); }
@@ -130,6 +132,7 @@ struct Lane {
   long evaluations = 0, failed = 0, design = 0, global = 0, local = 0;
   double best = std::numeric_limits<double>::infinity();
   std::vector<double> best_unit;
+  bool best_penalised = false;  // the best point's objective holds a failure or constraint penalty
   std::vector<HistoryEntry> history;  // evaluation and best are set when merged
   nlopt_opt current = nullptr;
 
@@ -153,6 +156,7 @@ struct Run {
   std::size_t n = 0;
   std::vector<double> best_unit;
   double best = std::numeric_limits<double>::infinity();
+  bool best_penalised = false;
   std::atomic<bool> stop_requested{false};
   std::atomic<bool> time_up{false};
   bool native_constraints = false;
@@ -185,6 +189,7 @@ struct Run {
     std::vector<double> unit(u, u + n);
     const ParameterValues values = prepared.values(unit);
     double f;
+    bool penalised = true;
     const double violation = prepared.constraints.empty() ? -1.0 : prepared.violation(values);
     if (!native_constraints && violation > 0.0) {
       // Outside the constraints: penalised without simulating, growing with the violation.
@@ -193,6 +198,9 @@ struct Run {
       const bool built = lane.evaluator.simulate(values);
       f = lane.evaluator.objective(built);
       lane.failed += built ? lane.evaluator.failed_tests() : static_cast<long>(prepared.tests.size());
+      penalised = !built || !std::isfinite(f);
+      for (std::size_t t = 0; t < prepared.tests.size() && !penalised; ++t)
+        penalised = !lane.evaluator.outcome(static_cast<int>(t)).ok && prepared.tests[t].total_weight > 0.0;
     }
     ++lane.evaluations;
     if (stage == 0) ++lane.design;
@@ -201,6 +209,7 @@ struct Run {
     if (f < lane.best) {
       lane.best = f;
       lane.best_unit = unit;
+      lane.best_penalised = penalised;
     }
     if (options.record_history) lane.history.push_back({0, stage, f, 0.0});
     const long total = total_evaluations.fetch_add(1) + 1;
@@ -239,11 +248,13 @@ struct Run {
     if (lane.best < best) {
       best = lane.best;
       best_unit = lane.best_unit;
+      best_penalised = lane.best_penalised;
     }
     lane.evaluations = lane.failed = lane.design = lane.global = lane.local = 0;
     lane.history.clear();
     lane.best = std::numeric_limits<double>::infinity();
     lane.best_unit.clear();
+    lane.best_penalised = false;
   }
 
   nlopt_result optimise(Lane& lane, nlopt_algorithm algorithm, int stage, long budget, std::vector<double>& x,
@@ -321,8 +332,144 @@ std::string options_text(const CalibrationOptions& o) {
     << "\nseed = " << o.seed << "\nthreads = " << o.threads << "\nloss = " << to_string(o.loss)
     << "\nloss_scale = " << format_number(o.loss_scale) << "\nfailure_penalty = " << format_number(o.failure_penalty)
     << "\nuncertainty = " << (o.uncertainty ? "true" : "false") << "\njacobian_step = " << format_number(o.jacobian_step)
-    << "\ncorrelation_warning = " << format_number(o.correlation_warning) << "\n";
+    << "\ncorrelation_warning = " << format_number(o.correlation_warning)
+    << "\nmin_r_squared = " << format_number(o.min_r_squared) << "\n";
   return s.str();
+}
+
+// How the stages ended: the detailed termination, its message, and the reason shown with the
+// outcome (for a stop: what ended it and the option that extends it).
+struct Ending {
+  CalibrationTermination termination = CalibrationTermination::converged;
+  std::string message;
+  std::string reason;
+};
+
+Ending ending_of(const Run& run, nlopt_result last, const std::string& last_stage, long evaluations) {
+  const CalibrationOptions& o = run.options;
+  const std::string after = " after " + std::to_string(evaluations) + " evaluations";
+  Ending e;
+  e.termination = CalibrationTermination::evaluation_limit;
+  if (run.stop_requested) {
+    e.termination = CalibrationTermination::stopped;
+    e.message = "stopped on request" + after + "; the best point so far is kept";
+    e.reason = "stopped on request (the progress callback; Ctrl-C in triaxcal fit)" + after +
+               ": run it again without stopping it to let the local stage converge";
+  } else if (run.time_up || last == NLOPT_MAXTIME_REACHED) {
+    e.termination = CalibrationTermination::time_limit;
+    e.message = "time limit of " + format_number(o.max_seconds) + " s reached in the " + last_stage + " stage" + after +
+                "; not converged";
+    e.reason = "the time limit of " + format_number(o.max_seconds) + " s was reached in the " + last_stage + " stage" +
+               after + ": raise options.max_seconds (0 = no limit)";
+  } else if (o.local == LocalAlgorithm::none && o.global != GlobalAlgorithm::none) {
+    e.message = "the " + last_stage + " stage " +
+                (last == NLOPT_MAXEVAL_REACHED ? "used its budget of " + std::to_string(o.global_evaluations) + " evaluations"
+                                               : std::string("ended (NLopt ") + nlopt_result_to_string(last) + ")" + after) +
+                " and no local stage tested convergence";
+    e.reason = e.message + ": set options.local (e.g. bobyqa), or raise options.global_evaluations";
+  } else if (o.local == LocalAlgorithm::none) {
+    e.message = "only the start and " + std::to_string(o.design_points) +
+                " design points were evaluated and no stage tested convergence";
+    e.reason = e.message + ": set options.local (e.g. bobyqa) to polish the best of them";
+  } else if (last == NLOPT_MAXEVAL_REACHED) {
+    e.message = "the " + last_stage + " stage used its budget of " + std::to_string(o.local_evaluations) +
+                " evaluations; not converged to the tolerance";
+    e.reason = "the " + last_stage + " stage used its budget of " + std::to_string(o.local_evaluations) +
+               " evaluations before it met its tolerance: raise options.local_evaluations";
+  } else if (last < 0) {
+    e.termination = CalibrationTermination::optimiser_halted;
+    e.message = "the " + last_stage + " stage ended with NLopt code " + std::to_string(static_cast<int>(last)) + " (" +
+                nlopt_result_to_string(last) + ")" + after + "; not converged";
+    e.reason = e.message + ": loosen options.relative_tolerance or options.x_tolerance, or start from another point";
+  } else {
+    e.termination = CalibrationTermination::converged;
+    e.message = "the " + last_stage + " stage met its tolerance (relative objective change " +
+                format_number(o.relative_tolerance) + ", unit-box step " + format_number(o.x_tolerance) + ")";
+    e.reason = "the " + last_stage + " stage met its tolerance";
+  }
+  return e;
+}
+
+std::string r2_text(double r) {
+  char b[32];
+  std::snprintf(b, sizeof b, "%.3f", r);
+  return b;
+}
+
+// What the result means for its user (outcome.hpp), with the reason. Failed: the best point carries
+// a failure or constraint penalty, or a used test could not be simulated there. Poor fit: a used
+// curve with R^2 below min_r_squared; a curve whose R^2 is not defined (constant measured values)
+// is not judged. Otherwise stopped or converged as the stages ended.
+void judge_outcome(CalibrationSummary& s, const Ending& ending, const Run& run, bool built) {
+  const CalibrationOptions& o = run.options;
+  const std::string in = " in " + std::to_string(s.evaluations) + " evaluations";
+  std::string failed_tests;
+  for (std::size_t t = 0; t < s.tests.size(); ++t)
+    if (!s.tests[t].simulated && run.prepared.tests[t].total_weight > 0.0)
+      failed_tests += (failed_tests.empty() ? "" : "; ") + s.tests[t].id + " (" + s.tests[t].message + ")";
+  if (!built || !failed_tests.empty() || run.best_penalised || !std::isfinite(run.best)) {
+    s.outcome = CalibrationOutcome::failed;
+    s.termination = CalibrationTermination::no_usable_result;
+    if (!std::isfinite(run.best))
+      s.outcome_reason = "no finite objective" + in;
+    else if (!failed_tests.empty() || !built)
+      s.outcome_reason = "no point free of a failure penalty" + in + "; at the best point " +
+                         (built ? "these tests could not be simulated: " + failed_tests
+                                : (s.tests.empty() ? std::string("the model was not built") : s.tests[0].message));
+    else
+      s.outcome_reason = "no point inside the constraints" + in + " (the best point violates them by " +
+                         format_number(run.prepared.violation(s.values)) + ", relative)";
+    const bool searched = o.design_points > 0 || o.global != GlobalAlgorithm::none;
+    if (s.objective < s.start_objective)
+      s.outcome_reason += ": check the bounds, the start values and the tests named";
+    else if (!searched)
+      s.outcome_reason += ": the start point failed and nothing better was found; check the start values, or add "
+                          "design_points or a global stage";
+    else
+      s.outcome_reason += ": the start point failed and no point of the search did better; check the bounds and "
+                          "the tests named";
+    return;
+  }
+  std::string poor, undefined, lowest;
+  double lowest_r2 = std::numeric_limits<double>::infinity();
+  int poor_count = 0;
+  for (TestFit& t : s.tests)
+    for (CurveFit& c : t.curves) {
+      if (!c.used) continue;
+      const std::string name = t.id + " " + to_string(c.y);
+      if (std::isnan(c.r_squared)) {
+        undefined += (undefined.empty() ? "" : ", ") + name;
+        continue;
+      }
+      if (c.r_squared < lowest_r2) {
+        lowest_r2 = c.r_squared;
+        lowest = name;
+      }
+      if (c.r_squared < o.min_r_squared) {
+        c.poor = true;
+        ++poor_count;
+        poor += (poor.empty() ? "" : ", ") + name + " (R^2 = " + r2_text(c.r_squared) + ")";
+      }
+    }
+  const std::string not_judged =
+      undefined.empty() ? std::string() : "; R^2 not defined (constant measured values), not judged: " + undefined;
+  if (poor_count > 0) {
+    s.outcome = CalibrationOutcome::poor_fit;
+    s.outcome_reason = "the model does not follow " + std::to_string(poor_count) +
+                       (poor_count == 1 ? " used curve" : " used curves") + " (R^2 below min_r_squared = " +
+                       format_number(o.min_r_squared) + "): " + poor + not_judged +
+                       (ending.termination == CalibrationTermination::converged ? std::string()
+                                                                                 : "; also not converged: " + ending.reason);
+  } else if (ending.termination != CalibrationTermination::converged) {
+    s.outcome = CalibrationOutcome::stopped;
+    s.outcome_reason = ending.reason + not_judged;
+  } else {
+    s.outcome = CalibrationOutcome::converged;
+    s.outcome_reason = ending.reason + (lowest.empty() ? std::string()
+                                                       : "; every used curve has R^2 >= " + format_number(o.min_r_squared) +
+                                                             " (lowest " + r2_text(lowest_r2) + ", " + lowest + ")") +
+                       not_judged;
+  }
 }
 
 }  // namespace
@@ -432,28 +579,8 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
     last_stage = "local (" + to_string(options.local) + ")";
   }
 
-  // Termination from the stage that produced the result.
-  std::ostringstream msg;
-  if (run.stop_requested) {
-    summary.termination = CalibrationTermination::stopped;
-    msg << "stopped on request after " << summary.evaluations << " evaluations; the best point so far is kept";
-  } else if (run.time_up || last == NLOPT_MAXTIME_REACHED) {
-    summary.termination = CalibrationTermination::time_limit;
-    msg << "time limit of " << format_number(options.max_seconds) << " s reached in the " << last_stage << " stage after "
-        << summary.evaluations << " evaluations; not converged";
-  } else if (last == NLOPT_MAXEVAL_REACHED || (options.local == LocalAlgorithm::none && options.global != GlobalAlgorithm::none)) {
-    summary.termination = CalibrationTermination::evaluation_limit;
-    msg << "the " << last_stage << " stage used its budget of "
-        << (options.local == LocalAlgorithm::none ? options.global_evaluations : options.local_evaluations)
-        << " evaluations; not converged to the tolerance";
-  } else if (last < 0) {
-    summary.termination = CalibrationTermination::evaluation_limit;
-    msg << "the " << last_stage << " stage ended with NLopt code " << static_cast<int>(last) << "; not converged";
-  } else {
-    summary.termination = CalibrationTermination::converged;
-    msg << "converged: the " << last_stage << " stage met its tolerance (relative objective change "
-        << format_number(options.relative_tolerance) << ", unit-box step " << format_number(options.x_tolerance) << ")";
-  }
+  const Ending ending = ending_of(run, last, last_stage, summary.evaluations);
+  summary.termination = ending.termination;
 
   // The fitted set, its curves and fit quality.
   const ParameterValues best_values = prepared.values(run.best_unit);
@@ -479,7 +606,6 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
   const bool built = run.main.evaluator.simulate(best_values);
   std::vector<double> shares;
   run.main.evaluator.objective(built, &shares);
-  int simulated = 0;
   for (std::size_t t = 0; t < prepared.tests.size(); ++t) {
     const auto& pt = prepared.tests[t];
     const auto& o = run.main.evaluator.outcome(static_cast<int>(t));
@@ -488,7 +614,6 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
     tf.simulated = built && o.ok;
     tf.message = o.result.message;
     tf.objective = shares[t];
-    simulated += tf.simulated ? 1 : 0;
     std::size_t i = 0;
     for (const auto& c : pt.curves) {
       CurveFit cf;
@@ -498,6 +623,7 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
       cf.range = c.range;
       cf.xs = c.xs;
       cf.measured = c.ys;
+      cf.used = c.weight > 0.0;
       if (tf.simulated) {
         cf.simulated.assign(o.simulated.begin() + static_cast<std::ptrdiff_t>(i),
                             o.simulated.begin() + static_cast<std::ptrdiff_t>(i + c.xs.size()));
@@ -505,12 +631,9 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
         for (std::size_t j = 0; j < c.xs.size(); ++j) ssr += (cf.simulated[j] - c.ys[j]) * (cf.simulated[j] - c.ys[j]);
         cf.rmse = std::sqrt(ssr / static_cast<double>(c.xs.size()));
         cf.r_squared = c.sst > 0.0 ? 1.0 - ssr / c.sst : kNotGiven;
-        if (!std::isnan(cf.r_squared) && cf.r_squared < 0.9) {
-          char b[24];
-          std::snprintf(b, sizeof b, "%.3f", cf.r_squared);
-          summary.warnings.push_back("Test " + tf.id + ", " + to_string(c.y) + ": R^2 = " + b +
+        if (cf.used && !std::isnan(cf.r_squared) && cf.r_squared < options.min_r_squared)
+          summary.warnings.push_back("Test " + tf.id + ", " + to_string(c.y) + ": R^2 = " + r2_text(cf.r_squared) +
                                      ": the model does not follow this curve well.");
-        }
       }
       i += c.xs.size();
       tf.curves.push_back(std::move(cf));
@@ -520,12 +643,7 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
     summary.tests.push_back(std::move(tf));
     summary.simulations.push_back(run.main.evaluator.outcome(static_cast<int>(t)).result);
   }
-  if (!built || simulated == 0) {
-    summary.termination = CalibrationTermination::no_usable_result;
-    msg.str("");
-    msg << "no usable result: no evaluation in " << summary.evaluations
-        << " simulated the tests with the model (every one failed or was rejected)";
-  }
+  judge_outcome(summary, ending, run, built);
   for (std::size_t k = 0; k < n; ++k) {
     const FittedParameter& fp = summary.parameters[static_cast<std::size_t>(prepared.free[k])];
     if (fp.at_bound)
@@ -544,7 +662,9 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
         summary};
     detail::uncertainty(context, best_values, d0);
   }
-  summary.message = msg.str() + "; objective " + format_number(summary.objective) + " (start " +
+  summary.message = (summary.outcome == CalibrationOutcome::failed ? "no usable result: " + summary.outcome_reason
+                                                                   : ending.message) +
+                    "; objective " + format_number(summary.objective) + " (start " +
                     format_number(summary.start_objective) + ")";
   summary.wall_time = run.elapsed();
   return summary;

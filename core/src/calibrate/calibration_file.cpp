@@ -77,7 +77,7 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
   detail::check_keys(o,
                      {"global", "global_evaluations", "global_runs", "local", "local_evaluations", "starts", "design_points",
                       "relative_tolerance", "x_tolerance", "max_seconds", "seed", "threads", "loss", "loss_scale",
-                      "failure_penalty", "uncertainty", "jacobian_step", "correlation_warning"},
+                      "failure_penalty", "uncertainty", "jacobian_step", "correlation_warning", "min_r_squared"},
                      src, path);
   CalibrationOptions c;
   c.global = choose<GlobalAlgorithm>(detail::get_string_or(o, "global", "none", src, path),
@@ -117,6 +117,7 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
   }
   c.jacobian_step = detail::get_number_or(o, "jacobian_step", c.jacobian_step, src, path);
   c.correlation_warning = detail::get_number_or(o, "correlation_warning", c.correlation_warning, src, path);
+  c.min_r_squared = detail::get_number_or(o, "min_r_squared", c.min_r_squared, src, path);
   try {
     c.validate();
   } catch (const InputError& e) {

@@ -109,6 +109,8 @@ std::string format_parameter_set(const CalibrationSummary& s, const ModelInfo& m
   }
   root["parameters"] = params;
   ordered_json fit;
+  fit["outcome"] = to_string(s.outcome);
+  fit["outcome_reason"] = s.outcome_reason;
   fit["termination"] = to_string(s.termination);
   fit["message"] = s.message;
   fit["objective"] = number_or_null(s.objective);
@@ -137,7 +139,9 @@ std::string format_parameter_set(const CalibrationSummary& s, const ModelInfo& m
                         {"unit", unit_of(c.y)},
                         {"points", c.points},
                         {"rmse", number_or_null(c.rmse)},
-                        {"r_squared", number_or_null(c.r_squared)}});
+                        {"r_squared", number_or_null(c.r_squared)},
+                        {"used", c.used},
+                        {"poor_fit", c.poor}});
     tj["curves"] = curves;
     tests.push_back(tj);
   }

@@ -37,11 +37,52 @@ std::string parameter_line(const FittedParameter& p) {
 
 }  // namespace
 
+std::string to_string(CalibrationOutcome outcome) {
+  switch (outcome) {
+    case CalibrationOutcome::converged: return "converged";
+    case CalibrationOutcome::stopped: return "stopped";
+    case CalibrationOutcome::poor_fit: return "poor_fit";
+    case CalibrationOutcome::failed: return "failed";
+  }
+  return "failed";
+}
+
+std::string explain(CalibrationOutcome outcome) {
+  switch (outcome) {
+    case CalibrationOutcome::converged:
+      return "the optimiser converged and the model follows every used curve (R^2 at or above the threshold)";
+    case CalibrationOutcome::stopped:
+      return "the optimiser stopped before it converged (a budget, the time limit or a stop request); the parameters "
+             "are the best found so far";
+    case CalibrationOutcome::poor_fit:
+      return "the model does not follow at least one used curve (R^2 below the threshold); review the curves named "
+             "before using the parameters";
+    case CalibrationOutcome::failed:
+      return "no usable parameter set: every evaluation failed or was penalised";
+  }
+  return "no usable parameter set";
+}
+
+bool parse_outcome(const std::string& text, CalibrationOutcome& outcome) {
+  for (CalibrationOutcome o : {CalibrationOutcome::converged, CalibrationOutcome::stopped, CalibrationOutcome::poor_fit,
+                               CalibrationOutcome::failed})
+    if (text == to_string(o)) {
+      outcome = o;
+      return true;
+    }
+  return false;
+}
+
+std::string CalibrationSummary::outcome_line() const {
+  return to_string(outcome) + (outcome_reason.empty() ? std::string() : ": " + outcome_reason);
+}
+
 std::string CalibrationSummary::brief() const {
   std::ostringstream s;
-  s << "calibration of " << model << ": " << to_string(termination) << ", objective " << format_number(objective)
+  s << "calibration of " << model << ": " << to_string(outcome) << ", objective " << format_number(objective)
     << ", " << evaluations << " evaluations (" << failed_simulations << " failed simulations), "
     << fmt("%.2f", wall_time) << " s on " << threads << (threads == 1 ? " thread\n" : " threads\n");
+  if (!outcome_reason.empty()) s << "  " << outcome_reason << "\n";
   for (const FittedParameter& p : parameters)
     if (p.status != ParameterStatus::fixed) s << parameter_line(p) << "\n";
   double worst = 0.0;
@@ -61,6 +102,7 @@ std::string CalibrationSummary::brief() const {
 std::string CalibrationSummary::full() const {
   std::ostringstream s;
   s << "Calibration of " << model << "\n";
+  s << "  outcome: " << outcome_line() << "\n";
   s << "  termination: " << to_string(termination) << ": " << message << "\n";
   s << "  objective: " << format_number(objective) << " (start " << format_number(start_objective) << ")\n";
   s << "  evaluations: " << evaluations << " (design " << design_evaluations << ", global " << global_evaluations
@@ -106,7 +148,7 @@ std::string CalibrationSummary::full() const {
         << value_text(c.rmse) << " " << unit_of(c.y) << " ("
         << (std::isnan(c.rmse) ? std::string("-") : fmt("%.2f", 100.0 * c.rmse / c.range)) << " % of range "
         << format_number(c.range) << "), R^2 " << (std::isnan(c.r_squared) ? std::string("-") : fmt("%.4f", c.r_squared))
-        << "\n";
+        << (c.poor ? "  POOR FIT" : "") << (c.used ? "" : "  (weight 0: not used)") << "\n";
   }
   s << "\nWarnings:" << (warnings.empty() ? " none\n" : "\n");
   for (const std::string& w : warnings) s << "  - " << w << "\n";

@@ -1,6 +1,7 @@
 #include "triaxcal/report.hpp"
 
 #include <algorithm>
+#include <cctype>
 #include <cmath>
 #include <cstdio>
 #include <sstream>
@@ -119,8 +120,8 @@ h3 { font-size: 15px; margin: 16px 0 6px 0; }
 .meta { color: var(--muted); margin: 0 0 10px 0; }
 .caution { border: 2px solid var(--ink); padding: 8px 12px; font-weight: bold; margin: 12px 0; }
 .outcome { padding: 8px 12px; border-left: 6px solid var(--ink); margin: 12px 0; }
-.outcome-success { background: var(--good); }
-.outcome-partial { background: var(--warn); border-left-style: double; }
+.outcome-converged { background: var(--good); }
+.outcome-stopped, .outcome-poor_fit { background: var(--warn); border-left-style: double; }
 .outcome-failed { background: var(--bad); border-left-style: dashed; border-left-width: 8px; }
 table { border-collapse: collapse; margin: 6px 0 12px 0; font-size: 13px; }
 th, td { border: 1px solid var(--rule); padding: 3px 7px; text-align: left; vertical-align: top; }
@@ -243,19 +244,26 @@ class Renderer {
       if (t.used && !t.simulated) failed.push_back(t.id);
     o_ << "<div class=\"outcome outcome-" << to_string(d_.outcome) << "\" id=\"outcome\" data-outcome=\""
        << to_string(d_.outcome) << "\">\n";
+    // One headline per outcome (docs/report.md); only converged reads as a success.
     switch (d_.outcome) {
-      case Outcome::success: o_ << "<p><b>Calibration completed.</b> "; break;
-      case Outcome::partial: o_ << "<p><b>Calibration partly failed.</b> "; break;
-      case Outcome::failed: o_ << "<p><b>Calibration failed: no usable parameter set.</b> "; break;
+      case CalibrationOutcome::converged: o_ << "<p><b>Converged.</b> "; break;
+      case CalibrationOutcome::stopped: o_ << "<p><b>Warning: stopped before converging.</b> "; break;
+      case CalibrationOutcome::poor_fit: o_ << "<p><b>Warning: poor fit.</b> "; break;
+      case CalibrationOutcome::failed: o_ << "<p><b>Failed: no usable parameter set.</b> "; break;
     }
-    if (!d_.termination.empty()) o_ << "Termination: " << esc(d_.termination) << ". ";
-    o_ << esc(d_.message) << "</p>\n";
+    std::string what = explain(d_.outcome);
+    what[0] = static_cast<char>(std::toupper(static_cast<unsigned char>(what[0])));
+    o_ << esc(what) << ".</p>\n";
+    if (!d_.outcome_reason.empty())
+      o_ << "<p id=\"outcome-reason\">" << esc(d_.outcome_reason) << "</p>\n";
+    o_ << "<p class=\"meta\">Termination: " << esc(d_.termination.empty() ? std::string("-") : d_.termination)
+       << (d_.message.empty() ? std::string() : ". " + esc(d_.message)) << "</p>\n";
     if (!failed.empty()) {
       o_ << "<p id=\"failed-tests\">Tests whose simulation failed at the reported parameters: ";
       for (std::size_t i = 0; i < failed.size(); ++i) o_ << (i ? ", " : "") << "<b>" << esc(failed[i]) << "</b>";
       o_ << ". Their curves show the measured data only; see the fit-quality table for the driver's message.</p>\n";
     }
-    if (d_.outcome == Outcome::failed)
+    if (d_.outcome == CalibrationOutcome::failed)
       o_ << "<p>The parameter table shows the starting values and bounds; they are not a result.</p>\n";
     o_ << "</div>\n";
 
@@ -678,15 +686,6 @@ class Renderer {
 };
 
 }  // namespace
-
-std::string to_string(Outcome outcome) {
-  switch (outcome) {
-    case Outcome::success: return "success";
-    case Outcome::partial: return "partial";
-    case Outcome::failed: return "failed";
-  }
-  return "failed";
-}
 
 std::string html_id(const std::string& text) {
   std::string out;

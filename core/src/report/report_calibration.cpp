@@ -189,12 +189,8 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
   for (const HistoryEntry& h : s.history) d.history.push_back({h.evaluation, h.objective, h.best, h.stage});
   d.warnings = s.warnings;
 
-  int failed = 0;
-  for (const TestReport& t : d.tests) failed += t.simulated ? 0 : 1;
-  d.outcome = !s.usable() ? Outcome::failed : failed > 0 ? Outcome::partial : Outcome::success;
-  if (d.outcome == Outcome::partial && d.message.find("failed") == std::string::npos)
-    d.message += (d.message.empty() ? "" : "; ") + std::to_string(failed) + " of " + std::to_string(d.tests.size()) +
-                 " tests could not be simulated at the reported parameters";
+  d.outcome = s.outcome;
+  d.outcome_reason = s.outcome_reason;
 
   d.provenance.emplace_back("software", "triaxcal " + prov.software_version);
   d.provenance.emplace_back("created", prov.created);

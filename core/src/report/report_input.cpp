@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <fstream>
 #include <map>
 #include <sstream>
@@ -165,6 +166,41 @@ double parse_or_nan(const std::string& s) {
   }
 }
 
+// The outcome of a result written before outcomes were recorded (report input version 1, or a
+// parameter set without fit.outcome), from its termination and its curves' R^2 against the default
+// threshold of CalibrationOptions::min_r_squared. Tests that could not be simulated count as a
+// poor fit here: such files still carry a parameter set.
+void derive_outcome(ReportData& d, const std::string& source) {
+  const std::string note = " (derived: " + source + " records no outcome)";
+  if (d.termination == "no_usable_result" || d.termination == "not_run") {
+    d.outcome = CalibrationOutcome::failed;
+    d.outcome_reason = "no usable parameter set" + note;
+    return;
+  }
+  const double threshold = CalibrationOptions{}.min_r_squared;
+  std::string poor;
+  for (const TestReport& t : d.tests) {
+    if (!t.used) continue;
+    if (!t.simulated) poor += (poor.empty() ? "" : ", ") + t.id + " (not simulated)";
+    for (const CurveQuality& q : t.quality)
+      if (std::isfinite(q.r_squared) && q.r_squared < threshold) {
+        char b[32];
+        std::snprintf(b, sizeof b, "%.3f", q.r_squared);
+        poor += (poor.empty() ? "" : ", ") + t.id + " " + q.name.substr(0, q.name.find(" vs ")) + " (R^2 = " + b + ")";
+      }
+  }
+  if (!poor.empty()) {
+    d.outcome = CalibrationOutcome::poor_fit;
+    d.outcome_reason = "the model does not follow " + poor + note;
+  } else if (d.termination == "converged") {
+    d.outcome = CalibrationOutcome::converged;
+    d.outcome_reason = "termination converged" + note;
+  } else {
+    d.outcome = CalibrationOutcome::stopped;
+    d.outcome_reason = "termination " + (d.termination.empty() ? std::string("not recorded") : d.termination) + note;
+  }
+}
+
 ReportData from_fit_files(const std::filesystem::path& params_path, const std::filesystem::path& csv_path) {
   const std::string source = params_path.string();
   const json root = detail::parse_json(detail::read_text_file(source), source);
@@ -195,10 +231,16 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
     }
   }
   std::map<std::string, std::size_t> index;
+  bool recorded_outcome = false;
   if (root.contains("fit") && root["fit"].is_object()) {
     const json& fit = root["fit"];
     d.termination = fit.value("termination", std::string());
     d.message = fit.value("message", std::string());
+    if (fit.contains("outcome") && fit["outcome"].is_string() &&
+        parse_outcome(fit["outcome"].get<std::string>(), d.outcome)) {
+      recorded_outcome = true;
+      d.outcome_reason = fit.value("outcome_reason", std::string());
+    }
     if (fit.contains("objective") && fit["objective"].is_number()) d.objective = fit["objective"].get<double>();
     if (fit.contains("evaluations") && fit["evaluations"].is_number()) d.evaluations = fit["evaluations"].get<long>();
     if (fit.contains("wall_time_s") && fit["wall_time_s"].is_number()) d.wall_time = fit["wall_time_s"].get<double>();
@@ -316,9 +358,7 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
         q.residuals = {};
     }
   }
-  int failed = 0;
-  for (const TestReport& t : d.tests) failed += t.simulated ? 0 : 1;
-  d.outcome = d.termination == "no_usable_result" ? Outcome::failed : failed > 0 ? Outcome::partial : Outcome::success;
+  if (!recorded_outcome) derive_outcome(d, source);
   d.provenance.emplace_back("report built from", params_path.filename().string() + " and " +
                                                      csv_path.filename().string() +
                                                      " (no report input: no optimiser history, no stress paths)");
@@ -347,6 +387,7 @@ std::string report_input_json(const ReportData& d) {
   root["model"] = d.model;
   root["model_description"] = d.model_description;
   root["outcome"] = to_string(d.outcome);
+  root["outcome_reason"] = d.outcome_reason;
   root["termination"] = d.termination;
   root["message"] = d.message;
   root["objective"] = number(d.objective);
@@ -414,10 +455,13 @@ std::string report_input_json(const ReportData& d) {
 ReportData parse_report_input(const std::string& text, const std::string& source) {
   const json root = detail::parse_json(text, source);
   detail::require_object(root, source, "");
-  detail::check_format(root, kReportInputFormat, kReportInputVersion, source);
+  // Version 1 wrote the outcome as success/partial/failed; it is read and its outcome derived again.
+  const bool version1 = root.contains("version") && root.at("version") == 1;
+  detail::check_format(root, kReportInputFormat, version1 ? 1 : kReportInputVersion, source);
   const Reader r{source};
   r.object(root, "",
-           {"format", "version", "title", "project", "model", "model_description", "outcome", "termination", "message",
+           {"format", "version", "title", "project", "model", "model_description", "outcome", "outcome_reason",
+            "termination", "message",
             "objective", "start_objective", "evaluations", "wall_time", "tests", "parameters", "correlation",
             "comparisons", "strength", "history", "warnings", "excluded", "provenance", "caution"});
   ReportData d;
@@ -425,11 +469,14 @@ ReportData parse_report_input(const std::string& text, const std::string& source
   d.project = r.str(root, "project", "");
   d.model = r.str(root, "model", "");
   d.model_description = r.str(root, "model_description", "");
-  const std::string outcome = r.str(root, "outcome", "", "success");
-  if (outcome == "success") d.outcome = Outcome::success;
-  else if (outcome == "partial") d.outcome = Outcome::partial;
-  else if (outcome == "failed") d.outcome = Outcome::failed;
-  else r.fail("outcome", "expected success, partial or failed, found \"" + outcome + "\"");
+  const std::string outcome = r.str(root, "outcome", "");
+  if (version1) {
+    if (!outcome.empty() && outcome != "success" && outcome != "partial" && outcome != "failed")
+      r.fail("outcome", "expected success, partial or failed (version 1), found \"" + outcome + "\"");
+  } else if (!parse_outcome(outcome, d.outcome)) {
+    r.fail("outcome", "expected converged, stopped, poor_fit or failed, found \"" + outcome + "\"");
+  }
+  d.outcome_reason = r.str(root, "outcome_reason", "");
   d.termination = r.str(root, "termination", "");
   d.message = r.str(root, "message", "");
   d.objective = r.num(root, "objective", "");
@@ -551,6 +598,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
   });
   d.caution = r.str(root, "caution", "", kCautionText);
   if (d.caution.empty()) d.caution = kCautionText;
+  if (version1) derive_outcome(d, source);
   return d;
 }
 
