@@ -192,8 +192,9 @@ void write_contents(const Writer& w, hid_t file, const CalibrationSummary& s, co
     w.attribute(g, "objective", tf.objective);
     const hid_t curves = w.group(g, "curves");
     for (const CurveFit& c : tf.curves) {
+      // A quantity compared more than once in a test (each stage of a multi-stage specimen): _2, _3, ...
       std::string name = to_string(c.y);
-      if (H5Lexists(curves, name.c_str(), H5P_DEFAULT) > 0) name += "_" + std::to_string(t);
+      for (int n = 2; H5Lexists(curves, name.c_str(), H5P_DEFAULT) > 0; ++n) name = to_string(c.y) + "_" + std::to_string(n);
       const hid_t cg = w.group(curves, name);
       w.doubles(cg, to_string(c.x), c.xs, unit_of(c.x));
       w.doubles(cg, "measured", c.measured, unit_of(c.y));
