@@ -1,9 +1,11 @@
 // `triaxcal fit` end to end on the invented demo series (examples/calibrate): results load back into
 // `triaxcal simulate`, bad calibration files exit 2 with exact messages, Ctrl-C keeps the best point
-// and leaves no half-written file.
+// and leaves no half-written file, and each outcome (converged, stopped, poor_fit, failed) is reached
+// by a real calibration and shown alike on the command line, in the JSON and in the report.
 
 #include <catch2/catch.hpp>
 
+#include <cstdio>
 #include <filesystem>
 #include <fstream>
 
@@ -63,6 +65,9 @@ TEST_CASE("fit of the demo series writes a parameter set that triaxcal simulate 
   REQUIRE(r.exit_code == 0);
   CHECK(r.out.find("Caution:") != std::string::npos);
   CHECK(r.out.find("calibration of mohr_coulomb: converged") != std::string::npos);
+  CHECK(r.out.find("\noutcome:       converged: the local (bobyqa) stage met its tolerance; every used curve has R^2 >= 0.9") !=
+        std::string::npos);
+  CHECK(r.err.empty());
   for (const char* f : {"fit_ok.parameters.json", "fit_ok.curves.csv", "fit_ok.h5", "fit_ok.report.txt"})
     CHECK(fs::exists(fs::path("fit_ok_out") / f));
   const auto json = nlohmann::json::parse(slurp("fit_ok_out/fit_ok.parameters.json"));
@@ -73,6 +78,10 @@ TEST_CASE("fit of the demo series writes a parameter set that triaxcal simulate 
   CHECK(json["provenance"]["inputs"].size() == 5);
   CHECK(json["provenance"]["inputs"][0]["sha256"].get<std::string>().size() == 64);
   CHECK(json["caution"].get<std::string>().rfind("Caution:", 0) == 0);
+  CHECK(json["fit"]["outcome"] == "converged");
+  const auto html = slurp("fit_ok_out/fit_ok.report.html");
+  CHECK(html.find("<div class=\"outcome outcome-converged\" id=\"outcome\" data-outcome=\"converged\">") !=
+        std::string::npos);
   const CliResult sim = run_cli("simulate --model mohr_coulomb --params fit_ok_out/fit_ok.parameters.json --protocol " +
                                     source_path("examples/simulate/cd_100.json"),
                                 "fit_ok_sim");
@@ -120,7 +129,12 @@ TEST_CASE("bad calibration files exit 2 with exact messages and write nothing", 
     CHECK(error_of(f) == "triaxcal: error: " + f + ": options.globl: unknown key 'globl' (expected one of: global, "
                                                    "global_evaluations, global_runs, local, local_evaluations, starts, design_points, "
                                                    "relative_tolerance, x_tolerance, max_seconds, seed, threads, loss, "
-                                                   "loss_scale, failure_penalty, uncertainty, jacobian_step, correlation_warning)\n");
+                                                   "loss_scale, failure_penalty, uncertainty, jacobian_step, correlation_warning, "
+                                                   "min_r_squared)\n");
+  }
+  {
+    const std::string f = write("fit_bad_r2.json", calibration(parameters(), kTests, R"({"min_r_squared": 2})"));
+    CHECK(error_of(f) == "triaxcal: error: " + f + ": calibration options: min_r_squared = 2 must be in [-1, 1]\n");
   }
 }
 
@@ -139,6 +153,8 @@ TEST_CASE("Ctrl-C during a fit stops cleanly, keeps the best point so far and le
   CHECK(slurp("fit_int.out").find("stopped") != std::string::npos);
   const auto json = nlohmann::json::parse(slurp("fit_int_out/fit_int.parameters.json"));
   CHECK(json["fit"]["termination"] == "stopped");
+  CHECK(json["fit"]["outcome"] == "stopped");
+  CHECK(json["fit"]["outcome_reason"].get<std::string>().rfind("stopped on request (the progress callback; Ctrl-C in triaxcal fit) after ", 0) == 0);
   CHECK(fs::exists("fit_int_out/fit_int.h5"));
   for (const auto& entry : fs::directory_iterator("fit_int_out"))
     CHECK(entry.path().filename().string().find(".tmp") == std::string::npos);
@@ -162,4 +178,135 @@ TEST_CASE("free parameters without a start take theirs from the classical interp
   // The interpretation of the invented demo data gives phi' close to the 34 deg they were made with.
   const auto pos = r.out.find("friction_angle: start ");
   CHECK(std::stod(r.out.substr(pos + 22)) == Approx(34).margin(1.5));
+}
+
+namespace {
+
+const std::string kTwoTests =
+    R"([{"specimen": "CD-50", "curves": ["deviator_stress", "volumetric_strain"]},
+        {"specimen": "CD-100", "curves": ["deviator_stress", "volumetric_strain"]}])";
+
+std::string report_outcome(const std::string& report_input) {
+  return nlohmann::json::parse(slurp(report_input))["outcome"].get<std::string>();
+}
+
+}  // namespace
+
+TEST_CASE("a fit stopped by a tiny evaluation budget says stopped, names the key to raise and still exits 0",
+          "[cli][fit][outcome]") {
+  fs::remove_all("fit_stop_out");
+  // Started next to the values the invented demo data were made with, so every curve fits; twelve
+  // evaluations are too few for the local stage to meet its tolerance.
+  const std::string p = R"({"youngs_modulus": {"status": "free", "lower": 5000, "upper": 200000, "start": 24000, "scale": "log"},
+    "poissons_ratio": {"status": "free", "lower": 0.05, "upper": 0.45, "start": 0.3},
+    "cohesion": {"status": "free", "lower": 0, "upper": 30, "start": 4},
+    "friction_angle": {"status": "free", "lower": 20, "upper": 45, "start": 34},
+    "dilation_angle": {"status": "free", "lower": 0, "upper": 20, "start": 5}, "tensile_strength": 0})";
+  const std::string f = write("fit_stop.json", calibration(p, kTwoTests, R"({"local": "bobyqa", "local_evaluations": 12})"));
+  const std::string reason =
+      "the local (bobyqa) stage used its budget of 12 evaluations before it met its tolerance: raise options.local_evaluations";
+  const CliResult r = run_cli("fit " + f + " --out fit_stop_out --report", "fit_stop");
+  INFO(r.out << r.err);
+  CHECK(r.exit_code == 0);
+  CHECK(r.out.find("calibration of mohr_coulomb: stopped, objective ") == 0);
+  CHECK(r.out.find("\noutcome:       stopped: " + reason + "\n") != std::string::npos);
+  CHECK(r.err == "triaxcal: warning: fit: stopped: " + reason + "\n");
+  const auto json = nlohmann::json::parse(slurp("fit_stop_out/fit_stop.parameters.json"));
+  CHECK(json["fit"]["outcome"] == "stopped");
+  CHECK(json["fit"]["outcome_reason"] == reason);
+  CHECK(json["fit"]["termination"] == "evaluation_limit");
+  CHECK(report_outcome("fit_stop_out/fit_stop.report.json") == "stopped");
+  const auto html = slurp("fit_stop_out/fit_stop.report.html");
+  CHECK(html.find("<div class=\"outcome outcome-stopped\" id=\"outcome\" data-outcome=\"stopped\">") != std::string::npos);
+  CHECK(html.find("<p id=\"outcome-reason\">" + reason + "</p>") != std::string::npos);
+  // The same fit with --require-converged writes the same files and exits 5.
+  const CliResult strict = run_cli("fit " + f + " --out fit_stop_out --require-converged", "fit_stop_strict");
+  CHECK(strict.exit_code == 5);
+  CHECK(fs::exists("fit_stop_out/fit_stop.parameters.json"));
+}
+
+TEST_CASE("a model that cannot follow the curves gives poor_fit naming each used curve with its R^2",
+          "[cli][fit][outcome]") {
+  fs::remove_all("fit_poor_out");
+  // Mohr-Coulomb with phi' fixed at 22 deg and no dilation cannot reach the strength and the
+  // dilation of the demo data (made with phi' = 34 deg, psi = 5 deg, invented): only E' is free.
+  const std::string p = R"({"youngs_modulus": {"status": "free", "lower": 5000, "upper": 200000, "start": 15000, "scale": "log"},
+    "poissons_ratio": 0.3, "cohesion": 0, "friction_angle": 22, "dilation_angle": 0, "tensile_strength": 0})";
+  const std::string f = write("fit_poor.json", calibration(p, kTwoTests, R"({"local": "bobyqa"})"));
+  const CliResult r = run_cli("fit " + f + " --out fit_poor_out --report", "fit_poor");
+  INFO(r.out << r.err);
+  CHECK(r.exit_code == 0);
+  const auto json = nlohmann::json::parse(slurp("fit_poor_out/fit_poor.parameters.json"));
+  CHECK(json["fit"]["outcome"] == "poor_fit");
+  // The reason lists every used curve whose R^2 (as the JSON records it) is below 0.9, in order.
+  std::string listed;
+  int poor = 0;
+  for (const auto& t : json["fit"]["tests"])
+    for (const auto& c : t["curves"]) {
+      const double r2 = c["r_squared"].get<double>();
+      CHECK(c["poor_fit"].get<bool>() == (r2 < 0.9));
+      if (r2 >= 0.9) continue;
+      char b[32];
+      std::snprintf(b, sizeof b, "%.3f", r2);
+      listed += (listed.empty() ? "" : ", ") + t["id"].get<std::string>() + " " + c["quantity"].get<std::string>() +
+                " (R^2 = " + b + ")";
+      ++poor;
+    }
+  REQUIRE(poor >= 2);
+  CHECK(listed.find("CD-50 deviator_stress (R^2 = -") == 0);
+  const std::string reason = "the model does not follow " + std::to_string(poor) +
+                             " used curves (R^2 below min_r_squared = 0.9): " + listed;
+  CHECK(json["fit"]["outcome_reason"] == reason);
+  CHECK(r.out.find("\noutcome:       poor_fit: " + reason + "\n") != std::string::npos);
+  CHECK(r.err == "triaxcal: warning: fit: poor_fit: " + reason + "\n");
+  CHECK(report_outcome("fit_poor_out/fit_poor.report.json") == "poor_fit");
+  const auto html = slurp("fit_poor_out/fit_poor.report.html");
+  CHECK(html.find("<div class=\"outcome outcome-poor_fit\" id=\"outcome\" data-outcome=\"poor_fit\">") != std::string::npos);
+  CHECK(html.find("<b>Warning: poor fit.</b>") != std::string::npos);
+}
+
+TEST_CASE("a local-only fit whose start point fails is failed with exit 4, never converged at the penalty",
+          "[cli][fit][outcome]") {
+  fs::remove_all("fit_failstart_out");
+  // Start psi' = 38 deg above phi' = 25 deg: Mohr-Coulomb rejects it, and so every point the local
+  // stage tries near it; the penalty is flat there, so the local stage "meets its tolerance" on it.
+  const std::string p = R"({"youngs_modulus": {"status": "free", "lower": 5000, "upper": 200000, "start": 15000, "scale": "log"},
+    "poissons_ratio": 0.3, "cohesion": 0, "friction_angle": {"status": "free", "lower": 20, "upper": 45, "start": 25},
+    "dilation_angle": {"status": "free", "lower": 0, "upper": 40, "start": 38}, "tensile_strength": 0})";
+  const std::string f = write("fit_failstart.json", calibration(p, kTwoTests, R"({"local": "bobyqa"})"));
+  const CliResult r = run_cli("fit " + f + " --out fit_failstart_out --report", "fit_failstart");
+  INFO(r.out << r.err);
+  CHECK(r.exit_code == 4);
+  CHECK(r.out.find("calibration of mohr_coulomb: failed, objective 40, ") == 0);
+  CHECK(r.out.find("converged") == std::string::npos);
+  CHECK(r.err.rfind("triaxcal: fit: failed: no point free of a failure penalty in ", 0) == 0);
+  CHECK(r.err.find(" evaluations; at the best point the model rejected the parameters: " + f +
+                   ": mohr_coulomb: dilation_angle = 38 deg must not exceed "
+                   "friction_angle = 25 deg: the start point failed and nothing better was found; check the start values, "
+                   "or add design_points or a global stage (report input: fit_failstart_out/fit_failstart.report.json)\n") !=
+        std::string::npos);
+  CHECK_FALSE(fs::exists("fit_failstart_out/fit_failstart.parameters.json"));
+  const auto input = nlohmann::json::parse(slurp("fit_failstart_out/fit_failstart.report.json"));
+  CHECK(input["outcome"] == "failed");
+  CHECK(input["termination"] == "no_usable_result");
+  const auto html = slurp("fit_failstart_out/fit_failstart.report.html");
+  CHECK(html.find("<div class=\"outcome outcome-failed\" id=\"outcome\" data-outcome=\"failed\">") != std::string::npos);
+}
+
+TEST_CASE("a problem where every evaluation fails is failed with exit 4 and says the search found nothing",
+          "[cli][fit][outcome]") {
+  fs::remove_all("fit_allfail_out");
+  // psi' in [30, 40] deg and phi' in [20, 25] deg: Mohr-Coulomb rejects every point of the box.
+  const std::string p = R"({"youngs_modulus": {"status": "free", "lower": 5000, "upper": 200000, "start": 15000, "scale": "log"},
+    "poissons_ratio": 0.3, "cohesion": 0, "friction_angle": {"status": "free", "lower": 20, "upper": 25, "start": 22},
+    "dilation_angle": {"status": "free", "lower": 30, "upper": 40, "start": 35}, "tensile_strength": 0})";
+  const std::string f = write("fit_allfail.json", calibration(p, kTwoTests, R"({"local": "bobyqa", "design_points": 20})"));
+  const CliResult r = run_cli("fit " + f + " --out fit_allfail_out", "fit_allfail");
+  INFO(r.out << r.err);
+  CHECK(r.exit_code == 4);
+  CHECK(r.err.rfind("triaxcal: fit: failed: no point free of a failure penalty in ", 0) == 0);
+  CHECK(r.err.find(": the start point failed and no point of the search did better; check the bounds and the tests named "
+                   "(report input: fit_allfail_out/fit_allfail.report.json)\n") != std::string::npos);
+  CHECK_FALSE(fs::exists("fit_allfail_out/fit_allfail.parameters.json"));
+  CHECK(report_outcome("fit_allfail_out/fit_allfail.report.json") == "failed");
 }
