@@ -9,47 +9,12 @@
 #include "triaxcal/error.hpp"
 #include "triaxcal/interpret.hpp"
 
+#include "synthetic_specimen.hpp"
+
 using namespace triaxcal;
 using namespace triaxcal::test;
 
 namespace {
-
-/// A consolidated specimen with one shear stage (stage index 2) and the given curves; effective
-/// radial stress s3 - du, axial s_r' + q, constant cell pressure s3 + 300 (back pressure 300).
-Specimen make_specimen(const std::string& id, ShearType test, double s3, const std::vector<double>& ea,
-                       const std::vector<double>& q, const std::vector<double>& ev, const std::vector<double>& du,
-                       const std::vector<double>& e = {}) {
-  Specimen s;
-  s.id = id;
-  s.back_pressure = 300.0;
-  SpecimenStage sat;
-  sat.type = SpecimenStageType::saturation;
-  SpecimenStage con;
-  con.type = SpecimenStageType::consolidation;
-  con.axial_stress = con.radial_stress = s3;
-  SpecimenStage sh;
-  sh.type = SpecimenStageType::shear;
-  sh.shear = test;
-  s.stages = {sat, con, sh};
-  ReducedCurves& c = s.curves;
-  for (std::size_t i = 0; i < ea.size(); ++i) {
-    const double u = du.empty() ? 0.0 : du[i];
-    const double sr = s3 - u;
-    c.stage.push_back(2);
-    c.line.push_back(static_cast<int>(i) + 2);
-    c.axial_strain.push_back(ea[i]);
-    c.volumetric_strain.push_back(ev.empty() ? 0.0 : ev[i]);
-    c.deviator_stress.push_back(q[i]);
-    c.excess_pore_pressure.push_back(u);
-    c.radial_stress.push_back(test == ShearType::uu ? kNotGiven : sr);
-    c.axial_stress.push_back(test == ShearType::uu ? kNotGiven : sr + q[i]);
-    c.mean_stress.push_back(test == ShearType::uu ? kNotGiven : sr + q[i] / 3.0);
-    c.cell_pressure.push_back(s3 + 300.0);
-    c.void_ratio.push_back(e.empty() ? kNotGiven : e[i]);
-  }
-  s.data_zero_stage = 2;
-  return s;
-}
 
 /// A drained curve at constant s3' rising linearly to q_f at 2 % strain, then softening to 0.9 q_f.
 Specimen drained_to_failure(const std::string& id, double s3, double qf) {
@@ -124,44 +89,39 @@ TEST_CASE("for CD tests at constant s3' the max-deviator and max-stress-ratio cr
   }
 }
 
-TEST_CASE("the dilation-angle formula recovers psi from a synthetic drained curve with a known dilation rate", "[interpret][dilatancy]") {
-  // Mohr-Coulomb flow rule in triaxial compression: d e_v / d e_a = -2 sin psi / (1 - sin psi).
+TEST_CASE("the dilation angle is recovered exactly from a noise-free Mohr-Coulomb drained curve", "[interpret][dilatancy]") {
+  // Closed form (hand calculation, synthetic_specimen.hpp): after yield d eps_v/d eps_a = -2 sin psi/(1 - sin psi)
+  // in natural strain increments; the curve is handed over as engineering strains, as a lab reports it.
   const double psi = 12.0;
   const double sp = std::sin(degrees_to_radians(psi));
   const double rate = -2.0 * sp / (1.0 - sp);
-  std::vector<double> ea, q, ev;
-  for (int i = 0; i <= 50; ++i) {
-    const double e = 0.002 * i;
-    ea.push_back(e);
-    q.push_back(200.0 * e / (0.01 + e));
-    ev.push_back(e <= 0.01 ? 0.3 * e : 0.003 + rate * (e - 0.01));
-  }
   TestSeries series;
-  series.specimens.push_back(make_specimen("D", ShearType::cd, 100.0, ea, q, ev, {}));
+  series.specimens.push_back(drained_specimen("D", 100.0, mohr_coulomb_drained(100.0, 30000.0, 0.3, 33.0, 0.0, psi, 0.1, 0.002), nullptr));
   const Interpretation r = interpret(series, InterpretOptions{});
   CHECK(r.stages[0].max_dilation_rate == Approx(rate).epsilon(kExact));
   CHECK(r.stages[0].dilation_angle == Approx(psi).epsilon(kExact));
+  CHECK(r.stages[0].dilation_reason.empty());
+  // Noise-free: the local window is the fewest points (5, four spacings of 0.002 in natural axial strain).
+  CHECK(r.stages[0].dilation_window.width == Approx(0.008).epsilon(1e-6));
 }
 
 TEST_CASE("Rowe's stress-dilatancy R = K_cv D on synthetic points returns phi_cv", "[interpret][dilatancy]") {
-  // Rowe (1962), Proc. R. Soc. A 269: s1'/s3' = K D with D = 1 - d e_v/d e_1, K = tan^2(45 + phi_cv/2).
+  // Rowe (1962), Proc. R. Soc. A 269: s1'/s3' = K D with D = 1 - d eps_v/d eps_1, K = tan^2(45 + phi_cv/2);
+  // rates in natural strain increments, the curve handed over as engineering strains.
   const double phi_cv = 33.0, s3 = 100.0;
   const double kcv = std::pow(std::tan(degrees_to_radians(45.0 + phi_cv / 2.0)), 2);
-  std::vector<double> ea, q, ev;
-  double v = 0.0;
+  DrainedCurve d;
   for (int i = 0; i <= 80; ++i) {
-    const double e = 0.0025 * i;
-    const double d = -0.6 * std::exp(-e / 0.05);  // dilation rate decaying to zero
-    if (i > 0) v += d * 0.0025;
-    ea.push_back(e);
-    ev.push_back(v);
-    q.push_back(s3 * (kcv * (1.0 - d) - 1.0));
+    const double x = 0.0025 * i;
+    const double rate = -0.6 * std::exp(-x / 0.05);  // dilation rate decaying to zero
+    d.x.push_back(x);
+    d.y.push_back(-0.6 * 0.05 * (1.0 - std::exp(-x / 0.05)));  // its integral
+    d.q.push_back(i == 0 ? 0.0 : s3 * (kcv * (1.0 - rate) - 1.0));
   }
-  q[0] = 0.0;
   TestSeries series;
-  series.specimens.push_back(make_specimen("R", ShearType::cd, s3, ea, q, ev, {}));
+  series.specimens.push_back(drained_specimen("R", s3, d, nullptr));
   const Interpretation r = interpret(series, InterpretOptions{});
-  // The sliding slope of an exponential is not exact: within 0.3 deg.
+  // A least-squares slope of an exponential over a window is not exact: within 0.3 deg.
   CHECK(r.stages[0].phi_cv_rowe == Approx(phi_cv).margin(0.3));
 }
 

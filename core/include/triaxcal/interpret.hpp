@@ -50,6 +50,17 @@ struct FailurePoint {
   double cell_pressure = kNotGiven;         ///< total s3 (kPa)
 };
 
+/// Where a stage's peak dilation rate was taken: local windows of `width` give a rate at every
+/// point; the peak rate is the least-squares slope over the stretch [from, to] around the most
+/// negative of them (interpret.cpp).
+struct DilationWindow {
+  double width = kNotGiven;   ///< width of the local windows in natural axial strain (-), the same for every point of a stage
+  double from = kNotGiven;    ///< first point of the peak stretch: engineering axial strain from the stage start (-)
+  double to = kNotGiven;      ///< last point of the peak stretch (-)
+  int points = 0;             ///< points in the peak stretch
+  double noise = kNotGiven;   ///< scatter of eps_v about a smooth curve estimated from the stage (-)
+};
+
 /// Results of one shear stage.
 struct StageInterpretation {
   std::string specimen;
@@ -64,10 +75,18 @@ struct StageInterpretation {
   double undrained_strength = kNotGiven;    ///< c_u = (s1 - s3)_max / 2 (kPa), undrained stages
   double initial_stiffness = kNotGiven;     ///< E_i (kPa): slope of q-e_a up to 20 % of peak q
   double secant_stiffness_50 = kNotGiven;   ///< E_50 (kPa): secant to 50 % of peak q
+  std::string initial_stiffness_reason;     ///< why E_i is not determined (empty when it is)
+  std::string secant_stiffness_reason;      ///< why E_50 is not determined (empty when it is)
   std::vector<double> unload_reload_stiffness;  ///< E_ur (kPa) of each loop
-  double max_dilation_rate = kNotGiven;     ///< most negative d e_v / d e_a (drained)
+  // Dilatancy (drained): rates d = d eps_v / d eps_a in natural (logarithmic) strain increments in
+  // the shear direction, each a least-squares slope over a window of axial strain (DilationWindow).
+  double max_dilation_rate = kNotGiven;     ///< most negative d (drained)
+  double max_dilation_rate_se = kNotGiven;  ///< its standard error from the window's regression
   double dilation_angle = kNotGiven;        ///< psi (deg) from the peak dilation rate
+  DilationWindow dilation_window;           ///< the window the peak rate was taken over
+  std::string dilation_reason;              ///< why psi is not determined (empty when it is)
   double phi_cv_rowe = kNotGiven;           ///< phi_cv (deg) from the stress-dilatancy points
+  std::string phi_cv_reason;                ///< why phi_cv is not determined (empty when it is)
   double bolton_index = kNotGiven;          ///< Bolton's I_R where the relative density is given
   double bolton_phi_difference = kNotGiven; ///< 3 I_R (deg), Bolton (1986) triaxial
   double measured_phi_difference = kNotGiven;  ///< phi_peak - phi_cv (deg) from this test
@@ -102,6 +121,18 @@ struct UsedPoint {
   std::string reason;  ///< why it was left out
 };
 
+/// Which branch of the design-line rule gave the line.
+enum class DesignLineForm {
+  not_determined,
+  lower_bound,   ///< the line under the lower 95 % bound of the regression mean (cohesion 0 or more)
+  origin_secant, ///< c' = 0: the secant from the origin to the lower bound at the largest s' used
+};
+
+TRIAXCAL_CORE_EXPORT std::string to_string(DesignLineForm form);
+
+/// The design-line rule in words, as stated in the outputs (our rule; see interpret.cpp).
+TRIAXCAL_CORE_EXPORT extern const char* const kDesignLineRule;
+
 struct StrengthEnvelope {
   FailureCriterion criterion = FailureCriterion::max_deviator;
   LineFit st;                     ///< t = a + s' tan(alpha)
@@ -112,12 +143,17 @@ struct StrengthEnvelope {
   LineFit pq;                     ///< q = d + M p'
   double phi_pq = kNotGiven;      ///< sin phi' = 3M/(6+M)
   double cohesion_pq = kNotGiven; ///< c' = d (3 - sin phi')/(6 cos phi')
-  double design_phi = kNotGiven;      ///< deg, conservative design line
-  double design_cohesion = kNotGiven; ///< kPa
+  std::string pq_reason;          ///< why phi_pq is not determined (empty when it is)
+  // Design line (kDesignLineRule): never a negative cohesion, never a phi' above the best fit's.
+  double design_phi = kNotGiven;      ///< deg
+  double design_cohesion = kNotGiven; ///< kPa, 0 or more
+  DesignLineForm design_form = DesignLineForm::not_determined;
+  std::string design_reason;      ///< why there is no design line (empty when there is)
   double power_a = kNotGiven;     ///< t = power_a p_ref (s'/p_ref)^power_b
   double power_b = kNotGiven;
+  std::string power_reason;       ///< why the power law is not determined (empty when it is)
   std::vector<UsedPoint> points;
-  std::string note;               ///< why no fit, when none
+  std::string note;               ///< why no fit (phi' and c' not determined), when none
 };
 
 struct StiffnessLaw {
@@ -126,6 +162,7 @@ struct StiffnessLaw {
   double exponent = kNotGiven;    ///< m
   double r2 = kNotGiven;
   std::string basis;              ///< which tests
+  std::string reason;             ///< why the law is not determined (empty when it is)
 };
 
 struct Interpretation {
@@ -142,8 +179,13 @@ struct Interpretation {
   // critical state
   int cs_count = 0;
   double critical_m = kNotGiven, phi_cs = kNotGiven;
-  LineFit csl;                     ///< e = Gamma - lambda ln p' (p' in kPa): intercept Gamma, slope -lambda
+  std::string critical_m_reason;   ///< why M and phi_cs are not determined (empty when they are)
+  /// e = Gamma - lambda ln p' (p' in kPa): intercept Gamma, slope -lambda. Intercept and slope are
+  /// NaN when the line is not determined (n, x_min, x_max still say what the data were).
+  LineFit csl;
+  std::string csl_reason;          ///< why the critical-state line is not determined (empty when it is)
   double phi_cv_rowe = kNotGiven;  ///< mean over drained stages
+  std::string phi_cv_rowe_reason;  ///< why the mean is not determined (empty when it is)
   // compressibility
   struct Compressibility {
     std::string specimen;
@@ -153,6 +195,7 @@ struct Interpretation {
     double compression_index = kNotGiven, swelling_index = kNotGiven;  ///< C_c, C_s in e - log10 = lambda, kappa ln 10
     double constrained_modulus = kNotGiven;         ///< oedometer: d s_a' / d e_a on the first loading (kPa)
     double constrained_modulus_stress = kNotGiven;  ///< the s_a' it is taken at (kPa): InterpretOptions::reference_pressure
+    std::string lambda_reason, kappa_reason, constrained_modulus_reason;  ///< why not determined (empty when it is)
   };
   std::vector<Compressibility> compressibility;
   // pore pressure

@@ -8,7 +8,25 @@
 #include "triaxcal/error.hpp"
 #include "triaxcal/parameters.hpp"
 
+#include "local_rate.hpp"
+
 namespace triaxcal {
+
+const char* const kDesignLineRule =
+    "our rule, no source: the chord of the lower one-sided 95 % confidence bound of the s'-t regression mean (Student t, "
+    "n - 2 degrees of freedom) between the smallest and the largest s' used, no steeper than the best fit (else the "
+    "best-fit slope, under the bound at both ends); where that line's intercept would be negative, c' = 0 and the "
+    "secant from the origin to the bound at the largest s' used (no steeper than the best fit), which lies under any "
+    "concave envelope through the origin above the bound there; 3 or more failure points";
+
+std::string to_string(DesignLineForm form) {
+  switch (form) {
+    case DesignLineForm::not_determined: return "not determined";
+    case DesignLineForm::lower_bound: return "lower-bound chord";
+    case DesignLineForm::origin_secant: return "c' = 0, secant from the origin";
+  }
+  return "?";
+}
 
 std::string to_string(FailureCriterion c) {
   switch (c) {
@@ -90,16 +108,18 @@ constexpr double kInitialFraction = 0.2;
 /// 3 % and (drained) the dilation rate is within +-0.05; the stage reached 10 % axial strain.
 /// Common practice for identifying critical states from lab curves, no source.
 constexpr double kSteadyWindow = 0.2, kSteadyQ = 0.03, kSteadyRate = 0.05, kSteadyStrain = 0.10;
-/// Half-width (points) of the sliding regression for d e_v / d e_a.
-constexpr int kRateHalfWidth = 2;
+/// A power law or a semi-log line needs stresses that span at least this factor (largest / smallest)
+/// to determine its slope (common practice, no source).
+constexpr double kMinStressSpan = 1.25;
 
+/// The curves of one stage in the shear direction. The series gives every point's strains as
+/// engineering strains relative to the specimen at the start of the point's own stage (series.hpp).
 struct StageView {
   const Specimen* sp;
   int first, last;
   double dir;
-  double e0;  // axial strain at the stage start
   std::size_t at(int i) const { return static_cast<std::size_t>(i); }
-  double ea(int i) const { return dir * (sp->curves.axial_strain[at(i)] - e0); }
+  double ea(int i) const { return dir * sp->curves.axial_strain[at(i)]; }
   double qd(int i) const { return dir * sp->curves.deviator_stress[at(i)]; }
   double s1(int i) const { return dir > 0 ? sp->curves.axial_stress[at(i)] : sp->curves.radial_stress[at(i)]; }
   double s3(int i) const { return dir > 0 ? sp->curves.radial_stress[at(i)] : sp->curves.axial_stress[at(i)]; }
@@ -128,6 +148,113 @@ bool in_loop(const SpecimenStage& st, double e) {
   return false;
 }
 
+/// Dilatancy of a drained stage from its points outside unload-reload loops: the local rates
+/// d = d eps_v / d eps_a (local_rate.hpp), the most negative of them (over windows that lie within the
+/// data) and psi from it, Rowe's phi_cv from the rates past 50 % of the peak q.
+void interpret_dilatancy(const Specimen& sp, const SpecimenStage& st, const StageView& v, double q0, double qpk,
+                         StageInterpretation& r) {
+  const ReducedCurves& c = sp.curves;
+  const bool compression = v.dir > 0.0;
+  // Natural strains from the stage start, axial in the shear direction: eps = -ln(1 - e) for the
+  // engineering stage strain e (conventions.hpp). A flow rule relates strain increments of the
+  // current specimen, which natural strains add up exactly; engineering strains give rates that
+  // differ by (1 - e_v) / (1 - e_a), 4 % at e_a = 3 %, e_v = -1 %.
+  std::vector<int> idx;
+  std::vector<double> x, y;
+  for (int i = v.first; i <= v.last; ++i) {
+    const double a = c.axial_strain[v.at(i)], e = c.volumetric_strain[v.at(i)];
+    if (in_loop(st, a) || !(a < 1.0) || !(e < 1.0)) continue;
+    idx.push_back(i);
+    x.push_back(v.dir * natural_strain(a));
+    y.push_back(natural_strain(e));
+  }
+  const int m = static_cast<int>(idx.size());
+  const detail::LocalRates lr = detail::local_rates(x, y);
+  r.dilation_window.width = lr.width;
+  r.dilation_window.noise = lr.noise;
+  int best = -1;
+  for (int j = 0; j < m; ++j) {
+    const std::size_t uj = static_cast<std::size_t>(j);
+    if (lr.full[uj] && given(lr.rate[uj]) && (best < 0 || lr.rate[uj] < lr.rate[static_cast<std::size_t>(best)])) best = j;
+  }
+  if (best < 0) {
+    r.dilation_reason = m < detail::kRateMinPoints
+                            ? std::to_string(m) + " points outside unload-reload loops: a local rate needs " +
+                                  std::to_string(detail::kRateMinPoints) + " or more"
+                            : "no window of " + fmt(lr.width) + " axial strain within the data holds " +
+                                  std::to_string(detail::kRateMinPoints) + " points";
+  } else {
+    // The most negative local rate is biased high in magnitude when many windows share the same
+    // true rate (the least of many noisy estimates). The peak rate is therefore the least-squares
+    // slope over the stretch around it where the local rates stay within two standard errors
+    // (the median of the windows') of the least: one window at a sharp peak, the whole plastic
+    // branch of a Mohr-Coulomb curve (our rule, no source).
+    std::vector<double> ses;
+    for (int j = 0; j < m; ++j)
+      if (lr.full[static_cast<std::size_t>(j)] && given(lr.se[static_cast<std::size_t>(j)])) ses.push_back(lr.se[static_cast<std::size_t>(j)]);
+    std::sort(ses.begin(), ses.end());
+    const double tol = ses.empty() ? 0.0 : 2.0 * ses[ses.size() / 2];
+    const double least = lr.rate[static_cast<std::size_t>(best)];
+    auto near_peak = [&](int j) {
+      const std::size_t uj = static_cast<std::size_t>(j);
+      return j >= 0 && j < m && lr.full[uj] && given(lr.rate[uj]) && lr.rate[uj] <= least + tol;
+    };
+    int lo = best, hi = best;
+    while (near_peak(lo - 1)) --lo;
+    while (near_peak(hi + 1)) ++hi;
+    const std::size_t from = static_cast<std::size_t>(lr.first[static_cast<std::size_t>(lo)]);
+    const std::size_t to = static_cast<std::size_t>(lr.last[static_cast<std::size_t>(hi)]);
+    const LineFit f = fit_line(std::vector<double>(x.begin() + static_cast<std::ptrdiff_t>(from), x.begin() + static_cast<std::ptrdiff_t>(to) + 1),
+                               std::vector<double>(y.begin() + static_cast<std::ptrdiff_t>(from), y.begin() + static_cast<std::ptrdiff_t>(to) + 1));
+    const double d = f.slope;
+    r.max_dilation_rate = d;
+    r.max_dilation_rate_se = f.se_slope;
+    r.dilation_window.from = v.ea(idx[from]);
+    r.dilation_window.to = v.ea(idx[to]);
+    r.dilation_window.points = static_cast<int>(to - from + 1);
+    // Mohr-Coulomb plastic potential on the triaxial edge (two planes, equal multipliers), elastic
+    // increments neglected, K_psi = (1 + sin psi)/(1 - sin psi) (hand calculation):
+    //   compression: d = 1 - K_psi = -2 sin psi / (1 - sin psi)   =>  sin psi = -d / (2 - d);
+    //   extension (axial strain the minor principal strain, d in the shear direction):
+    //   d = 1 / K_psi - 1 = -2 sin psi / (1 + sin psi)              =>  sin psi = -d / (2 + d).
+    const double sin_psi = compression ? -d / (2.0 - d) : -d / (2.0 + d);
+    if (!(d < 0.0))
+      r.dilation_reason = "no dilation: the most negative rate d eps_v/d eps_a is " + fmt(d) + " (the specimen contracts throughout)";
+    else if (!(sin_psi < 1.0))
+      r.dilation_reason = "the rate d eps_v/d eps_a = " + fmt(d) + " is beyond the flow rule's range (sin psi = " + fmt(sin_psi) + ")";
+    else
+      r.dilation_angle = radians_to_degrees(std::asin(sin_psi));
+  }
+  // Rowe (1962) stress-dilatancy R = K D, D = 1 - d eps_v / d eps_1 (compression positive), on the
+  // plastic part of the curve (past 50 % of peak q); K = tan^2(45 + phi_cv/2) by least squares
+  // through the origin. Triaxial compression only: in extension eps_1 is the radial strain.
+  if (!compression) {
+    r.phi_cv_reason = "extension stage: Rowe's relation is applied to compression stages";
+    return;
+  }
+  double sum_rd = 0.0, sum_dd = 0.0;
+  for (int j = 0; j < m; ++j) {
+    const std::size_t uj = static_cast<std::size_t>(j);
+    const int i = idx[uj];
+    if (!given(lr.rate[uj]) || !(v.qd(i) - q0 >= 0.5 * (qpk - q0)) || !(v.s3(i) > 0.0)) continue;
+    const double dd = 1.0 - lr.rate[uj], rr = v.s1(i) / v.s3(i);
+    r.dilatancy_d.push_back(dd);
+    r.dilatancy_ratio.push_back(rr);
+    sum_rd += rr * dd;
+    sum_dd += dd * dd;
+  }
+  if (!(sum_dd > 0.0)) {
+    r.phi_cv_reason = "no local rate past 50 % of the peak deviator stress";
+    return;
+  }
+  const double kcv = sum_rd / sum_dd;
+  if (!(kcv > 1.0)) {
+    r.phi_cv_reason = "Rowe's K = R/D is " + fmt(kcv) + ", not above 1";
+    return;
+  }
+  r.phi_cv_rowe = radians_to_degrees(std::asin((kcv - 1.0) / (kcv + 1.0)));
+}
+
 void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, StageInterpretation& r,
                      std::vector<std::string>& warnings) {
   const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
@@ -139,8 +266,7 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
   r.points = last - first + 1;
   if (r.points <= 0) return;
   const ReducedCurves& c = sp.curves;
-  StageView v{&sp, first, last, st.direction == ShearDirection::compression ? 1.0 : -1.0,
-              c.axial_strain[static_cast<std::size_t>(first)]};
+  StageView v{&sp, first, last, st.direction == ShearDirection::compression ? 1.0 : -1.0};
   const bool effective = given(c.radial_stress[static_cast<std::size_t>(first)]);
   r.consolidation_radial = effective ? v.s3(first) : kNotGiven;
   // Failure points.
@@ -189,15 +315,30 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
       if (v.qd(i) - q0 >= kInitialFraction * (qpk - q0) && x.size() >= 2) break;
     }
     const LineFit f = fit_line(x, y);
-    if (given(f.slope) && f.slope > 0.0) r.initial_stiffness = f.slope;
-    const double q50 = q0 + 0.5 * (qpk - q0);
-    for (int i = first + 1; i <= imax_q; ++i)
-      if (v.qd(i) >= q50 && v.qd(i - 1) < q50) {
-        const double w = (q50 - v.qd(i - 1)) / (v.qd(i) - v.qd(i - 1));
-        const double e50 = v.ea(i - 1) + w * (v.ea(i) - v.ea(i - 1));
-        if (e50 > 0.0) r.secant_stiffness_50 = (q50 - q0) / e50;
-        break;
-      }
+    if (!(qpk > q0)) {
+      r.initial_stiffness_reason = r.secant_stiffness_reason = "the deviator stress never rises above its value at the stage start";
+    } else {
+      if (!given(f.slope))
+        r.initial_stiffness_reason = std::to_string(x.size()) + " point(s) up to 20 % of the peak deviator stress: a slope needs 2 at distinct strains";
+      else if (!(f.slope > 0.0))
+        r.initial_stiffness_reason = "the slope of q against e_a up to 20 % of the peak is " + fmt(f.slope) + " kPa, not positive";
+      else
+        r.initial_stiffness = f.slope;
+      const double q50 = q0 + 0.5 * (qpk - q0);
+      r.secant_stiffness_reason = "no point below 50 % of the peak deviator stress before the peak";
+      for (int i = first + 1; i <= imax_q; ++i)
+        if (v.qd(i) >= q50 && v.qd(i - 1) < q50) {
+          const double w = (q50 - v.qd(i - 1)) / (v.qd(i) - v.qd(i - 1));
+          const double e50 = v.ea(i - 1) + w * (v.ea(i) - v.ea(i - 1));
+          if (e50 > 0.0) {
+            r.secant_stiffness_50 = (q50 - q0) / e50;
+            r.secant_stiffness_reason.clear();
+          } else {
+            r.secant_stiffness_reason = "50 % of the peak deviator stress is reached at axial strain " + fmt(e50) + ", not positive";
+          }
+          break;
+        }
+    }
   }
   for (const UnloadReloadLoop& l : st.loops) {
     int top = -1;
@@ -214,59 +355,7 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
     }
     if (bottom >= 0 && v.ea(top) > v.ea(bottom)) r.unload_reload_stiffness.push_back((v.qd(top) - v.qd(bottom)) / (v.ea(top) - v.ea(bottom)));
   }
-  // Dilatancy (drained): d = d e_v / d e_a by a sliding least-squares slope outside the loops.
-  if (st.shear == ShearType::cd && effective) {
-    std::vector<int> idx;
-    for (int i = first; i <= last; ++i)
-      if (!in_loop(st, c.axial_strain[static_cast<std::size_t>(i)])) idx.push_back(i);
-    double dmin = std::numeric_limits<double>::infinity();
-    double sum_rd = 0.0, sum_dd = 0.0;
-    const int m = static_cast<int>(idx.size());
-    for (int j = 0; j < m; ++j) {
-      const int a = std::max(0, j - kRateHalfWidth), b = std::min(m - 1, j + kRateHalfWidth);
-      if (b - a < 2) continue;
-      std::vector<double> x, y;
-      for (int jj = a; jj <= b; ++jj) {
-        x.push_back(v.ea(idx[static_cast<std::size_t>(jj)]));
-        y.push_back(c.volumetric_strain[static_cast<std::size_t>(idx[static_cast<std::size_t>(jj)])]);
-      }
-      const LineFit f = fit_line(x, y);
-      if (!given(f.slope)) continue;
-      const double d = v.dir * f.slope;  // both strains in the shear direction
-      const int i = idx[static_cast<std::size_t>(j)];
-      dmin = std::min(dmin, d);
-      // Rowe (1962) stress-dilatancy R = K D, D = 1 - d e_v / d e_1 (compression positive), on
-      // the plastic part of the curve (past 50 % of peak q).
-      if (v.qd(i) - q0 >= 0.5 * (qpk - q0) && v.s3(i) > 0.0) {
-        const double dd = 1.0 - d, rr = v.s1(i) / v.s3(i);
-        r.dilatancy_d.push_back(dd);
-        r.dilatancy_ratio.push_back(rr);
-        sum_rd += rr * dd;
-        sum_dd += dd * dd;
-      }
-    }
-    if (dmin < std::numeric_limits<double>::infinity()) {
-      r.max_dilation_rate = dmin;
-      // Mohr-Coulomb flow rule in triaxial compression, elastic strains neglected:
-      // d e_v / d e_1 = -2 sin psi / (1 - sin psi)  =>  sin psi = -d / (2 - d).
-      r.dilation_angle = radians_to_degrees(std::asin(std::clamp(-dmin / (2.0 - dmin), -1.0, 1.0)));
-    }
-    if (sum_dd > 0.0) {
-      const double kcv = sum_rd / sum_dd;
-      r.phi_cv_rowe = radians_to_degrees(std::asin(std::clamp((kcv - 1.0) / (kcv + 1.0), -1.0, 1.0)));
-    }
-    if (given(sp.relative_density) && r.by_max_stress_ratio.index >= 0) {
-      // Bolton (1986), "The strength and dilatancy of sands", Geotechnique 36(1): I_R = I_D (Q - ln p')
-      // - R with Q = 10, R = 1 (p' in kPa), 0 <= I_R <= 4; triaxial phi_max - phi_crit = 3 I_R (deg).
-      const double ir = std::clamp(sp.relative_density * (10.0 - std::log(r.by_max_stress_ratio.p)) - 1.0, 0.0, 4.0);
-      r.bolton_index = ir;
-      r.bolton_phi_difference = 3.0 * ir;
-    }
-    if (given(r.phi_cv_rowe) && r.by_max_stress_ratio.index >= 0) {
-      const double rr = r.by_max_stress_ratio.s1 / r.by_max_stress_ratio.s3;
-      r.measured_phi_difference = radians_to_degrees(std::asin((rr - 1.0) / (rr + 1.0))) - r.phi_cv_rowe;
-    }
-  }
+  if (st.shear == ShearType::cd && effective) interpret_dilatancy(sp, st, v, q0, qpk, r);
   // End state and steady state.
   r.end_p = c.mean_stress[static_cast<std::size_t>(last)];
   r.end_q = c.deviator_stress[static_cast<std::size_t>(last)];
@@ -278,9 +367,14 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
     const bool q_steady = std::abs(v.qd(last) - v.qd(w)) <= kSteadyQ * std::abs(v.qd(last));
     bool rate_steady = true;
     if (st.shear == ShearType::cd && v.ea(last) > v.ea(w)) {
-      const double rate = (c.volumetric_strain[static_cast<std::size_t>(last)] - c.volumetric_strain[static_cast<std::size_t>(w)]) /
-                          (v.ea(last) - v.ea(w));
-      rate_steady = std::abs(rate) <= kSteadyRate;
+      // Least-squares rate over the window, natural strains as for the dilation rate.
+      std::vector<double> x, y;
+      for (int i = w; i <= last; ++i) {
+        x.push_back(v.dir * natural_strain(c.axial_strain[v.at(i)]));
+        y.push_back(natural_strain(c.volumetric_strain[v.at(i)]));
+      }
+      const LineFit f = fit_line(x, y);
+      rate_steady = given(f.slope) && std::abs(f.slope) <= kSteadyRate;
     } else if (st.shear != ShearType::cd) {
       const double du = c.excess_pore_pressure[static_cast<std::size_t>(last)] - c.excess_pore_pressure[static_cast<std::size_t>(w)];
       rate_steady = std::abs(du) <= kSteadyQ * std::max(1.0, r.end_p);
@@ -294,6 +388,63 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
     const double du = c.excess_pore_pressure[static_cast<std::size_t>(r.by_criterion.index)] - c.excess_pore_pressure[static_cast<std::size_t>(first)];
     if (std::abs(dq) > 0.0) r.skempton_a = du / dq;
   }
+}
+
+/// Why a regression in logs of a stress (x = ln of it) cannot determine its slope: too few points or
+/// too narrow a span (kMinStressSpan); empty when it can. `what` names the stress.
+std::string log_law_reason(const LineFit& f, const std::string& what) {
+  if (f.n < 2) return "2 or more points with positive values are needed, found " + std::to_string(f.n);
+  if (!(f.x_max - f.x_min >= std::log(kMinStressSpan)))
+    return "the values of " + what + " span a factor " + fmt(std::exp(f.x_max - f.x_min)) + ", below " + fmt(kMinStressSpan) +
+           ": the slope is not determined";
+  return {};
+}
+
+/// The design line (kDesignLineRule) under the lower one-sided 95 % confidence bound of the s'-t
+/// regression mean, t_L(s') = a + b s' - t_{n-2} s_e sqrt(1/n + (s' - s_mean)^2 / Sxx). t_L is concave
+/// (a line minus a convex function), so a line under it at the smallest and the largest s' used is
+/// under it in between.
+void design_line(StrengthEnvelope& env) {
+  const LineFit& f = env.st;
+  if (f.n < 3 || !given(f.residual_sd)) {
+    env.design_reason = std::to_string(f.n) + " failure points: the confidence bound needs 3 or more";
+    return;
+  }
+  const double a = f.intercept, b = f.slope, tq = student_t95(f.n - 2);
+  auto lower = [&](double x) {
+    return a + b * x - tq * f.residual_sd * std::sqrt(1.0 / f.n + (x - f.x_mean) * (x - f.x_mean) / f.sxx);
+  };
+  const double x1 = f.x_min, x2 = f.x_max;
+  // The chord of t_L between the ends, no steeper than the best fit: a steeper chord (points not
+  // symmetric about their mean) would give a larger phi' than the regression's.
+  double bd = (lower(x2) - lower(x1)) / (x2 - x1);
+  double ad = lower(x1) - bd * x1;
+  if (bd > b) {
+    bd = b;
+    ad = std::min(lower(x1) - b * x1, lower(x2) - b * x2);
+  }
+  if (ad >= 0.0) {
+    if (!(bd > 0.0)) {
+      env.design_reason = "the lower bound does not rise with s' (slope " + fmt(bd) + "): no friction angle";
+      return;
+    }
+    env.design_form = DesignLineForm::lower_bound;
+  } else {
+    // A negative intercept: no cohesion. Secant from the origin to t_L at the largest s' used: under
+    // any envelope through the origin that is concave (the usual cause of the negative intercept)
+    // and passes above t_L there.
+    const double t2 = lower(x2);
+    if (!(t2 > 0.0)) {
+      env.design_reason = "the lower bound at the largest s' used (" + fmt(x2) + " kPa) is " + fmt(t2) + " kPa, not positive";
+      return;
+    }
+    bd = std::min(b, t2 / x2);
+    ad = 0.0;
+    env.design_form = DesignLineForm::origin_secant;
+  }
+  const double phi = std::asin(bd);
+  env.design_phi = radians_to_degrees(phi);
+  env.design_cohesion = ad / std::cos(phi);
 }
 
 StrengthEnvelope fit_envelope(const Interpretation& res, FailureCriterion crit, const InterpretOptions& o,
@@ -331,8 +482,12 @@ StrengthEnvelope fit_envelope(const Interpretation& res, FailureCriterion crit, 
     return env;
   }
   env.st = fit_line(s, t);
-  if (!given(env.st.slope) || !(std::abs(env.st.slope) < 1.0)) {
-    env.note = "the s'-t points give no admissible slope (|tan alpha| must be below 1)";
+  if (!given(env.st.slope)) {
+    env.note = "the failure points in the stress range all have the same s': no slope";
+    return env;
+  }
+  if (!(env.st.slope > 0.0 && env.st.slope < 1.0)) {
+    env.note = "the s'-t slope tan alpha = " + fmt(env.st.slope) + " is outside (0, 1): no friction angle";
     return env;
   }
   // s'-t: t = a + s' tan(alpha), sin phi' = tan(alpha), c' = a / cos phi' (Mohr-Coulomb in
@@ -347,35 +502,25 @@ StrengthEnvelope fit_envelope(const Interpretation& res, FailureCriterion crit, 
     const double var = dca * dca * env.st.se_intercept * env.st.se_intercept + dcb * dcb * env.st.se_slope * env.st.se_slope +
                        2.0 * dca * dcb * env.st.covariance;
     env.se_cohesion = std::sqrt(std::max(0.0, var));
-    // Conservative design line: through the lower one-sided 95 % confidence bound of the regression
-    // mean at the smallest and largest s' used.
-    const double tq = student_t95(env.st.n - 2);
-    auto lower = [&](double x) {
-      const double se = env.st.residual_sd *
-                        std::sqrt(1.0 / env.st.n + (x - env.st.x_mean) * (x - env.st.x_mean) / env.st.sxx);
-      return a + b * x - tq * se;
-    };
-    const double x1 = env.st.x_min, x2 = env.st.x_max;
-    const double bd = (lower(x2) - lower(x1)) / (x2 - x1);
-    const double ad = lower(x1) - bd * x1;
-    if (std::abs(bd) < 1.0) {
-      env.design_phi = radians_to_degrees(std::asin(bd));
-      env.design_cohesion = ad / std::cos(std::asin(bd));
-    }
   }
+  design_line(env);
   if (env.cohesion < 0.0)
     warnings.push_back("envelope (" + to_string(crit) + "): negative cohesion intercept c' = " + fmt(env.cohesion) +
-                       " kPa; the points do not support a cohesion");
-  if (pc.size() >= 2) {
+                       " kPa; the points do not support a cohesion (the design line is taken through the origin)");
+  if (pc.size() < 2) {
+    env.pq_reason = std::to_string(pc.size()) + " compression failure point(s) in the stress range: the p'-q line needs 2";
+  } else {
     env.pq = fit_line(pc, qc);
-    if (given(env.pq.slope)) {
-      // p'-q: q = d + M p'; sin phi' = 3M/(6+M), c' = d (3 - sin phi')/(6 cos phi') (triaxial compression).
-      const double mm = env.pq.slope;
-      const double sp = 3.0 * mm / (6.0 + mm);
-      if (std::abs(sp) < 1.0) {
-        env.phi_pq = radians_to_degrees(std::asin(sp));
-        env.cohesion_pq = env.pq.intercept * (3.0 - sp) / (6.0 * std::cos(std::asin(sp)));
-      }
+    // p'-q: q = d + M p'; sin phi' = 3M/(6+M), c' = d (3 - sin phi')/(6 cos phi') (triaxial compression).
+    const double mm = env.pq.slope;
+    const double sp = 3.0 * mm / (6.0 + mm);
+    if (!given(mm))
+      env.pq_reason = "the compression failure points all have the same p': no slope";
+    else if (!(mm > 0.0 && sp < 1.0))
+      env.pq_reason = "the p'-q slope M = " + fmt(mm) + " is outside (0, 3): no friction angle";
+    else {
+      env.phi_pq = radians_to_degrees(std::asin(sp));
+      env.cohesion_pq = env.pq.intercept * (3.0 - sp) / (6.0 * std::cos(std::asin(sp)));
     }
   }
   if (o.curved_envelope) {
@@ -386,7 +531,10 @@ StrengthEnvelope fit_envelope(const Interpretation& res, FailureCriterion crit, 
         lt.push_back(std::log(t[i] / o.reference_pressure));
       }
     const LineFit f = fit_line(ls, lt);
-    if (given(f.slope)) {
+    env.power_reason = log_law_reason(f, "s'");
+    if (env.power_reason.empty() && !(f.slope > 0.0))
+      env.power_reason = "the exponent b = " + fmt(f.slope) + " is not positive (t must rise with s')";
+    if (env.power_reason.empty()) {
       env.power_a = std::exp(f.intercept);
       env.power_b = f.slope;
     }
@@ -405,12 +553,34 @@ StiffnessLaw fit_stiffness(const std::vector<double>& s3, const std::vector<doub
     }
   law.n = static_cast<int>(x.size());
   const LineFit f = fit_line(x, y);
-  if (given(f.slope)) {
+  law.reason = log_law_reason(f, "s3'");
+  if (law.reason.empty() && f.slope < 0.0)
+    law.reason = "the exponent m = " + fmt(f.slope) + " is negative (the stiffness falls with s3')";
+  if (law.reason.empty()) {
     law.reference = std::exp(f.intercept);
     law.exponent = f.slope;
     law.r2 = f.r2;
   }
   return law;
+}
+
+/// lambda or kappa: minus the slope of e against the log of a stress (x holds the logs); NaN and the
+/// reason when the points cannot determine it (too few, too narrow a span, not positive).
+double compressibility_slope(const std::vector<double>& x, const std::vector<double>& y, std::size_t min_points,
+                             const std::string& branch, const std::string& stress, const std::string& name, std::string& reason) {
+  if (x.size() < min_points) {
+    reason = std::to_string(x.size()) + " point(s) with a void ratio on the " + branch + ": " + name + " needs " +
+             std::to_string(min_points) + " or more";
+    return kNotGiven;
+  }
+  const LineFit f = fit_line(x, y);
+  reason = log_law_reason(f, stress);
+  if (!reason.empty()) return kNotGiven;
+  if (!(-f.slope > 0.0)) {
+    reason = name + " = " + fmt(-f.slope) + " is not positive (e must fall as " + stress + " rises)";
+    return kNotGiven;
+  }
+  return -f.slope;
 }
 
 /// lambda, kappa and the constrained modulus of an oedometer stage (see the note in interpret()).
@@ -421,7 +591,11 @@ Interpretation::Compressibility interpret_oedometer(const Specimen& sp, int k, d
   cm.basis = "oedometer: e - ln s_a' (s_a' as a proxy of p')";
   cm.constrained_modulus_stress = stress;
   const auto [first, last] = sp.stage_points(k);
-  if (last - first + 1 < 2) return cm;
+  if (last - first + 1 < 2) {
+    cm.lambda_reason = cm.kappa_reason = cm.constrained_modulus_reason =
+        std::to_string(std::max(0, last - first + 1)) + " point(s) in the stage";
+    return cm;
+  }
   const auto& sa = sp.curves.axial_stress;
   const auto& ea = sp.curves.axial_strain;
   const auto& e = sp.curves.void_ratio;
@@ -440,26 +614,30 @@ Interpretation::Compressibility interpret_oedometer(const Specimen& sp, int k, d
     for (int i = first; i <= top; ++i) {
       if (sa[at(i)] < running) continue;
       running = sa[at(i)];
-      if (sa[at(i)] >= 0.25 * smax && given(e[at(i)])) {
+      if (sa[at(i)] >= 0.25 * smax && sa[at(i)] > 0.0 && given(e[at(i)])) {
         x.push_back(std::log(sa[at(i)]));
         y.push_back(e[at(i)]);
       }
     }
-    if (x.size() >= 2) cm.lambda = -fit_line(x, y).slope;
+    cm.lambda = compressibility_slope(x, y, 2, "first loading at s_a' >= s_a'max / 4", "s_a'", "lambda", cm.lambda_reason);
   }
   if (top < last) {
     std::vector<double> x, y;
     for (int i = top; i <= last && (i == top || sa[at(i)] < sa[at(i - 1)]); ++i)
-      if (given(e[at(i)])) {
+      if (sa[at(i)] > 0.0 && given(e[at(i)])) {
         x.push_back(std::log(sa[at(i)]));
         y.push_back(e[at(i)]);
       }
-    if (x.size() >= 2) cm.kappa = -fit_line(x, y).slope;
+    cm.kappa = compressibility_slope(x, y, 2, "first unloading", "s_a'", "kappa", cm.kappa_reason);
+  } else {
+    cm.kappa_reason = "no unloading in the stage";
   }
+  cm.constrained_modulus_reason = "the first loading does not pass s_a' = " + fmt(stress) + " kPa with a rise in axial strain";
   for (int i = first; i < top; ++i) {
     const double a = sa[at(i)], b = sa[at(i + 1)];
-    if (a < stress && stress <= b && ea[at(i + 1)] > ea[at(i)]) {
+    if (a > 0.0 && a < stress && stress <= b && ea[at(i + 1)] > ea[at(i)]) {
       cm.constrained_modulus = stress * std::log(b / a) / (ea[at(i + 1)] - ea[at(i)]);
+      cm.constrained_modulus_reason.clear();
       break;
     }
   }
@@ -509,14 +687,17 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
       cm.specimen = sp.id;
       cm.stage = static_cast<int>(k);
       cm.basis = "consolidation: e - ln p'";
-      if (xl.size() >= 3) cm.lambda = -fit_line(xl, yl).slope;
-      if (xu.size() >= 2) {
+      if (xl.size() + xu.size() < 2) continue;  // no e - ln p' data in this stage
+      cm.lambda = compressibility_slope(xl, yl, 3, "loading (p' at its largest so far)", "p'", "lambda", cm.lambda_reason);
+      if (xu.empty()) {
+        cm.kappa_reason = "no unloading in the stage";
+      } else {
         // The unloading branch starts at the largest p' reached.
         xu.insert(xu.begin(), std::log(pmax));
         yu.insert(yu.begin(), yl.back());
-        cm.kappa = -fit_line(xu, yu).slope;
+        cm.kappa = compressibility_slope(xu, yu, 2, "unloading", "p'", "kappa", cm.kappa_reason);
       }
-      if (given(cm.lambda) || given(cm.kappa)) {
+      {
         cm.compression_index = cm.lambda * std::log(10.0);
         cm.swelling_index = cm.kappa * std::log(10.0);
         res.compressibility.push_back(cm);
@@ -524,8 +705,7 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
     }
     for (int k : sp.oedometer_stages()) {
       Interpretation::Compressibility cm = interpret_oedometer(sp, k, o.reference_pressure);
-      if (given(cm.lambda) || given(cm.kappa) || given(cm.constrained_modulus)) res.compressibility.push_back(cm);
-      else res.warnings.push_back(sp.id + " stages[" + std::to_string(k) + "] (oedometer): no lambda, kappa or constrained modulus (too few loading or unloading points, or no void ratio)");
+      res.compressibility.push_back(cm);
     }
   }
   {
@@ -570,8 +750,21 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
     if (c != o.criterion) res.envelopes.push_back(fit_envelope(res, c, o, res.warnings));
   res.notes.push_back("envelope: t = a + s' tan(alpha) by least squares, s' = (s1'+s3')/2, t = (s1'-s3')/2; sin phi' = tan alpha, "
                       "c' = a / cos phi'; p'-q route on compression tests: sin phi' = 3M/(6+M), c' = d (3 - sin phi')/(6 cos phi')");
-  res.notes.push_back("design line: the straight line through the lower one-sided 95 % confidence bound of the regression mean "
-                      "at the smallest and the largest s' used (Student t, n - 2 degrees of freedom)");
+  res.notes.push_back(std::string("design line: ") + kDesignLineRule);
+  {
+    bool any_cd = false;
+    for (const StageInterpretation& r : res.stages) any_cd = any_cd || r.test == ShearType::cd;
+    if (any_cd)
+      res.notes.push_back(
+          "dilatancy (CD): local rates d = d eps_v/d eps_a in natural strains from the stage start (eps = -ln(1 - e)), each the "
+          "least-squares slope over a window of axial strain centred at the point (moving-window regression, common practice, "
+          "no source); the window width W = (12 h s^2 / 0.005^2)^(1/3) gives the slope a standard error of about 0.005 for "
+          "the stage's median spacing h and the scatter s of eps_v about a smooth curve (from the residuals of each point "
+          "against its neighbours), at least 4 spacings and at most a third of the stage; the peak rate is the least-squares slope over the "
+          "stretch around the most negative local rate (of the windows within the data) where the local rates stay within "
+          "two standard errors of it (our rule, no source); sin psi = -d / (2 - d) in compression, -d / (2 + d) in extension (Mohr-Coulomb flow "
+          "rule, elastic strains neglected); Rowe (1962) R = K_cv D with D = 1 - d on points past 50 % of peak q (compression)");
+  }
   if (given(o.design_stress)) {
     const StrengthEnvelope& env = res.envelopes.front();
     if (given(env.phi)) {
@@ -628,12 +821,24 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
         ee.push_back(r.end_void_ratio);
       }
     }
-    if (spp > 0.0) {
-      res.critical_m = sqp / spp;
-      res.phi_cs = radians_to_degrees(std::asin(3.0 * res.critical_m / (6.0 + res.critical_m)));
+    const double mm = spp > 0.0 ? sqp / spp : kNotGiven;
+    if (res.cs_count == 0)
+      res.critical_m_reason = "no compression stage ends in a steady state";
+    else if (!given(mm))
+      res.critical_m_reason = "the steady end states have no positive p'";
+    else if (!(mm > 0.0 && mm < 3.0))
+      res.critical_m_reason = "M = " + fmt(mm) + " is outside (0, 3): no critical-state angle";
+    else {
+      res.critical_m = mm;
+      res.phi_cs = radians_to_degrees(std::asin(3.0 * mm / (6.0 + mm)));
     }
-    if (lp.size() >= 2) res.csl = fit_line(lp, ee);
+    res.csl = fit_line(lp, ee);
+    res.csl_reason = log_law_reason(res.csl, "p' at the steady end states (with a void ratio)");
+    if (res.csl_reason.empty() && !(res.csl.slope < 0.0))
+      res.csl_reason = "lambda = " + fmt(-res.csl.slope) + " is not positive (e must fall as p' rises)";
+    if (!res.csl_reason.empty()) res.csl.intercept = res.csl.slope = kNotGiven;
     if (!cv.empty()) res.phi_cv_rowe = std::accumulate(cv.begin(), cv.end(), 0.0) / static_cast<double>(cv.size());
+    else res.phi_cv_rowe_reason = "no drained compression stage gives phi_cv";
   }
   return res;
 }

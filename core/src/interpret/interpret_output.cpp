@@ -15,11 +15,14 @@ using nlohmann::json;
 
 bool given(double v) { return !std::isnan(v); }
 
-/// {"value": v, "unit": u}; a value not available is null.
-json q(double v, const char* unit) {
+/// {"value": v, "unit": u}; a value not available is null, and when the data cannot determine it,
+/// "not_determined" says why.
+json q(double v, const char* unit, const std::string& reason = {}) {
   json j;
-  j["value"] = given(v) && std::isfinite(v) ? json(v) : json(nullptr);
+  const bool known = given(v) && std::isfinite(v);
+  j["value"] = known ? json(v) : json(nullptr);
   j["unit"] = unit;
+  if (!known && !reason.empty()) j["not_determined"] = reason;
   return j;
 }
 
@@ -38,6 +41,11 @@ json fit_json(const LineFit& f, const char* intercept_unit, const char* slope_un
           {"se_intercept", q(f.se_intercept, intercept_unit)},
           {"se_slope", q(f.se_slope, slope_unit)},
           {"r2", q(f.r2, "-")}};
+}
+
+/// "  <what> not determined: <reason>\n", or nothing when the reason is empty.
+std::string not_determined(const std::string& indent, const std::string& what, const std::string& reason) {
+  return reason.empty() ? std::string() : indent + what + " not determined: " + reason + "\n";
 }
 
 std::string cell(double v, int decimals = 1) {
@@ -73,14 +81,30 @@ std::string interpretation_json(const Interpretation& r) {
                     {"max-stress-ratio", point_json(s.by_max_stress_ratio)},
                     {"criterion", point_json(s.by_criterion)}};
     j["undrained_strength"] = q(s.undrained_strength, "kPa");
-    j["initial_stiffness"] = q(s.initial_stiffness, "kPa");
-    j["secant_stiffness_50"] = q(s.secant_stiffness_50, "kPa");
+    j["initial_stiffness"] = q(s.initial_stiffness, "kPa", s.initial_stiffness_reason);
+    j["secant_stiffness_50"] = q(s.secant_stiffness_50, "kPa", s.secant_stiffness_reason);
     json ur = json::array();
     for (double e : s.unload_reload_stiffness) ur.push_back(q(e, "kPa"));
     j["unload_reload_stiffness"] = ur;
-    j["max_dilation_rate"] = q(s.max_dilation_rate, "-");
-    j["dilation_angle"] = q(s.dilation_angle, "deg");
-    j["phi_cv_stress_dilatancy"] = q(s.phi_cv_rowe, "deg");
+    if (s.test == ShearType::cd) {
+      j["max_dilation_rate"] = q(s.max_dilation_rate, "-", s.dilation_reason);
+      j["max_dilation_rate_se"] = q(s.max_dilation_rate_se, "-");
+      const DilationWindow& w = s.dilation_window;
+      j["dilation_window"] = {{"width", q(w.width, "-")},
+                              {"from", q(w.from, "-")},
+                              {"to", q(w.to, "-")},
+                              {"points", w.points},
+                              {"noise", q(w.noise, "-")},
+                              {"basis", "rates in natural strains; width: of the local windows, in natural axial strain; "
+                                        "from, to, points: the stretch the peak rate is taken over, engineering axial strain "
+                                        "from the stage start"}};
+      j["dilation_angle"] = q(s.dilation_angle, "deg", s.dilation_reason);
+      j["phi_cv_stress_dilatancy"] = q(s.phi_cv_rowe, "deg", s.phi_cv_reason);
+    } else {
+      j["max_dilation_rate"] = q(s.max_dilation_rate, "-");
+      j["dilation_angle"] = q(s.dilation_angle, "deg");
+      j["phi_cv_stress_dilatancy"] = q(s.phi_cv_rowe, "deg");
+    }
     j["bolton_relative_dilatancy_index"] = q(s.bolton_index, "-");
     j["bolton_phi_difference"] = q(s.bolton_phi_difference, "deg");
     j["measured_phi_difference"] = q(s.measured_phi_difference, "deg");
@@ -102,18 +126,21 @@ std::string interpretation_json(const Interpretation& r) {
     json j;
     j["criterion"] = to_string(e.criterion);
     j["s_t_fit"] = fit_json(e.st, "kPa", "-");
-    j["phi"] = q(e.phi, "deg");
-    j["cohesion"] = q(e.cohesion, "kPa");
+    j["phi"] = q(e.phi, "deg", e.note);
+    j["cohesion"] = q(e.cohesion, "kPa", e.note);
     j["se_phi"] = q(e.se_phi, "deg");
     j["se_cohesion"] = q(e.se_cohesion, "kPa");
     j["p_q_fit"] = fit_json(e.pq, "kPa", "-");
-    j["phi_from_p_q"] = q(e.phi_pq, "deg");
-    j["cohesion_from_p_q"] = q(e.cohesion_pq, "kPa");
-    j["design_line"] = {{"phi", q(e.design_phi, "deg")},
-                        {"cohesion", q(e.design_cohesion, "kPa")},
-                        {"rule", "line through the lower one-sided 95 % confidence bound of the regression mean at the "
-                                 "smallest and largest s' used"}};
-    j["power_law"] = {{"a", q(e.power_a, "-")}, {"b", q(e.power_b, "-")}, {"form", "t = a p_ref (s'/p_ref)^b"}};
+    const std::string pq_reason = e.note.empty() ? e.pq_reason : e.note;
+    j["phi_from_p_q"] = q(e.phi_pq, "deg", pq_reason);
+    j["cohesion_from_p_q"] = q(e.cohesion_pq, "kPa", pq_reason);
+    const std::string design_reason = e.note.empty() ? e.design_reason : e.note;
+    j["design_line"] = {{"phi", q(e.design_phi, "deg", design_reason)},
+                        {"cohesion", q(e.design_cohesion, "kPa", design_reason)},
+                        {"form", to_string(e.design_form)},
+                        {"rule", kDesignLineRule}};
+    const std::string power_reason = e.note.empty() ? e.power_reason : e.note;
+    j["power_law"] = {{"a", q(e.power_a, "-", power_reason)}, {"b", q(e.power_b, "-", power_reason)}, {"form", "t = a p_ref (s'/p_ref)^b"}};
     json pts = json::array();
     for (const UsedPoint& u : e.points)
       pts.push_back({{"specimen", u.specimen}, {"stage", u.stage}, {"s", q(u.s, "kPa")}, {"t", q(u.t, "kPa")}, {"used", u.used},
@@ -124,22 +151,23 @@ std::string interpretation_json(const Interpretation& r) {
   }
   root["effective_strength"] = envs;
   auto law = [](const StiffnessLaw& l) {
-    return json{{"n", l.n}, {"reference", q(l.reference, "kPa")}, {"exponent", q(l.exponent, "-")}, {"r2", q(l.r2, "-")},
+    return json{{"n", l.n}, {"reference", q(l.reference, "kPa", l.reason)}, {"exponent", q(l.exponent, "-", l.reason)}, {"r2", q(l.r2, "-", l.reason)},
                 {"basis", l.basis}, {"form", "E = E_ref (s3'/p_ref)^m"}};
   };
   root["stiffness"] = {{"secant_50", law(r.secant_law)}, {"unload_reload", law(r.unload_reload_law)}};
   root["critical_state"] = {{"count", r.cs_count},
-                            {"M", q(r.critical_m, "-")},
-                            {"phi_cs", q(r.phi_cs, "deg")},
-                            {"Gamma", q(r.csl.intercept, "-")},
-                            {"lambda", q(given(r.csl.slope) ? -r.csl.slope : std::nan(""), "-")},
+                            {"M", q(r.critical_m, "-", r.critical_m_reason)},
+                            {"phi_cs", q(r.phi_cs, "deg", r.critical_m_reason)},
+                            {"Gamma", q(r.csl.intercept, "-", r.csl_reason)},
+                            {"lambda", q(given(r.csl.slope) ? -r.csl.slope : std::nan(""), "-", r.csl_reason)},
                             {"csl_points", r.csl.n},
-                            {"phi_cv_stress_dilatancy_mean", q(r.phi_cv_rowe, "deg")}};
+                            {"phi_cv_stress_dilatancy_mean", q(r.phi_cv_rowe, "deg", r.phi_cv_rowe_reason)}};
   json comp = json::array();
   for (const auto& c : r.compressibility)
-    comp.push_back({{"specimen", c.specimen}, {"stage", c.stage}, {"basis", c.basis}, {"lambda", q(c.lambda, "-")},
-                    {"kappa", q(c.kappa, "-")}, {"compression_index", q(c.compression_index, "-")},
-                    {"swelling_index", q(c.swelling_index, "-")}, {"constrained_modulus", q(c.constrained_modulus, "kPa")},
+    comp.push_back({{"specimen", c.specimen}, {"stage", c.stage}, {"basis", c.basis}, {"lambda", q(c.lambda, "-", c.lambda_reason)},
+                    {"kappa", q(c.kappa, "-", c.kappa_reason)}, {"compression_index", q(c.compression_index, "-", c.lambda_reason)},
+                    {"swelling_index", q(c.swelling_index, "-", c.kappa_reason)},
+                    {"constrained_modulus", q(c.constrained_modulus, "kPa", c.constrained_modulus_reason)},
                     {"constrained_modulus_at_axial_stress", q(c.constrained_modulus_stress, "kPa")}});
   root["compressibility"] = comp;
   json b = json::array();
@@ -188,9 +216,17 @@ std::string interpretation_text(const Interpretation& r) {
     o << line;
     for (const UsedPoint& u : e.points)
       if (!u.used) o << "      excluded: " << u.specimen << " stages[" << u.stage << "]: " << u.reason << "\n";
-    if (!e.note.empty()) o << "      " << e.note << "\n";
+    if (!e.note.empty()) {
+      o << "      phi' and c' not determined: " << e.note << "\n";
+      continue;
+    }
+    if (e.design_form == DesignLineForm::origin_secant)
+      o << "      design line: c' = 0, secant from the origin (the regression's intercept gives a negative cohesion)\n";
+    o << not_determined("      ", "design line", e.design_reason) << not_determined("      ", "p'-q route", e.pq_reason)
+      << not_determined("      ", "power law", e.power_reason);
   }
-  o << "  (* the declared criterion; design: lower one-sided 95 % confidence bound of the mean line at the ends of the s' range)\n";
+  o << "  (* the declared criterion; design line: the lower 95 % bound of the mean line, never steeper than the fit, "
+       "c' = 0 where its intercept would be negative; see the rules below)\n";
   o << "\nStiffness (per stage: E_i, E_50, E_ur; law E = E_ref (s3'/p_ref)^m, p_ref = " << format_number(r.options.reference_pressure)
     << " kPa)\n";
   for (const StageInterpretation& s : r.stages) {
@@ -200,39 +236,53 @@ std::string interpretation_text(const Interpretation& r) {
                   to_string(s.test).c_str(), cell(s.initial_stiffness, 0).c_str(), cell(s.secant_stiffness_50, 0).c_str(),
                   ur.empty() ? "-" : ur.c_str());
     o << line;
+    o << not_determined("      ", "E_i", s.initial_stiffness_reason) << not_determined("      ", "E_50", s.secant_stiffness_reason);
   }
   auto law = [&](const char* name, const StiffnessLaw& l) {
-    std::snprintf(line, sizeof line, "  %-13s E_ref %9s kPa  m %6s  R2 %6s  (n = %d, %s)\n", name, cell(l.reference, 0).c_str(),
-                  cell(l.exponent, 3).c_str(), cell(l.r2, 3).c_str(), l.n, l.basis.c_str());
+    if (!l.reason.empty()) {
+      std::snprintf(line, sizeof line, "  %-13s not determined: %s (%s)\n", name, l.reason.c_str(), l.basis.c_str());
+    } else {
+      std::snprintf(line, sizeof line, "  %-13s E_ref %9s kPa  m %6s  R2 %6s  (n = %d, %s)\n", name, cell(l.reference, 0).c_str(),
+                    cell(l.exponent, 3).c_str(), cell(l.r2, 3).c_str(), l.n, l.basis.c_str());
+    }
     o << line;
   };
   law("secant (50 %)", r.secant_law);
   law("unload-reload", r.unload_reload_law);
-  o << "\nDilatancy (CD: sin psi = -(de_v/de_a)/(2 - de_v/de_a) at the peak dilation rate; Rowe phi_cv; Bolton 1986)\n";
+  o << "\nDilatancy (CD: peak rate d = de_v/de_a in natural strains by least squares over the stretch of axial strain "
+       "around the peak; sin psi = -d/(2 - d) in compression; Rowe phi_cv; Bolton 1986)\n";
   for (const StageInterpretation& s : r.stages) {
     if (s.test != ShearType::cd) continue;
-    std::snprintf(line, sizeof line, "  %-10s %5d  de_v/de_a %7s  psi %6s deg  phi_cv %6s deg  I_R %5s  3 I_R %5s deg  measured %5s deg\n",
-                  s.specimen.c_str(), s.stage, cell(s.max_dilation_rate, 3).c_str(), cell(s.dilation_angle, 2).c_str(),
-                  cell(s.phi_cv_rowe, 2).c_str(), cell(s.bolton_index, 2).c_str(), cell(s.bolton_phi_difference, 1).c_str(),
-                  cell(s.measured_phi_difference, 1).c_str());
-    o << line;
+    const DilationWindow& w = s.dilation_window;
+    std::snprintf(line, sizeof line,
+                  "  %-10s %5d  d %7s (se %s; local windows %s wide; peak stretch %s to %s axial strain, %d points)  psi %6s deg  phi_cv %6s deg  "
+                  "I_R %5s  3 I_R %5s deg  measured %5s deg\n",
+                  s.specimen.c_str(), s.stage, cell(s.max_dilation_rate, 3).c_str(), cell(s.max_dilation_rate_se, 3).c_str(),
+                  cell(w.width, 4).c_str(), cell(w.from, 4).c_str(), cell(w.to, 4).c_str(), w.points,
+                  cell(s.dilation_angle, 2).c_str(), cell(s.phi_cv_rowe, 2).c_str(),
+                  cell(s.bolton_index, 2).c_str(), cell(s.bolton_phi_difference, 1).c_str(), cell(s.measured_phi_difference, 1).c_str());
+    o << line << not_determined("      ", "psi", s.dilation_reason) << not_determined("      ", "phi_cv", s.phi_cv_reason);
   }
-  std::snprintf(line, sizeof line,
-                "\nCritical state (%d steady end states): M %s, phi_cs %s deg; CSL Gamma %s, lambda %s (%d points); phi_cv (Rowe, mean) %s deg\n",
-                r.cs_count, cell(r.critical_m, 3).c_str(), cell(r.phi_cs, 2).c_str(), cell(r.csl.intercept, 3).c_str(),
-                cell(given(r.csl.slope) ? -r.csl.slope : std::nan(""), 4).c_str(), r.csl.n, cell(r.phi_cv_rowe, 2).c_str());
-  o << line;
+  o << "\nCritical state (" << r.cs_count << " steady end states):";
+  if (r.critical_m_reason.empty()) o << " M " << cell(r.critical_m, 3) << ", phi_cs " << cell(r.phi_cs, 2) << " deg";
+  else o << " M and phi_cs not determined: " << r.critical_m_reason;
+  o << "\n  critical-state line e = Gamma - lambda ln p':";
+  if (r.csl_reason.empty()) o << " Gamma " << cell(r.csl.intercept, 3) << ", lambda " << cell(-r.csl.slope, 4) << " (" << r.csl.n << " points)";
+  else o << " not determined: " << r.csl_reason;
+  o << "\n  phi_cv (Rowe, mean): " << (r.phi_cv_rowe_reason.empty() ? cell(r.phi_cv_rowe, 2) + " deg" : "not determined: " + r.phi_cv_rowe_reason)
+    << "\n";
+  auto value = [](double v, int decimals) { return given(v) ? cell(v, decimals) : std::string("not determined"); };
   for (const auto& c : r.compressibility) {
     if (c.basis.rfind("oedometer", 0) == 0)
-      std::snprintf(line, sizeof line,
-                    "  oedometer %s stages[%d]: lambda %s, kappa %s (e - ln s_a'); C_c %s, C_s %s; E_oed %s kPa at s_a' %s kPa\n",
-                    c.specimen.c_str(), c.stage, cell(c.lambda, 4).c_str(), cell(c.kappa, 4).c_str(),
-                    cell(c.compression_index, 3).c_str(), cell(c.swelling_index, 3).c_str(), cell(c.constrained_modulus, 0).c_str(),
-                    cell(c.constrained_modulus_stress, 0).c_str());
+      o << "  oedometer " << c.specimen << " stages[" << c.stage << "]: lambda " << value(c.lambda, 4) << ", kappa " << value(c.kappa, 4)
+        << " (e - ln s_a'); C_c " << value(c.compression_index, 3) << ", C_s " << value(c.swelling_index, 3) << "; E_oed "
+        << value(c.constrained_modulus, 0) << (given(c.constrained_modulus) ? " kPa" : "") << " at s_a' "
+        << cell(c.constrained_modulus_stress, 0) << " kPa\n";
     else
-      std::snprintf(line, sizeof line, "  consolidation %s stages[%d]: lambda %s, kappa %s\n", c.specimen.c_str(), c.stage,
-                    cell(c.lambda, 4).c_str(), cell(c.kappa, 4).c_str());
-    o << line;
+      o << "  consolidation " << c.specimen << " stages[" << c.stage << "]: lambda " << value(c.lambda, 4) << ", kappa "
+        << value(c.kappa, 4) << "\n";
+    o << not_determined("      ", "lambda", c.lambda_reason) << not_determined("      ", "kappa", c.kappa_reason)
+      << not_determined("      ", "E_oed", c.constrained_modulus_reason);
   }
   if (!r.b_values.empty()) {
     o << "\nSkempton's B from saturation:";

@@ -1,0 +1,116 @@
+#pragma once
+// Specimens with curves built in the tests (invented values, never a reference outside these tests):
+// one consolidated shear stage, the Mohr-Coulomb drained compression curve in closed form, and lab
+// noise.
+
+#include <cmath>
+#include <cstdint>
+#include <random>
+#include <string>
+#include <vector>
+
+#include "triaxcal/conventions.hpp"
+#include "triaxcal/series.hpp"
+
+namespace triaxcal::test {
+
+/// A consolidated specimen with one shear stage (stage index 2) and the given curves; effective
+/// radial stress s3 - du, axial s_r' + q, constant cell pressure s3 + 300 (back pressure 300).
+/// Strains are engineering strains from the stage start (series.hpp). `s3_noise` (may be empty)
+/// is added to the effective radial stress of each point.
+inline Specimen make_specimen(const std::string& id, ShearType test, double s3, const std::vector<double>& ea,
+                              const std::vector<double>& q, const std::vector<double>& ev, const std::vector<double>& du,
+                              const std::vector<double>& e = {}, const std::vector<double>& s3_noise = {}) {
+  Specimen s;
+  s.id = id;
+  s.back_pressure = 300.0;
+  SpecimenStage sat;
+  sat.type = SpecimenStageType::saturation;
+  SpecimenStage con;
+  con.type = SpecimenStageType::consolidation;
+  con.axial_stress = con.radial_stress = s3;
+  SpecimenStage sh;
+  sh.type = SpecimenStageType::shear;
+  sh.shear = test;
+  s.stages = {sat, con, sh};
+  ReducedCurves& c = s.curves;
+  for (std::size_t i = 0; i < ea.size(); ++i) {
+    const double u = du.empty() ? 0.0 : du[i];
+    const double sr = s3 - u + (s3_noise.empty() ? 0.0 : s3_noise[i]);
+    c.stage.push_back(2);
+    c.line.push_back(static_cast<int>(i) + 2);
+    c.axial_strain.push_back(ea[i]);
+    c.volumetric_strain.push_back(ev.empty() ? 0.0 : ev[i]);
+    c.deviator_stress.push_back(q[i]);
+    c.excess_pore_pressure.push_back(u);
+    c.radial_stress.push_back(test == ShearType::uu ? kNotGiven : sr);
+    c.axial_stress.push_back(test == ShearType::uu ? kNotGiven : sr + q[i]);
+    c.mean_stress.push_back(test == ShearType::uu ? kNotGiven : sr + q[i] / 3.0);
+    c.cell_pressure.push_back(s3 + 300.0);
+    c.void_ratio.push_back(e.empty() ? kNotGiven : e[i]);
+  }
+  s.data_zero_stage = 2;
+  return s;
+}
+
+/// Gaussian noise, the same numbers on every platform (Box-Muller on the top 53 bits).
+class LabNoise {
+ public:
+  explicit LabNoise(std::uint64_t seed) : rng_(seed) {}
+  double normal() {
+    const double u1 = (static_cast<double>(rng_() >> 11) + 0.5) * 0x1.0p-53;
+    const double u2 = static_cast<double>(rng_() >> 11) * 0x1.0p-53;
+    return std::sqrt(-2.0 * std::log(u1)) * std::cos(2.0 * 3.14159265358979323846 * u2);
+  }
+
+ private:
+  std::mt19937_64 rng_;
+};
+
+/// Lab precision of issue 12 (standard deviations): 0.5 kPa on stresses, 1e-4 on strains.
+inline constexpr double kLabStressNoise = 0.5;
+inline constexpr double kLabStrainNoise = 1e-4;
+
+/// Curves of a drained test in natural strains (axial x, volumetric y) and q, to be read as a lab does.
+struct DrainedCurve {
+  std::vector<double> x, y, q;
+};
+
+/// The drained triaxial compression curve of a linear elastic, perfectly plastic Mohr-Coulomb soil at
+/// constant radial stress s3' (hand calculation): elastic, dq = E d eps_a and d eps_v = (1 - 2 nu)
+/// d eps_a up to q_f = (K_p - 1) s3' + 2 c' sqrt(K_p), K_p = (1 + sin phi')/(1 - sin phi'); then q = q_f,
+/// no elastic increments, and the plastic potential on the triaxial edge gives
+/// d eps_v / d eps_a = 1 - K_psi = -2 sin psi / (1 - sin psi). Strain increments are natural (of the
+/// current specimen), as a small-strain model integrated in natural strains gives them.
+inline DrainedCurve mohr_coulomb_drained(double s3, double young, double nu, double phi, double c, double psi,
+                                         double axial_end, double spacing) {
+  const double sphi = std::sin(degrees_to_radians(phi)), spsi = std::sin(degrees_to_radians(psi));
+  const double kp = (1.0 + sphi) / (1.0 - sphi);
+  const double qf = (kp - 1.0) * s3 + 2.0 * c * std::sqrt(kp);
+  const double ey = qf / young;
+  const double rate = -2.0 * spsi / (1.0 - spsi);
+  DrainedCurve d;
+  for (int i = 0; i * spacing <= axial_end * (1.0 + 1e-12); ++i) {
+    const double x = i * spacing;
+    d.x.push_back(x);
+    d.q.push_back(x <= ey ? young * x : qf);
+    d.y.push_back(x <= ey ? (1.0 - 2.0 * nu) * x : (1.0 - 2.0 * nu) * ey + rate * (x - ey));
+  }
+  return d;
+}
+
+/// A CD specimen from natural-strain curves: engineering strains from the stage start as the lab
+/// reports them (e = 1 - exp(-eps)), with lab noise on q, s3', e_a and e_v when `noise` is given.
+inline Specimen drained_specimen(const std::string& id, double s3, const DrainedCurve& d, LabNoise* noise) {
+  std::vector<double> ea, ev, q, s3n;
+  for (std::size_t i = 0; i < d.x.size(); ++i) {
+    const bool start = i == 0;  // the stage start is the strain origin: no noise on its strains
+    ea.push_back(engineering_strain(d.x[i]) + (noise && !start ? kLabStrainNoise * noise->normal() : 0.0));
+    ev.push_back(engineering_strain(d.y[i]) + (noise && !start ? kLabStrainNoise * noise->normal() : 0.0));
+    q.push_back(d.q[i] + (noise ? kLabStressNoise * noise->normal() : 0.0));
+    s3n.push_back(noise ? kLabStressNoise * noise->normal() : 0.0);
+  }
+  return make_specimen(id, ShearType::cd, s3, ea, q, ev, {}, {}, s3n);
+}
+
+}  // namespace triaxcal::test
