@@ -263,3 +263,39 @@ TEST_CASE("the calibration file sets the simulation tolerance and fixed steps, w
   REQUIRE_THROWS_WITH(parse_calibration_file(calibration_text(R"( "fixed_steps": "yes",)"), src),
                       "dir/fit.json: fixed_steps: expected true or false, found \"yes\"");
 }
+
+TEST_CASE("a shear stage with unload-reload loops followed by another stage is refused by the calibration file with an exact message",
+          "[calibrate][multistage]") {
+  const auto dir = scratch_dir("ms_loop");
+  json specimen{{"id", "MS"},
+                {"height", 76.0},
+                {"diameter", 38.0},
+                {"void_ratio", kVoidRatio},
+                {"stages", json::array({json{{"type", "saturation"}, {"b_value", 0.98}, {"cell_pressure", 320}, {"back_pressure", kBack}},
+                                        stage_json("consolidation", 100, 0),
+                                        json{{"type", "shear"}, {"test", "CU"}, {"data_stage", 1},
+                                             {"unload_reload", json::array({json::array({0.012, 0.025})})}},
+                                        stage_json("consolidation", 200, 0), stage_json("shear", 0, 2)})},
+                {"data",
+                 {{"file", "data.csv"},
+                  {"kind", "reduced"},
+                  {"columns",
+                   {{"stage", {{"header", "stage"}, {"unit", "-"}}},
+                    {"axial_strain", {{"header", "ea"}, {"unit", "decimal"}}},
+                    {"deviator_stress", {{"header", "q"}, {"unit", "kPa"}}},
+                    {"pore_pressure", {{"header", "u"}, {"unit", "kPa"}}},
+                    {"cell_pressure", {{"header", "cell"}, {"unit", "kPa"}}}}}}}};
+  const std::string csv = "stage,ea,q,u,cell\n1,0,0,300,400\n1,0.01,40,310,400\n1,0.02,60,318,400\n1,0.015,30,315,400\n"
+                          "1,0.02,60,318,400\n1,0.03,70,322,400\n2,0,0,300,500\n2,0.01,60,315,500\n2,0.02,90,325,500\n"
+                          "2,0.03,105,330,500\n2,0.04,110,333,500\n";
+  const std::string path = write_series(dir, series_of(json::array({specimen})), csv);
+  const TestSeries series = read_test_series(path);
+  const std::string source = (dir / "fit.json").string();
+  const CalibrationFile file = parse_calibration_file(calibration_text(), source);
+  const ModelEntry& entry = find_model("modified_cam_clay");
+  auto create = entry.create;
+  REQUIRE_THROWS_WITH(
+      build_calibration_problem(file, series, entry.info(), [create](const ParameterValues& v) { return create(v, "calibration"); }),
+      source + ": tests[0]: specimen 'MS', stages[2]: a shear stage with unload-reload loops that is followed by another stage cannot be "
+               "compared yet (its curves would span several protocol stages; only the last stage of a specimen may have loops in a fit)");
+}

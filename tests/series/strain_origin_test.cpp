@@ -178,6 +178,12 @@ TEST_CASE("strain conventions are strict: each bad input names file, key or line
                                   "stage's start (specimens[0].data.strain_origin \"stage_start\", the default) a stage starts within "
                                   "0.005 of zero; if the file's strains run on from the first stage with rows, declare \"strain_origin\": "
                                   "\"data_start\"");
+  // Continuous strains that leave no specimen.
+  json cont = two_stage_cd(json::array({cd_stage(1), cd_stage(2)}));
+  cont["data"]["strain_origin"] = "data_start";
+  REQUIRE_THROWS_WITH(read_test_series(write_series(dir, series_of(json::array({cont})), continuous_csv(1.0, 0.008, 400))),
+                      data_path + ": line 7: stages[3] starts at axial strain 1, volumetric strain 0.008 from the data zero; a "
+                                  "specimen's strains must stay below 1");
   // Rows of a stage must be together.
   std::string mixed = "stage,ea,ev,q,cell\n";
   for (int i = 0; i < 5; ++i) mixed += row(1, 0.01 * i, 0.0, 30.0 * i, 400);

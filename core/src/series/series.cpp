@@ -703,6 +703,10 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
         if (first_row && i > 0) {
           ea0 = ea_file[i];
           ev0 = ev_c[i];
+          if (!(ea0 < 1.0 && ev0 < 1.0))
+            throw InputError(src + ": line " + std::to_string(t.line[i]) + ": stages[" + std::to_string(k) +
+                             "] starts at axial strain " + fmt(ea0) + ", volumetric strain " + fmt(ev0) +
+                             " from the data zero; a specimen's strains must stay below 1");
         }
         ea[i] = (ea_file[i] - ea0) / (1.0 - ea0);
         ev[i] = (ev_c[i] - ev0) / (1.0 - ev0);
