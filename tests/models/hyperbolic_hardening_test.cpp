@@ -8,10 +8,12 @@
 #include <map>
 #include <random>
 #include <string>
+#include <vector>
 
 #include "allocation_counter.hpp"
 #include "cli_run.hpp"
 #include "hyperbolic_hardening/hyperbolic_hardening.hpp"
+#include "path_independence.hpp"
 #include "tolerances.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/error.hpp"
@@ -297,7 +299,10 @@ TEST_CASE("Rowe's stress-dilatancy holds along a drained compression path after 
                            {"cohesion", c}};
       const auto model = make(over);
       const double s3 = 150.0;
-      const SimulationResult r = simulate(DriverOptions{}, *model, drained_compression(s3, 30.0 * s3, 0.1, 800));
+      // One increment a record: the check reads the discrete flow rule of each increment.
+      DriverOptions fixed;
+      fixed.fixed_steps = true;
+      const SimulationResult r = simulate(fixed, *model, drained_compression(s3, 30.0 * s3, 0.1, 800));
       REQUIRE(r.ok());
       const double e = power_law(over, "unloading_stiffness_ref", s3);
       const double nu = param(over, "poissons_ratio_ur");
@@ -410,6 +415,75 @@ TEST_CASE("undrained compression of a normally consolidated sample ends on the M
   for (const StepRecord& s : r.steps) peak_u = std::max(peak_u, s.excess_pore_pressure);
   CHECK(peak_u > 0.0);
   CHECK(end.excess_pore_pressure < peak_u);
+}
+
+// Path independence (DESIGN.md "Models"): the response depends on the stress, gamma_p and p_p
+// alone (cap_volumetric_strain and the mobilised angles are outputs that integrate never reads; the
+// last active set and the multiplier rates only order and warm-start the local solve). A starts at
+// the state; B reaches it by consolidation from p' = 20 kPa. Fixed increments, the same in A and B.
+TEST_CASE("hyperbolic_hardening sheared from a state responds the same whether it started there or was consolidated to it",
+          "[hyperbolic_hardening]") {
+  const auto model = make();
+  DriverOptions fixed;
+  fixed.fixed_steps = true;
+  auto shear = [](Drainage d) {
+    Stage s;
+    s.type = StageType::shear;
+    s.drainage = d;
+    s.axial_strain = 0.05;
+    s.steps = 500;
+    return s;
+  };
+  auto to_stress = [](double axial, double radial, int steps) {
+    Stage s;
+    s.type = StageType::anisotropic_consolidation;
+    s.target_axial = axial;
+    s.target_radial = radial;
+    s.steps = steps;
+    return s;
+  };
+  struct Case {
+    const char* what;
+    double axial, radial, pc;        // A's start (pc NaN: normally consolidated, cap through the stress)
+    std::vector<Stage> consolidation;  // B's history from an isotropic 20 kPa
+    Drainage drainage;
+  };
+  const Case cases[] = {
+      {"normally consolidated at 200 kPa, drained", 200.0, 200.0, kNotGiven, {to_stress(200.0, 200.0, 40)},
+       Drainage::drained},
+      {"normally consolidated at 200 kPa, undrained", 200.0, 200.0, kNotGiven, {to_stress(200.0, 200.0, 40)},
+       Drainage::undrained},
+      {"OCR 2: loaded to 200 kPa, unloaded to 100 kPa, drained", 100.0, 100.0, 200.0,
+       {to_stress(200.0, 200.0, 40), to_stress(100.0, 100.0, 20)}, Drainage::drained},
+      {"anisotropically consolidated to (200, 120) kPa on both surfaces, drained", 200.0, 120.0, kNotGiven,
+       {to_stress(200.0, 120.0, 60)}, Drainage::drained},
+  };
+  for (const Case& c : cases) {
+    INFO(c.what);
+    TestProtocol a;
+    a.initial.stress = triaxial_stress(c.axial, c.radial);
+    a.initial.preconsolidation_pressure = c.pc;
+    a.stages = {shear(c.drainage)};
+    TestProtocol b;
+    b.initial.stress = triaxial_stress(20.0, 20.0);
+    b.stages = c.consolidation;
+    b.stages.push_back(shear(c.drainage));
+    const auto ra = simulate(fixed, *model, a);
+    const auto rb = simulate(fixed, *model, b);
+    REQUIRE(ra.ok());
+    REQUIRE(rb.ok());
+    const int last = static_cast<int>(c.consolidation.size());
+    // The hardening state B reached is the one A is initialised with.
+    const StepRecord& reached = rb.steps[rb.stages[last - 1].last];
+    CHECK(close(reached.state[HyperbolicHardening::cap_pressure], ra.steps[0].state[HyperbolicHardening::cap_pressure],
+                1e-9, 0.0));
+    CHECK(close(reached.state[HyperbolicHardening::shear_hardening],
+                ra.steps[0].state[HyperbolicHardening::shear_hardening], 1e-9, 1e-15));
+    const test::StageDifference d = test::compare_stages(ra, 0, rb, last);
+    INFO("largest difference " << d.relative << " (without floors " << d.raw << "): " << d.where);
+    CHECK(d.records == 500);
+    CHECK(d.relative < 1e-6);
+  }
 }
 
 TEST_CASE("hyperbolic_hardening is registered and `triaxcal models hyperbolic_hardening` lists its parameters",

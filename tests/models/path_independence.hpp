@@ -20,6 +20,7 @@ namespace triaxcal::test {
 /// ratio), and where it was found.
 struct StageDifference {
   double relative = 0.0;
+  double raw = 0.0;         ///< largest |x - y| / max(|x|, |y|) without the floor, over values above 100 floors
   int records = 0;          ///< records compared
   std::string where;        ///< quantity and stage strain of the largest difference
 };
@@ -33,7 +34,9 @@ inline StageDifference compare_stages(const SimulationResult& a, int stage_a, co
   const StageSummary& sb = b.stages.at(stage_b);
   REQUIRE(sa.last - sa.first == sb.last - sb.first);
   auto take = [&](const char* what, double x, double y, double floor, double strain) {
-    const double excess = std::max(0.0, std::abs(x - y) - floor) / std::max({std::abs(x), std::abs(y), floor});
+    const double larger = std::max(std::abs(x), std::abs(y));
+    const double excess = std::max(0.0, std::abs(x - y) - floor) / std::max(larger, floor);
+    if (larger > 100.0 * floor) d.raw = std::max(d.raw, std::abs(x - y) / larger);
     if (excess > d.relative) {
       d.relative = excess;
       std::ostringstream w;
