@@ -11,6 +11,7 @@
 #include "triaxcal/calibration_output.hpp"
 #include "triaxcal/parameter_file.hpp"
 #include "triaxcal/parameters.hpp"
+#include "triaxcal/results_csv.hpp"
 
 namespace triaxcal {
 
@@ -165,7 +166,7 @@ std::string format_fit_csv(const CalibrationSummary& s) {
   for (const TestFit& t : s.tests)
     for (const CurveFit& c : t.curves)
       for (std::size_t i = 0; i < c.xs.size(); ++i) {
-        out += t.id + "," + to_string(c.y);
+        out += csv_field(t.id) + "," + to_string(c.y);
         const double sim = i < c.simulated.size() ? c.simulated[i] : kNotGiven;
         if (std::isnan(sim))
           std::snprintf(buf, sizeof buf, ",%.10g,%.10g,", c.xs[i], c.measured[i]);

@@ -11,6 +11,7 @@
 
 #include "../json_checks.hpp"
 #include "triaxcal/error.hpp"
+#include "triaxcal/results_csv.hpp"
 
 namespace triaxcal::report {
 
@@ -148,15 +149,6 @@ Drainage parse_drainage(const std::string& s, const Reader& r, const std::string
 
 // ---------------------------------------------------------------- fit files (fallback)
 
-std::vector<std::string> split_csv(const std::string& line) {
-  std::vector<std::string> out;
-  std::string cell;
-  std::istringstream in(line);
-  while (std::getline(in, cell, ',')) out.push_back(cell);
-  if (!line.empty() && line.back() == ',') out.emplace_back();
-  return out;
-}
-
 double parse_or_nan(const std::string& s) {
   if (s.empty()) return kUnknown;
   try {
@@ -284,10 +276,11 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
   if (root.contains("caution") && root["caution"].is_string()) d.caution = root["caution"].get<std::string>();
 
   // Curves: test,quantity,axial_strain[-],measured,simulated,unit (the compared points).
-  std::ifstream csv(csv_path);
-  if (!csv) throw InputError(csv_path.string() + ": cannot open the file");
+  // RFC 4180 records (test ids may hold commas and quotes: results_csv.hpp).
+  const std::vector<CsvRecord> records = parse_csv(detail::read_text_file(csv_path.string()), csv_path.string());
   std::string header;
-  std::getline(csv, header);
+  if (!records.empty())
+    for (const std::string& f : records.front().fields) header += (header.empty() ? "" : ",") + f;
   if (header.rfind("test,quantity,axial_strain[-],measured,simulated,unit", 0) != 0)
     throw InputError(csv_path.string() + ": line 1: expected the header "
                      "\"test,quantity,axial_strain[-],measured,simulated,unit\", found \"" + header + "\"");
@@ -297,14 +290,10 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
       const std::string& n = d.tests[i].quality[k].name;
       quality_index[d.tests[i].id][n.substr(0, n.find(" vs "))] = k;
     }
-  std::string row;
-  int line_no = 1;
-  while (std::getline(csv, row)) {
-    ++line_no;
-    if (row.empty()) continue;
-    const auto cells = split_csv(row);
+  for (std::size_t r = 1; r < records.size(); ++r) {
+    const auto& cells = records[r].fields;
     if (cells.size() < 6)
-      throw InputError(csv_path.string() + ": line " + std::to_string(line_no) + ": expected 6 columns, found " +
+      throw InputError(csv_path.string() + ": line " + std::to_string(records[r].line) + ": expected 6 columns, found " +
                        std::to_string(cells.size()));
     const std::string& id = cells[0];
     if (!index.count(id)) {
