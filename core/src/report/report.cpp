@@ -647,7 +647,8 @@ class Renderer {
             "<tbody>\n";
       for (const Comparison& c : d_.comparisons) {
         o_ << "<tr><td>" << esc(c.quantity) << "</td><td>" << esc(c.unit) << "</td><td class=\"num\">"
-           << fmt(c.classical) << "</td><td class=\"num\">" << fmt(c.model) << "</td><td class=\"num\">"
+           << (std::isnan(c.classical) ? std::string("not determined") : fmt(c.classical)) << "</td><td class=\"num\">"
+           << fmt(c.model) << "</td><td class=\"num\">"
            << fmt(c.model - c.classical) << "</td><td>" << esc(c.basis) << "</td></tr>\n";
       }
       o_ << "</tbody>\n</table>\n";

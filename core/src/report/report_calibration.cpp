@@ -222,35 +222,59 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
         d.strength.regression = {"regression t = a + s' tan alpha", e.st.intercept, e.st.slope, kUnknown, kUnknown};
       if (std::isfinite(e.design_phi)) {
         const double c = std::isfinite(e.design_cohesion) ? e.design_cohesion : 0.0;
-        d.strength.design = {"conservative design line", c * std::cos(e.design_phi * kDeg), std::sin(e.design_phi * kDeg),
-                             kUnknown, kUnknown};
+        d.strength.design = {"design line (" + to_string(e.design_form) + ")", c * std::cos(e.design_phi * kDeg),
+                             std::sin(e.design_phi * kDeg), kUnknown, kUnknown};
       }
       if (std::isfinite(e.pq.intercept))
         d.strength.pq_lines.push_back({"envelope q = d + M p' (interpretation)", e.pq.intercept, e.pq.slope, kUnknown, kUnknown});
+      // A classical value the data cannot determine is shown as "not determined" with the reason.
+      const std::string why = e.note.empty() ? std::string() : "; not determined: " + e.note;
       d.comparisons.push_back({"friction angle phi'", "deg", e.phi, phi ? phi->value : kUnknown,
-                               "s'-t regression (" + to_string(e.criterion) + ") vs model friction_angle"});
+                               "s'-t regression (" + to_string(e.criterion) + ") vs model friction_angle" + why});
       d.comparisons.push_back({"cohesion c'", "kPa", e.cohesion, coh ? coh->value : kUnknown,
-                               "s'-t regression vs model cohesion"});
+                               "s'-t regression vs model cohesion" + why});
     }
     if (std::isfinite(in.options.stress_low) && in.options.stress_low > 0) d.strength.range_low = in.options.stress_low;
     if (std::isfinite(in.options.stress_high)) d.strength.range_high = in.options.stress_high;
     if (!d.strength.points.empty() && !std::isfinite(d.strength.range_low)) d.strength.range_low = 0.0;
     if (std::isfinite(in.critical_m))
       d.strength.pq_lines.push_back({"critical state line q = M p'", 0.0, in.critical_m, kUnknown, kUnknown});
-    auto compare = [&](const char* quantity, const char* unit, double classical, const char* name, const char* basis) {
+    // A classical value the data cannot determine is shown as "not determined" with the reason,
+    // never as a number; one with neither a value nor a reason (no such tests) is left out.
+    auto compare = [&](const char* quantity, const char* unit, double classical, const std::string& reason, const char* name,
+                       const char* basis) {
       const FittedParameter* p = find_parameter(s, name);
-      if (p && std::isfinite(classical)) d.comparisons.push_back({quantity, unit, classical, p->value, basis});
+      if (!p) return;
+      if (std::isfinite(classical)) d.comparisons.push_back({quantity, unit, classical, p->value, basis});
+      else if (!reason.empty()) d.comparisons.push_back({quantity, unit, kUnknown, p->value, std::string(basis) + "; not determined: " + reason});
     };
-    compare("critical-state friction angle phi_cs", "deg", in.phi_cs, "critical_state_friction_angle",
+    compare("critical-state friction angle phi_cs", "deg", in.phi_cs, in.critical_m_reason, "critical_state_friction_angle",
             "large-strain states vs model critical_state_friction_angle");
-    compare("critical-state friction angle phi_cs", "deg", in.phi_cs, "critical_friction_angle",
+    compare("critical-state friction angle phi_cs", "deg", in.phi_cs, in.critical_m_reason, "critical_friction_angle",
             "large-strain states vs model critical_friction_angle");
-    compare("secant stiffness at p_ref", "kPa", in.secant_law.reference, "secant_stiffness_ref",
+    compare("secant stiffness at p_ref", "kPa", in.secant_law.reference, in.secant_law.reason, "secant_stiffness_ref",
             "E_50 power law vs model secant_stiffness_ref");
-    compare("unload-reload stiffness at p_ref", "kPa", in.unload_reload_law.reference, "unloading_stiffness_ref",
-            "E_ur power law vs model unloading_stiffness_ref");
-    compare("stiffness exponent m", "-", in.secant_law.exponent, "stress_exponent",
+    compare("unload-reload stiffness at p_ref", "kPa", in.unload_reload_law.reference, in.unload_reload_law.reason,
+            "unloading_stiffness_ref", "E_ur power law vs model unloading_stiffness_ref");
+    compare("stiffness exponent m", "-", in.secant_law.exponent, in.secant_law.reason, "stress_exponent",
             "E_50 power law vs model stress_exponent");
+    {
+      // Dilation angle: the mean over the CD stages that determine one.
+      double sum = 0.0;
+      int n = 0;
+      std::string reason;
+      for (const StageInterpretation& st : in.stages) {
+        if (st.test != ShearType::cd) continue;
+        if (std::isfinite(st.dilation_angle)) {
+          sum += st.dilation_angle;
+          ++n;
+        } else if (reason.empty()) {
+          reason = st.specimen + ": " + st.dilation_reason;
+        }
+      }
+      compare("dilation angle psi", "deg", n > 0 ? sum / n : kUnknown, reason, "dilation_angle",
+              "peak dilation rate of the CD stages (mean) vs model dilation_angle");
+    }
     for (const std::string& w : in.warnings) d.warnings.push_back("interpretation: " + w);
   }
   return d;
