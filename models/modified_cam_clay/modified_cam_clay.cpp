@@ -47,8 +47,9 @@ inline double chord_factor(double d, double& slope) {
     slope = -0.5 + d * (1.0 / 3.0 + d * (-1.0 / 8.0 + d * (1.0 / 30.0 - d * (1.0 / 144.0))));
     return 1.0 + d * (-0.5 + d * (1.0 / 6.0 + d * (-1.0 / 24.0 + d * (1.0 / 120.0 - d * (1.0 / 720.0)))));
   }
-  const double phi = -std::expm1(-d) / d;
-  slope = (std::exp(-d) - phi) / d;
+  const double em1 = std::expm1(-d);  // exp(-d) - 1, exact to round-off also for small d
+  const double phi = -em1 / d;
+  slope = (1.0 + em1 - phi) / d;
   return phi;
 }
 
@@ -162,8 +163,8 @@ std::unique_ptr<Model> ModifiedCamClay::create(const ParameterValues& v, const s
 }
 
 ModifiedCamClay::ModifiedCamClay(const ParameterValues& v)
-    : lambda_(v[lambda]), kappa_(v[kappa]), nu_(v[poissons_ratio]), shear_(v[shear_modulus]),
-      lode_(v[lode_dependence] == 1.0) {
+    : inv_kappa_(1.0 / v[kappa]), inv_plastic_(1.0 / (v[lambda] - v[kappa])), nu_(v[poissons_ratio]),
+      shear_(v[shear_modulus]), lode_(v[lode_dependence] == 1.0) {
   double sphi;
   if (v[critical_state_ratio] > 0.0) {
     m_compression_ = v[critical_state_ratio];
@@ -265,11 +266,9 @@ IntegrationResult ModifiedCamClay::integrate(const MaterialState& in, const Vec6
   const double e_new = e_n - chord * dev;
   // No pore space left: the parameters and e do not describe this stress range.
   if (!(e_new > 0.0)) return {Status::invalid_input, 0};
-  const double a = chord / kappa_;             // d ln p' / d eps_v^e
-  const double b = chord / (lambda_ - kappa_); // d ln p'_c / d eps_v^p
-  const double a_slope = chord_slope / kappa_;
-  const double b_slope = chord_slope / (lambda_ - kappa_);
-  const double bulk_n = (1.0 + e_n) * p_n / kappa_;  // tangent K at the start of the increment
+  const double a = chord * inv_kappa_;    // d ln p' / d eps_v^e
+  const double b = chord * inv_plastic_;  // d ln p'_c / d eps_v^p
+  const double bulk_n = (1.0 + e_n) * p_n * inv_kappa_;  // tangent K at the start of the increment
   const double shear = shear_ > 0.0 ? shear_ : 1.5 * (1.0 - 2.0 * nu_) / (1.0 + nu_) * bulk_n;
 
   if (std::abs(a * dev) > kMaxExponent) return {Status::numerical_issue, 0};
@@ -295,6 +294,7 @@ IntegrationResult ModifiedCamClay::integrate(const MaterialState& in, const Vec6
 
   out.internal[void_ratio] = e_new;
 
+  const double a_slope = chord_slope * inv_kappa_;  // da/dd
   if (f_tr <= kYieldTolerance * pc2) {
     out.internal[plastic_rate] = out.internal[multiplier_rate] = 0.0;
     out.stress = s_tr + p_tr * one;
@@ -370,7 +370,7 @@ IntegrationResult ModifiedCamClay::integrate(const MaterialState& in, const Vec6
   jac(1, 1) = -12.0 * shear * q * q / d / pc2;
   const Eigen::Matrix2d jinv = jac.inverse();
   const double lnp_d = a + a_slope * (dev - x);
-  const double lnpc_d = b_slope * x;
+  const double lnpc_d = chord_slope * inv_plastic_ * x;
   const Eigen::Vector2d r_v(-dl * m2 * (2.0 * p * lnp_d - pc * lnpc_d),
                             m2 * p * (lnp_d * (2.0 * p - pc) - pc * lnpc_d) / pc2);
   const Eigen::Vector2d r_q(0.0, 2.0 * q / d / pc2);

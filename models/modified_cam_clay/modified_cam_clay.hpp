@@ -97,8 +97,8 @@ class ModifiedCamClay final : public Model {
   // M and dM/d(sin 3theta) at a deviatoric state.
   double ratio_and_slope(double sin3theta, double& slope) const;
 
-  double lambda_ = 0.0;
-  double kappa_ = 0.0;
+  double inv_kappa_ = 0.0;    // 1 / kappa
+  double inv_plastic_ = 0.0;  // 1 / (lambda - kappa)
   double m_compression_ = 0.0;
   double alpha4_ = 1.0;     // a^4 of the Lode shape (1 = circle)
   double nu_ = 0.3;
