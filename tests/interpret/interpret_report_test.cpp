@@ -71,6 +71,16 @@ TEST_CASE("the report shows not determined with the reason for classical values 
   REQUIRE(e50);
   CHECK(std::isfinite(e50->classical));  // determined: a number
   CHECK(e50->basis == "E_50 power law vs model secant_stiffness_ref");
+  // The report input (JSON) keeps it: classical null, the reason in the basis.
+  const report::ReportData back = report::parse_report_input(report::report_input_json(d), "report.json");
+  bool found = false;
+  for (const report::Comparison& c : back.comparisons)
+    if (c.quantity == "critical-state friction angle phi_cs") {
+      found = true;
+      CHECK(std::isnan(c.classical));
+      CHECK(c.basis == cs->basis);
+    }
+  CHECK(found);
   const std::string html = report::render_report(d);
   CHECK(html.find("<td class=\"num\">not determined</td>") != std::string::npos);
   CHECK(html.find("not determined: no compression stage ends in a steady state") != std::string::npos);
