@@ -22,6 +22,8 @@ struct SimulateOptions {
   std::string params;
   std::vector<std::string> protocols;
   std::string out;
+  double tolerance = DriverOptions{}.tolerance;
+  bool fixed_steps = false;
 };
 
 // A value that prints as zero at `decimals` prints as 0, not -0 (q of an isotropic stage is a
@@ -51,6 +53,9 @@ int run(const SimulateOptions& o) {
   for (const auto& path : o.protocols) protocols.push_back(read_protocol_file(path));
 
   DriverOptions options;
+  options.tolerance = o.tolerance;
+  options.fixed_steps = o.fixed_steps;
+  options.validate();
   std::vector<SimulationResult> results;
   results.reserve(protocols.size());
   bool all_ok = true;
@@ -92,6 +97,14 @@ void add_simulate_command(CLI::App& app, Action& action) {
       ->required()
       ->check(CLI::ExistingFile);
   cmd->add_option("--out", o->out, "CSV file for the simulated curves (written atomically; units in the header)");
+  cmd->add_option("--tolerance", o->tolerance,
+                  "Accuracy of the integration: local relative error of each substep, in [1e-10, 0.1] (default " +
+                      format_number(DriverOptions{}.tolerance) +
+                      ": curves within about 0.1 % of their range of the converged solution); the protocol's "
+                      "steps only set where records are written");
+  cmd->add_flag("--fixed-steps", o->fixed_steps,
+                "No error control: each record step (the protocol's steps) is one increment, as accurate as the "
+                "step count makes it");
   cmd->callback([&action, o] { action = [o] { return run(*o); }; });
 }
 

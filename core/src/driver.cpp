@@ -41,6 +41,8 @@ void DriverOptions::validate() const {
     fail("newton_tolerance", newton_tolerance, "must be in (0, 0.01)");
   if (max_cuts < 0 || max_cuts > 40) fail("max_cuts", max_cuts, "must be in [0, 40]");
   if (max_total_cuts < 0) fail("max_total_cuts", max_total_cuts, "must be at least 0");
+  if (!(tolerance >= 1e-10 && tolerance <= 0.1)) fail("tolerance", tolerance, "must be in [1e-10, 0.1]");
+  if (max_substeps < 1) fail("max_substeps", static_cast<double>(max_substeps), "must be at least 1");
 }
 
 void SimulationResult::clear() {
@@ -118,6 +120,21 @@ void validate_protocol(const TestProtocol& protocol) {
         require(given(s.target_deviator), i, "deviator_stress", "(kPa, q at the bottom of the loop) must be given");
         break;
     }
+    if (!s.record_at.empty()) {
+      require(s.record_at.size() <= 10000000, i, "record_at", "has " + std::to_string(s.record_at.size()) +
+                                                            " points, at most 10000000 are allowed");
+      for (std::size_t j = 0; j < s.record_at.size(); ++j) {
+        const double f = s.record_at[j];
+        const std::string key = "record_at[" + std::to_string(j) + "]";
+        require(f > 0.0 && f <= 1.0, i, key, "= " + format_number(f) + " must be in (0, 1] (a fraction of the stage's path)");
+        if (j > 0)
+          require(f > s.record_at[j - 1], i, key, "= " + format_number(f) + " must be larger than record_at[" +
+                                                      std::to_string(j - 1) + "] = " + format_number(s.record_at[j - 1]) +
+                                                      " (strictly increasing)");
+      }
+      require(s.record_at.back() == 1.0, i, "record_at",
+              "must end at 1 (the end of the stage), found " + format_number(s.record_at.back()));
+    }
     const bool consolidation = s.type != StageType::shear && s.type != StageType::unload_reload;
     if (consolidation)
       require(s.drainage == Drainage::drained, i, "drainage", "must be drained for a " + to_string(s.type) + " stage");
@@ -137,9 +154,12 @@ struct Control {
   std::array<int, 6> free{};
   int nfree = 0;
   // Targets move linearly over a stage: b_i = from_i + f (to_i - from_i) - (pore_i ? u : 0), with f
-  // the fraction of the stage at the end of the step and u the pore pressure at its start.
+  // the fraction of the stage at the end of the step and u the pore pressure at its start. Pure
+  // rows hold their increment of one equal step in from = to (total / steps) and the stage's total
+  // natural strain in `total` (record steps of other widths: set_pure_increments).
   Vec6 from = Vec6::Zero();
   Vec6 to = Vec6::Zero();
+  Vec6 total = Vec6::Zero();
   std::array<bool, 6> pore{};
   // The nonzero entries of the free rows, in the order of `free` (set by finish()): the hot loop
   // reads two or three coefficients a row instead of twelve.
@@ -156,14 +176,17 @@ struct Control {
     c.setZero();
     from.setZero();
     to.setZero();
+    total.setZero();
     pure.fill(true);
     pore.fill(false);
   }
-  void strain(int i, double d) {
+  // Row i prescribes the natural strain `stage_total` over the stage (`steps` equal steps).
+  void strain(int i, double stage_total, int steps) {
     a.row(i).setZero();
     c.row(i).setZero();
     a(i, i) = 1.0;
-    from[i] = to[i] = d;
+    from[i] = to[i] = stage_total / steps;
+    total[i] = stage_total;
     pure[i] = true;
   }
   void mixed(int i, const Vec6& arow, const Vec6& crow, double b_from, double b_to, bool minus_pore = false) {
@@ -173,6 +196,7 @@ struct Control {
     to[i] = b_to;
     pure[i] = false;
     pore[i] = minus_pore;
+    total[i] = 0.0;
   }
   void effective_stress(int i, double b_from, double b_to) { mixed(i, Vec6::Zero(), Vec6::Unit(i), b_from, b_to); }
   void finish() {
@@ -201,6 +225,11 @@ struct Control {
   Vec6 pure_mask = Vec6::Zero();
   Vec6 pore_mask = Vec6::Zero();
   void set_targets(double f, double u) { b = from + f * (to - from) - u * pore_mask; }
+  // A record step of `width` (fraction of the stage): the pure rows' increments (after set_targets).
+  void set_pure_increments(double width) {
+    for (int i = 0; i < 6; ++i)
+      if (pure[i]) b[i] = width * total[i];
+  }
 };
 
 // Gaussian elimination with partial pivoting on the K x K leading block (K <= 6), solving in place
@@ -289,14 +318,41 @@ class Runner {
     double q = 0.0;
   };
 
+  // What run_stage does after each record: peaks and stop criteria of the stage.
+  struct RecordWatch {
+    const Stage* stage = nullptr;
+    StageSummary* summary = nullptr;
+    double sign = 1.0;            // -1 for shear in extension
+    double axial_start = 0.0;     // natural axial strain at the stage start
+    double best_q = -std::numeric_limits<double>::infinity();
+    double best_ratio = -std::numeric_limits<double>::infinity();
+    // true: the stage stops at the record just written (n = its index within the loop half).
+    bool stop_after(const StepRecord& r, int n, double axial_now);
+  };
+
   bool run_stage(int index);
-  bool step(int stage, int step_in_stage, const Control& control, Drainage drainage);
-  bool substep(const Control& control, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc,
-               Vec6& d_eps, MaterialState& out, Mat6& tangent, bool elastic_predictor);
+  // Fixed stepping: each record step in one increment, halved only where the model fails.
+  bool fixed_step(int stage, int step_in_stage, const Control& control, Drainage drainage);
+  // Error-controlled substepping of one stage (or loop half) by step doubling, writing the records
+  // on the way; `counter` = records of the stage written so far; `stopped` = a stop criterion fired.
+  bool adaptive_phase(int stage, const Control& control, int per_phase, int& counter, RecordWatch& watch,
+                      bool& stopped);
+  double error_estimate(const Control& control, const MaterialState& one, const Vec6& d_one, const MaterialState& two,
+                        const Vec6& d_two, const Vec6& stage_strain) const;
+  // Pore pressure after the strain increment d (since the pore pressure was u0) reaching `state`.
+  double pore_pressure(Drainage drainage, const MaterialState& state, const Vec6& d, double u0) const;
+  // Integrates the fraction [s0, s1] of a record step (fixed stepping) or of a stage (error
+  // control) from `from` (the state at s0, reached with the strain increment d_acc since the start
+  // of that step or stage); `predictor` = the tangent at `from`.
+  bool substep(const Control& control, const MaterialState& from, const Mat6& predictor, const Vec6& cs_start,
+               double s0, double s1, const Vec6& d_acc, Vec6& d_eps, MaterialState& out, Mat6& tangent,
+               bool elastic_predictor);
   template <int K>
-  bool newton(const Control& control, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc, Vec6& d,
-              MaterialState& out, Mat6& tangent, bool elastic_predictor);
-  void record(int stage, int step, int cuts);
+  bool newton(const Control& control, const MaterialState& from, const Mat6& predictor, const Vec6& cs_start,
+              double s0, double s1, const Vec6& d_acc, Vec6& d, MaterialState& out, Mat6& tangent,
+              bool elastic_predictor);
+  void record(int stage, int step, int cuts) { record(stage, step, cuts, *state_, strain_, u_); }
+  void record(int stage, int step, int cuts, const MaterialState& state, const Vec6& strain, double u);
   void fail(int stage, int step, const std::string& why);
   void build_control(const Stage& stage, const StageStart& start, int phase, Control& control) const;
 
@@ -306,13 +362,20 @@ class Runner {
   SimulationResult& result_;
 
   // The converged state and tangent and the spare pair a step writes into: swapped on success, not
-  // copied (the pair is 400 bytes, a tenth of a drained Mohr-Coulomb increment).
-  MaterialState states_[2];
-  Mat6 tangents_[2] = {Mat6::Zero(), Mat6::Zero()};
+  // copied (the pair is 400 bytes, a tenth of a drained Mohr-Coulomb increment). Step doubling
+  // writes the one-substep result into `one_` and the half-way state of the two halves into `half_`;
+  // the two-halves result goes into the spare pair.
+  MaterialState states_[4];
+  Mat6 tangents_[4] = {Mat6::Zero(), Mat6::Zero(), Mat6::Zero(), Mat6::Zero()};
   MaterialState* state_ = &states_[0];
   MaterialState* spare_state_ = &states_[1];
+  MaterialState* one_state_ = &states_[2];
+  MaterialState* half_state_ = &states_[3];
   Mat6* tangent_ = &tangents_[0];  // last converged tangent (predictor)
   Mat6* spare_tangent_ = &tangents_[1];
+  Mat6* one_tangent_ = &tangents_[2];
+  Mat6* half_tangent_ = &tangents_[3];
+  int record_steps_ = 0;        // record steps of the current stage (for messages)
   Vec6 strain_ = Vec6::Zero();  // total strain since the start of the protocol
   Vec6 stage_strain_start_ = Vec6::Zero();  // strain_ at the start of the current stage
   Mat6 restart_tangent_ = Mat6::Zero();  // tangent of a zero increment (fallback predictor)
@@ -322,23 +385,23 @@ class Runner {
   StageStart start_;
 };
 
-void Runner::record(int stage, int step_in_stage, int cuts) {
+void Runner::record(int stage, int step_in_stage, int cuts, const MaterialState& state, const Vec6& strain, double u) {
   // Built in place from every member, in declaration order: an emplace_back() without arguments
   // would value-initialise the 160-byte record before it is filled.
-  const double eps_v = volumetric_strain(strain_);
-  const TriaxialInvariants t = triaxial_invariants(state_->stress);
-  result_.steps.emplace_back(stage, step_in_stage, strain_[0], 0.5 * (strain_[1] + strain_[2]), eps_v,
-                             engineering_strain(strain_[0] - stage_strain_start_[0]),
+  const double eps_v = volumetric_strain(strain);
+  const TriaxialInvariants t = triaxial_invariants(state.stress);
+  result_.steps.emplace_back(stage, step_in_stage, strain[0], 0.5 * (strain[1] + strain[2]), eps_v,
+                             engineering_strain(strain[0] - stage_strain_start_[0]),
                              engineering_strain(eps_v - volumetric_strain(stage_strain_start_)), t.axial,
-                             t.radial, t.p, t.q, u_ - protocol_.back_pressure,
+                             t.radial, t.p, t.q, u - protocol_.back_pressure,
                              given(e0_) ? (1.0 + e0_) * std::exp(-eps_v) - 1.0 : kNotGiven,
-                             t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state_->internal);
+                             t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state.internal);
 }
 
 void Runner::fail(int stage, int step_in_stage, const std::string& why) {
   std::ostringstream m;
   m << "stage " << stage << " (" << to_string(protocol_.stages[stage].type) << "), step " << step_in_stage
-    << " of " << protocol_.stages[stage].steps << ", axial strain " << format_number(strain_[0]) << ": " << why;
+    << " of " << record_steps_ << ", axial strain " << format_number(strain_[0]) << ": " << why;
   result_.termination = Termination::failed;
   result_.message = m.str();
   result_.failed_stage = stage;
@@ -385,24 +448,24 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int phase, C
       if (given(stage.target_axial))
         c.effective_stress(0, s.stress[0], stage.target_axial);
       else
-        c.strain(0, natural_strain(stage.axial_strain) / stage.steps);
+        c.strain(0, natural_strain(stage.axial_strain), stage.steps);
       break;
     case StageType::shear: {
-      const double de = natural_strain(stage.axial_strain) / stage.steps;
-      c.strain(0, de);
+      const double axial = natural_strain(stage.axial_strain);
+      c.strain(0, axial, stage.steps);
       if (stage.drainage == Drainage::drained) {
         drained_radial(radial0, radial0);
       } else if (incompressible_) {
         // No volume change and equal radial strains: fully strain-controlled, no iteration.
-        c.strain(1, -0.5 * de);
-        c.strain(2, -0.5 * de);
+        c.strain(1, -0.5 * axial, stage.steps);
+        c.strain(2, -0.5 * axial, stage.steps);
       } else {
         undrained_radial();
       }
       break;
     }
     case StageType::constant_p_shear: {
-      c.strain(0, natural_strain(stage.axial_strain) / stage.steps);
+      c.strain(0, natural_strain(stage.axial_strain), stage.steps);
       Vec6 third = Vec6::Zero();
       third.head<3>().setConstant(1.0 / 3.0);
       c.mixed(1, Vec6::Zero(), third, s.p, s.p);
@@ -432,34 +495,36 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int phase, C
   c.finish();
 }
 
-bool Runner::substep(const Control& c, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc, Vec6& d,
-                     MaterialState& out, Mat6& tangent, bool elastic_predictor) {
+bool Runner::substep(const Control& c, const MaterialState& from, const Mat6& predictor, const Vec6& cs_start,
+                     double s0, double s1, const Vec6& d_acc, Vec6& d, MaterialState& out, Mat6& tangent,
+                     bool elastic_predictor) {
   // Targets move linearly over the step: b(s) = C sigma_step_start + s (b - C sigma_step_start).
   const double ds = s1 - s0;
   d = (ds * c.b).cwiseProduct(c.pure_mask);
   if (c.nfree == 0) {
     ++result_.model_calls;
-    return model_.integrate(*state_, d, out, tangent).status == Status::ok;
+    return model_.integrate(from, d, out, tangent).status == Status::ok;
   }
   switch (c.nfree) {
-    case 1: return newton<1>(c, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
-    case 2: return newton<2>(c, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
-    case 3: return newton<3>(c, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
-    default: return newton<0>(c, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
+    case 1: return newton<1>(c, from, predictor, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
+    case 2: return newton<2>(c, from, predictor, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
+    case 3: return newton<3>(c, from, predictor, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
+    default: return newton<0>(c, from, predictor, cs_start, s0, s1, d_acc, d, out, tangent, elastic_predictor);
   }
 }
 
 // Newton on the K free rows (K = 0: c.nfree, not known at compile time; a template argument so
 // that the loops over the rows unroll). d holds the pure rows' increments on entry.
 template <int K>
-bool Runner::newton(const Control& c, const Vec6& cs_start, double s0, double s1, const Vec6& d_acc, Vec6& d,
-                    MaterialState& out, Mat6& tangent, bool elastic_predictor) {
+bool Runner::newton(const Control& c, const MaterialState& from, const Mat6& predictor, const Vec6& cs_start,
+                    double s0, double s1, const Vec6& d_acc, Vec6& d, MaterialState& out, Mat6& tangent,
+                    bool elastic_predictor) {
   const int k = K > 0 ? K : c.nfree;
   double jac[6][6];
   double r[6];
   double tol[6];
   double target[6];
-  const double scale = std::max(1.0, state_->stress.cwiseAbs().maxCoeff());
+  const double scale = std::max(1.0, from.stress.cwiseAbs().maxCoeff());
   for (int ii = 0; ii < k; ++ii) {
     const int i = c.free[ii];
     target[ii] = cs_start[i] + s1 * (c.b[i] - cs_start[i]);
@@ -468,10 +533,10 @@ bool Runner::newton(const Control& c, const Vec6& cs_start, double s0, double s1
   // Predictor with the last converged tangent, linearised about the substep start. Where that
   // tangent is singular for this control (a perfectly plastic state under stress control) or a
   // previous try failed, the tangent of a zero increment (elastic for every model here) is used.
-  const Mat6* dmat = tangent_;
+  const Mat6* dmat = &predictor;
   if (elastic_predictor) {
     ++result_.model_calls;
-    if (model_.integrate(*state_, Vec6::Zero(), out, restart_tangent_).status != Status::ok) return false;
+    if (model_.integrate(from, Vec6::Zero(), out, restart_tangent_).status != Status::ok) return false;
     dmat = &restart_tangent_;
   }
   bool have_stress = false;
@@ -486,7 +551,7 @@ bool Runner::newton(const Control& c, const Vec6& cs_start, double s0, double s1
       for (int m = 0; m < ar.n; ++m) v += ar.value[m] * (d_acc[ar.index[m]] + d[ar.index[m]]);
       for (int m = 0; m < cr.n; ++m) {
         const int j = cr.index[m];
-        const double sig = have_stress ? out.stress[j] : state_->stress[j] + dmat->row(j).dot(d);
+        const double sig = have_stress ? out.stress[j] : from.stress[j] + dmat->row(j).dot(d);
         v += cr.value[m] * sig;
       }
       r[ii] = v;
@@ -511,12 +576,12 @@ bool Runner::newton(const Control& c, const Vec6& cs_start, double s0, double s1
       solved = solve_small(jac, r, k);
     if (!solved) {
       if (have_stress || elastic_predictor) return false;
-      return substep(c, cs_start, s0, s1, d_acc, d, out, tangent, true);
+      return substep(c, from, predictor, cs_start, s0, s1, d_acc, d, out, tangent, true);
     }
     for (int ii = 0; ii < k; ++ii) d[c.free[ii]] -= r[ii];
     ++result_.newton_iterations;
     ++result_.model_calls;
-    if (model_.integrate(*state_, d, out, tangent).status != Status::ok) return false;
+    if (model_.integrate(from, d, out, tangent).status != Status::ok) return false;
     if (!out.stress.allFinite()) return false;
     have_stress = true;
     dmat = &tangent;
@@ -524,15 +589,26 @@ bool Runner::newton(const Control& c, const Vec6& cs_start, double s0, double s1
   return false;
 }
 
-bool Runner::step(int stage, int n, const Control& c, Drainage drainage) {
-  // C sigma at the step start, on the free rows (the only ones substep reads).
-  Vec6 cs_start = Vec6::Zero();
+double Runner::pore_pressure(Drainage drainage, const MaterialState& state, const Vec6& d, double u0) const {
+  if (drainage == Drainage::drained) return protocol_.back_pressure;
+  if (incompressible_) return 0.5 * (start_.cell[1] + start_.cell[2]) - 0.5 * (state.stress[1] + state.stress[2]);
+  return u0 + protocol_.pore_fluid_stiffness * volumetric_strain(d);
+}
+
+// C sigma of the free rows at `state` (the only rows substep reads from cs_start).
+Vec6 free_row_stress(const Control& c, const MaterialState& state) {
+  Vec6 cs = Vec6::Zero();
   for (int ii = 0; ii < c.nfree; ++ii) {
     const Control::SparseRow& cr = c.c_rows[ii];
     double v = 0.0;
-    for (int m = 0; m < cr.n; ++m) v += cr.value[m] * state_->stress[cr.index[m]];
-    cs_start[c.free[ii]] = v;
+    for (int m = 0; m < cr.n; ++m) v += cr.value[m] * state.stress[cr.index[m]];
+    cs[c.free[ii]] = v;
   }
+  return cs;
+}
+
+bool Runner::fixed_step(int stage, int n, const Control& c, Drainage drainage) {
+  const Vec6 cs_start = free_row_stress(c, *state_);
   const Vec6 strain_start = strain_;
   const double u_start = u_;
   Vec6 d_acc = Vec6::Zero();
@@ -542,12 +618,13 @@ bool Runner::step(int stage, int n, const Control& c, Drainage drainage) {
   int cuts = 0;
   while (s0 < 1.0) {
     const double s1 = (1.0 - s0 - ds < 1e-12) ? 1.0 : s0 + ds;
-    if (substep(c, cs_start, s0, s1, d_acc, d, *spare_state_, *spare_tangent_, cuts > 0)) {
+    if (substep(c, *state_, *tangent_, cs_start, s0, s1, d_acc, d, *spare_state_, *spare_tangent_, cuts > 0)) {
       std::swap(state_, spare_state_);
       std::swap(tangent_, spare_tangent_);
       d_acc += d;
       strain_ = strain_start + d_acc;
       s0 = s1;
+      ++result_.substeps;
     } else {
       ++cuts;
       ++result_.total_cuts;
@@ -561,15 +638,233 @@ bool Runner::step(int stage, int n, const Control& c, Drainage drainage) {
       }
     }
   }
-  if (drainage == Drainage::drained) {
-    u_ = protocol_.back_pressure;
-  } else if (incompressible_) {
-    u_ = 0.5 * (start_.cell[1] + start_.cell[2]) - 0.5 * (state_->stress[1] + state_->stress[2]);
-  } else {
-    u_ = u_start + protocol_.pore_fluid_stiffness * volumetric_strain(d_acc);
-  }
+  u_ = pore_pressure(drainage, *state_, d_acc, u_start);
   record(stage, n, cuts);
   return true;
+}
+
+// Floors of the error norm: stresses relative to max(|sigma'|, 1 kPa), the strains of the
+// stress-controlled rows relative to max(|strain since the stage start|, 1e-3) (common practice
+// for relative error norms with an absolute floor near zero, no source; 1e-3 is a tenth of a typical
+// drained volume change, so near the stage start a strain error counts as much as late in the stage).
+constexpr double kStressScaleFloor = 1.0;
+constexpr double kStrainScaleFloor = 1e-3;
+// Smallest substep, as a fraction of the stage's path: below it a substep whose error estimate is
+// still above the tolerance ends the run (a jump in the model's response, not a smooth path).
+constexpr double kMinSubstep = 1e-9;
+// A substep end that falls within this fraction of the substep of a record point is moved onto it:
+// no sliver of a substep before or after a record.
+constexpr double kSnapToRecord = 0.1;
+
+// Local extrapolation of a step-doubling pair into `two` (Hairer, Norsett & Wanner 1993, sec. II.4):
+// x = 2 x_halves - x_one cancels the C h^2 term of the local error, a second-order result. An
+// internal variable is extrapolated only where both results changed it alike (same sign, increments
+// within a factor 1.5 of each other); otherwise (a variable that changed in one of them only, e.g.
+// a set of active surfaces, a warm start of a local solve, the onset of yield inside the substep) it
+// keeps its value of the two halves, so that no hardening variable runs backwards and no flag takes
+// a value between its states. The stress then differs from a state consistent with those variables
+// by at most |sigma_one - sigma_halves|, which the error control keeps below the tolerance, and the
+// next increment's return removes it.
+void extrapolate(const MaterialState& start, const MaterialState& one, MaterialState& two) {
+  two.stress = 2.0 * two.stress - one.stress;
+  for (int i = 0; i < kMaxStateVariables; ++i) {
+    const double d_one = one.internal[i] - start.internal[i];
+    const double d_two = two.internal[i] - start.internal[i];
+    if (d_one == d_two || !(d_one * d_two > 0.0)) continue;
+    const double r = d_one / d_two;
+    if (r >= 0.5 && r <= 1.5) two.internal[i] = 2.0 * two.internal[i] - one.internal[i];
+  }
+}
+
+double Runner::error_estimate(const Control& c, const MaterialState& one, const Vec6& d_one, const MaterialState& two,
+                              const Vec6& d_two, const Vec6& stage_strain) const {
+  const double stress_scale = std::max(kStressScaleFloor, two.stress.cwiseAbs().maxCoeff());
+  double err = (one.stress - two.stress).cwiseAbs().maxCoeff() / stress_scale;
+  if (c.nfree > 0) {
+    const double strain_scale = std::max(kStrainScaleFloor, stage_strain.cwiseAbs().maxCoeff());
+    for (int ii = 0; ii < c.nfree; ++ii) {
+      const int i = c.free[ii];
+      err = std::max(err, std::abs(d_one[i] - d_two[i]) / strain_scale);
+    }
+  }
+  return err;
+}
+
+// Step doubling (Richardson extrapolation of the local error; Hairer, Norsett & Wanner 1993,
+// "Solving Ordinary Differential Equations I", sec. II.4): from the same state, one substep of size
+// h and two of h/2. The model's increment (backward Euler or an exact return) is first order, so
+// the local errors are C h^2 and 2 C (h/2)^2 and their difference estimates the error of the two
+// halves, which are kept. Substep control as in Sloan, Abbo & Sheng (2001), "Refined explicit
+// integration of elastoplastic models with automatic error control", Engineering Computations
+// 18(1/2), 121-154: accept when the relative error is below the tolerance, next size
+// h (0.9 sqrt(tol / err)) within [0.2 h, 4 h] (exponent 1/2 for a first-order pair), no growth
+// after a failed try until the next record.
+//
+// The path parameter s is the fraction of the stage (or loop half): the targets of the
+// stress-controlled rows move linearly from their values at its start (cs_start) to the end
+// (control.b), the strain rows by s times their total. Substeps are not cut at every record: a
+// record inside an accepted substep is integrated separately, in one increment from the substep's
+// start or its half-way state, whichever precedes it (dense output of the same first order; the
+// increment is at most half the substep, so its error is below the substep's estimate). With a stop
+// criterion every record is a substep end, so that the next stage starts from the record.
+bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& counter, RecordWatch& watch, bool& stopped) {
+  const Stage& st = protocol_.stages[static_cast<std::size_t>(stage)];
+  const bool equal = st.record_at.empty();
+  auto fraction = [&](int k) {
+    return equal ? static_cast<double>(k) / st.steps : st.record_at[static_cast<std::size_t>(k - 1)];
+  };
+  const Vec6 cs_start = free_row_stress(c, *state_);
+  const Vec6 phase_start = strain_;
+  const Vec6 stage_offset = strain_ - stage_strain_start_;
+  const double u_start = u_;
+  const bool on_records = st.stop != StopCriterion::none;
+  Vec6 d_acc = Vec6::Zero();  // strain since the phase start
+  Vec6 d_one, d_first, d_second, d_mid, d_record;
+  double s0 = 0.0;
+  double proposed = fraction(1);
+  int next = 1;        // the next record to write (1-based within the phase)
+  int cuts = 0;        // model-failure cuts of substeps within the current record step
+  bool failed = false; // a substep failed since the last record: no growth
+  const int first_counter = counter;
+  while (next <= per_phase) {
+    const double limit = on_records ? fraction(next) : 1.0;
+    const double h = proposed;
+    const double remaining = limit - s0;
+    double s1;
+    if (h >= remaining / (1.0 + kSnapToRecord)) {
+      s1 = limit;
+    } else if (h >= 0.5 * remaining) {
+      s1 = s0 + 0.5 * remaining;  // two equal substeps to the end, no sliver
+    } else {
+      s1 = s0 + h;
+      int k = next;
+      while (fraction(k) < s1) ++k;  // fraction(per_phase) = 1 > s1 ends the scan
+      if (fraction(k) - s1 <= kSnapToRecord * h)
+        s1 = fraction(k);
+      else if (k > next && s1 - fraction(k - 1) <= kSnapToRecord * h)
+        s1 = fraction(k - 1);
+    }
+    const double sm = 0.5 * (s0 + s1);
+    const double size = s1 - s0;
+    const int n = first_counter + next;
+    if (result_.substeps + result_.rejected_substeps >= opt_.max_substeps) {
+      fail(stage, n, "the error control used all " + std::to_string(opt_.max_substeps) +
+                         " substeps of max_substeps at tolerance " + format_number(opt_.tolerance));
+      return false;
+    }
+    bool ok = substep(c, *state_, *tangent_, cs_start, s0, s1, d_acc, d_one, *one_state_, *one_tangent_, failed) &&
+              substep(c, *state_, *tangent_, cs_start, s0, sm, d_acc, d_first, *half_state_, *half_tangent_, failed);
+    if (ok) {
+      d_mid = d_acc + d_first;
+      ok = substep(c, *half_state_, *half_tangent_, cs_start, sm, s1, d_mid, d_second, *spare_state_, *spare_tangent_,
+                   failed);
+    }
+    if (!ok) {
+      // Cuts of a substep within one record step count against max_cuts; a substep across records
+      // is halved freely down to the record spacing.
+      if (s1 <= fraction(next)) ++cuts;
+      ++result_.total_cuts;
+      failed = true;
+      proposed = 0.5 * size;
+      if (cuts > opt_.max_cuts || result_.total_cuts > opt_.max_total_cuts || proposed < kMinSubstep) {
+        const double from = next > 1 ? fraction(next - 1) : 0.0;
+        const double width = fraction(next) - from;
+        fail(stage, n, "the increment could not be completed after " + std::to_string(cuts - 1) + " cuts (substep " +
+                           format_number(size / width) + " of the increment at fraction " +
+                           format_number((s0 - from) / width) + ")");
+        return false;
+      }
+      continue;
+    }
+    d_second += d_first;  // the two halves' increment
+    const double err = error_estimate(c, *one_state_, d_one, *spare_state_, d_second, stage_offset + d_acc + d_second);
+    double factor = err > 0.0 ? std::clamp(0.9 * std::sqrt(opt_.tolerance / err), 0.2, 4.0) : 4.0;
+    if (failed) factor = std::min(factor, 1.0);
+    if (err > opt_.tolerance) {
+      ++result_.rejected_substeps;
+      proposed = factor * size;
+      if (size <= kMinSubstep) {
+        fail(stage, n, "the error estimate " + format_number(err) + " stays above the tolerance " +
+                           format_number(opt_.tolerance) + " at the smallest substep (" + format_number(kMinSubstep) +
+                           " of the stage)");
+        return false;
+      }
+      continue;
+    }
+    ++result_.substeps;
+    if (opt_.extrapolate) {
+      extrapolate(*state_, *one_state_, *spare_state_);
+      d_second = 2.0 * d_second - d_one;
+    }
+    // The records this substep reaches: inside it, one increment from the nearer preceding state
+    // (into the free `one_` pair); at its end, the accepted state.
+    while (next <= per_phase && fraction(next) <= s1) {
+      const double f = fraction(next);
+      const MaterialState* rec = spare_state_;
+      const Vec6* d_rec = &d_acc;  // with d_second added below for the end record
+      if (f < s1) {
+        const bool late = f > sm;
+        if (!substep(c, late ? *half_state_ : *state_, late ? *half_tangent_ : *tangent_, cs_start, late ? sm : s0, f,
+                     late ? d_mid : d_acc, d_record, *one_state_, *one_tangent_, false)) {
+          // The model failed on the shorter increment: redo the substep to end on this record.
+          failed = true;
+          proposed = f - s0;
+          break;
+        }
+        d_record += late ? d_mid : d_acc;
+        rec = one_state_;
+        d_rec = &d_record;
+      } else {
+        d_record = d_acc + d_second;
+        d_rec = &d_record;
+      }
+      const Vec6 strain = phase_start + *d_rec;
+      record(stage, ++counter, cuts, *rec, strain, pore_pressure(st.drainage, *rec, *d_rec, u_start));
+      ++next;
+      cuts = 0;
+      failed = false;
+      if (watch.stop_after(result_.steps.back(), next - 1, strain[0])) {
+        stopped = true;
+        break;
+      }
+    }
+    if (next <= per_phase && fraction(next) <= s1 && !stopped) continue;  // a record's increment failed
+    std::swap(state_, spare_state_);
+    std::swap(tangent_, spare_tangent_);
+    d_acc += d_second;
+    strain_ = phase_start + d_acc;
+    u_ = pore_pressure(st.drainage, *state_, d_acc, u_start);
+    s0 = s1;
+    if (stopped) return true;
+    // A substep shortened to end on a record or the stage end does not shrink a proposal it met.
+    if (size < h && factor >= 1.0)
+      proposed = std::max(proposed, factor * size);
+    else
+      proposed = factor * size;
+  }
+  return true;
+}
+
+bool Runner::RecordWatch::stop_after(const StepRecord& r, int n, double axial_now) {
+  if (std::abs(r.q) > std::abs(summary->peak_q)) summary->peak_q = r.q;
+  const double q_dir = sign * r.q;
+  const double ratio = sign > 0 ? r.stress_ratio : 1.0 / r.stress_ratio;
+  bool stop = false;
+  switch (stage->stop) {
+    case StopCriterion::none: break;
+    case StopCriterion::peak_deviator:
+      stop = n > 1 && q_dir <= best_q + 1e-9 * std::max(1.0, std::abs(best_q));
+      break;
+    case StopCriterion::peak_stress_ratio:
+      stop = n > 1 && ratio <= best_ratio + 1e-12 * std::max(1.0, std::abs(best_ratio));
+      break;
+    case StopCriterion::axial_strain:
+      stop = std::abs(engineering_strain(axial_now - axial_start)) >= stage->stop_value * (1.0 - 1e-12);
+      break;
+  }
+  best_q = std::max(best_q, q_dir);
+  best_ratio = std::max(best_ratio, ratio);
+  return stop;
 }
 
 bool Runner::run_stage(int index) {
@@ -588,40 +883,41 @@ bool Runner::run_stage(int index) {
   StageSummary summary;
   summary.stage = index;
   summary.first = static_cast<int>(result_.steps.size());
-  const double axial_start = strain_[0];
-  const double sign = (stage.type == StageType::shear || stage.type == StageType::constant_p_shear) && stage.axial_strain < 0 ? -1.0 : 1.0;
+  RecordWatch watch;
+  watch.stage = &stage;
+  watch.summary = &summary;
+  watch.axial_start = strain_[0];
+  watch.sign = (stage.type == StageType::shear || stage.type == StageType::constant_p_shear) && stage.axial_strain < 0 ? -1.0 : 1.0;
   const int phases = stage.type == StageType::unload_reload ? 2 : 1;
+  // Record steps: `steps` equal ones, or ending at the fractions of record_at (each half of a loop).
+  const bool equal = stage.record_at.empty();
+  const int per_phase = equal ? stage.steps : static_cast<int>(stage.record_at.size());
+  record_steps_ = per_phase * phases;
   Control control;
   int counter = 0;
-  double best_q = -std::numeric_limits<double>::infinity();
-  double best_ratio = -std::numeric_limits<double>::infinity();
   bool stop = false;
   for (int phase = 0; phase < phases && !stop; ++phase) {
     build_control(stage, start_, phase, control);
-    for (int n = 1; n <= stage.steps; ++n) {
-      control.set_targets(static_cast<double>(n) / stage.steps, u_);
+    if (!opt_.fixed_steps) {
+      // The whole loop half at once: targets at its end, pure rows their total.
+      control.set_targets(1.0, u_);
+      control.set_pure_increments(1.0);
+      const int before = counter;
+      if (!adaptive_phase(index, control, per_phase, counter, watch, stop)) return false;
+      if (stop) summary.stopped_early = counter - before < per_phase;
+      continue;
+    }
+    double f_prev = 0.0;
+    for (int n = 1; n <= per_phase; ++n) {
+      const double f = equal ? static_cast<double>(n) / stage.steps : stage.record_at[static_cast<std::size_t>(n - 1)];
+      control.set_targets(f, u_);
+      if (!equal) control.set_pure_increments(f - f_prev);
+      f_prev = f;
       ++counter;
-      if (!step(index, counter, control, stage.drainage)) return false;
-      const StepRecord& r = result_.steps.back();
-      if (std::abs(r.q) > std::abs(summary.peak_q)) summary.peak_q = r.q;
-      const double q_dir = sign * r.q;
-      const double ratio = sign > 0 ? r.stress_ratio : 1.0 / r.stress_ratio;
-      switch (stage.stop) {
-        case StopCriterion::none: break;
-        case StopCriterion::peak_deviator:
-          stop = n > 1 && q_dir <= best_q + 1e-9 * std::max(1.0, std::abs(best_q));
-          break;
-        case StopCriterion::peak_stress_ratio:
-          stop = n > 1 && ratio <= best_ratio + 1e-12 * std::max(1.0, std::abs(best_ratio));
-          break;
-        case StopCriterion::axial_strain:
-          stop = std::abs(strain_[0] - axial_start) >= stage.stop_value * (1.0 - 1e-12);
-          break;
-      }
-      best_q = std::max(best_q, q_dir);
-      best_ratio = std::max(best_ratio, ratio);
+      if (!fixed_step(index, counter, control, stage.drainage)) return false;
+      stop = watch.stop_after(result_.steps.back(), n, strain_[0]);
       if (stop) {
-        summary.stopped_early = n < stage.steps;
+        summary.stopped_early = n < per_phase;
         break;
       }
     }
@@ -647,7 +943,9 @@ void Runner::run() {
     }
   }
   std::size_t total = 1;
-  for (const Stage& s : protocol_.stages) total += static_cast<std::size_t>(s.steps) * (s.type == StageType::unload_reload ? 2 : 1);
+  for (const Stage& s : protocol_.stages)
+    total += (s.record_at.empty() ? static_cast<std::size_t>(s.steps) : s.record_at.size()) *
+             (s.type == StageType::unload_reload ? 2 : 1);
   result_.steps.reserve(total);
   result_.stages.reserve(protocol_.stages.size());
   record(0, 0, 0);
@@ -660,6 +958,9 @@ void Runner::run() {
 }  // namespace
 
 double stage_fraction_at(const Stage& stage, double engineering_stage_strain) {
+  const bool strain_controlled = stage.type == StageType::shear || stage.type == StageType::constant_p_shear ||
+                                 (stage.type == StageType::oedometer && !given(stage.target_axial));
+  if (!strain_controlled || !given(stage.axial_strain)) return kNotGiven;
   return natural_strain(engineering_stage_strain) / natural_strain(stage.axial_strain);
 }
 

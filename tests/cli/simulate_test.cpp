@@ -147,3 +147,26 @@ TEST_CASE("simulate: a simulation that cannot be completed gives exit 3 and name
   // The curves up to the failure are still written, for a look at where it went wrong.
   CHECK(fs::exists("exit3.csv"));
 }
+
+TEST_CASE("simulate --tolerance sets the accuracy, --fixed-steps the old stepping, and a bad tolerance gives exit 2 and the rule") {
+  const auto params = write("tol_params.json", kParams);
+  const auto protocol = write("tol_protocol.json", kProtocol);
+  fs::remove("tol_a.csv");
+  fs::remove("tol_b.csv");
+  const auto a = run_cli(sim(params, protocol, "tol_a.csv") + " --tolerance 1e-6", "tol");
+  INFO(a.err);
+  CHECK(a.exit_code == 0);
+  const auto b = run_cli(sim(params, protocol, "tol_b.csv") + " --fixed-steps", "fixed");
+  CHECK(b.exit_code == 0);
+  // Same records (the protocol's 50 steps) either way: 1 header + 1 initial + 50 rows.
+  CHECK(std::count(slurp("tol_a.csv").begin(), slurp("tol_a.csv").end(), '\n') == 52);
+  CHECK(std::count(slurp("tol_b.csv").begin(), slurp("tol_b.csv").end(), '\n') == 52);
+  fs::remove("bad_out.csv");
+  const auto bad = run_cli(sim(params, protocol, "bad_out.csv") + " --tolerance 0.5", "badtol");
+  CHECK(bad.exit_code == 2);
+  CHECK(bad.err == "triaxcal: error: driver options: tolerance = 0.5 must be in [1e-10, 0.1]\n");
+  CHECK_FALSE(fs::exists("bad_out.csv"));
+  const auto help = run_cli("simulate --help", "help");
+  CHECK(help.out.find("--tolerance") != std::string::npos);
+  CHECK(help.out.find("--fixed-steps") != std::string::npos);
+}

@@ -61,7 +61,7 @@ class BreaksAt final : public Model {
 
 }  // namespace
 
-TEST_CASE("isotropic consolidation of an elastic specimen: eps_v = dp'/K, void ratio e0 - (1 + e0) eps_v") {
+TEST_CASE("isotropic consolidation of an elastic specimen: natural eps_v = dp'/K, void ratio (1 + e0) exp(-eps_v) - 1") {
   const double e = 12000, nu = 0.2, k = e / (3 * (1 - 2 * nu));
   auto p = start_at(20, 20);
   Stage s = stage(StageType::isotropic_consolidation);
@@ -74,7 +74,9 @@ TEST_CASE("isotropic consolidation of an elastic specimen: eps_v = dp'/K, void r
   CHECK(end.q == Approx(0).margin(1e-8));
   CHECK(end.volumetric_strain == Approx(200 / k).epsilon(test::kExact));
   CHECK(end.axial_strain == Approx(end.radial_strain).epsilon(test::kExact));
-  CHECK(end.void_ratio == Approx(0.8 - 1.8 * end.volumetric_strain).epsilon(1e-12));
+  // V/V0 = exp(-eps_v) for natural strain, and V = (1 + e) V_s (conventions.hpp).
+  CHECK(end.void_ratio == Approx(1.8 * std::exp(-end.volumetric_strain) - 1).epsilon(1e-12));
+  CHECK(end.stage_volumetric_strain == Approx(engineering_strain(end.volumetric_strain)).epsilon(1e-12));
 }
 
 TEST_CASE("K0 consolidation of an elastic specimen: s_r'/s_a' increments at nu/(1 - nu), no radial strain") {
@@ -187,19 +189,24 @@ TEST_CASE("multi-stage: a shear stage stops at peak deviator stress, the next st
   CHECK(r.steps[r.stages[1].last].p == Approx(100).epsilon(test::kExact));
 }
 
-TEST_CASE("a failing model ends the run with the stage, step and strain where it gave up") {
+TEST_CASE("a failing model ends the run with the stage, step and strain where it gave up, with or without error control") {
   const BreaksAt model(0.0105);
   auto p = start_at(100, 100);
   Stage s = stage(StageType::shear, 100);
-  s.axial_strain = 0.02;
+  s.axial_strain = engineering_strain(0.02);  // natural steps of 2e-4: the limit is inside step 53
   p.stages = {s};
-  const auto r = simulate(DriverOptions{}, model, p);
-  CHECK_FALSE(r.ok());
-  CHECK(r.failed_stage == 0);
-  CHECK(r.failed_step == 53);
-  CHECK(r.message.rfind("stage 0 (shear), step 53 of 100, axial strain 0.0105", 0) == 0);
-  CHECK(r.message.find("could not be completed after 12 cuts") != std::string::npos);
-  CHECK(r.steps.size() == 53);  // initial state + 52 converged steps
+  for (bool fixed : {true, false}) {
+    DriverOptions o;
+    o.fixed_steps = fixed;
+    const auto r = simulate(o, model, p);
+    INFO(r.message);
+    CHECK_FALSE(r.ok());
+    CHECK(r.failed_stage == 0);
+    CHECK(r.failed_step == 53);
+    CHECK(r.message.rfind("stage 0 (shear), step 53 of 100, axial strain 0.0105", 0) == 0);
+    CHECK(r.message.find("could not be completed after 12 cuts") != std::string::npos);
+    CHECK(r.steps.size() == 53);  // initial state + 52 converged steps
+  }
 }
 
 TEST_CASE("the step loop allocates nothing: 100 and 2000 steps cost the same number of allocations") {
@@ -283,4 +290,120 @@ TEST_CASE("protocol validation names the stage and key") {
   DriverOptions o;
   o.max_cuts = 99;
   CHECK_THROWS_WITH(o.validate(), "driver options: max_cuts = 99 must be in [0, 40]");
+}
+
+TEST_CASE("bad tolerance, max_substeps and record_at give exact messages") {
+  DriverOptions o;
+  o.tolerance = 0.5;
+  CHECK_THROWS_WITH(o.validate(), "driver options: tolerance = 0.5 must be in [1e-10, 0.1]");
+  o.tolerance = std::nan("");
+  CHECK_THROWS_WITH(o.validate(), "driver options: tolerance = nan must be in [1e-10, 0.1]");
+  o.tolerance = 1e-12;
+  CHECK_THROWS_WITH(o.validate(), "driver options: tolerance = 1e-12 must be in [1e-10, 0.1]");
+  o = DriverOptions{};
+  o.max_substeps = 0;
+  CHECK_THROWS_WITH(o.validate(), "driver options: max_substeps = 0 must be at least 1");
+
+  auto p = start_at(100, 100);
+  Stage s = stage(StageType::shear);
+  s.axial_strain = 0.1;
+  s.record_at = {0.5, 0.4, 1.0};
+  p.stages = {s};
+  CHECK_THROWS_WITH(validate_protocol(p),
+                    "stages[0]: record_at[1] = 0.4 must be larger than record_at[0] = 0.5 (strictly increasing)");
+  p.stages[0].record_at = {0.0, 1.0};
+  CHECK_THROWS_WITH(validate_protocol(p), "stages[0]: record_at[0] = 0 must be in (0, 1] (a fraction of the stage's path)");
+  p.stages[0].record_at = {0.5, 1.5};
+  CHECK_THROWS_WITH(validate_protocol(p), "stages[0]: record_at[1] = 1.5 must be in (0, 1] (a fraction of the stage's path)");
+  p.stages[0].record_at = {0.5, 0.9};
+  CHECK_THROWS_WITH(validate_protocol(p), "stages[0]: record_at must end at 1 (the end of the stage), found 0.9");
+  p.stages[0].record_at = {0.5, 0.5, 1.0};
+  CHECK_THROWS_WITH(validate_protocol(p),
+                    "stages[0]: record_at[1] = 0.5 must be larger than record_at[0] = 0.5 (strictly increasing)");
+}
+
+TEST_CASE("record_at puts the records exactly at the requested engineering stage strains, in shear and oedometer stages") {
+  const ModelEntry& m = find_model("mohr_coulomb");
+  const auto mc = m.create(resolve_parameters(m.info(), {{"youngs_modulus", 2e4}, {"friction_angle", 30.0}}, "t"), "t");
+  const std::vector<double> wanted = {0.0013, 0.002, 0.0071, 0.03, 0.1};
+  for (StageType type : {StageType::shear, StageType::oedometer}) {
+    for (bool fixed : {false, true}) {
+      auto p = start_at(100, 100);
+      Stage consolidation = stage(StageType::isotropic_consolidation, 3);
+      consolidation.target_p = 150;  // the stage strain starts after a first stage
+      Stage s = stage(type);
+      s.axial_strain = 0.1;
+      for (double e : wanted) s.record_at.push_back(stage_fraction_at(s, e));
+      s.record_at.back() = 1.0;
+      p.stages = {consolidation, s};
+      DriverOptions o;
+      o.fixed_steps = fixed;
+      const auto r = simulate(o, *mc, p);
+      INFO(r.message);
+      REQUIRE(r.ok());
+      REQUIRE(r.stages[1].last - r.stages[1].first + 1 == 5);
+      for (std::size_t k = 0; k < wanted.size(); ++k)
+        CHECK(r.steps[static_cast<std::size_t>(r.stages[1].first) + k].stage_axial_strain ==
+              Approx(wanted[k]).epsilon(1e-12));
+    }
+  }
+  Stage by_stress = stage(StageType::oedometer);
+  by_stress.target_axial = 200;
+  CHECK(std::isnan(stage_fraction_at(by_stress, 0.01)));
+}
+
+TEST_CASE("record_at on an unload-reload loop applies to each half: the bottom at the target q, the end back at the start") {
+  auto p = start_at(100, 100);
+  Stage shear = stage(StageType::shear, 20);
+  shear.axial_strain = 0.002;
+  Stage loop = stage(StageType::unload_reload);
+  loop.target_deviator = 10;
+  loop.record_at = {0.25, 0.5, 1.0};
+  p.stages = {shear, loop};
+  const auto r = simulate(DriverOptions{}, *elastic_mc(1e4, 0.3), p);
+  REQUIRE(r.ok());
+  REQUIRE(r.stages[1].last - r.stages[1].first + 1 == 6);
+  const double q0 = r.steps[static_cast<std::size_t>(r.stages[1].first) - 1].q;
+  const std::size_t f = static_cast<std::size_t>(r.stages[1].first);
+  CHECK(r.steps[f].q == Approx(q0 + 0.25 * (10 - q0)).epsilon(test::kExact));
+  CHECK(r.steps[f + 2].q == Approx(10).epsilon(test::kExact));
+  CHECK(r.steps[f + 3].q == Approx(10 + 0.25 * (q0 - 10)).epsilon(test::kExact));
+  CHECK(r.steps[f + 5].q == Approx(q0).epsilon(test::kExact));
+}
+
+TEST_CASE("the stop criterion axial_strain reads the engineering stage strain") {
+  const auto mc = elastic_mc(1e4, 0.3);
+  auto p = start_at(100, 100);
+  Stage s = stage(StageType::shear, 100);
+  s.axial_strain = 0.2;
+  s.stop = StopCriterion::axial_strain;
+  s.stop_value = 0.05;
+  p.stages = {s};
+  const auto r = simulate(DriverOptions{}, *mc, p);
+  REQUIRE(r.ok());
+  // Records every 0.2 / 100 in natural strain: the first with 1 - exp(-eps) >= 0.05 is eps >= 0.0513.
+  const double natural_step = natural_strain(0.2) / 100;
+  const int expected = static_cast<int>(std::ceil(natural_strain(0.05) / natural_step - 1e-9));
+  CHECK(r.stages[0].last == expected);
+  CHECK(r.steps.back().stage_axial_strain >= 0.05);
+  CHECK(r.steps[r.steps.size() - 2].stage_axial_strain < 0.05);
+}
+
+TEST_CASE("the error control ends the run with an exact message when it runs out of substeps") {
+  const ModelEntry& m = find_model("modified_cam_clay");
+  const auto mcc = m.create(resolve_parameters(m.info(), {{"lambda", 0.16}, {"kappa", 0.03}, {"critical_state_ratio", 1.0}}, "t"), "t");
+  auto p = start_at(200, 200);
+  p.initial.void_ratio = 0.9;
+  Stage s = stage(StageType::shear, 10);
+  s.axial_strain = 0.2;
+  p.stages = {s};
+  DriverOptions o;
+  o.max_substeps = 20;
+  const auto r = simulate(o, *mcc, p);
+  REQUIRE_FALSE(r.ok());
+  INFO(r.message);
+  CHECK(r.substeps + r.rejected_substeps == 20);
+  CHECK(r.message ==
+        "stage 0 (shear), step 1 of 10, axial strain 0.0010931: the error control used all 20 substeps of "
+        "max_substeps at tolerance 0.0001");
 }

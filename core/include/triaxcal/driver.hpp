@@ -11,16 +11,22 @@
 namespace triaxcal {
 
 struct DriverOptions {
-  /// Local error tolerance of the adaptive substepping (relative; see DEVELOPERS.md "The driver"):
-  /// the default keeps the simulated curves at the recorded points within 0.1 % of each curve's
-  /// range of the converged solution.
+  /// Local error tolerance of the adaptive substepping, in [1e-10, 0.1]: the step-doubling estimate
+  /// of each substep's error (stress relative to max(|sigma'|, 1 kPa), strains of the stress-controlled
+  /// rows relative to max(|stage strain|, 1e-3)) stays below it (DEVELOPERS.md "The driver"). The
+  /// default keeps the simulated curves at the recorded points within 0.1 % of each curve's range of
+  /// the converged solution.
   double tolerance = 1e-4;
   /// true: every record step is one increment (halved only when the model fails), no error control.
   bool fixed_steps = false;
+  /// Error control: keep 2 x_halves - x_one of each step-doubling pair (local extrapolation, second
+  /// order) where every internal variable changed smoothly; false = keep the two halves (first order).
+  bool extrapolate = true;
   int max_newton_iterations = 25;      ///< per (sub)increment on the stress-controlled rows
   double newton_tolerance = 1e-10;     ///< relative to the largest stress component (floor 1 kPa)
-  int max_cuts = 12;                   ///< bisections of one increment before the run gives up
+  int max_cuts = 12;                   ///< bisections of one record step (model failures) before the run gives up
   int max_total_cuts = 10000;          ///< over the whole protocol
+  long max_substeps = 1000000;         ///< accepted + rejected substeps over the whole protocol (error control)
 
   /// Throws InputError naming the field, its value and the rule it broke.
   void validate() const;
@@ -93,7 +99,8 @@ TRIAXCAL_CORE_EXPORT void simulate(const DriverOptions& options, const Model& mo
 
 /// For a strain-controlled stage (shear, constant_p_shear, oedometer by axial_strain): the fraction
 /// of the stage's control path at which its engineering stage axial strain equals
-/// `engineering_stage_strain` (same sign convention as Stage::axial_strain), for Stage::record_at.
+/// `engineering_stage_strain` (same sign convention as Stage::axial_strain), for Stage::record_at:
+/// ln(1 - eps) / ln(1 - eps_stage_end). NaN for a stress-controlled stage (no axial_strain).
 TRIAXCAL_CORE_EXPORT double stage_fraction_at(const Stage& stage, double engineering_stage_strain);
 
 /// Checks that every stage has what it needs; throws InputError "stages[i]: ...".

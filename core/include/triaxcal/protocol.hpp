@@ -27,14 +27,17 @@ enum class StopCriterion {
   none,               ///< run all steps
   peak_deviator,      ///< stop at the step where q stops increasing (multi-stage testing)
   peak_stress_ratio,  ///< stop at the step where s_a'/s_r' stops increasing
-  axial_strain,       ///< stop once |stage axial strain| reaches stop_value
+  axial_strain,       ///< stop at the first record where |engineering stage axial strain| reaches stop_value
 };
 
 struct Stage {
   StageType type = StageType::shear;
   std::string label;                ///< free text for tables and reports
   Drainage drainage = Drainage::drained;
-  int steps = 100;                  ///< increments (each half of an unload-reload loop gets `steps`)
+  /// Equal record steps when record_at is empty (each half of an unload-reload loop gets `steps`).
+  /// Records only: the accuracy is DriverOptions::tolerance, unless DriverOptions::fixed_steps makes
+  /// every record step one increment.
+  int steps = 100;
   double target_p = kNotGiven;      ///< kPa, isotropic consolidation
   double target_axial = kNotGiven;  ///< kPa, effective axial stress target
   double target_radial = kNotGiven; ///< kPa, effective radial stress target
@@ -42,7 +45,8 @@ struct Stage {
   double axial_strain = kNotGiven;  ///< signed engineering stage strain dL/L_stage_start (compression positive) for strain control
   /// Where records are written, as fractions of the stage's control path in (0, 1], strictly
   /// increasing, ending at 1 (for strain control the fraction of the natural axial strain of the
-  /// stage, see stage_fraction_at); empty = `steps` equal steps. Unload-reload: each half.
+  /// stage, see stage_fraction_at; for stress control the fraction of the way from the start
+  /// stress to the target); empty = `steps` equal steps. Unload-reload: each half.
   std::vector<double> record_at;
   StopCriterion stop = StopCriterion::none;
   double stop_value = kNotGiven;    ///< for StopCriterion::axial_strain (decimal)
