@@ -15,9 +15,9 @@ namespace triaxcal {
 const char* const kDesignLineRule =
     "our rule, no source: the chord of the lower one-sided 95 % confidence bound of the s'-t regression mean (Student t, "
     "n - 2 degrees of freedom) between the smallest and the largest s' used, no steeper than the best fit (else the "
-    "best-fit slope, under the bound at both ends); where that line's intercept would be negative, c' = 0 and the "
-    "secant from the origin to the bound at the largest s' used (no steeper than the best fit), which lies under any "
-    "concave envelope through the origin above the bound there; 3 or more failure points";
+    "best-fit slope, under the bound at both ends); where that line's or the regression's intercept is negative, c' = 0 "
+    "and the secant from the origin to the bound at the largest s' used (no steeper than the best fit), which lies under "
+    "any concave envelope through the origin above the bound there; 3 or more failure points";
 
 std::string to_string(DesignLineForm form) {
   switch (form) {
@@ -423,14 +423,16 @@ void design_line(StrengthEnvelope& env) {
     bd = b;
     ad = std::min(lower(x1) - b * x1, lower(x2) - b * x2);
   }
-  if (ad >= 0.0) {
+  if (ad >= 0.0 && a >= 0.0) {
     if (!(bd > 0.0)) {
       env.design_reason = "the lower bound does not rise with s' (slope " + fmt(bd) + "): no friction angle";
       return;
     }
     env.design_form = DesignLineForm::lower_bound;
   } else {
-    // A negative intercept: no cohesion. Secant from the origin to t_L at the largest s' used: under
+    // A negative intercept of the regression or of the line under its bound: no cohesion (a line
+    // under the bound can have a positive intercept when the regression's is negative; the data do
+    // not support that cohesion). Secant from the origin to t_L at the largest s' used: under
     // any envelope through the origin that is concave (the usual cause of the negative intercept)
     // and passes above t_L there.
     const double t2 = lower(x2);

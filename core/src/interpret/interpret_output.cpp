@@ -221,12 +221,12 @@ std::string interpretation_text(const Interpretation& r) {
       continue;
     }
     if (e.design_form == DesignLineForm::origin_secant)
-      o << "      design line: c' = 0, secant from the origin (the regression's intercept gives a negative cohesion)\n";
+      o << "      design line: c' = 0, secant from the origin (a negative intercept of the regression or of the line under its bound)\n";
     o << not_determined("      ", "design line", e.design_reason) << not_determined("      ", "p'-q route", e.pq_reason)
       << not_determined("      ", "power law", e.power_reason);
   }
   o << "  (* the declared criterion; design line: the lower 95 % bound of the mean line, never steeper than the fit, "
-       "c' = 0 where its intercept would be negative; see the rules below)\n";
+       "c' = 0 where an intercept is negative; see the rules below)\n";
   o << "\nStiffness (per stage: E_i, E_50, E_ur; law E = E_ref (s3'/p_ref)^m, p_ref = " << format_number(r.options.reference_pressure)
     << " kPa)\n";
   for (const StageInterpretation& s : r.stages) {
