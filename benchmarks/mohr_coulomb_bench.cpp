@@ -27,12 +27,16 @@ std::unique_ptr<Model> model(double psi) {
 
 TestProtocol shear(Drainage d, int steps) { return test::isotropic_shear(kS3, d, 0.2, steps); }
 
+// range(0) = record steps; range(1) = 1: fixed steps (one increment a record), 0: error control at
+// the default tolerance.
 void run(benchmark::State& state, Drainage d, double psi) {
   const auto m = model(psi);
   const TestProtocol p = shear(d, static_cast<int>(state.range(0)));
+  DriverOptions options;
+  options.fixed_steps = state.range(1) != 0;
   SimulationResult r;
   for (auto _ : state) {
-    r = simulate(DriverOptions{}, *m, p);
+    simulate(options, *m, p, r);
     benchmark::DoNotOptimize(r.steps.data());
   }
   const double sp = std::sin(kPhi * M_PI / 180), cp = std::cos(kPhi * M_PI / 180);
@@ -44,6 +48,7 @@ void run(benchmark::State& state, Drainage d, double psi) {
     const double qf = 6 * sp / (3 - sp) * kS3 + 6 * kC * cp / (3 - sp);
     state.counters["rel_error_qf"] = std::abs(r.steps.back().q - qf) / qf;
   }
+  state.counters["model_calls"] = static_cast<double>(r.model_calls);
   state.counters["model_calls_per_increment"] = static_cast<double>(r.model_calls) / state.range(0);
   // Seconds per increment (printed with an SI prefix: 450n = 450 ns).
   state.counters["time_per_increment"] = benchmark::Counter(
@@ -56,6 +61,7 @@ void BM_MohrCoulombUndrainedShear(benchmark::State& s) { run(s, Drainage::undrai
 
 }  // namespace
 
-BENCHMARK(BM_MohrCoulombDrainedShear)->Arg(1000)->Unit(benchmark::kMicrosecond);
-BENCHMARK(BM_MohrCoulombUndrainedShear)->Arg(1000)->Unit(benchmark::kMicrosecond);
+// Fixed 200 steps (the old default accuracy) against the error control with 50, 100 and 200 records.
+BENCHMARK(BM_MohrCoulombDrainedShear)->Args({1000, 1})->Args({200, 1})->Args({50, 0})->Args({100, 0})->Args({200, 0})->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_MohrCoulombUndrainedShear)->Args({1000, 1})->Args({200, 1})->Args({50, 0})->Args({100, 0})->Args({200, 0})->Unit(benchmark::kMicrosecond);
 BENCHMARK_MAIN();
