@@ -185,3 +185,32 @@ TEST_CASE("a drained stage with 4 points has no local rate, with the reason", "[
   CHECK(std::isnan(s.max_dilation_rate));
   CHECK(s.dilation_reason == "4 points outside unload-reload loops: a local rate needs 5 or more");
 }
+
+TEST_CASE("an extension stage gives psi from sin psi = -d/(2 + d) on the plastic branch, not from the dilative elastic part",
+          "[interpret][dilatancy]") {
+  // Mohr-Coulomb in triaxial extension at constant radial stress s_r' (hand calculation): the axial
+  // stress is the minor one; elastic: d q_d = E dx, d eps_v = -(1 - 2 nu) dx with x = -eps_a (the shear
+  // direction), dilative; failure at s_a' = s_r' / K_p; plastic, with two multipliers on the edge:
+  // d eps_v / dx = 1/K_psi - 1 = -2 sin psi / (1 + sin psi), here -0.296 against the elastic -0.4.
+  const double psi = 10.0, sr = 200.0, young = 30000.0, nu = 0.3, phi = 30.0;
+  const double sphi = std::sin(degrees_to_radians(phi)), spsi = std::sin(degrees_to_radians(psi));
+  const double qf = sr * (1.0 - (1.0 - sphi) / (1.0 + sphi));
+  const double xy = qf / young, rate = -2.0 * spsi / (1.0 + spsi);
+  std::vector<double> ea, ev, q;
+  for (int i = 0; i <= 100; ++i) {
+    const double x = 0.001 * i;
+    const double y = x <= xy ? -(1.0 - 2.0 * nu) * x : -(1.0 - 2.0 * nu) * xy + rate * (x - xy);
+    ea.push_back(engineering_strain(-x));
+    ev.push_back(engineering_strain(y));
+    q.push_back(-(x <= xy ? young * x : qf));
+  }
+  Specimen sp = make_specimen("E", ShearType::cd, sr, ea, q, ev, {});
+  sp.stages[2].direction = ShearDirection::extension;
+  TestSeries series;
+  series.specimens.push_back(sp);
+  const Interpretation r = interpret(series, InterpretOptions{});
+  const StageInterpretation& s = r.stages.at(0);
+  CHECK(s.max_dilation_rate == Approx(rate).epsilon(1e-9));
+  CHECK(s.dilation_angle == Approx(psi).epsilon(1e-9));
+  CHECK(s.phi_cv_reason == "extension stage: Rowe's relation is applied to compression stages");
+}

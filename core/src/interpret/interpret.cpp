@@ -172,17 +172,26 @@ void interpret_dilatancy(const Specimen& sp, const SpecimenStage& st, const Stag
   const detail::LocalRates lr = detail::local_rates(x, y);
   r.dilation_window.width = lr.width;
   r.dilation_window.noise = lr.noise;
-  int best = -1;
-  for (int j = 0; j < m; ++j) {
+  // In extension at constant radial stress the elastic volume change is itself dilative
+  // (d eps_v = (1 - 2 nu) d eps_a with d eps_a < 0), so the flow rule, which neglects elastic strains,
+  // is read only on windows whose ends have q within 10 % of its peak (the stress, and so the elastic strain, changes
+  // little there; our rule, no source). In compression elastic strains are contractive and never the
+  // peak dilation.
+  auto near_peak_q = [&](int j) { return v.qd(idx[static_cast<std::size_t>(j)]) - q0 >= 0.9 * (qpk - q0); };
+  auto candidate = [&](int j) {
     const std::size_t uj = static_cast<std::size_t>(j);
-    if (lr.full[uj] && given(lr.rate[uj]) && (best < 0 || lr.rate[uj] < lr.rate[static_cast<std::size_t>(best)])) best = j;
-  }
+    return lr.full[uj] && given(lr.rate[uj]) && (compression || (near_peak_q(lr.first[uj]) && near_peak_q(lr.last[uj])));
+  };
+  int best = -1;
+  for (int j = 0; j < m; ++j)
+    if (candidate(j) && (best < 0 || lr.rate[static_cast<std::size_t>(j)] < lr.rate[static_cast<std::size_t>(best)])) best = j;
   if (best < 0) {
     r.dilation_reason = m < detail::kRateMinPoints
                             ? std::to_string(m) + " points outside unload-reload loops: a local rate needs " +
                                   std::to_string(detail::kRateMinPoints) + " or more"
                             : "no window of " + fmt(lr.width) + " axial strain within the data holds " +
-                                  std::to_string(detail::kRateMinPoints) + " points";
+                                  std::to_string(detail::kRateMinPoints) + " points" +
+                                  (compression ? "" : " where q is within 10 % of its peak (extension)");
   } else {
     // The most negative local rate is biased high in magnitude when many windows share the same
     // true rate (the least of many noisy estimates). The peak rate is therefore the least-squares
@@ -197,7 +206,7 @@ void interpret_dilatancy(const Specimen& sp, const SpecimenStage& st, const Stag
     const double least = lr.rate[static_cast<std::size_t>(best)];
     auto near_peak = [&](int j) {
       const std::size_t uj = static_cast<std::size_t>(j);
-      return j >= 0 && j < m && lr.full[uj] && given(lr.rate[uj]) && lr.rate[uj] <= least + tol;
+      return j >= 0 && j < m && candidate(j) && lr.rate[uj] <= least + tol;
     };
     int lo = best, hi = best;
     while (near_peak(lo - 1)) --lo;
