@@ -138,3 +138,28 @@ TEST_CASE("interpret of the invented Kestrel Bay clay prints the oedometer lambd
   CHECK(r.out.find("oedometer C-OED-1 stages[0]: lambda ") != std::string::npos);
   CHECK(r.out.find("proxy of p'") != std::string::npos);
 }
+
+TEST_CASE("an oedometer stage without unloading, or with a first loading that does not reach p_ref, says what is not determined",
+          "[interpret][oedometer][not_determined]") {
+  // Loading only, from 150 to 800 kPa (invented): lambda is determined; kappa and E_oed at 100 kPa are not.
+  const double e0 = 1.0, lambda = 0.2;
+  std::vector<double> s, e;
+  for (double v : {150.0, 200.0, 400.0, 800.0}) {
+    s.push_back(v);
+    e.push_back(e0 - lambda * std::log(v / 150.0));
+  }
+  TestSeries series;
+  series.specimens.push_back(oedometer(s, e, e0));
+  const Interpretation r = interpret(series, InterpretOptions{});
+  const auto* c = oedometer_result(r);
+  REQUIRE(c);
+  CHECK(c->lambda == Approx(lambda).epsilon(1e-9));
+  CHECK(std::isnan(c->kappa));
+  CHECK(c->kappa_reason == "no unloading in the stage");
+  CHECK(std::isnan(c->constrained_modulus));
+  CHECK(c->constrained_modulus_reason == "the first loading does not pass s_a' = 100 kPa with a rise in axial strain");
+  const std::string text = interpretation_text(r);
+  CHECK(text.find("kappa not determined: no unloading in the stage") != std::string::npos);
+  CHECK(text.find("E_oed not determined: the first loading does not pass s_a' = 100 kPa") != std::string::npos);
+  CHECK(interpretation_json(r).find("\"not_determined\": \"no unloading in the stage\"") != std::string::npos);
+}
