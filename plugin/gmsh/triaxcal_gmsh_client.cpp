@@ -410,6 +410,9 @@ class Session {
                        {"file", u.settings.source == Source::calibration ? u.settings.calibration : u.settings.parameter_set},
                        {"model", u.result.value("model", "")},
                        {"parameter_set", u.result.at("parameter_set")}};
+      // A calibrated unit carries its outcome, so a solver input writer can refuse a stopped or poor fit.
+      if (u.result.contains("fit") && u.result.at("fit").is_object())
+        units[g.name]["outcome"] = u.result.at("fit").value("outcome", "");
     }
     const json doc = {{"format", kExportFormat},
                       {"version", 1},

@@ -67,6 +67,9 @@ typedef int (*create_fn)(const char*, triaxcal_model**);
 typedef void (*model_free_fn)(triaxcal_model*);
 typedef int (*simulate_fn)(const triaxcal_model*, const char*, triaxcal_text**);
 typedef int (*calibrate_fn)(const char*, const char*, triaxcal_progress_fn, void*, triaxcal_text**);
+typedef const char* (*outcome_name_fn)(int);
+typedef const char* (*outcome_explanation_fn)(int);
+typedef int (*calibration_outcome_fn)(const char*, int*);
 
 static int never_stop(const char* progress_json, void* user_data) {
   (void)progress_json;
@@ -108,6 +111,9 @@ int main(int argc, char** argv) {
     RESOLVE(model_free_fn, model_free, "triaxcal_model_free");
     RESOLVE(simulate_fn, simulate, "triaxcal_simulate");
     RESOLVE(calibrate_fn, calibrate, "triaxcal_calibrate");
+    RESOLVE(outcome_name_fn, outcome_name, "triaxcal_outcome_name");
+    RESOLVE(outcome_explanation_fn, outcome_explanation, "triaxcal_outcome_explanation");
+    RESOLVE(calibration_outcome_fn, calibration_outcome, "triaxcal_calibration_outcome");
 
     CHECK(version() != NULL && strlen(version()) >= 5);
     CHECK(abi() == TRIAXCAL_C_ABI_VERSION);
@@ -173,6 +179,17 @@ int main(int argc, char** argv) {
     CHECK(calibrate(NULL, NULL, NULL, NULL, &text) == TRIAXCAL_NULL_ARGUMENT);
     CHECK(strcmp(last_error(), "triaxcal_calibrate: calibration_json is NULL") == 0);
     CHECK(calibrate("{}", NULL, NULL, NULL, NULL) == TRIAXCAL_NULL_ARGUMENT);
+    /* outcomes: the enum's values and names, and reading one from a result text. */
+    CHECK(strcmp(outcome_name(TRIAXCAL_OUTCOME_POOR_FIT), "poor_fit") == 0);
+    CHECK(strcmp(outcome_name(99), "unknown") == 0);
+    CHECK(strlen(outcome_explanation(TRIAXCAL_OUTCOME_FAILED)) > 0);
+    {
+      int outcome = -1;
+      CHECK(calibration_outcome("{\"format\": \"triaxcal-calibration-result\", \"outcome\": \"stopped\"}", &outcome) ==
+            TRIAXCAL_OK);
+      CHECK(outcome == TRIAXCAL_OUTCOME_STOPPED);
+      CHECK(calibration_outcome(NULL, &outcome) == TRIAXCAL_NULL_ARGUMENT);
+    }
     free(params);
     free(protocol);
   }

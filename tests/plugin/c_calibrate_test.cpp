@@ -1,5 +1,7 @@
 // triaxcal_calibrate through the C ABI: a fit on the invented demo series (examples/calibrate),
-// the progress callback that stops, failures that yield no usable result, bad input and NULLs.
+// the progress callback that stops, failures that yield no usable result, bad input and NULLs, and
+// the outcome of each (converged, stopped, poor_fit, failed) as the result's "outcome" and as
+// triaxcal_calibration_outcome.
 
 #include <catch2/catch.hpp>
 #include <nlohmann/json.hpp>
@@ -22,6 +24,13 @@ struct Text {
 };
 
 std::string last_error() { return triaxcal_last_error(); }
+
+/// triaxcal_calibration_outcome of a result text (-1 when the call fails).
+int outcome_of(const Text& text) {
+  int o = -1;
+  if (triaxcal_calibration_outcome(triaxcal_text_data(text.t), &o) != TRIAXCAL_OK) return -1;
+  return o;
+}
 
 /// A small, quick problem on the invented demo series: E', c' and phi' free, the rest fixed.
 std::string calibration(const std::string& parameters, const std::string& options = R"({"local": "bobyqa",
@@ -68,6 +77,10 @@ TEST_CASE("calibrate fits E', c' and phi' to two invented CD tests: the fitted q
   CHECK(r.at("format") == "triaxcal-calibration-result");
   CHECK(r.at("model") == "mohr_coulomb");
   CHECK(r.at("usable") == true);
+  CHECK(r.at("outcome") == "converged");
+  CHECK(r.at("outcome_reason").get<std::string>().rfind("the local (bobyqa) stage met its tolerance; every used curve has R^2 >= 0.9", 0) == 0);
+  CHECK(r.at("outcome_explanation") == triaxcal_outcome_explanation(TRIAXCAL_OUTCOME_CONVERGED));
+  CHECK(outcome_of(text) == TRIAXCAL_OUTCOME_CONVERGED);
   CHECK(r.at("objective").get<double>() < r.at("start_objective").get<double>());
   CHECK(counter.calls == r.at("evaluations").get<long>());
   CHECK(json::parse(counter.last).contains("best"));
@@ -107,6 +120,12 @@ TEST_CASE("a progress callback that returns nonzero stops the calibration after 
   REQUIRE(text.t != nullptr);
   const json r = text.parse();
   CHECK(r.at("termination") == "stopped");
+  // Four evaluations from the start do not follow the curves yet: a poor fit that was also stopped.
+  const std::string reason = r.at("outcome_reason").get<std::string>();
+  CHECK(reason.find("; also not converged: stopped on request (the progress callback; Ctrl-C in triaxcal fit) after ") !=
+        std::string::npos);
+  CHECK(last_error() == "triaxcal_calibrate: stopped by the progress callback: " + r.at("outcome").get<std::string>() +
+                            ": " + reason);
   CHECK(counter.calls == 4);
   CHECK(r.at("evaluations").get<long>() >= 4);  // the Jacobian at the best point may add evaluations
   CHECK(r.at("parameter_set").is_object());
@@ -122,11 +141,83 @@ TEST_CASE("a calibration in which no parameter set can be built ends with no_usa
   Text text;
   CHECK(triaxcal_calibrate(calibration(params, R"({"local": "bobyqa", "local_evaluations": 20, "threads": 1})").c_str(),
                            nullptr, nullptr, nullptr, &text.t) == TRIAXCAL_NO_USABLE_RESULT);
+  const std::string error = last_error();  // before the next call replaces it
   REQUIRE(text.t != nullptr);
   const json r = text.parse();
   CHECK(r.at("usable") == false);
+  CHECK(r.at("outcome") == "failed");
+  CHECK(outcome_of(text) == TRIAXCAL_OUTCOME_FAILED);
+  CHECK(r.at("termination") == "no_usable_result");
   CHECK(r.at("parameter_set").is_null());
-  CHECK(last_error() == "triaxcal_calibrate: " + r.at("message").get<std::string>());
+  CHECK(error == "triaxcal_calibrate: failed: " + r.at("outcome_reason").get<std::string>());
+}
+
+TEST_CASE("a calibration that runs out of its evaluation budget returns ok with the outcome stopped",
+          "[plugin][c_abi][calibrate][outcome]") {
+  // Started next to the values the invented demo data were made with, so the curves fit; six
+  // evaluations are too few for the local stage to meet its tolerance.
+  const std::string params = R"({
+    "youngs_modulus": {"status": "free", "lower": 5000, "upper": 200000, "start": 24000, "scale": "log"},
+    "friction_angle": {"status": "free", "lower": 20, "upper": 45, "start": 34},
+    "cohesion": 4, "poissons_ratio": 0.3, "dilation_angle": 5})";
+  Text text;
+  REQUIRE(triaxcal_calibrate(calibration(params, R"({"local": "bobyqa", "local_evaluations": 6, "threads": 1})").c_str(),
+                             nullptr, nullptr, nullptr, &text.t) == TRIAXCAL_OK);
+  const json r = text.parse();
+  CHECK(r.at("outcome") == "stopped");
+  CHECK(outcome_of(text) == TRIAXCAL_OUTCOME_STOPPED);
+  CHECK(r.at("outcome_reason") ==
+        "the local (bobyqa) stage used its budget of 6 evaluations before it met its tolerance: raise options.local_evaluations");
+  CHECK(r.at("parameter_set").is_object());
+  CHECK(r.at("parameter_set").at("fit").at("outcome") == "stopped");
+}
+
+TEST_CASE("a model that cannot follow the curves returns ok with the outcome poor_fit naming the curves",
+          "[plugin][c_abi][calibrate][outcome]") {
+  // phi' fixed at 22 deg, far below the 34 deg the invented demo data were made with.
+  const std::string params = R"({
+    "youngs_modulus": {"status": "free", "lower": 5000, "upper": 200000, "start": 15000, "scale": "log"},
+    "friction_angle": 22, "cohesion": 0, "poissons_ratio": 0.3, "dilation_angle": 0})";
+  Text text;
+  REQUIRE(triaxcal_calibrate(calibration(params).c_str(), nullptr, nullptr, nullptr, &text.t) == TRIAXCAL_OK);
+  const json r = text.parse();
+  CHECK(r.at("outcome") == "poor_fit");
+  CHECK(outcome_of(text) == TRIAXCAL_OUTCOME_POOR_FIT);
+  const std::string reason = r.at("outcome_reason").get<std::string>();
+  CHECK(reason.rfind("the model does not follow 2 used curves (R^2 below min_r_squared = 0.9): CD-50 deviator_stress (R^2 = -", 0) == 0);
+  CHECK(reason.find(", CD-200 deviator_stress (R^2 = ") != std::string::npos);
+  for (const json& t : r.at("tests")) CHECK(t.at("curves")[0].at("poor_fit") == true);
+}
+
+TEST_CASE("outcome names and explanations for every value, and triaxcal_calibration_outcome rejects other text",
+          "[plugin][c_abi][outcome]") {
+  CHECK(std::string(triaxcal_outcome_name(TRIAXCAL_OUTCOME_CONVERGED)) == "converged");
+  CHECK(std::string(triaxcal_outcome_name(TRIAXCAL_OUTCOME_STOPPED)) == "stopped");
+  CHECK(std::string(triaxcal_outcome_name(TRIAXCAL_OUTCOME_POOR_FIT)) == "poor_fit");
+  CHECK(std::string(triaxcal_outcome_name(TRIAXCAL_OUTCOME_FAILED)) == "failed");
+  CHECK(std::string(triaxcal_outcome_name(4)) == "unknown");
+  CHECK(std::string(triaxcal_outcome_name(-1)) == "unknown");
+  CHECK(std::string(triaxcal_outcome_explanation(TRIAXCAL_OUTCOME_STOPPED)) ==
+        "the optimiser stopped before it converged (a budget, the time limit or a stop request); the parameters are the "
+        "best found so far");
+  CHECK(std::string(triaxcal_outcome_explanation(7)).empty());
+  int o = -1;
+  CHECK(triaxcal_calibration_outcome(R"({"format": "triaxcal-curves"})", &o) == TRIAXCAL_INVALID_INPUT);
+  CHECK(last_error() == "triaxcal_calibration_outcome: calibration_result_json: format: expected "
+                        "\"triaxcal-calibration-result\" (a result of triaxcal_calibrate)");
+  CHECK(triaxcal_calibration_outcome(R"({"format": "triaxcal-calibration-result", "outcome": "success"})", &o) ==
+        TRIAXCAL_INVALID_INPUT);
+  CHECK(last_error() == "triaxcal_calibration_outcome: calibration_result_json: outcome: expected converged, stopped, "
+                        "poor_fit or failed, found \"success\"");
+  CHECK(o == -1);
+  CHECK(triaxcal_calibration_outcome(R"({"format": "triaxcal-calibration-result", "outcome": "poor_fit"})", &o) ==
+        TRIAXCAL_OK);
+  CHECK(o == TRIAXCAL_OUTCOME_POOR_FIT);
+  CHECK(last_error().empty());
+  CHECK(triaxcal_calibration_outcome(nullptr, &o) == TRIAXCAL_NULL_ARGUMENT);
+  CHECK(last_error() == "triaxcal_calibration_outcome: calibration_result_json is NULL");
+  CHECK(triaxcal_calibration_outcome("{}", nullptr) == TRIAXCAL_NULL_ARGUMENT);
+  CHECK(last_error() == "triaxcal_calibration_outcome: outcome is NULL");
 }
 
 TEST_CASE("calibrate names the file and key of bad input and leaves *out NULL", "[plugin][c_abi][calibrate]") {
