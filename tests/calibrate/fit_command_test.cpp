@@ -6,6 +6,7 @@
 #include <catch2/catch.hpp>
 
 #include <cstdio>
+#include <cstdlib>
 #include <filesystem>
 #include <fstream>
 
@@ -216,6 +217,12 @@ TEST_CASE("a fit stopped by a tiny evaluation budget says stopped, names the key
   CHECK(json["fit"]["outcome_reason"] == reason);
   CHECK(json["fit"]["termination"] == "evaluation_limit");
   CHECK(report_outcome("fit_stop_out/fit_stop.report.json") == "stopped");
+  // The HDF5 archive's /summary carries the same outcome and reason (read with hdf5-tools' h5dump).
+  REQUIRE(std::system("h5dump -a /summary/outcome fit_stop_out/fit_stop.h5 >fit_stop_h5.txt 2>&1 && "
+                      "h5dump -a /summary/outcome_reason fit_stop_out/fit_stop.h5 >>fit_stop_h5.txt 2>&1") == 0);
+  const std::string h5 = slurp("fit_stop_h5.txt");
+  CHECK(h5.find("(0): \"stopped\"") != std::string::npos);
+  CHECK(h5.find("(0): \"" + reason + "\"") != std::string::npos);
   const auto html = slurp("fit_stop_out/fit_stop.report.html");
   CHECK(html.find("<div class=\"outcome outcome-stopped\" id=\"outcome\" data-outcome=\"stopped\">") != std::string::npos);
   CHECK(html.find("<p id=\"outcome-reason\">" + reason + "</p>") != std::string::npos);
