@@ -39,17 +39,23 @@ inline double exp_correction(double t) {
 }
 
 // phi(d) = (1 - exp(-d))/d and its derivative phi'(d) = (exp(-d) - phi)/d, the chord factor of
-// 1 + e over an increment of natural volumetric strain d (header comment). Below |d| = 1e-3 the
-// derivative from its Taylor series, -1/2 + d/3 - d^2/8 + d^3/30 - d^4/144 (next term 6 d^5/7! <
-// 1.2e-18), where the closed form would lose digits to cancellation.
+// 1 + e over an increment of natural volumetric strain d (header comment). Below |d| = 1e-4 both
+// from their Taylor series, phi = 1 - d/2 + d^2/6 - d^3/24 (next term d^4/120 < 1e-18) and
+// phi' = -1/2 + d/3 - d^2/8 (next term d^3/30 < 4e-14, the tangent only), where the closed form of
+// phi' would lose digits to cancellation; d = 0 (every undrained increment) exactly.
 inline double chord_factor(double d, double& slope) {
-  if (std::abs(d) < 1e-3) {
-    slope = -0.5 + d * (1.0 / 3.0 + d * (-1.0 / 8.0 + d * (1.0 / 30.0 - d * (1.0 / 144.0))));
-    return 1.0 + d * (-0.5 + d * (1.0 / 6.0 + d * (-1.0 / 24.0 + d * (1.0 / 120.0 - d * (1.0 / 720.0)))));
+  if (d == 0.0) {
+    slope = -0.5;
+    return 1.0;
+  }
+  if (std::abs(d) < 1e-4) {
+    slope = -0.5 + d * (1.0 / 3.0 - d * (1.0 / 8.0));
+    return 1.0 + d * (-0.5 + d * (1.0 / 6.0 - d * (1.0 / 24.0)));
   }
   const double em1 = std::expm1(-d);  // exp(-d) - 1, exact to round-off also for small d
-  const double phi = -em1 / d;
-  slope = (1.0 + em1 - phi) / d;
+  const double inv_d = 1.0 / d;
+  const double phi = -em1 * inv_d;
+  slope = (1.0 + em1 - phi) * inv_d;
   return phi;
 }
 
