@@ -317,3 +317,13 @@ TEST_CASE("a problem where every evaluation fails is failed with exit 4 and says
   CHECK_FALSE(fs::exists("fit_allfail_out/fit_allfail.parameters.json"));
   CHECK(report_outcome("fit_allfail_out/fit_allfail.report.json") == "failed");
 }
+
+TEST_CASE("fit --help states the outcomes and the exit code of each", "[cli][fit][outcome]") {
+  const CliResult r = run_cli("fit --help", "fit_help");
+  CHECK(r.exit_code == 0);
+  CHECK(r.out.find("--require-converged         Exit 5 (files still written) when the outcome is stopped or poor_fit "
+                   "instead of 0") != std::string::npos);
+  CHECK(r.out.find("Exit codes: 0 converged, and also stopped or poor_fit (files written, a warning line on stderr; "
+                   "--require-converged makes these 5); 2 bad input; 4 failed (only the report input is written); 1 "
+                   "internal error.") != std::string::npos);
+}
