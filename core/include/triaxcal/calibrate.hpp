@@ -145,6 +145,15 @@ struct CalibrationOptions {
   bool uncertainty = true;             ///< Jacobian, covariance and intervals at the optimum
   double jacobian_step = 1e-4;         ///< central-difference step, fraction of each box width
   double correlation_warning = 0.95;   ///< |correlation| above this gives an identifiability warning
+  // Noise model of the intervals (errors in variables, docs/calibration-format.md "Uncertainty"):
+  // every measured column is noisy, x as well as y; a point's variance is sigma_y^2 +
+  // (dy/dx)^2 sigma_x^2 with the simulated curve's local slope (Orear 1982).
+  double stress_precision = 0.5;       ///< kPa, standard deviation of measured stresses (lab precision; common practice, no source)
+  double strain_precision = 1e-4;      ///< -, standard deviation of measured strains (lab precision; common practice, no source)
+  /// true: the precisions set each point's share of its curve's noise and the curve's residual
+  /// scatter sets the level (a model that misses the data widens the intervals); false: the
+  /// precisions are the noise as declared.
+  bool noise_from_residuals = true;
   bool record_history = true;          ///< keep every evaluation in the summary
   /// A used curve (weight > 0) whose R^2 at the result is below this makes the outcome poor_fit.
   double min_r_squared = 0.9;

@@ -92,6 +92,9 @@ void CalibrationOptions::validate() const {
   if (!(correlation_warning > 0.0 && correlation_warning <= 1.0))
     fail("correlation_warning", correlation_warning, "must be in (0, 1]");
   if (!(min_r_squared >= -1.0 && min_r_squared <= 1.0)) fail("min_r_squared", min_r_squared, "must be in [-1, 1]");
+  if (!(stress_precision > 0.0 && std::isfinite(stress_precision)))
+    fail("stress_precision", stress_precision, "must be a positive number of kPa");
+  if (!(strain_precision > 0.0 && strain_precision < 0.1)) fail("strain_precision", strain_precision, "must be in (0, 0.1)");
 }
 
 void validate_problem(const CalibrationProblem& problem) { (void)detail::prepare(problem); }
@@ -333,7 +336,9 @@ std::string options_text(const CalibrationOptions& o) {
     << "\nloss_scale = " << format_number(o.loss_scale) << "\nfailure_penalty = " << format_number(o.failure_penalty)
     << "\nuncertainty = " << (o.uncertainty ? "true" : "false") << "\njacobian_step = " << format_number(o.jacobian_step)
     << "\ncorrelation_warning = " << format_number(o.correlation_warning)
-    << "\nmin_r_squared = " << format_number(o.min_r_squared) << "\n";
+    << "\nmin_r_squared = " << format_number(o.min_r_squared) << "\nstress_precision = " << format_number(o.stress_precision)
+    << "\nstrain_precision = " << format_number(o.strain_precision)
+    << "\nnoise_from_residuals = " << (o.noise_from_residuals ? "true" : "false") << "\n";
   return s.str();
 }
 
