@@ -16,6 +16,11 @@ std::string num(double v, int decimals) {
   return buf;
 }
 
+/// "1 error", "2 errors".
+std::string count(std::size_t n, const char* noun) {
+  return std::to_string(n) + " " + noun + (n == 1 ? "" : "s");
+}
+
 int run_check(const std::string& path) {
   const SeriesCheck check = check_test_series(path);
   const TestSeries& s = check.series;
@@ -58,11 +63,11 @@ int run_check(const std::string& path) {
     if (oedometer_header) std::printf("  (end state of each oedometer stage: effective axial stress, largest reached)\n");
   }
   if (!s.warnings.empty()) {
-    std::printf("\n%zu warning(s):\n", s.warnings.size());
+    std::printf("\n%s:\n", count(s.warnings.size(), "warning").c_str());
     for (const SeriesWarning& w : s.warnings) std::printf("  warning: %s\n", w.message.c_str());
   }
   if (!check.errors.empty()) {
-    std::fprintf(stderr, "%zu error(s):\n", check.errors.size());
+    std::fprintf(stderr, "%s:\n", count(check.errors.size(), "error").c_str());
     for (const std::string& e : check.errors) std::fprintf(stderr, "triaxcal: error: %s\n", e.c_str());
     return exit_bad_input;
   }

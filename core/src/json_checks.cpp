@@ -1,14 +1,102 @@
 #include "json_checks.hpp"
 
+#include <charconv>
+#include <climits>
+#include <filesystem>
 #include <fstream>
-#include <sstream>
+#include <limits>
+#include <system_error>
 
 #include "triaxcal/error.hpp"
 #include "triaxcal/parameters.hpp"
 
 namespace triaxcal::detail {
 
+namespace {
+
+std::string at_position(const std::string& source, std::size_t line, std::size_t column) {
+  return source + ": line " + std::to_string(line) + ", column " + std::to_string(column);
+}
+
+/// True when a JSON number token that std::from_chars reports out of range is too large (rather
+/// than too small: 1e-400 underflows to 0 as in every JSON reader). The decimal exponent of the
+/// first significant digit decides.
+bool overflows(const std::string& token) {
+  long exponent = 0;
+  std::size_t i = token[0] == '-' ? 1 : 0;
+  long integer_digits = 0, leading_fraction_zeros = 0;
+  bool significant = false;
+  for (; i < token.size() && token[i] >= '0' && token[i] <= '9'; ++i) {
+    significant = significant || token[i] != '0';
+    if (significant) ++integer_digits;
+  }
+  if (i < token.size() && token[i] == '.')
+    for (++i; i < token.size() && token[i] >= '0' && token[i] <= '9'; ++i) {
+      if (!significant && token[i] == '0') ++leading_fraction_zeros;
+      significant = significant || token[i] != '0';
+    }
+  if (i < token.size() && (token[i] == 'e' || token[i] == 'E')) {
+    ++i;
+    const bool negative = i < token.size() && token[i] == '-';
+    if (i < token.size() && (token[i] == '-' || token[i] == '+')) ++i;
+    for (; i < token.size() && token[i] >= '0' && token[i] <= '9'; ++i)
+      exponent = std::min(exponent * 10 + (token[i] - '0'), 100000000L);
+    if (negative) exponent = -exponent;
+  }
+  if (!significant) return false;
+  return exponent + (integer_digits > 0 ? integer_digits : -leading_fraction_zeros) > 0;
+}
+
+/// One pass over the text outside strings, before nlohmann's recursive parse: the nesting depth
+/// and numbers beyond the range of a double (which nlohmann reports as out_of_range.406 without a
+/// position). Malformed text is left to the parser.
+void check_json_limits(const std::string& text, const std::string& source) {
+  if (text.size() > kMaxJsonBytes)
+    throw InputError(source + ": " + std::to_string(text.size()) + " bytes of JSON, more than the largest accepted (" +
+                     std::to_string(kMaxJsonBytes) + " bytes = " + std::to_string(kMaxJsonBytes >> 20) + " MiB)");
+  std::size_t line = 1, line_start = 0;
+  int depth = 0;
+  for (std::size_t i = 0; i < text.size(); ++i) {
+    const char ch = text[i];
+    if (ch == '\n') {
+      ++line;
+      line_start = i + 1;
+    } else if (ch == '"') {
+      for (++i; i < text.size() && text[i] != '"'; ++i) {
+        if (text[i] == '\\') ++i;
+        else if (text[i] == '\n') {  // not valid inside a string; the parser names it
+          ++line;
+          line_start = i + 1;
+        }
+      }
+    } else if (ch == '[' || ch == '{') {
+      if (++depth > kMaxJsonDepth)
+        throw InputError(at_position(source, line, i - line_start + 1) + ": arrays and objects nested deeper than " +
+                         std::to_string(kMaxJsonDepth) + " levels");
+    } else if (ch == ']' || ch == '}') {
+      if (depth > 0) --depth;
+    } else if (ch == '-' || (ch >= '0' && ch <= '9')) {
+      std::size_t end = i;
+      while (end < text.size() && ((text[end] >= '0' && text[end] <= '9') || text[end] == '-' || text[end] == '+' ||
+                                   text[end] == '.' || text[end] == 'e' || text[end] == 'E'))
+        ++end;
+      const std::string token = text.substr(i, end - i);
+      double value = 0.0;
+      const auto result = std::from_chars(token.data(), token.data() + token.size(), value);
+      if (result.ec == std::errc::result_out_of_range && overflows(token)) {
+        const std::string shown = token.size() > 40 ? token.substr(0, 40) + "..." : token;
+        throw InputError(at_position(source, line, i - line_start + 1) + ": the number " + shown +
+                         " is out of the range of a double (largest magnitude about 1.8e308)");
+      }
+      i = end - 1;
+    }
+  }
+}
+
+}  // namespace
+
 json parse_json(const std::string& text, const std::string& source) {
+  check_json_limits(text, source);
   try {
     return json::parse(text);
   } catch (const json::parse_error& e) {
@@ -26,17 +114,44 @@ json parse_json(const std::string& text, const std::string& source) {
     std::string what = e.what();
     const auto colon = what.find(": ", what.find("parse error"));
     if (colon != std::string::npos) what = what.substr(colon + 2);
-    throw InputError(source + ": line " + std::to_string(line) + ", column " + std::to_string(column) +
-                     ": malformed JSON (" + what + ")");
+    // nlohmann quotes the token it last read; the line and column name the place without quoting
+    // the content of a file that may not be ours.
+    const auto last_read = what.find("; last read: ");
+    if (last_read != std::string::npos) what = what.substr(0, last_read);
+    throw InputError(at_position(source, line, column) + ": malformed JSON (" + what + ")");
+  } catch (const json::out_of_range& e) {
+    // check_json_limits finds numbers out of range first; kept for anything it does not foresee.
+    throw InputError(source + ": a value out of range (" + std::string(e.what()) + ")");
   }
 }
 
-std::string read_text_file(const std::string& path) {
+std::string read_text_file(const std::string& path, std::uintmax_t limit) {
+  namespace fs = std::filesystem;
+  std::error_code ec;
+  const fs::file_status status = fs::status(path, ec);
+  if (ec || !fs::exists(status)) throw InputError(path + ": cannot open the file");
+  if (fs::is_directory(status)) throw InputError(path + ": is a directory, not a file");
+  if (!fs::is_regular_file(status))
+    throw InputError(path + ": not a regular file (a device, pipe or socket is not read)");
+  const std::string too_large = path + ": larger than the largest input file accepted (" + std::to_string(limit) +
+                                " bytes = " + std::to_string(limit >> 20) + " MiB)";
+  const std::uintmax_t size = fs::file_size(path, ec);
+  if (!ec && size > limit) throw InputError(too_large);
   std::ifstream in(path, std::ios::binary);
   if (!in) throw InputError(path + ": cannot open the file");
-  std::ostringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
+  // Read at most limit + 1 bytes: the file may grow after its size was taken.
+  std::string content;
+  content.resize(static_cast<std::size_t>(ec ? 0 : size));
+  std::size_t used = 0;
+  while (in) {
+    if (content.size() - used < 65536) content.resize(content.size() + 65536);
+    in.read(content.data() + used, static_cast<std::streamsize>(content.size() - used));
+    used += static_cast<std::size_t>(in.gcount());
+    if (used > limit) throw InputError(too_large);
+  }
+  if (in.bad()) throw InputError(path + ": cannot read the file");
+  content.resize(used);
+  return content;
 }
 
 std::string where(const std::string& source, const std::string& path) {
@@ -87,6 +202,12 @@ int get_int_or(const json& object, const char* key, int fallback, const std::str
   if (it == object.end()) return fallback;
   if (!it->is_number_integer())
     throw InputError(where(source, child(path, key)) + ": expected an integer, found " + it->dump());
+  // nlohmann keeps integers as int64 or uint64; get<int>() would wrap 4294967297 to 1.
+  const bool fits = it->is_number_unsigned() ? it->get<std::uint64_t>() <= static_cast<std::uint64_t>(INT_MAX)
+                                              : it->get<std::int64_t>() >= INT_MIN && it->get<std::int64_t>() <= INT_MAX;
+  if (!fits)
+    throw InputError(where(source, child(path, key)) + ": expected an integer from " + std::to_string(INT_MIN) + " to " +
+                     std::to_string(INT_MAX) + ", found " + it->dump());
   return it->get<int>();
 }
 
@@ -108,10 +229,11 @@ void check_format(const json& root, const char* format, int version, const std::
   const std::string found = get_string(root, "format", source, "");
   if (found != format)
     throw InputError(source + ": format: expected \"" + std::string(format) + "\", found \"" + found + "\"");
-  const int v = get_int_or(root, "version", -1, source, "");
-  if (v != version)
+  // Compared as JSON: a version that does not fit an int (4294967297) is another version, not 1.
+  const auto v = root.find("version");
+  if (v == root.end() || !v->is_number_integer() || *v != version)
     throw InputError(source + ": version: expected " + std::to_string(version) + ", found " +
-                     (root.contains("version") ? root.at("version").dump() : std::string("nothing")));
+                     (v != root.end() ? v->dump() : std::string("nothing")));
 }
 
 }  // namespace triaxcal::detail

@@ -28,6 +28,7 @@ struct CsvColumnRequest {
   std::string quantity;  ///< for messages, e.g. "pore_pressure"
   std::string header;    ///< name in the header row (compared after trimming spaces and quotes)
   double factor = 1.0;   ///< multiplies every value
+  std::string unit;      ///< the declared unit, for messages
 };
 
 /// Values of the requested columns, converted; one row a data line (blank lines are skipped).
@@ -40,7 +41,9 @@ struct CsvTable {
 /// Parses `text` (the contents of `source`). Throws InputError:
 ///  "<source>: line L: column 'h' (for q) is not in the header (found: a, b, c)",
 ///  "<source>: line L, column C (q): '12,5x' is not a number",
-///  "<source>: line L, column C (q): NaN is not a measured value", an empty cell, a short row.
+///  "<source>: line L, column C (q): NaN is not a measured value", an empty cell, a short row,
+///  a value that overflows on conversion. The header row is quoted only when one declared column is
+///  found in it (otherwise the file may not be a lab data file, and its content is not printed).
 TRIAXCAL_CORE_EXPORT CsvTable parse_lab_csv(const std::string& text, const std::string& source, const CsvLayout& layout,
                                             const std::vector<CsvColumnRequest>& columns);
 

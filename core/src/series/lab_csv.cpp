@@ -129,13 +129,24 @@ CsvTable parse_lab_csv(const std::string& input, const std::string& source, cons
         index[k] = static_cast<int>(j);
         break;
       }
-    if (index[k] < 0) {
-      std::string found;
-      for (const std::string& n : names) found += (found.empty() ? "" : ", ") + trim(n);
-      throw InputError(source + ": line " + std::to_string(header_no) + ": column '" + columns[k].header + "' (for " +
-                       columns[k].quantity + ") is not in the header (found: " + found + "; delimiter " +
-                       delimiter_name(delimiter) + ")");
+  }
+  // The header row is quoted only when it is recognisably the lab data file (one declared column
+  // found): a path to another file (a system file, a JSON file) must not have its content printed.
+  bool any_found = false;
+  for (const int i : index) any_found = any_found || i >= 0;
+  for (std::size_t k = 0; k < columns.size(); ++k) {
+    if (index[k] >= 0) continue;
+    if (!any_found) {
+      std::string declared;
+      for (const CsvColumnRequest& c : columns) declared += (declared.empty() ? "'" : ", '") + c.header + "'";
+      throw InputError(source + ": line " + std::to_string(header_no) + ": none of the declared columns (" + declared +
+                       ") is in the header row (is this the data file? check its skip_rows, delimiter and headers)");
     }
+    std::string found;
+    for (const std::string& n : names) found += (found.empty() ? "" : ", ") + trim(n);
+    throw InputError(source + ": line " + std::to_string(header_no) + ": column '" + columns[k].header + "' (for " +
+                     columns[k].quantity + ") is not in the header (found: " + found + "; delimiter " +
+                     delimiter_name(delimiter) + ")");
   }
   table.values.assign(columns.size(), {});
   for (std::size_t i = header_index + 1 + static_cast<std::size_t>(layout.skip_after_header); i < lines.size(); ++i) {
@@ -170,7 +181,11 @@ CsvTable parse_lab_csv(const std::string& input, const std::string& source, cons
       }
       if (std::isnan(v)) throw InputError(at + ": '" + cell + "' (NaN) is not a measured value; remove the row or give a number");
       if (!std::isfinite(v)) throw InputError(at + ": '" + cell + "' is not a finite number");
-      table.values[k].push_back(v * columns[k].factor);
+      const double converted = v * columns[k].factor;
+      if (!std::isfinite(converted))
+        throw InputError(at + ": '" + cell + "'" + (columns[k].unit.empty() ? std::string() : " " + columns[k].unit) +
+                         " is out of the range of a double once converted to the internal unit");
+      table.values[k].push_back(converted);
     }
     table.line.push_back(line_no);
   }

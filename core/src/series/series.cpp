@@ -226,14 +226,34 @@ constexpr QuantityDef kQuantities[] = {
     {"void_ratio", QuantityKind::count, true, false},     // oedometer, optional
 };
 
-DataFileSpec parse_data(const json& d, const std::string& src, const std::string& path, const std::filesystem::path& folder) {
+/// The data file's path: relative paths from the series file's folder. A file outside that folder
+/// (after resolving "..", and symbolic links where the file exists) is refused unless the series
+/// allows it: a series from elsewhere must not make triaxcal read arbitrary files.
+std::string data_file_path(const std::string& file, const std::string& src, const std::string& path,
+                           const std::filesystem::path& folder, bool allow_outside) {
+  namespace fs = std::filesystem;
+  const fs::path fp(file);
+  const fs::path resolved = fp.is_absolute() ? fp : (folder / fp).lexically_normal();
+  if (allow_outside) return resolved.string();
+  std::error_code ec;
+  const fs::path base = fs::weakly_canonical(fs::absolute(folder.empty() ? fs::path(".") : folder, ec), ec);
+  const fs::path target = fs::weakly_canonical(fs::absolute(resolved, ec), ec);
+  const fs::path rel = target.lexically_relative(base);
+  if (ec || rel.empty() || *rel.begin() == ".." || rel.is_absolute())
+    throw InputError(detail::where(src, path + ".file") + ": \"" + file +
+                     "\" is outside the folder of the series file (data files are read from that folder and its "
+                     "subfolders; a series that reads files elsewhere declares \"allow_data_outside_folder\": true)");
+  return resolved.string();
+}
+
+DataFileSpec parse_data(const json& d, const std::string& src, const std::string& path, const std::filesystem::path& folder,
+                        bool allow_outside) {
   detail::check_keys(d, {"file", "kind", "delimiter", "decimal", "skip_rows", "skip_after_header", "strain_origin", "columns",
                          "membrane"},
                      src, path);
   DataFileSpec spec;
   const std::string file = detail::get_string(d, "file", src, path);
-  std::filesystem::path fp(file);
-  spec.path = fp.is_absolute() ? fp.string() : (folder / fp).lexically_normal().string();
+  spec.path = data_file_path(file, src, path, folder, allow_outside);
   const std::string kind = detail::get_string(d, "kind", src, path);
   if (kind != "reduced" && kind != "raw")
     throw InputError(detail::where(src, path + ".kind") + ": expected \"reduced\" or \"raw\", found \"" + kind + "\"");
@@ -329,7 +349,14 @@ ParsedSeries parse_series_json(const std::string& path) {
   const std::string src = path;
   const json root = detail::parse_json(detail::read_text_file(path), src);
   detail::check_format(root, kTestSeriesFormat, kTestSeriesVersion, src);
-  detail::check_keys(root, {"format", "version", "name", "description", "specimens"}, src, "");
+  detail::check_keys(root, {"format", "version", "name", "description", "allow_data_outside_folder", "specimens"}, src, "");
+  bool allow_outside = false;
+  if (root.contains("allow_data_outside_folder")) {
+    if (!root.at("allow_data_outside_folder").is_boolean())
+      throw InputError(src + ": allow_data_outside_folder: expected true or false, found " +
+                       root.at("allow_data_outside_folder").dump());
+    allow_outside = root.at("allow_data_outside_folder").get<bool>();
+  }
   ParsedSeries out;
   out.series.source = path;
   out.series.name = detail::get_string_or(root, "name", "", src, "");
@@ -416,7 +443,7 @@ ParsedSeries parse_series_json(const std::string& path) {
       }
     }
     if (!o.contains("data")) throw InputError(src + ": " + sp + ".data: missing (the data file and its columns are required)");
-    s.data = parse_data(o.at("data"), src, sp + ".data", folder);
+    s.data = parse_data(o.at("data"), src, sp + ".data", folder, allow_outside);
     out.specimens.push_back({s, sp});
   }
   return out;
@@ -452,7 +479,7 @@ void read_oedometer_data(Specimen& s, const std::string& series_src, const std::
     if (c.quantity != "stage" && c.quantity != "axial_strain" && c.quantity != "axial_stress" && c.quantity != "void_ratio")
       throw InputError(cols_path + "." + c.quantity + ": an oedometer specimen takes stage, axial_strain, axial_stress and void_ratio columns only");
     col[c.quantity] = static_cast<int>(req.size());
-    req.push_back({c.quantity, c.header, unit_factor(kind_of(c.quantity), c.unit, series_src)});
+    req.push_back({c.quantity, c.header, unit_factor(kind_of(c.quantity), c.unit, series_src), c.unit});
   }
   if (!col.count("axial_strain")) throw InputError(cols_path + ": oedometer data need an axial_strain column");
   if (!col.count("axial_stress")) throw InputError(cols_path + ": oedometer data need an axial_stress column (effective axial stress)");
@@ -520,7 +547,7 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
   std::map<std::string, int> col;
   for (const DataFileSpec::Column& c : spec.columns) {
     col[c.quantity] = static_cast<int>(req.size());
-    req.push_back({c.quantity, c.header, unit_factor(kind_of(c.quantity), c.unit, series_src)});
+    req.push_back({c.quantity, c.header, unit_factor(kind_of(c.quantity), c.unit, series_src), c.unit});
   }
   const auto has = [&](const char* q) { return col.count(q) > 0; };
   const std::string cols_path = series_src + ": " + sp + ".data.columns";
