@@ -493,6 +493,23 @@ TEST_CASE("MCC undrained shear from p' 300 kPa and e 0.9242 is the same whether 
   INFO("largest difference " << d.relative << " (without floors " << d.raw << "): " << d.where);
   CHECK(d.records == 2000);
   CHECK(d.relative < 1e-6);
+  // The same with the driver's error control (tight tolerance, 40 records): identical states give
+  // identical substeps.
+  {
+    DriverOptions tight;
+    tight.tolerance = 1e-8;
+    TestProtocol a40 = a;
+    TestProtocol b40 = b;
+    a40.stages.back().steps = b40.stages.back().steps = 40;
+    const auto ra40 = simulate(tight, *mcc, a40);
+    const auto rb40 = simulate(tight, *mcc, b40);
+    REQUIRE(ra40.ok());
+    REQUIRE(rb40.ok());
+    const test::StageDifference d40 = test::compare_stages(ra40, 0, rb40, 1);
+    INFO("error control: largest difference " << d40.relative << " (without floors " << d40.raw << "): " << d40.where);
+    CHECK(d40.records == 40);
+    CHECK(d40.relative < 1e-6);
+  }
   // At the issue's strains, and against the closed form with e = 0.9242 (Wood 1990, ch. 7; natural
   // axial strain, first order in the increment: 1e-3 of q_cs at these 1e-5 increments).
   mcc_reference::Material mat;
