@@ -16,6 +16,8 @@
 #include "synthetic.hpp"
 #include "tolerances.hpp"
 #include "triaxcal/calibrate.hpp"
+#include "triaxcal/calibration_file.hpp"
+#include "triaxcal/error.hpp"
 
 using namespace triaxcal;
 using namespace triaxcal::test;
@@ -170,4 +172,75 @@ TEST_CASE("Modified Cam-Clay from noisy CU tests at OCR 1, 2 and 6 with the defa
   std::vector<std::string> failures;
   const auto tally = clay_coverage(0, failures);
   check_coverage(tally, failures);
+}
+
+TEST_CASE("the noise model's options are read from the calibration file and bad values give exact messages",
+          "[calibrate][coverage][errors]") {
+  // The smallest calibration file the parser accepts (the series is not read here).
+  auto file = [](const std::string& options) {
+    return R"({"format": "triaxcal-calibration", "version": 1, "series": "s.json", "model": "mohr_coulomb",
+               "tests": [{"specimen": "CD-50", "curves": ["deviator_stress"]}],
+               "parameters": {"friction_angle": {"status": "free", "lower": 20, "upper": 45}},
+               "options": )" + options + "}";
+  };
+  auto message = [&](const std::string& options) {
+    try {
+      (void)parse_calibration_file(file(options), "cal.json");
+    } catch (const InputError& e) {
+      return std::string(e.what());
+    }
+    return std::string("no error");
+  };
+  const CalibrationFile f =
+      parse_calibration_file(file(R"({"stress_precision": 2, "strain_precision": 5e-5, "noise_from_residuals": false})"), "cal.json");
+  CHECK(f.options.stress_precision == 2.0);
+  CHECK(f.options.strain_precision == 5e-5);
+  CHECK_FALSE(f.options.noise_from_residuals);
+  const CalibrationFile d = parse_calibration_file(file("{}"), "cal.json");
+  CHECK(d.options.stress_precision == 0.5);
+  CHECK(d.options.strain_precision == 1e-4);
+  CHECK(d.options.noise_from_residuals);
+  CHECK(message(R"({"stress_precision": 0})") == "cal.json: calibration options: stress_precision = 0 must be a positive number of kPa");
+  CHECK(message(R"({"strain_precision": 0.5})") == "cal.json: calibration options: strain_precision = 0.5 must be in (0, 0.1)");
+  CHECK(message(R"({"noise_from_residuals": 1})") == "cal.json: options.noise_from_residuals: expected true or false, found 1");
+}
+
+TEST_CASE("declared precisions are taken as they are without noise_from_residuals and scale the standard errors",
+          "[calibrate][coverage]") {
+  // One noisy copy of the Mohr-Coulomb tests: with the level from the residuals the standard errors
+  // do not depend on the declared precisions' common scale; taken as declared they grow with it
+  // (Omega is proportional to the precisions squared, so se to the precisions).
+  CalibrationProblem base = problem_for("mohr_coulomb");
+  const auto model = base.create(values_by_name(
+      *base.model, {{"youngs_modulus", 30000.0}, {"poissons_ratio", 0.28}, {"cohesion", 5.0}, {"friction_angle", 33.0}, {"dilation_angle", 6.0}}));
+  CalibrationProblem p = base;
+  Noise noise(77);
+  for (double p0 : {50.0, 100.0, 200.0}) {
+    const std::string id = "CD-" + std::to_string(static_cast<int>(p0));
+    const CleanTest c = reference_test(id, consolidated_shear(id, p0, Drainage::drained, 0.10, 80), *model,
+                                       {Quantity::deviator_stress, Quantity::volumetric_strain}, equally_spaced(80, 0.10), base.driver);
+    p.tests.push_back(noisy_copy(c, noise, kStressNoise, kStrainNoise));
+  }
+  p.parameters = {free_parameter("youngs_modulus", 5000.0, 200000.0, 27000.0, ParameterScale::log),
+                  free_parameter("poissons_ratio", 0.05, 0.45, 0.3),
+                  free_parameter("cohesion", 0.0, 30.0, 5.5),
+                  free_parameter("friction_angle", 20.0, 45.0, 30.0),
+                  free_parameter("dilation_angle", 0.0, 20.0, 6.6),
+                  fixed_parameter("tensile_strength", 0.0)};
+  CalibrationOptions o = local_fit();
+  auto se = [&](double scale, bool from_residuals) {
+    o.stress_precision = kStressNoise * scale;
+    o.strain_precision = kStrainNoise * scale;
+    o.noise_from_residuals = from_residuals;
+    const CalibrationSummary s = calibrate(o, p);
+    REQUIRE(s.usable());
+    return parameter_named(s, "youngs_modulus").standard_error;
+  };
+  const double level = se(1.0, true);
+  CHECK(close(se(3.0, true), level, 1e-6, 0.0));
+  const double declared = se(1.0, false);
+  CHECK(close(se(3.0, false), 3.0 * declared, 1e-6, 0.0));
+  // Declared at the true noise, the level from the residuals is close to 1: the two agree within
+  // the sampling error of one copy's scatter (about 1/sqrt(2 n) = 8 % for 80 points a curve).
+  CHECK(close(level, declared, 0.25, 0.0));
 }

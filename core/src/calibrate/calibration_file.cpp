@@ -77,7 +77,8 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
   detail::check_keys(o,
                      {"global", "global_evaluations", "global_runs", "local", "local_evaluations", "starts", "design_points",
                       "relative_tolerance", "x_tolerance", "max_seconds", "seed", "threads", "loss", "loss_scale",
-                      "failure_penalty", "uncertainty", "jacobian_step", "correlation_warning", "min_r_squared"},
+                      "failure_penalty", "uncertainty", "jacobian_step", "correlation_warning", "min_r_squared",
+                      "stress_precision", "strain_precision", "noise_from_residuals"},
                      src, path);
   CalibrationOptions c;
   c.global = choose<GlobalAlgorithm>(detail::get_string_or(o, "global", "none", src, path),
@@ -118,6 +119,14 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
   c.jacobian_step = detail::get_number_or(o, "jacobian_step", c.jacobian_step, src, path);
   c.correlation_warning = detail::get_number_or(o, "correlation_warning", c.correlation_warning, src, path);
   c.min_r_squared = detail::get_number_or(o, "min_r_squared", c.min_r_squared, src, path);
+  c.stress_precision = detail::get_number_or(o, "stress_precision", c.stress_precision, src, path);
+  c.strain_precision = detail::get_number_or(o, "strain_precision", c.strain_precision, src, path);
+  if (o.contains("noise_from_residuals")) {
+    if (!o.at("noise_from_residuals").is_boolean())
+      throw InputError(src + ": options.noise_from_residuals: expected true or false, found " +
+                       o.at("noise_from_residuals").dump());
+    c.noise_from_residuals = o.at("noise_from_residuals").get<bool>();
+  }
   try {
     c.validate();
   } catch (const InputError& e) {

@@ -136,13 +136,13 @@ bool residuals(const Prepared& p, const Evaluator& ev, Eigen::VectorXd& d) {
 // points' influences psi(e) = rho'(e^2) r (the residuals r for the linear loss). The sandwich form
 // keeps the intervals right for the objective's own weights, which are not the inverse noise
 // variances (White 1980, "A heteroskedasticity-consistent covariance matrix estimator", Econometrica
-// 48(4), eq. 3; for one curve with unit weights it is s^2 (J^T J)^-1, Bates & Watts 1988,
+// 48(4); for one curve with unit weights it is s^2 (J^T J)^-1, Bates & Watts 1988,
 // "Nonlinear Regression Analysis and Its Applications", eq. 2.23; for a robust loss the
 // M-estimator's sandwich, Huber 1981, "Robust Statistics", ch. 7).
 //
 // Omega, the noise model: every measured column is noisy, x as well as y (errors in variables).
 // A point's residual varies as sigma_y^2 + (dy/dx)^2 sigma_x^2, the effective variance (Orear 1982,
-// "Least squares when both variables have uncertainties", Am. J. Phys. 50(10) 912-916, eq. 4;
+// "Least squares when both variables have uncertainties", Am. J. Phys. 50(10) 912-916;
 // Clutton-Brock 1967), with dy/dx the local slope of the simulated curve. The slope term is taken
 // as the mean of the squared one-sided changes y(x +- sigma_x) - y(x) of the simulated curve, so a
 // point at a kink (Mohr-Coulomb's failure point) gets the mean of both sides, not a central
