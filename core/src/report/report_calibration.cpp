@@ -3,6 +3,7 @@
 #include <cmath>
 #include <sstream>
 
+#include "triaxcal/conventions.hpp"
 #include "triaxcal/report_input.hpp"
 
 namespace triaxcal::report {
@@ -42,7 +43,9 @@ bool is_strain(Quantity q) {
 }
 
 // Simulated curve y(x) of one measured curve: the records from the start of its zero stage (or
-// its own stage), strains counted from there, as calibrate() compares them.
+// its own stage), strains counted from there as engineering strains, as calibrate() compares them
+// (records carry natural strains since the protocol start: 1 - exp(-(eps - eps_origin)),
+// conventions.hpp).
 XY simulated_curve(const SimulationResult& r, const MeasuredCurve& c) {
   XY out;
   if (r.steps.empty()) return out;
@@ -59,8 +62,8 @@ XY simulated_curve(const SimulationResult& r, const MeasuredCurve& c) {
   const StepRecord& b = r.steps[base];
   for (std::size_t i = first; i <= last && i < r.steps.size(); ++i) {
     double x = value_of(r.steps[i], c.x), y = value_of(r.steps[i], c.y);
-    if (is_strain(c.x)) x -= value_of(b, c.x);
-    if (is_strain(c.y)) y -= value_of(b, c.y);
+    if (is_strain(c.x)) x = engineering_strain(x - value_of(b, c.x));
+    if (is_strain(c.y)) y = engineering_strain(y - value_of(b, c.y));
     out.x.push_back(x);
     out.y.push_back(y);
   }
