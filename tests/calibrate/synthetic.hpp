@@ -2,6 +2,12 @@
 // Synthetic "measured" tests for calibration round trips: curves generated with the project's own
 // simulator from known parameters (invented values, labelled as such in every test), optionally
 // with Gaussian noise of lab precision. Not a reference for anything outside these tests.
+//
+// Like a laboratory's, the synthetic strains are ENGINEERING strains relative to the curve's origin
+// (dL / L_origin, dV / V_origin; conventions.hpp engineering_strain of the natural-strain difference),
+// and the reference run is never the fit's own discretisation: by default it runs the driver's error
+// control at a tolerance 1000x tighter than the default the fits use (reference_options()), so a bias of
+// the integrator at the fit's tolerance shows up as a parameter error instead of cancelling out.
 
 #include <cmath>
 #include <cstdint>
@@ -10,6 +16,7 @@
 #include <vector>
 
 #include "triaxcal/calibrate.hpp"
+#include "triaxcal/conventions.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/models/registry.hpp"
 
@@ -38,12 +45,25 @@ inline bool strain_quantity(Quantity q) {
   return q == Quantity::axial_strain || q == Quantity::radial_strain || q == Quantity::volumetric_strain;
 }
 
-/// Simulates `protocol` with `model` and returns a test whose curves are y(axial strain) for every
-/// quantity in `ys`, strains counted from the start of `zero_stage`, every record from there on.
-/// `noise` (may be null) adds kStressNoise / kStrainNoise to y.
+/// The driver options of a synthetic reference run: the error control at a tolerance 1000x tighter
+/// than DriverOptions' default (the fits' tolerance), i.e. curves about 1000x closer to the converged
+/// solution than the fit's simulations (DEVELOPERS.md "The driver").
+inline DriverOptions reference_options() {
+  DriverOptions o;
+  o.tolerance = DriverOptions{}.tolerance / 1000.0;
+  return o;
+}
+
+/// Simulates `protocol` with `model` (by `reference`, default reference_options()) and returns a
+/// test whose curves are y(axial strain) for every quantity in `ys`, every record from the start of
+/// `zero_stage` on. Strains (x, and y where it is a strain) are engineering strains relative to the
+/// specimen at the start of `zero_stage` (0 = the protocol start), 1 - exp(-(eps - eps_origin)) of the
+/// records' natural strains, as a laboratory zeroes them. `noise` (may be null) adds kStressNoise /
+/// kStrainNoise to y.
 inline CalibrationTest synthetic_test(const std::string& id, const TestProtocol& protocol, const Model& model,
-                                      const std::vector<Quantity>& ys, int zero_stage, Noise* noise) {
-  const SimulationResult r = simulate(DriverOptions{}, model, protocol);
+                                      const std::vector<Quantity>& ys, int zero_stage, Noise* noise,
+                                      const DriverOptions& reference = reference_options()) {
+  const SimulationResult r = simulate(reference, model, protocol);
   if (!r.ok()) throw std::runtime_error("synthetic test " + id + " failed: " + r.message);
   CalibrationTest t;
   t.id = id;
@@ -56,8 +76,8 @@ inline CalibrationTest synthetic_test(const std::string& id, const TestProtocol&
     c.y = q;
     c.strain_zero_stage = zero_stage;
     for (std::size_t j = first + 1; j < r.steps.size(); ++j) {
-      c.xs.push_back(r.steps[j].axial_strain - base.axial_strain);
-      double y = value_of(r.steps[j], q) - (strain_quantity(q) ? value_of(base, q) : 0.0);
+      c.xs.push_back(engineering_strain(r.steps[j].axial_strain - base.axial_strain));
+      double y = strain_quantity(q) ? engineering_strain(value_of(r.steps[j], q) - value_of(base, q)) : value_of(r.steps[j], q);
       if (noise) y += (strain_quantity(q) ? kStrainNoise : kStressNoise) * noise->normal();
       c.ys.push_back(y);
     }
