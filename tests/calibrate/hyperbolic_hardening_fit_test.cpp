@@ -1,6 +1,8 @@
 // hyperbolic_hardening round trip: three CD tests (one with an unload-reload loop) and one oedometer
-// test with unloading, generated with simulate() from invented parameters; the stiffness
-// parameters, the stress exponent and phi' recovered from a perturbed start.
+// test with unloading, generated with simulate() from invented parameters at a tolerance 1000x
+// tighter than the fit's (synthetic.hpp); the stiffness parameters, the stress exponent and phi'
+// recovered by a global search and a local polish (round_trip_test.cpp: the local stage alone from
+// a nearer start).
 
 #include <catch2/catch.hpp>
 
@@ -87,7 +89,7 @@ CalibrationProblem hh_problem() {
 
 }  // namespace
 
-TEST_CASE("noise-free hyperbolic_hardening round trip from three CD and one oedometer test recovers stiffnesses, m and phi' within 5 %",
+TEST_CASE("noise-free hyperbolic_hardening round trip from three CD and one oedometer test recovers stiffnesses, m and phi' within 2 %",
           "[calibrate][hyperbolic_hardening]") {
   CalibrationOptions o;
   // The model rejects stiffness combinations that its cap cannot reproduce (penalised
@@ -101,13 +103,13 @@ TEST_CASE("noise-free hyperbolic_hardening round trip from three CD and one oedo
   const CalibrationSummary s = calibrate(o, problem);
   INFO(s.full());
   REQUIRE(s.usable());
-  CHECK(worst_relative_rmse(s) < 0.01);
+  CHECK(worst_relative_rmse(s) < kCurveRange);
   for (const auto& [name, truth] : {std::pair<const char*, double>{"secant_stiffness_ref", kSecant},
                                     {"oedometer_stiffness_ref", kOedometer},
                                     {"unloading_stiffness_ref", kUnloading},
                                     {"stress_exponent", kExponent},
                                     {"friction_angle", kPhi}}) {
     INFO(name);
-    CHECK(close(value_named(s, name), truth, 0.05, 0.0));
+    CHECK(close(value_named(s, name), truth, 0.02, 0.0));
   }
 }
