@@ -32,12 +32,12 @@ double tidy(double v, int decimals) { return std::abs(v) < 0.5 * std::pow(10.0, 
 
 void print_table(const std::string& test, const TestProtocol& protocol, const SimulationResult& r) {
   std::printf("\n%s\n", test.c_str());
-  std::printf("  %-5s %-26s %6s %10s %10s %10s %10s %10s %10s\n", "stage", "type", "steps", "eps_a[-]", "p'[kPa]",
+  std::printf("  %-5s %-26s %6s %10s %10s %10s %10s %10s %10s\n", "stage", "type", "steps", "eps_a,st[-]", "p'[kPa]",
               "q[kPa]", "du[kPa]", "e[-]", "peak q");
   for (const StageSummary& s : r.stages) {
     const StepRecord& end = r.steps[s.last];
     std::printf("  %-5d %-26s %6d %10.5f %10.2f %10.2f %10.2f %10.4f %10.2f%s\n", s.stage,
-                to_string(protocol.stages[s.stage].type).c_str(), s.last - s.first + 1, tidy(end.axial_strain, 5),
+                to_string(protocol.stages[s.stage].type).c_str(), s.last - s.first + 1, tidy(end.stage_axial_strain, 5),
                 tidy(end.p, 2), tidy(end.q, 2), tidy(end.excess_pore_pressure, 2), tidy(end.void_ratio, 4),
                 tidy(s.peak_q, 2), s.stopped_early ? "  (stopped early)" : "");
   }

@@ -94,7 +94,8 @@ std::vector<CsvRecord> parse_csv(const std::string& text, const std::string& sou
 
 std::string format_results_csv(const std::vector<NamedResult>& results, const std::vector<std::string>& state_names) {
   std::string out =
-      "test,stage,step,axial_strain[-],radial_strain[-],volumetric_strain[-],axial_stress[kPa],radial_stress[kPa],"
+      "test,stage,step,axial_strain[-],radial_strain[-],volumetric_strain[-],stage_axial_strain[-],"
+      "stage_volumetric_strain[-],axial_stress[kPa],radial_stress[kPa],"
       "p[kPa],q[kPa],excess_pore_pressure[kPa],void_ratio[-],stress_ratio[-],cuts";
   for (const auto& s : state_names) out += "," + csv_field(s);
   out += "\n";
@@ -102,8 +103,10 @@ std::string format_results_csv(const std::vector<NamedResult>& results, const st
     const std::string test = csv_field(named.test);
     for (const StepRecord& r : named.result->steps) {
       out += test + "," + std::to_string(r.stage) + "," + std::to_string(r.step);
-      for (double v : {r.axial_strain, r.radial_strain, r.volumetric_strain, r.axial_stress, r.radial_stress, r.p, r.q,
-                       r.excess_pore_pressure, r.void_ratio, r.stress_ratio})
+      // Engineering strains (conventions.hpp): since the protocol start, then since the stage start.
+      for (double v : {engineering_strain(r.axial_strain), engineering_strain(r.radial_strain),
+                       engineering_strain(r.volumetric_strain), r.stage_axial_strain, r.stage_volumetric_strain,
+                       r.axial_stress, r.radial_stress, r.p, r.q, r.excess_pore_pressure, r.void_ratio, r.stress_ratio})
         put(out, v);
       out += "," + std::to_string(r.cuts);
       for (std::size_t i = 0; i < state_names.size(); ++i) put(out, r.state[i]);

@@ -1,9 +1,11 @@
 // `triaxcal simulate`, `models`, `--version`: exit codes, exact messages, atomic output.
 #include <catch2/catch.hpp>
 
+#include <algorithm>
 #include <filesystem>
 #include <fstream>
 
+#include "triaxcal/results_csv.hpp"
 #include "cli_run.hpp"
 
 using namespace triaxcal::test;
@@ -46,6 +48,35 @@ TEST_CASE("simulate on the bundled example prints a table per test and writes th
   CHECK(csv.rfind("test,stage,step,axial_strain[-]", 0) == 0);
   // 1 header + 2 x (1 initial + 20 consolidation + 1000 shear) rows.
   CHECK(std::count(csv.begin(), csv.end(), '\n') == 1 + 2 * 1021);
+}
+
+TEST_CASE("simulate writes engineering strains: since the protocol start and since the stage start") {
+  // Isotropic consolidation of a linear elastic soil, then drained shear to 5 % stage strain
+  // (engineering, dL/L at the stage start). Common practice, no source: labs report shear strains on
+  // the consolidated height, so the stage column ends at 0.05 exactly, while the strain since the
+  // protocol start combines the two stages as 1 - (1 - e1)(1 - e2).
+  fs::remove("sim_strains.csv");
+  const auto params = write("strain_params.json", kParams);
+  const auto protocol = write("strain_protocol.json", R"({"format": "triaxcal-protocol", "version": 1, "name": "T2",
+  "initial": {"p": 50},
+  "stages": [{"type": "isotropic_consolidation", "p": 400, "steps": 10},
+             {"type": "shear", "drainage": "drained", "axial_strain": 0.05, "steps": 20}]})");
+  const auto r = run_cli(sim(params, protocol, "sim_strains.csv"), "strains");
+  INFO(r.err);
+  REQUIRE(r.exit_code == 0);
+  const auto rows = triaxcal::parse_csv(slurp("sim_strains.csv"), "sim_strains.csv");
+  REQUIRE(rows.size() == 1 + 1 + 10 + 20);
+  const auto& head = rows.front().fields;
+  auto column = [&](const std::string& name) {
+    return static_cast<std::size_t>(std::find(head.begin(), head.end(), name) - head.begin());
+  };
+  const std::size_t total = column("axial_strain[-]"), stage = column("stage_axial_strain[-]");
+  REQUIRE(stage < head.size());
+  const double consolidation = std::stod(rows[11].fields[total]);  // end of the consolidation stage
+  CHECK(consolidation > 0.0);
+  CHECK(std::stod(rows[11].fields[stage]) == Approx(consolidation).epsilon(1e-9));
+  CHECK(std::stod(rows.back().fields[stage]) == Approx(0.05).epsilon(1e-9));
+  CHECK(std::stod(rows.back().fields[total]) == Approx(1.0 - (1.0 - consolidation) * 0.95).epsilon(1e-9));
 }
 
 TEST_CASE("simulate: malformed JSON gives exit 2, the file, line and column, and writes nothing") {

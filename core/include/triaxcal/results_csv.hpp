@@ -17,7 +17,10 @@ struct NamedResult {
   const SimulationResult* result;   ///< not owned
 };
 
-/// Header: test,stage,step,axial_strain[-],radial_strain[-],volumetric_strain[-],axial_stress[kPa],...
+/// Header: test,stage,step,axial_strain[-],radial_strain[-],volumetric_strain[-],stage_axial_strain[-],
+/// stage_volumetric_strain[-],axial_stress[kPa],... Every strain is an engineering strain
+/// (conventions.hpp): the first three since the protocol start (dL/L0, dV/V0), the stage ones since
+/// the start of the record's stage.
 /// Test names and state names are fields per csv_field.
 TRIAXCAL_CORE_EXPORT std::string format_results_csv(const std::vector<NamedResult>& results,
                                                     const std::vector<std::string>& state_names);
