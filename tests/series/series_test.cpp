@@ -100,7 +100,7 @@ TEST_CASE("decimal-comma semicolon files with % and MPa give the same curves as 
 }
 
 TEST_CASE("lab CSV cells are strict: the message names file, line, column and the cell", "[series][csv]") {
-  const std::vector<CsvColumnRequest> cols{{"axial_strain", "ea", 1.0}, {"pore_pressure", "u", 1.0}};
+  const std::vector<CsvColumnRequest> cols{{"axial_strain", "ea", 1.0, "-"}, {"pore_pressure", "u", 1.0, "kPa"}};
   CsvLayout layout;
   REQUIRE_THROWS_WITH(parse_lab_csv("ea,u\n0.1,2\n0.2,3\n0.3,12.5x\n", "f.csv", layout, cols),
                       "f.csv: line 4, column 2 (pore_pressure): '12.5x' is not a number");
