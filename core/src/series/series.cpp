@@ -536,15 +536,32 @@ void read_oedometer_data(Specimen& s, const std::string& series_src, const std::
                                   std::to_string(k) + "].stress_steps)"});
 }
 
-void read_data(Specimen& s, const std::string& series_src, const std::string& sp, std::vector<SeriesWarning>& warnings) {
-  if (s.is_oedometer()) {
-    read_oedometer_data(s, series_src, sp, warnings);
-    return;
+/// A triaxial specimen's data as read: the declared columns, their values and where they are.
+struct TriaxialData {
+  const Specimen& s;
+  const DataFileSpec& spec;
+  std::string src;       ///< the data file, for messages
+  std::string series_src;
+  std::string sp;        ///< JSON path of the specimen
+  std::map<std::string, int> col;  ///< quantity -> column request
+  CsvTable t;
+  std::size_t n = 0;
+  bool any_cu = false, any_cd = false;
+  bool continuous = false;  ///< strains from the data zero (data_start, raw)
+  const std::vector<double>* column(const char* q) const {
+    const auto it = col.find(q);
+    return it == col.end() ? nullptr : &t.values[static_cast<std::size_t>(it->second)];
   }
-  const DataFileSpec& spec = s.data;
-  const std::string src = spec.path;
+};
+
+/// Step 1: the columns a specimen's stages need, by kind of data and test; the column requests.
+std::vector<CsvColumnRequest> required_columns(TriaxialData& d) {
+  const Specimen& s = d.s;
+  const DataFileSpec& spec = d.spec;
+  const std::string& series_src = d.series_src;
+  const std::string& sp = d.sp;
   std::vector<CsvColumnRequest> req;
-  std::map<std::string, int> col;
+  std::map<std::string, int>& col = d.col;
   for (const DataFileSpec::Column& c : spec.columns) {
     col[c.quantity] = static_cast<int>(req.size());
     req.push_back({c.quantity, c.header, unit_factor(kind_of(c.quantity), c.unit, series_src), c.unit});
@@ -556,13 +573,14 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
   };
   for (const char* q : {"axial_stress", "void_ratio"})
     if (has(q)) throw InputError(cols_path + "." + q + ": only for oedometer specimens (triaxial stresses and void ratios are reduced from the other columns)");
-  bool any_cu = false, any_cd = false, any_uu = false;
+  bool any_cu = false, any_cd = false;
   for (const SpecimenStage& st : s.stages)
     if (st.type == SpecimenStageType::shear) {
       any_cu = any_cu || st.shear == ShearType::cu;
       any_cd = any_cd || st.shear == ShearType::cd;
-      any_uu = any_uu || st.shear == ShearType::uu;
     }
+  d.any_cu = any_cu;
+  d.any_cd = any_cd;
   if (spec.raw) {
     need(has("axial_load"), "raw data need an axial_load column (the deviator load, N or kN)");
     need(has("axial_displacement"), "raw data need an axial_displacement column (shortening positive, mm)");
@@ -576,7 +594,6 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
     if (any_cu) need(has("pore_pressure") || has("excess_pore_pressure"), "a CU test needs a pore_pressure or excess_pore_pressure column");
     if (any_cd) need(has("volumetric_strain") || has("volume_change"), "a CD test needs a volumetric_strain or volume_change column");
   }
-  (void)any_uu;
   const bool continuous = spec.strain_origin == StrainOrigin::data_start;  // raw data are continuous too
   if (s.shear_stages().size() > 1 && !has("stage") && !continuous)
     throw InputError(series_src + ": " + sp +
@@ -589,18 +606,20 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
         throw InputError(series_src + ": " + sp + ".stages[" + std::to_string(k) +
                          "]: with several shear stages and no stage column, each shear stage needs its strain_range");
   }
+  d.continuous = continuous;
+  return req;
+}
 
-  CsvLayout layout{spec.delimiter, spec.decimal, spec.skip_rows, spec.skip_after_header};
-  const CsvTable t = parse_lab_csv(detail::read_text_file(src), src, layout, req);
-  const std::size_t n = t.line.size();
-  const auto column = [&](const char* q) -> const std::vector<double>* {
-    const auto it = col.find(q);
-    return it == col.end() ? nullptr : &t.values[static_cast<std::size_t>(it->second)];
-  };
-  // Stage of each row; the rows of a stage are together and the stages in their declared order, so
-  // a stage's first row is its start.
+/// Step 2a: the stage of each row from the stage column (-1 without one); the rows of a stage are
+/// together and the stages in their declared order, so a stage's first row is its start.
+std::vector<int> stages_from_column(const TriaxialData& d) {
+  const Specimen& s = d.s;
+  const std::string& src = d.src;
+  const std::string& sp = d.sp;
+  const std::size_t n = d.n;
+  const CsvTable& t = d.t;
   std::vector<int> stage(n, -1);
-  if (const auto* sc = column("stage")) {
+  if (const auto* sc = d.column("stage")) {
     for (std::size_t i = 0; i < n; ++i) {
       const double v = (*sc)[i];
       for (std::size_t k = 0; k < s.stages.size(); ++k)
@@ -618,19 +637,17 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
                          " (the rows of each stage must be together, the stages in the order of " + sp + ".stages)");
     }
   }
-  // Reference dimensions at the data zero.
+  return stage;
+}
+
+/// Step 2b: reference height, area and void ratio at the data zero, from the set-up dimensions and
+/// the consolidation strains declared before the first stage with rows.
+void set_reference_state(Specimen& s, int first_stage, const std::string& series_src, const std::string& sp,
+                         std::vector<SeriesWarning>& warnings) {
   const double a0 = 0.25 * std::numbers::pi * s.diameter * s.diameter;
   s.reference_height = s.height;
   s.reference_area = a0;
   s.reference_void_ratio = s.void_ratio;
-  if (n == 0) throw InputError(src + ": no data rows after the header (at least " + std::to_string(kMinPoints) + " are needed)");
-  // Axial strain first (needed to assign stages by strain range), as the file gives it.
-  std::vector<double> ea_file(n);
-  int first_stage = stage[0];
-  if (first_stage < 0) {
-    // Without a stage column the data start with the first shear stage.
-    first_stage = s.shear_stages().front();
-  }
   // Consolidation strains before the data zero set the reference dimensions and void ratio.
   {
     double ea_c = 0.0, ev_c = 0.0;
@@ -659,39 +676,44 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
                                     "correction uses the set-up dimensions and void ratios are not reported"});
     }
   }
-  const double v_ref = s.reference_height * s.reference_area;
-  if (spec.raw) {
-    const auto& d = *column("axial_displacement");
-    for (std::size_t i = 0; i < n; ++i) ea_file[i] = axial_strain_from_displacement(d[i], d[0], s.reference_height);
+}
+
+/// Step 2c: shear stages by the declared strain ranges of a continuous file without a stage column.
+void stages_from_strain_ranges(const TriaxialData& d, const std::vector<double>& ea_file, std::vector<int>& stage) {
+  const Specimen& s = d.s;
+  const std::string& src = d.src;
+  const std::size_t n = d.n;
+  const CsvTable& t = d.t;
+  const std::vector<int> shear = s.shear_stages();
+  if (shear.size() == 1) {
+    std::fill(stage.begin(), stage.end(), shear.front());
   } else {
-    ea_file = *column("axial_strain");
-  }
-  if (!column("stage")) {
-    const std::vector<int> shear = s.shear_stages();
-    if (shear.size() == 1) {
-      std::fill(stage.begin(), stage.end(), shear.front());
-    } else {
-      std::size_t cur = 0;
-      const double tol = kStrainRoundOff;
-      for (std::size_t i = 0; i < n; ++i) {
-        while (cur + 1 < shear.size() && ea_file[i] > s.stages[static_cast<std::size_t>(shear[cur])].strain_to + tol) ++cur;
-        const SpecimenStage& st = s.stages[static_cast<std::size_t>(shear[cur])];
-        if (ea_file[i] > st.strain_to + tol || ea_file[i] < st.strain_from - tol) {
-          bool in_loop = false;
-          for (const auto& l : st.loops) in_loop = in_loop || (ea_file[i] >= l.from_strain - tol && ea_file[i] <= l.to_strain + tol);
-          if (!in_loop)
-            throw InputError(src + ": line " + std::to_string(t.line[i]) + " (axial_strain): " + fmt(ea_file[i]) +
-                             " is outside every declared strain_range (stages[" + std::to_string(shear[cur]) + "] has [" +
-                             fmt(st.strain_from) + ", " + fmt(st.strain_to) + "])");
-        }
-        stage[i] = shear[cur];
+    std::size_t cur = 0;
+    const double tol = kStrainRoundOff;
+    for (std::size_t i = 0; i < n; ++i) {
+      while (cur + 1 < shear.size() && ea_file[i] > s.stages[static_cast<std::size_t>(shear[cur])].strain_to + tol) ++cur;
+      const SpecimenStage& st = s.stages[static_cast<std::size_t>(shear[cur])];
+      if (ea_file[i] > st.strain_to + tol || ea_file[i] < st.strain_from - tol) {
+        bool in_loop = false;
+        for (const auto& l : st.loops) in_loop = in_loop || (ea_file[i] >= l.from_strain - tol && ea_file[i] <= l.to_strain + tol);
+        if (!in_loop)
+          throw InputError(src + ": line " + std::to_string(t.line[i]) + " (axial_strain): " + fmt(ea_file[i]) +
+                           " is outside every declared strain_range (stages[" + std::to_string(shear[cur]) + "] has [" +
+                           fmt(st.strain_from) + ", " + fmt(st.strain_to) + "])");
       }
+      stage[i] = shear[cur];
     }
   }
-  s.data_zero_stage = stage[0];
-  // A stage after the first with rows starts near zero strain when the strains are relative to each
-  // stage's start; a larger start means the file's strains run on.
-  if (!continuous)
+}
+
+/// Step 2d: with strains relative to each stage's start, a stage after the first with rows starts
+/// near zero strain; a larger start means the file's strains run on.
+void check_stage_starts(const TriaxialData& d, const std::vector<double>& ea_file, const std::vector<int>& stage) {
+  const std::string& src = d.src;
+  const std::string& sp = d.sp;
+  const std::size_t n = d.n;
+  const CsvTable& t = d.t;
+  if (!d.continuous)
     for (std::size_t i = 1; i < n; ++i)
       if (stage[i] != stage[i - 1] && std::abs(ea_file[i]) > kStageStartStrain)
         throw InputError(src + ": line " + std::to_string(t.line[i]) + " (axial_strain): stages[" + std::to_string(stage[i]) +
@@ -699,7 +721,25 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
                          ".data.strain_origin \"stage_start\", the default) a stage starts within " + fmt(kStageStartStrain) +
                          " of zero; if the file's strains run on from the first stage with rows, declare \"strain_origin\": "
                          "\"data_start\"");
+}
 
+/// Strains of each row: ea, ev relative to the start of its stage (the lab convention, stored), ev_c
+/// relative to the data zero (area correction and void ratio), and whether the volume since the data
+/// zero is known.
+struct RowStrains {
+  std::vector<double> ea, ev, ev_c;
+  std::vector<char> volume_known;
+};
+
+/// Step 3a: the stage strains of every row.
+RowStrains stage_strains(const TriaxialData& d, const std::vector<double>& ea_file, const std::vector<int>& stage) {
+  const Specimen& s = d.s;
+  const DataFileSpec& spec = d.spec;
+  const std::string& src = d.src;
+  const std::size_t n = d.n;
+  const CsvTable& t = d.t;
+  const bool continuous = d.continuous;
+  const double v_ref = s.reference_height * s.reference_area;
   // Strains of each row relative to the start of its stage (ea, ev: the lab convention, stored) and
   // the volumetric strain relative to the data zero (ev_c: area correction and void ratio).
   // Continuous files (data_start, raw): the first row of each later stage is its start, and a strain
@@ -707,10 +747,13 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
   // (dL / L_k0 with L_k0 = L_ref (1 - eps_k0); the same for volumes). Files relative to each stage's
   // start: the stage starts where the previous one with rows ended (its last row), unless a
   // consolidation without rows lies between them; then the volume since the data zero is unknown.
-  const std::vector<double>* vcol = spec.raw ? column("volume_gauge") : (column("volumetric_strain") ? column("volumetric_strain") : column("volume_change"));
-  const bool vol_is_strain = !spec.raw && column("volumetric_strain");
-  std::vector<double> ea(n), ev(n, 0.0), ev_c(n, 0.0);
-  std::vector<char> volume_known(n, 1);
+  const std::vector<double>* vcol = spec.raw ? d.column("volume_gauge") : (d.column("volumetric_strain") ? d.column("volumetric_strain") : d.column("volume_change"));
+  const bool vol_is_strain = !spec.raw && d.column("volumetric_strain");
+  RowStrains r{std::vector<double>(n), std::vector<double>(n, 0.0), std::vector<double>(n, 0.0), std::vector<char>(n, 1)};
+  std::vector<double>& ea = r.ea;
+  std::vector<double>& ev = r.ev;
+  std::vector<double>& ev_c = r.ev_c;
+  std::vector<char>& volume_known = r.volume_known;
   {
     double ea0 = 0.0, ev0 = 0.0;  // continuous strains at the start of the row's stage
     bool chain = true;            // (stage_start files) the volume since the data zero is known
@@ -765,8 +808,13 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
       volume_known[i] = chain ? 1 : 0;
     }
   }
-  // Loops declared in a continuous file's strains become stage strains like the curves.
-  if (continuous)
+  return r;
+}
+
+/// Step 3b: loops declared in a continuous file's strains become stage strains like the curves.
+void loops_to_stage_strains(Specimen& s, const TriaxialData& d, const std::vector<double>& ea_file, const std::vector<int>& stage) {
+  const std::size_t n = d.n;
+  if (d.continuous)
     for (std::size_t i = 1; i < n; ++i) {
       if (stage[i] == stage[i - 1]) continue;
       const double e0 = ea_file[i];
@@ -775,6 +823,23 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
         l.to_strain = (l.to_strain - e0) / (1.0 - e0);
       }
     }
+}
+
+/// Step 4: each row reduced to the curves: deviator (raw: area and membrane corrections), cell and
+/// pore pressure, effective stresses, void ratio.
+void reduce_rows(Specimen& s, const TriaxialData& d, const std::vector<double>& ea_file, const std::vector<int>& stage,
+                 const RowStrains& r) {
+  const DataFileSpec& spec = d.spec;
+  const std::string& series_src = d.series_src;
+  const std::string& sp = d.sp;
+  const std::size_t n = d.n;
+  const CsvTable& t = d.t;
+  const std::string& src = d.src;
+  const auto column = [&d](const char* q) { return d.column(q); };
+  const std::vector<double>& ea = r.ea;
+  const std::vector<double>& ev = r.ev;
+  const std::vector<double>& ev_c = r.ev_c;
+  const std::vector<char>& volume_known = r.volume_known;
   ReducedCurves& c = s.curves;
   c = ReducedCurves{};
   const bool membrane = given(spec.membrane_modulus) && given(spec.membrane_thickness);
@@ -824,6 +889,17 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
     c.cell_pressure.push_back(cell);
     c.void_ratio.push_back(given(s.reference_void_ratio) && volume_known[i] ? void_ratio_after(s.reference_void_ratio, ev_c[i]) : kNotGiven);
   }
+}
+
+/// Step 5: per-stage checks (points, strain going back outside a loop, consolidation stress
+/// against the declared one) and the B-value of CU tests.
+void check_stages(const Specimen& s, const TriaxialData& d, std::vector<SeriesWarning>& warnings) {
+  const std::string& src = d.src;
+  const std::string& series_src = d.series_src;
+  const std::string& sp = d.sp;
+  const auto column = [&d](const char* q) { return d.column(q); };
+  const ReducedCurves& c = s.curves;
+  const bool any_cu = d.any_cu;
   // Per-stage checks.
   for (std::size_t k = 0; k < s.stages.size(); ++k) {
     const SpecimenStage& st = s.stages[k];
@@ -870,6 +946,39 @@ void read_data(Specimen& s, const std::string& series_src, const std::string& sp
       warnings.push_back({s.id, series_src + ": " + sp + ": B-value " + fmt(s.b_value) + " is below " + fmt(kMinimumB) +
                                     " for a CU test; pore pressures may be underestimated"});
   }
+}
+
+/// A triaxial specimen's data file: read, assigned to stages, reduced and checked, as named steps.
+void read_data(Specimen& s, const std::string& series_src, const std::string& sp, std::vector<SeriesWarning>& warnings) {
+  if (s.is_oedometer()) {
+    read_oedometer_data(s, series_src, sp, warnings);
+    return;
+  }
+  TriaxialData d{s, s.data, s.data.path, series_src, sp, {}, {}, 0, false, false, false};
+  const std::vector<CsvColumnRequest> req = required_columns(d);
+  const DataFileSpec& spec = s.data;
+  CsvLayout layout{spec.delimiter, spec.decimal, spec.skip_rows, spec.skip_after_header};
+  d.t = parse_lab_csv(detail::read_text_file(d.src), d.src, layout, req);
+  d.n = d.t.line.size();
+  std::vector<int> stage = stages_from_column(d);
+  if (d.n == 0) throw InputError(d.src + ": no data rows after the header (at least " + std::to_string(kMinPoints) + " are needed)");
+  // Without a stage column the data start with the first shear stage.
+  set_reference_state(s, stage[0] >= 0 ? stage[0] : s.shear_stages().front(), series_src, sp, warnings);
+  // Axial strain first (needed to assign stages by strain range), as the file gives it.
+  std::vector<double> ea_file(d.n);
+  if (spec.raw) {
+    const auto& disp = *d.column("axial_displacement");
+    for (std::size_t i = 0; i < d.n; ++i) ea_file[i] = axial_strain_from_displacement(disp[i], disp[0], s.reference_height);
+  } else {
+    ea_file = *d.column("axial_strain");
+  }
+  if (!d.column("stage")) stages_from_strain_ranges(d, ea_file, stage);
+  s.data_zero_stage = stage[0];
+  check_stage_starts(d, ea_file, stage);
+  const RowStrains strains = stage_strains(d, ea_file, stage);
+  loops_to_stage_strains(s, d, ea_file, stage);
+  reduce_rows(s, d, ea_file, stage, strains);
+  check_stages(s, d, warnings);
 }
 
 }  // namespace
