@@ -82,7 +82,7 @@ void from_parameter_set(const Project& project, const UnitSettings& s, UnitResul
   c.label = "check test (" + s.check_drainage + ", p' = " + std::to_string(static_cast<int>(std::lround(s.check_p))) +
             " kPa)";
   for (const StepRecord& step : sim.steps) {
-    c.axial_strain.push_back(step.axial_strain);
+    c.axial_strain.push_back(step.stage_axial_strain);  // engineering, since the shear stage start
     c.q.push_back(step.q);
     r.check_peak_q = std::max(r.check_peak_q, step.q);
   }

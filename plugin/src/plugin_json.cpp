@@ -50,18 +50,21 @@ json curves_json(const ModelInfo& info, const std::string& test, const Simulatio
     const char* name;
     const char* unit;
     double StepRecord::*field;
+    bool natural_strain;  // a natural strain since the protocol start: written as engineering
   };
   static constexpr Column columns[] = {
-      {"axial_strain", "-", &StepRecord::axial_strain},
-      {"radial_strain", "-", &StepRecord::radial_strain},
-      {"volumetric_strain", "-", &StepRecord::volumetric_strain},
-      {"axial_stress", "kPa", &StepRecord::axial_stress},
-      {"radial_stress", "kPa", &StepRecord::radial_stress},
-      {"p", "kPa", &StepRecord::p},
-      {"q", "kPa", &StepRecord::q},
-      {"excess_pore_pressure", "kPa", &StepRecord::excess_pore_pressure},
-      {"void_ratio", "-", &StepRecord::void_ratio},
-      {"stress_ratio", "-", &StepRecord::stress_ratio},
+      {"axial_strain", "-", &StepRecord::axial_strain, true},
+      {"radial_strain", "-", &StepRecord::radial_strain, true},
+      {"volumetric_strain", "-", &StepRecord::volumetric_strain, true},
+      {"axial_stress", "kPa", &StepRecord::axial_stress, false},
+      {"radial_stress", "kPa", &StepRecord::radial_stress, false},
+      {"p", "kPa", &StepRecord::p, false},
+      {"q", "kPa", &StepRecord::q, false},
+      {"excess_pore_pressure", "kPa", &StepRecord::excess_pore_pressure, false},
+      {"void_ratio", "-", &StepRecord::void_ratio, false},
+      {"stress_ratio", "-", &StepRecord::stress_ratio, false},
+      {"stage_axial_strain", "-", &StepRecord::stage_axial_strain, false},
+      {"stage_volumetric_strain", "-", &StepRecord::stage_volumetric_strain, false},
   };
   json data = json::object(), units = json::object();
   for (const StepRecord& r : result.steps) {
@@ -73,7 +76,10 @@ json curves_json(const ModelInfo& info, const std::string& test, const Simulatio
   data["step"] = step;
   for (const Column& c : columns) {
     json values = json::array();
-    for (const StepRecord& r : result.steps) values.push_back(number_or_null(r.*(c.field)));
+    // Every strain written is an engineering strain (conventions.hpp): dL/L0, dV/V0 since the
+    // protocol start, and the stage columns since the start of the record's stage.
+    for (const StepRecord& r : result.steps)
+      values.push_back(number_or_null(c.natural_strain ? engineering_strain(r.*(c.field)) : r.*(c.field)));
     data[c.name] = values;
     units[c.name] = c.unit;
   }
