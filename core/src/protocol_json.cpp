@@ -57,7 +57,7 @@ Stage parse_stage(const json& s, const std::string& src, const std::string& path
       if (!(st.axial_strain > 0.0))
         throw InputError(detail::where(src, path + ".axial_strain") +
                          ": with a direction, give the magnitude (a positive decimal), found " +
-                         s.at("axial_strain").dump());
+                         (s.contains("axial_strain") ? s.at("axial_strain").dump() : std::string("nothing")));
       if (direction == "extension") st.axial_strain = -st.axial_strain;
     }
     if (s.contains("stop")) {

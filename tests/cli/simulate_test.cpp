@@ -79,6 +79,18 @@ TEST_CASE("simulate writes engineering strains: since the protocol start and sin
   CHECK(std::stod(rows.back().fields[total]) == Approx(1.0 - (1.0 - consolidation) * 0.95).epsilon(1e-9));
 }
 
+TEST_CASE("simulate: a shear stage with a direction but no axial_strain gives exit 2, the key and writes nothing") {
+  fs::remove("nodir_out.csv");
+  const auto params = write("nodir_params.json", kParams);
+  const auto protocol = write("nodir_protocol.json", R"({"format": "triaxcal-protocol", "version": 1, "name": "T",
+  "initial": {"p": 100}, "stages": [{"type": "shear", "direction": "compression", "drainage": "drained"}]})");
+  const auto r = run_cli(sim(params, protocol, "nodir_out.csv"), "nodir");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err == "triaxcal: error: nodir_protocol.json: stages[0].axial_strain: with a direction, give the magnitude "
+                 "(a positive decimal), found nothing\n");
+  CHECK_FALSE(fs::exists("nodir_out.csv"));
+}
+
 TEST_CASE("simulate: malformed JSON gives exit 2, the file, line and column, and writes nothing") {
   fs::remove("bad_out.csv");
   const auto params = write("bad_json_params.json", "{\"format\": \"triaxcal-parameters\",\n  \"version\": 1,,\n}");
