@@ -82,7 +82,7 @@ TEST_CASE("the peak dilation rate of noisy Mohr-Coulomb drained curves gives psi
     const DrainedCurve truth = mohr_coulomb_drained(k.s3, 40000.0, 0.3, 35.0, 0.0, k.psi, 0.15, k.spacing);
     Spread psi, width;
     for (int seed = 1; seed <= kCopies; ++seed) {
-      LabNoise noise(1000u * static_cast<unsigned>(k.psi) + static_cast<unsigned>(seed));
+      Noise noise(1000u * static_cast<unsigned>(k.psi) + static_cast<unsigned>(seed));
       TestSeries series;
       series.specimens.push_back(drained_specimen("MC", k.s3, truth, &noise));
       const Interpretation r = interpret(series, InterpretOptions{});
@@ -115,7 +115,7 @@ TEST_CASE("on a smooth noisy curve with a closed-form dilation rate the peak rat
   const DrainedCurve truth = SmoothCurve::curve(s3, phi_cv, 0.2, 0.001);
   Spread psi, cv;
   for (int seed = 1; seed <= kCopies; ++seed) {
-    LabNoise noise(7000u + static_cast<unsigned>(seed));
+    Noise noise(7000u + static_cast<unsigned>(seed));
     TestSeries series;
     series.specimens.push_back(drained_specimen("S", s3, truth, &noise));
     const Interpretation r = interpret(series, InterpretOptions{});
@@ -135,7 +135,7 @@ TEST_CASE("on a smooth noisy curve with a closed-form dilation rate the peak rat
 }
 
 TEST_CASE("the dilation window and its points are stated in the JSON result and the text", "[interpret][dilatancy][output]") {
-  LabNoise noise(42);
+  Noise noise(42);
   TestSeries series;
   series.specimens.push_back(drained_specimen("W", 100.0, mohr_coulomb_drained(100.0, 40000.0, 0.3, 35.0, 0.0, 8.0, 0.15, 0.001), &noise));
   const Interpretation r = interpret(series, InterpretOptions{});

@@ -9,6 +9,7 @@
 #include <string>
 #include <vector>
 
+#include "../support/lab_noise.hpp"
 #include "triaxcal/conventions.hpp"
 #include "triaxcal/series.hpp"
 
@@ -53,24 +54,6 @@ inline Specimen make_specimen(const std::string& id, ShearType test, double s3, 
   return s;
 }
 
-/// Gaussian noise, the same numbers on every platform (Box-Muller on the top 53 bits).
-class LabNoise {
- public:
-  explicit LabNoise(std::uint64_t seed) : rng_(seed) {}
-  double normal() {
-    const double u1 = (static_cast<double>(rng_() >> 11) + 0.5) * 0x1.0p-53;
-    const double u2 = static_cast<double>(rng_() >> 11) * 0x1.0p-53;
-    return std::sqrt(-2.0 * std::log(u1)) * std::cos(2.0 * 3.14159265358979323846 * u2);
-  }
-
- private:
-  std::mt19937_64 rng_;
-};
-
-/// Lab precision of issue 12 (standard deviations): 0.5 kPa on stresses, 1e-4 on strains.
-inline constexpr double kLabStressNoise = 0.5;
-inline constexpr double kLabStrainNoise = 1e-4;
-
 /// Curves of a drained test in natural strains (axial x, volumetric y) and q, to be read as a lab does.
 struct DrainedCurve {
   std::vector<double> x, y, q;
@@ -101,14 +84,14 @@ inline DrainedCurve mohr_coulomb_drained(double s3, double young, double nu, dou
 
 /// A CD specimen from natural-strain curves: engineering strains from the stage start as the lab
 /// reports them (e = 1 - exp(-eps)), with lab noise on q, s3', e_a and e_v when `noise` is given.
-inline Specimen drained_specimen(const std::string& id, double s3, const DrainedCurve& d, LabNoise* noise) {
+inline Specimen drained_specimen(const std::string& id, double s3, const DrainedCurve& d, Noise* noise) {
   std::vector<double> ea, ev, q, s3n;
   for (std::size_t i = 0; i < d.x.size(); ++i) {
     const bool start = i == 0;  // the stage start is the strain origin: no noise on its strains
-    ea.push_back(engineering_strain(d.x[i]) + (noise && !start ? kLabStrainNoise * noise->normal() : 0.0));
-    ev.push_back(engineering_strain(d.y[i]) + (noise && !start ? kLabStrainNoise * noise->normal() : 0.0));
-    q.push_back(d.q[i] + (noise ? kLabStressNoise * noise->normal() : 0.0));
-    s3n.push_back(noise ? kLabStressNoise * noise->normal() : 0.0);
+    ea.push_back(engineering_strain(d.x[i]) + (noise && !start ? kStrainNoise * noise->normal() : 0.0));
+    ev.push_back(engineering_strain(d.y[i]) + (noise && !start ? kStrainNoise * noise->normal() : 0.0));
+    q.push_back(d.q[i] + (noise ? kStressNoise * noise->normal() : 0.0));
+    s3n.push_back(noise ? kStressNoise * noise->normal() : 0.0);
   }
   return make_specimen(id, ShearType::cd, s3, ea, q, ev, {}, {}, s3n);
 }
