@@ -735,13 +735,7 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
     } else if (h >= 0.5 * remaining) {
       s1 = s0 + 0.5 * remaining;  // two equal substeps to the end, no sliver
     } else {
-      s1 = s0 + h;
-      int k = next;
-      while (fraction(k) < s1) ++k;  // fraction(per_phase) = 1 > s1 ends the scan
-      if (fraction(k) - s1 <= kSnapToRecord * h)
-        s1 = fraction(k);
-      else if (k > next && s1 - fraction(k - 1) <= kSnapToRecord * h)
-        s1 = fraction(k - 1);
+      s1 = s0 + h;  // ends at least h before the record: no sliver to snap
     }
     const double sm = 0.5 * (s0 + s1);
     const double size = s1 - s0;
