@@ -69,7 +69,25 @@ class ProgressLine {
   std::chrono::steady_clock::time_point last_{};
 };
 
+/// Ctrl-C asks the optimiser to stop; the best point so far is written. Installed before anything
+/// is read (a Ctrl-C while the series loads ends the fit at its first evaluation instead of killing
+/// the process) and kept until the files are written, so a second Ctrl-C cannot cut a write short.
+class InterruptGuard {
+ public:
+  InterruptGuard() {
+    g_interrupted.store(false);
+    previous_ = std::signal(SIGINT, on_interrupt);
+  }
+  ~InterruptGuard() { std::signal(SIGINT, previous_); }
+  InterruptGuard(const InterruptGuard&) = delete;
+  InterruptGuard& operator=(const InterruptGuard&) = delete;
+
+ private:
+  void (*previous_)(int) = SIG_DFL;
+};
+
 int run(const FitOptions& o) {
+  const InterruptGuard interrupt_guard;
   CalibrationFile file = read_calibration_file(o.calibration);
   if (o.threads >= 0) file.options.threads = o.threads;
   if (o.seed >= 0) file.options.seed = static_cast<unsigned long>(o.seed);
@@ -113,10 +131,6 @@ int run(const FitOptions& o) {
       if (s.id == t.id) prov.inputs.emplace_back(s.data.path, sha256_file(s.data.path));
   }
 
-  // Ctrl-C asks the optimiser to stop; the best point so far is written. The handler stays until
-  // the files are written, so a second Ctrl-C cannot cut a write short.
-  g_interrupted.store(false);
-  auto previous = std::signal(SIGINT, on_interrupt);
   ProgressLine progress;
   CalibrationOptions options = file.options;
   options.progress = [&progress](const CalibrationProgress& p) { return progress(p); };
@@ -147,7 +161,6 @@ int run(const FitOptions& o) {
     if (o.report) write_file_atomically(report_html, report::render_report(rd));
   }
   if (!summary.usable()) {
-    std::signal(SIGINT, previous);
     std::fprintf(stderr, "triaxcal: fit: %s (report input: %s)\n", summary.outcome_line().c_str(),
                  report_input.string().c_str());
     return exit_nothing_usable;
@@ -160,7 +173,6 @@ int run(const FitOptions& o) {
   write_file_atomically(curves, format_fit_csv(summary));
   write_calibration_archive(archive, summary, entry->info(), prov, json);
   if (o.report) write_file_atomically(dir / (stem + ".report.txt"), summary.full() + "\n" + kCaution + "\n");
-  std::signal(SIGINT, previous);
 
   const bool converged = summary.outcome == CalibrationOutcome::converged;
   std::printf("\noutcome:       %s\n", summary.outcome_line().c_str());

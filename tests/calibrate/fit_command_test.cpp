@@ -146,16 +146,29 @@ TEST_CASE("Ctrl-C during a fit stops cleanly, keeps the best point so far and le
   const std::string f = write("fit_int.json", calibration(parameters(), kTests,
                                                           R"({"global": "crs2", "global_evaluations": 1000000, "max_seconds": 60})", 150));
   const std::string cmd = std::string(TRIAXCAL_CLI) + " fit " + f +
-                          " --out fit_int_out >fit_int.out 2>fit_int.err & pid=$!; sleep 1; kill -INT $pid; wait $pid; "
-                          "echo $? >fit_int.rc";
+                          " --out fit_int_out >fit_int.out 2>fit_int.err & pid=$!; sleep 1; "
+                          // A background job of a non-interactive shell starts with SIGINT ignored until
+                          // triaxcal installs its handler: on a loaded machine the first signal can come
+                          // too early, so it is repeated until the process ends.
+                          "for i in 1 2 3 4 5 6 7 8 9 10 11 12 13 14 15 16 17 18 19 20; do kill -INT $pid 2>/dev/null || break; "
+                          "[ -e fit_int_out/fit_int.parameters.json ] && break; sleep 0.5; done; wait $pid; echo $? >fit_int.rc";
   REQUIRE(std::system(("sh -c '" + cmd + "'").c_str()) == 0);
   INFO(slurp("fit_int.out") << slurp("fit_int.err"));
   CHECK(std::stoi(slurp("fit_int.rc")) == 0);
   CHECK(slurp("fit_int.out").find("stopped") != std::string::npos);
   const auto json = nlohmann::json::parse(slurp("fit_int_out/fit_int.parameters.json"));
   CHECK(json["fit"]["termination"] == "stopped");
-  CHECK(json["fit"]["outcome"] == "stopped");
-  CHECK(json["fit"]["outcome_reason"].get<std::string>().rfind("stopped on request (the progress callback; Ctrl-C in triaxcal fit) after ", 0) == 0);
+  // On a slow or loaded machine the stop can come so early that the curves do not fit yet: the
+  // outcome is then poor_fit (it takes precedence) and its reason adds that the run was stopped.
+  const std::string outcome = json["fit"]["outcome"].get<std::string>();
+  const std::string reason = json["fit"]["outcome_reason"].get<std::string>();
+  const std::string stop = "stopped on request (the progress callback; Ctrl-C in triaxcal fit) after ";
+  if (outcome == "stopped") {
+    CHECK(reason.rfind(stop, 0) == 0);
+  } else {
+    CHECK(outcome == "poor_fit");
+    CHECK(reason.find("; also not converged: " + stop) != std::string::npos);
+  }
   CHECK(fs::exists("fit_int_out/fit_int.h5"));
   for (const auto& entry : fs::directory_iterator("fit_int_out"))
     CHECK(entry.path().filename().string().find(".tmp") == std::string::npos);
