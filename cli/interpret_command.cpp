@@ -1,3 +1,4 @@
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <memory>
@@ -6,6 +7,7 @@
 #include "triaxcal/atomic_file.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/interpret.hpp"
+#include "triaxcal/interpretation_report.hpp"
 #include "triaxcal/series.hpp"
 
 namespace triaxcal::cli {
@@ -20,7 +22,42 @@ struct InterpretCliOptions {
   double reference_pressure = 100.0;
   std::string out;
   std::string material;
+  std::string report;
+  std::string site;
+  std::vector<std::string> only;
+  std::vector<std::string> leave_out;
+  bool origin_line = false;
+  bool cu_depth_trend = false;
 };
+
+/// --leave-out ID[@N]=REASON: a specimen (or its shear stage N, 1, 2, 3) left out with the reason.
+LeftOut parse_leave_out(const std::string& text) {
+  const auto eq = text.find('=');
+  const std::string expected = " (expected ID=REASON or ID@STAGE=REASON, e.g. C-UU-2=\"disturbed sample\" or C-MS-1@3=\"membrane leak\")";
+  if (eq == std::string::npos || eq == 0) throw InputError("--leave-out: '" + text + "'" + expected);
+  LeftOut l;
+  l.reason = text.substr(eq + 1);
+  if (l.reason.find_first_not_of(" ") == std::string::npos)
+    throw InputError("--leave-out: '" + text + "': the reason is empty; give one, the outputs repeat it" + expected);
+  std::string id = text.substr(0, eq);
+  const auto at = id.rfind('@');
+  if (at != std::string::npos) {
+    const std::string n = id.substr(at + 1);
+    std::size_t used = 0;
+    int stage = 0;
+    try {
+      stage = std::stoi(n, &used);
+    } catch (const std::exception&) {
+      used = 0;
+    }
+    if (used == 0 || used != n.size() || stage < 1) throw InputError("--leave-out: '" + text + "': stage '" + n + "' is not 1, 2, 3 ..." + expected);
+    l.shear_stage = stage;
+    id = id.substr(0, at);
+  }
+  if (id.empty()) throw InputError("--leave-out: '" + text + "': no specimen id" + expected);
+  l.specimen = id;
+  return l;
+}
 
 double parse_number(const std::string& text, const std::string& option) {
   std::size_t used = 0;
@@ -62,6 +99,10 @@ InterpretOptions to_options(const InterpretCliOptions& c) {
     throw InputError("--design-stress: " + std::to_string(o.design_stress) + " must be positive (kPa)");
   o.reference_pressure = c.reference_pressure;
   o.material = c.material;
+  o.only = c.only;
+  for (const std::string& l : c.leave_out) o.left_out.push_back(parse_leave_out(l));
+  o.origin_regression = c.origin_line;
+  o.cu_depth_trend = c.cu_depth_trend;
   o.validate();
   return o;
 }
@@ -69,6 +110,18 @@ InterpretOptions to_options(const InterpretCliOptions& c) {
 int run_interpret(const InterpretCliOptions& c) {
   const InterpretOptions options = to_options(c);
   const TestSeries series = read_test_series(c.series);
+  if (options.material.empty()) {
+    // Unlike soils are not pooled into one envelope: ask for one.
+    std::vector<std::string> materials;
+    for (const Specimen& sp : series.specimens)
+      if (std::find(materials.begin(), materials.end(), sp.material) == materials.end()) materials.push_back(sp.material);
+    if (materials.size() > 1) {
+      std::string list;
+      for (const std::string& m : materials) list += (list.empty() ? "'" : ", '") + m + "'";
+      throw InputError(c.series + ": the specimens belong to " + std::to_string(materials.size()) + " materials (" + list +
+                       "): choose one with --material");
+    }
+  }
   for (const SeriesWarning& w : series.warnings) std::fprintf(stderr, "triaxcal: warning: %s\n", w.message.c_str());
   const Interpretation result = interpret(series, options);
   std::printf("%s: %zu specimen(s), %zu shear stage(s)\n\n", c.series.c_str(), series.specimens.size(), result.stages.size());
@@ -76,6 +129,12 @@ int run_interpret(const InterpretCliOptions& c) {
   if (!c.out.empty()) {
     write_file_atomically(c.out, interpretation_json(result));
     std::printf("\nresults written to %s\n", c.out.c_str());
+  }
+  if (!c.report.empty()) {
+    report::InterpretationReportOptions ro;
+    ro.site = c.site;
+    write_file_atomically(c.report, report::render_interpretation_report(result, series, ro));
+    std::printf("%sreport written to %s\n", c.out.empty() ? "\n" : "", c.report.c_str());
   }
   std::printf("\n%s\n", kCaution);
   return exit_ok;
@@ -94,6 +153,14 @@ void add_interpret_command(CLI::App& app, Action& action) {
   cmd->add_option("--reference-pressure", o->reference_pressure, "p_ref of the stiffness law E = E_ref (s3'/p_ref)^m (kPa, default 100)");
   cmd->add_option("--material", o->material, "Interpret only the specimens of this material (the series' material labels)");
   cmd->add_option("--out", o->out, "JSON result file (written atomically; every number with its unit)");
+  cmd->add_option("--report", o->report, "Self-contained HTML report of the interpretation (written atomically)");
+  cmd->add_option("--site", o->site, "Site name for the report's running header (default: the series' name)");
+  cmd->add_option("--only", o->only, "Use only these specimens (ids; repeat the option or separate by commas)")->delimiter(',');
+  cmd->add_option("--leave-out", o->leave_out,
+                  "Leave out a specimen, or one shear stage of it, with the reason the outputs repeat: ID=REASON or "
+                  "ID@STAGE=REASON (stages 1, 2, 3); repeatable");
+  cmd->add_flag("--origin-line", o->origin_line, "Also fit the envelope through the origin (c' = 0) by least squares");
+  cmd->add_flag("--cu-depth-trend", o->cu_depth_trend, "Fit c_u = c_u0 + k z over the UU tests with a depth in metres");
   cmd->callback([&action, o] { action = [o] { return run_interpret(*o); }; });
 }
 

@@ -22,6 +22,13 @@ enum class FailureCriterion {
 
 TRIAXCAL_CORE_EXPORT std::string to_string(FailureCriterion c);
 
+/// A specimen, or one shear stage of it, that the user leaves out, with the reason the outputs repeat.
+struct LeftOut {
+  std::string specimen;
+  int shear_stage = 0;   ///< 1, 2, 3: the specimen's shear stages in order; 0 = the whole specimen
+  std::string reason;
+};
+
 struct InterpretOptions {
   FailureCriterion criterion = FailureCriterion::max_deviator;  ///< the one the design line uses
   double limiting_strain = 0.15;     ///< decimal, for limiting_strain
@@ -31,6 +38,10 @@ struct InterpretOptions {
   double reference_pressure = 100.0; ///< p_ref of E = E_ref (s3'/p_ref)^m (kPa)
   bool curved_envelope = true;       ///< also fit t = a_p p_ref (s'/p_ref)^b
   std::string material;              ///< only specimens of this material (empty: all)
+  std::vector<std::string> only;     ///< when not empty: only these specimens (the others are listed as left out)
+  std::vector<LeftOut> left_out;     ///< specimens or shear stages left out, each with its reason
+  bool origin_regression = false;    ///< also fit t = s' tan(alpha_0) through the origin (kOriginRegressionRule)
+  bool cu_depth_trend = false;       ///< fit c_u = c_u0 + k z on the UU tests with a depth
 
   /// Throws InputError naming the field, its value and the rule.
   void validate() const;
@@ -61,10 +72,28 @@ struct DilationWindow {
   double noise = kNotGiven;   ///< scatter of eps_v about a smooth curve estimated from the stage (-)
 };
 
+/// Where sigma'_nf of a test lies against the design stress (kDesignStressRule).
+enum class DesignStressFlag {
+  not_checked,   ///< no design stress given, or sigma'_nf not determined
+  within,        ///< sigma'_nf at or below the design stress
+  above,         ///< above the design stress, at or below twice it
+  above_twice,   ///< above twice the design stress
+};
+
+TRIAXCAL_CORE_EXPORT std::string to_string(DesignStressFlag flag);
+
+/// Rules stated in the outputs beside the numbers they produce (interpret.cpp).
+TRIAXCAL_CORE_EXPORT extern const char* const kDesignStressRule;
+TRIAXCAL_CORE_EXPORT extern const char* const kSecantAtDesignRule;
+TRIAXCAL_CORE_EXPORT extern const char* const kOriginRegressionRule;
+
 /// Results of one shear stage.
 struct StageInterpretation {
   std::string specimen;
   int stage = -1;               ///< index into Specimen::stages
+  int shear_stage = 1;          ///< 1, 2, 3: the specimen's shear stages in order (what people call stage 1, 2, 3)
+  std::string left_out;         ///< why the user left this stage out (empty: used)
+  double depth = kNotGiven;     ///< m: the first number of the specimen's depth text, when it reads as metres
   ShearType test = ShearType::cu;
   ShearDirection direction = ShearDirection::compression;
   int points = 0;
@@ -72,6 +101,10 @@ struct StageInterpretation {
   FailurePoint by_max_deviator;
   FailurePoint by_max_stress_ratio;
   FailurePoint by_criterion;    ///< the declared criterion
+  /// sigma'_nf = s' - t sin phi' (kPa): normal effective stress on the failure plane at the declared
+  /// criterion's failure point, phi' of the declared criterion's envelope (effective-stress stages).
+  double normal_stress_on_failure_plane = kNotGiven;
+  DesignStressFlag design_stress_flag = DesignStressFlag::not_checked;
   double undrained_strength = kNotGiven;    ///< c_u = (s1 - s3)_max / 2 (kPa), undrained stages
   double initial_stiffness = kNotGiven;     ///< E_i (kPa): slope of q-e_a up to 20 % of peak q
   double secant_stiffness_50 = kNotGiven;   ///< E_50 (kPa): secant to 50 % of peak q
@@ -115,7 +148,8 @@ TRIAXCAL_CORE_EXPORT double student_t95(int dof);
 
 struct UsedPoint {
   std::string specimen;
-  int stage = -1;
+  int stage = -1;        ///< index into Specimen::stages
+  int shear_stage = 1;   ///< 1, 2, 3 for people
   double s = kNotGiven, t = kNotGiven;
   bool used = false;
   std::string reason;  ///< why it was left out
@@ -149,6 +183,14 @@ struct StrengthEnvelope {
   double design_cohesion = kNotGiven; ///< kPa, 0 or more
   DesignLineForm design_form = DesignLineForm::not_determined;
   std::string design_reason;      ///< why there is no design line (empty when there is)
+  // At the design stress sigma'_d (kSecantAtDesignRule): tan phi'_sec = (c' + sigma'_d tan phi') / sigma'_d.
+  double secant_phi_at_design = kNotGiven;         ///< deg, from the best fit c', phi'
+  double design_secant_phi_at_design = kNotGiven;  ///< deg, from the design line
+  // Through the origin on request (kOriginRegressionRule): t = s' tan(alpha_0), sin phi'_0 = tan alpha_0.
+  double origin_phi = kNotGiven;      ///< deg
+  double origin_se_phi = kNotGiven;   ///< deg, first order
+  double origin_r2 = kNotGiven;       ///< 1 - SSE / sum (t - mean t)^2
+  std::string origin_reason;          ///< why not determined (empty when it is, or when not asked for)
   double power_a = kNotGiven;     ///< t = power_a p_ref (s'/p_ref)^power_b
   double power_b = kNotGiven;
   std::string power_reason;       ///< why the power law is not determined (empty when it is)
@@ -170,9 +212,14 @@ struct Interpretation {
   InterpretOptions options;
   std::vector<std::string> materials;  ///< materials of the specimens interpreted
   std::vector<StageInterpretation> stages;
+  /// What the user left out (InterpretOptions::only and left_out), in series order, reasons repeated.
+  std::vector<LeftOut> left_out;
   // UU
   int uu_count = 0;
   double cu_mean = kNotGiven, cu_min = kNotGiven, cu_max = kNotGiven;
+  /// c_u = c_u0 + k z (intercept kPa, slope kPa/m) over the UU tests with a depth, on request.
+  LineFit cu_depth;
+  std::string cu_depth_reason;  ///< why the trend is not determined (empty when it is, or when not asked for)
   // effective strength: the declared criterion first, then the other of max-deviator / max-ratio
   std::vector<StrengthEnvelope> envelopes;
   StiffnessLaw secant_law, unload_reload_law;
@@ -196,6 +243,10 @@ struct Interpretation {
     double constrained_modulus = kNotGiven;         ///< oedometer: d s_a' / d e_a on the first loading (kPa)
     double constrained_modulus_stress = kNotGiven;  ///< the s_a' it is taken at (kPa): InterpretOptions::reference_pressure
     std::string lambda_reason, kappa_reason, constrained_modulus_reason;  ///< why not determined (empty when it is)
+    /// The fitted lines for plotting: e = e_at_1 - slope ln(stress / 1 kPa) over [from, to] kPa of the stress used
+    /// (p' for consolidation, s_a' for the oedometer); NaN where the slope is not determined.
+    double lambda_e_at_1 = kNotGiven, lambda_from = kNotGiven, lambda_to = kNotGiven;
+    double kappa_e_at_1 = kNotGiven, kappa_from = kNotGiven, kappa_to = kNotGiven;
   };
   std::vector<Compressibility> compressibility;
   // pore pressure

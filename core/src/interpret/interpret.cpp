@@ -2,6 +2,8 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdlib>
+#include <limits>
 #include <numeric>
 
 #include "triaxcal/conventions.hpp"
@@ -18,6 +20,31 @@ const char* const kDesignLineRule =
     "best-fit slope, under the bound at both ends); where that line's or the regression's intercept is negative, c' = 0 "
     "and the secant from the origin to the bound at the largest s' used (no steeper than the best fit), which lies under "
     "any concave envelope through the origin above the bound there; 3 or more failure points";
+
+const char* const kDesignStressRule =
+    "common practice, no source: sigma'_nf = s' - t sin phi' is the normal effective stress on the failure plane at the "
+    "declared criterion's failure point (phi' of that criterion's envelope); a test is flagged 'above' when sigma'_nf "
+    "exceeds the design stress and 'above twice' when it exceeds twice it; the series is flagged when no test is at or "
+    "below the design stress (the envelope is then extrapolated to the design range)";
+
+const char* const kSecantAtDesignRule =
+    "common practice, no source: the secant friction angle with c' = 0 through the envelope at the design stress "
+    "sigma'_d, tan phi'_sec = (c' + sigma'_d tan phi') / sigma'_d; it equals the envelope's strength at sigma'_d and "
+    "over-predicts it below sigma'_d when c' > 0";
+
+const char* const kOriginRegressionRule =
+    "common practice, no source: least squares of t on s' with no intercept, tan alpha_0 = sum(s' t) / sum(s'^2), "
+    "sin phi'_0 = tan alpha_0, c' = 0; its standard error s_0 / sqrt(sum s'^2) with s_0^2 = SSE / (n - 1)";
+
+std::string to_string(DesignStressFlag flag) {
+  switch (flag) {
+    case DesignStressFlag::not_checked: return "not checked";
+    case DesignStressFlag::within: return "at or below";
+    case DesignStressFlag::above: return "above";
+    case DesignStressFlag::above_twice: return "above twice";
+  }
+  return "?";
+}
 
 std::string to_string(DesignLineForm form) {
   switch (form) {
@@ -47,6 +74,14 @@ void InterpretOptions::validate() const {
   if (!(stress_high > stress_low)) fail("stress_high", stress_high, "must be above stress_low (kPa)");
   if (!std::isnan(design_stress) && !(design_stress > 0.0)) fail("design_stress", design_stress, "must be positive (kPa)");
   if (!(reference_pressure > 0.0)) fail("reference_pressure", reference_pressure, "must be positive (kPa)");
+  for (const LeftOut& l : left_out) {
+    if (l.specimen.empty()) throw InputError("interpret options: left_out: a specimen id is empty");
+    if (l.shear_stage < 0)
+      throw InputError("interpret options: left_out '" + l.specimen + "': shear stage " + std::to_string(l.shear_stage) +
+                       " must be 1 or more (0: the whole specimen)");
+    if (l.reason.empty())
+      throw InputError("interpret options: left_out '" + l.specimen + "': give the reason (the outputs repeat it)");
+  }
 }
 
 double student_t95(int dof) {
@@ -471,9 +506,12 @@ StrengthEnvelope fit_envelope(const Interpretation& res, FailureCriterion crit, 
     UsedPoint u;
     u.specimen = r.specimen;
     u.stage = r.stage;
+    u.shear_stage = r.shear_stage;
     u.s = f.s;
     u.t = f.t;
-    if (f.index < 0 || !given(f.s)) {
+    if (!r.left_out.empty()) {
+      u.reason = "left out: " + r.left_out;
+    } else if (f.index < 0 || !given(f.s)) {
       u.reason = "no effective-stress failure point";
     } else if (f.s < o.stress_low || f.s > o.stress_high) {
       u.reason = "s' = " + fmt(f.s) + " kPa is outside the stress range [" + fmt(o.stress_low) + ", " + fmt(o.stress_high) + "] kPa";
@@ -515,6 +553,40 @@ StrengthEnvelope fit_envelope(const Interpretation& res, FailureCriterion crit, 
     env.se_cohesion = std::sqrt(std::max(0.0, var));
   }
   design_line(env);
+  if (given(o.design_stress)) {
+    // kSecantAtDesignRule: tau_f(sigma'_d) = c' + sigma'_d tan phi', tan phi'_sec = tau_f / sigma'_d.
+    auto secant = [&](double c, double phi_deg) {
+      const double tau = c + o.design_stress * std::tan(degrees_to_radians(phi_deg));
+      return tau > 0.0 ? radians_to_degrees(std::atan(tau / o.design_stress)) : kNotGiven;
+    };
+    env.secant_phi_at_design = secant(env.cohesion, env.phi);
+    if (given(env.design_phi)) env.design_secant_phi_at_design = secant(env.design_cohesion, env.design_phi);
+  }
+  if (o.origin_regression) {
+    // kOriginRegressionRule.
+    double sst = 0, sss = 0, mt = 0;
+    for (std::size_t i = 0; i < s.size(); ++i) {
+      sst += s[i] * t[i];
+      sss += s[i] * s[i];
+      mt += t[i];
+    }
+    mt /= static_cast<double>(t.size());
+    const double b0 = sss > 0.0 ? sst / sss : kNotGiven;
+    if (!(b0 > 0.0 && b0 < 1.0)) {
+      env.origin_reason = "the slope through the origin tan alpha_0 = " + fmt(b0) + " is outside (0, 1): no friction angle";
+    } else {
+      double sse = 0, syy = 0;
+      for (std::size_t i = 0; i < s.size(); ++i) {
+        sse += (t[i] - b0 * s[i]) * (t[i] - b0 * s[i]);
+        syy += (t[i] - mt) * (t[i] - mt);
+      }
+      const double phi0 = std::asin(b0);
+      env.origin_phi = radians_to_degrees(phi0);
+      env.origin_r2 = syy > 0.0 ? 1.0 - sse / syy : 1.0;
+      const double se_b = std::sqrt(sse / static_cast<double>(s.size() - 1) / sss);
+      env.origin_se_phi = radians_to_degrees(se_b / std::cos(phi0));
+    }
+  }
   if (env.cohesion < 0.0)
     warnings.push_back("envelope (" + to_string(crit) + "): negative cohesion intercept c' = " + fmt(env.cohesion) +
                        " kPa; the points do not support a cohesion (the design line is taken through the origin)");
@@ -578,7 +650,8 @@ StiffnessLaw fit_stiffness(const std::vector<double>& s3, const std::vector<doub
 /// lambda or kappa: minus the slope of e against the log of a stress (x holds the logs); NaN and the
 /// reason when the points cannot determine it (too few, too narrow a span, not positive).
 double compressibility_slope(const std::vector<double>& x, const std::vector<double>& y, std::size_t min_points,
-                             const std::string& branch, const std::string& stress, const std::string& name, std::string& reason) {
+                             const std::string& branch, const std::string& stress, const std::string& name, std::string& reason,
+                             double* e_at_1 = nullptr, double* from = nullptr, double* to = nullptr) {
   if (x.size() < min_points) {
     reason = std::to_string(x.size()) + " point(s) with a void ratio on the " + branch + ": " + name + " needs " +
              std::to_string(min_points) + " or more";
@@ -591,6 +664,9 @@ double compressibility_slope(const std::vector<double>& x, const std::vector<dou
     reason = name + " = " + fmt(-f.slope) + " is not positive (e must fall as " + stress + " rises)";
     return kNotGiven;
   }
+  if (e_at_1) *e_at_1 = f.intercept;
+  if (from) *from = std::exp(f.x_min);
+  if (to) *to = std::exp(f.x_max);
   return -f.slope;
 }
 
@@ -630,7 +706,8 @@ Interpretation::Compressibility interpret_oedometer(const Specimen& sp, int k, d
         y.push_back(e[at(i)]);
       }
     }
-    cm.lambda = compressibility_slope(x, y, 2, "first loading at s_a' >= s_a'max / 4", "s_a'", "lambda", cm.lambda_reason);
+    cm.lambda = compressibility_slope(x, y, 2, "first loading at s_a' >= s_a'max / 4", "s_a'", "lambda", cm.lambda_reason,
+                                      &cm.lambda_e_at_1, &cm.lambda_from, &cm.lambda_to);
   }
   if (top < last) {
     std::vector<double> x, y;
@@ -639,7 +716,8 @@ Interpretation::Compressibility interpret_oedometer(const Specimen& sp, int k, d
         x.push_back(std::log(sa[at(i)]));
         y.push_back(e[at(i)]);
       }
-    cm.kappa = compressibility_slope(x, y, 2, "first unloading", "s_a'", "kappa", cm.kappa_reason);
+    cm.kappa = compressibility_slope(x, y, 2, "first unloading", "s_a'", "kappa", cm.kappa_reason, &cm.kappa_e_at_1,
+                                     &cm.kappa_from, &cm.kappa_to);
   } else {
     cm.kappa_reason = "no unloading in the stage";
   }
@@ -657,6 +735,75 @@ Interpretation::Compressibility interpret_oedometer(const Specimen& sp, int k, d
   return cm;
 }
 
+/// Depth z (m) from the specimen's free-text depth: "5.2", "5.2 m" or a range "5.0-5.4 m" (its
+/// middle); NaN for anything else (another unit, words).
+double depth_in_metres(const std::string& text) {
+  const char* p = text.c_str();
+  char* end = nullptr;
+  const double a = std::strtod(p, &end);
+  if (end == p || !std::isfinite(a)) return kNotGiven;
+  double z = a;
+  std::string rest(end);
+  auto trim = [](std::string& r) {
+    const auto b = r.find_first_not_of(' ');
+    r = b == std::string::npos ? std::string() : r.substr(b);
+    while (!r.empty() && r.back() == ' ') r.pop_back();
+  };
+  trim(rest);
+  if (!rest.empty() && rest[0] == '-') {
+    const char* q = rest.c_str() + 1;
+    char* end2 = nullptr;
+    const double b = std::strtod(q, &end2);
+    if (end2 == q || !std::isfinite(b) || b < a) return kNotGiven;
+    z = 0.5 * (a + b);
+    rest = end2;
+    trim(rest);
+  }
+  return rest.empty() || rest == "m" ? z : kNotGiven;
+}
+
+/// The user's choice (only / left_out) checked against the series, as LeftOut entries per specimen
+/// (shear_stage 0: all of it). Throws InputError for an id or a stage the series does not have.
+std::vector<LeftOut> chosen_out(const TestSeries& series, const InterpretOptions& o) {
+  auto find = [&](const std::string& id) -> const Specimen* {
+    for (const Specimen& sp : series.specimens)
+      if (sp.id == id) return &sp;
+    return nullptr;
+  };
+  auto ids = [&] {
+    std::string list;
+    for (const Specimen& sp : series.specimens) list += (list.empty() ? "'" : ", '") + sp.id + "'";
+    return list;
+  };
+  for (const std::string& id : o.only)
+    if (!find(id)) throw InputError(series.source + ": only: no specimen '" + id + "' (found: " + ids() + ")");
+  std::vector<LeftOut> out;
+  for (const LeftOut& l : o.left_out) {
+    const Specimen* sp = find(l.specimen);
+    if (!sp) throw InputError(series.source + ": left out: no specimen '" + l.specimen + "' (found: " + ids() + ")");
+    const int n = static_cast<int>(sp->shear_stages().size());
+    if (l.shear_stage > n)
+      throw InputError(series.source + ": left out: specimen '" + l.specimen + "' has " + std::to_string(n) +
+                       " shear stage(s), not a stage " + std::to_string(l.shear_stage));
+    out.push_back(l);
+  }
+  if (!o.only.empty()) {
+    std::string list;
+    for (const std::string& id : o.only) list += (list.empty() ? "" : ", ") + id;
+    for (const Specimen& sp : series.specimens)
+      if (std::find(o.only.begin(), o.only.end(), sp.id) == o.only.end())
+        out.push_back({sp.id, 0, "not among the specimens chosen (" + list + ")"});
+  }
+  return out;
+}
+
+/// The reason a specimen's shear stage (1, 2, 3; 0: the specimen's other stages) is left out, or "".
+std::string left_out_reason(const std::vector<LeftOut>& out, const std::string& id, int shear_stage) {
+  for (const LeftOut& l : out)
+    if (l.specimen == id && (l.shear_stage == 0 || l.shear_stage == shear_stage)) return l.reason;
+  return {};
+}
+
 }  // namespace
 
 Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
@@ -664,16 +811,25 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
   Interpretation res;
   res.series = series.source;
   res.options = o;
+  const std::vector<LeftOut> out = chosen_out(series, o);
   for (const Specimen& sp : series.specimens) {
     if (!o.material.empty() && sp.material != o.material) continue;
+    for (const LeftOut& l : out)
+      if (l.specimen == sp.id) res.left_out.push_back(l);
     if (std::find(res.materials.begin(), res.materials.end(), sp.material) == res.materials.end())
       res.materials.push_back(sp.material);
-    if (given(sp.b_value)) res.b_values.push_back({sp.id, sp.b_value});
+    const bool all_out = !left_out_reason(out, sp.id, 0).empty();
+    if (given(sp.b_value) && !all_out) res.b_values.push_back({sp.id, sp.b_value});
+    int number = 0;
     for (int k : sp.shear_stages()) {
       StageInterpretation r;
       interpret_stage(sp, k, o, r, res.warnings);
+      r.shear_stage = ++number;
+      r.left_out = left_out_reason(out, sp.id, number);
+      r.depth = depth_in_metres(sp.depth);
       res.stages.push_back(r);
     }
+    if (all_out) continue;
     // Compressibility from consolidation stages with data: e against ln p'.
     for (std::size_t k = 0; k < sp.stages.size(); ++k) {
       if (sp.stages[k].type != SpecimenStageType::consolidation) continue;
@@ -699,14 +855,16 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
       cm.stage = static_cast<int>(k);
       cm.basis = "consolidation: e - ln p'";
       if (xl.size() + xu.size() < 2) continue;  // no e - ln p' data in this stage
-      cm.lambda = compressibility_slope(xl, yl, 3, "loading (p' at its largest so far)", "p'", "lambda", cm.lambda_reason);
+      cm.lambda = compressibility_slope(xl, yl, 3, "loading (p' at its largest so far)", "p'", "lambda", cm.lambda_reason,
+                                        &cm.lambda_e_at_1, &cm.lambda_from, &cm.lambda_to);
       if (xu.empty()) {
         cm.kappa_reason = "no unloading in the stage";
       } else {
         // The unloading branch starts at the largest p' reached.
         xu.insert(xu.begin(), std::log(pmax));
         yu.insert(yu.begin(), yl.back());
-        cm.kappa = compressibility_slope(xu, yu, 2, "unloading", "p'", "kappa", cm.kappa_reason);
+        cm.kappa = compressibility_slope(xu, yu, 2, "unloading", "p'", "kappa", cm.kappa_reason, &cm.kappa_e_at_1, &cm.kappa_from,
+                                         &cm.kappa_to);
       }
       {
         cm.compression_index = cm.lambda * std::log(10.0);
@@ -744,15 +902,31 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
                            " materials; envelopes and laws mix them (select one with the material option)");
   // UU.
   {
-    std::vector<double> cu;
+    std::vector<double> cu, z, cuz;
     for (const StageInterpretation& r : res.stages)
-      if (r.test == ShearType::uu && given(r.undrained_strength)) cu.push_back(r.undrained_strength);
+      if (r.test == ShearType::uu && r.left_out.empty() && given(r.undrained_strength)) {
+        cu.push_back(r.undrained_strength);
+        if (given(r.depth)) {
+          z.push_back(r.depth);
+          cuz.push_back(r.undrained_strength);
+        }
+      }
     res.uu_count = static_cast<int>(cu.size());
     if (!cu.empty()) {
       res.cu_mean = std::accumulate(cu.begin(), cu.end(), 0.0) / static_cast<double>(cu.size());
       res.cu_min = *std::min_element(cu.begin(), cu.end());
       res.cu_max = *std::max_element(cu.begin(), cu.end());
       res.notes.push_back("UU: c_u = (s1 - s3)_max / 2 per specimen, phi_u = 0 assumed (total stresses, common practice)");
+    }
+    if (o.cu_depth_trend) {
+      res.cu_depth = fit_line(z, cuz);
+      if (z.size() < 2)
+        res.cu_depth_reason = std::to_string(z.size()) + " UU test(s) with a depth in metres: the trend needs 2 or more";
+      else if (!given(res.cu_depth.slope))
+        res.cu_depth_reason = "the UU tests all have the same depth: no slope";
+      if (!res.cu_depth_reason.empty()) res.cu_depth.intercept = res.cu_depth.slope = kNotGiven;
+      res.notes.push_back("c_u against depth: c_u = c_u0 + k z by least squares over the UU tests whose depth reads as metres "
+                          "(a range a-b m taken at its middle; common practice, no source)");
     }
   }
   // Envelopes: the declared criterion, then the other of the two common ones.
@@ -776,35 +950,44 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
           "two standard errors of it (our rule, no source); sin psi = -d / (2 - d) in compression, -d / (2 + d) in extension (Mohr-Coulomb flow "
           "rule, elastic strains neglected); Rowe (1962) R = K_cv D with D = 1 - d on points past 50 % of peak q (compression)");
   }
-  if (given(o.design_stress)) {
+  // Normal effective stress on the failure plane and the design-stress flags (kDesignStressRule).
+  {
     const StrengthEnvelope& env = res.envelopes.front();
     if (given(env.phi)) {
-      // Normal effective stress on the failure plane: sigma'_nf = s' - t sin phi'.
       const double sphi = std::sin(degrees_to_radians(env.phi));
       double lowest = std::numeric_limits<double>::infinity();
-      for (const UsedPoint& u : env.points) {
-        if (!u.used) continue;
-        const double sn = u.s - u.t * sphi;
+      for (StageInterpretation& r : res.stages) {
+        const FailurePoint& f = r.by_criterion;
+        if (r.test == ShearType::uu || f.index < 0 || !given(f.s)) continue;
+        r.normal_stress_on_failure_plane = f.s - f.t * sphi;
+        if (!given(o.design_stress)) continue;
+        const double sn = r.normal_stress_on_failure_plane;
+        r.design_stress_flag = sn > 2.0 * o.design_stress ? DesignStressFlag::above_twice
+                               : sn > o.design_stress     ? DesignStressFlag::above
+                                                          : DesignStressFlag::within;
+        if (!r.left_out.empty()) continue;
         lowest = std::min(lowest, sn);
-        if (sn > 2.0 * o.design_stress)
-          res.warnings.push_back("specimen '" + u.specimen + "', stages[" + std::to_string(u.stage) +
-                                 "]: normal effective stress on the failure plane " + fmt(sn) + " kPa is above twice the design stress " +
+        if (r.design_stress_flag == DesignStressFlag::above_twice)
+          res.warnings.push_back("specimen '" + r.specimen + "', stage " + std::to_string(r.shear_stage) +
+                                 ": normal effective stress on the failure plane " + fmt(sn) + " kPa is above twice the design stress " +
                                  fmt(o.design_stress) + " kPa");
       }
-      if (lowest > o.design_stress)
-        res.warnings.push_back("no test reaches the design stress: the lowest normal effective stress on a failure plane is " +
-                               fmt(lowest) + " kPa, above " + fmt(o.design_stress) +
-                               " kPa; the envelope is extrapolated to the design range");
-      res.notes.push_back("design stress " + fmt(o.design_stress) +
-                          " kPa: tests are flagged when sigma'_nf = s' - t sin phi' exceeds twice it, and the series when no test "
-                          "is at or below it (common practice, no source)");
+      if (given(o.design_stress)) {
+        if (lowest > o.design_stress && std::isfinite(lowest))
+          res.warnings.push_back("no test reaches the design stress: the lowest normal effective stress on a failure plane is " +
+                                 fmt(lowest) + " kPa, above " + fmt(o.design_stress) +
+                                 " kPa; the envelope is extrapolated to the design range");
+        res.notes.push_back("design stress " + fmt(o.design_stress) + " kPa: " + kDesignStressRule);
+        res.notes.push_back(std::string("secant phi' at the design stress: ") + kSecantAtDesignRule);
+      }
     }
+    if (o.origin_regression) res.notes.push_back(std::string("regression through the origin: ") + kOriginRegressionRule);
   }
   // Stiffness laws: E = E_ref (s3'/p_ref)^m.
   {
     std::vector<double> s3, e50, s3ur, eur;
     for (const StageInterpretation& r : res.stages) {
-      if (r.test != ShearType::cd) continue;
+      if (r.test != ShearType::cd || !r.left_out.empty()) continue;
       if (given(r.secant_stiffness_50)) {
         s3.push_back(r.consolidation_radial);
         e50.push_back(r.secant_stiffness_50);
@@ -822,6 +1005,7 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
     double sqp = 0, spp = 0;
     std::vector<double> lp, ee, cv;
     for (const StageInterpretation& r : res.stages) {
+      if (!r.left_out.empty()) continue;
       if (given(r.phi_cv_rowe)) cv.push_back(r.phi_cv_rowe);
       if (!r.steady_state || r.direction != ShearDirection::compression) continue;
       ++res.cs_count;

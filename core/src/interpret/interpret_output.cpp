@@ -60,7 +60,7 @@ std::string cell(double v, int decimals = 1) {
 std::string interpretation_json(const Interpretation& r) {
   json root;
   root["format"] = "triaxcal-interpretation";
-  root["version"] = 1;
+  root["version"] = 2;
   root["series"] = r.series;
   root["criterion"] = to_string(r.options.criterion);
   root["materials"] = r.materials;
@@ -68,11 +68,20 @@ std::string interpretation_json(const Interpretation& r) {
   root["stress_range"] = {{"low", q(r.options.stress_low, "kPa")}, {"high", q(r.options.stress_high, "kPa")}};
   root["design_stress"] = q(r.options.design_stress, "kPa");
   root["reference_pressure"] = q(r.options.reference_pressure, "kPa");
+  json left = json::array();
+  for (const LeftOut& l : r.left_out)
+    left.push_back({{"specimen", l.specimen}, {"shear_stage", l.shear_stage == 0 ? json(nullptr) : json(l.shear_stage)}, {"reason", l.reason}});
+  root["left_out"] = left;
+  root["strain_basis"] = "axial_strain at failure: engineering axial strain from the start of the stage (stage strain)";
   json stages = json::array();
   for (const StageInterpretation& s : r.stages) {
     json j;
     j["specimen"] = s.specimen;
     j["stage"] = s.stage;
+    j["shear_stage"] = s.shear_stage;
+    j["used"] = s.left_out.empty();
+    if (!s.left_out.empty()) j["left_out"] = s.left_out;
+    j["depth"] = q(s.depth, "m");
     j["test"] = to_string(s.test);
     j["direction"] = s.direction == ShearDirection::compression ? "compression" : "extension";
     j["points"] = s.points;
@@ -80,6 +89,8 @@ std::string interpretation_json(const Interpretation& r) {
     j["failure"] = {{"max-deviator", point_json(s.by_max_deviator)},
                     {"max-stress-ratio", point_json(s.by_max_stress_ratio)},
                     {"criterion", point_json(s.by_criterion)}};
+    j["normal_stress_on_failure_plane"] = q(s.normal_stress_on_failure_plane, "kPa");
+    j["design_stress_flag"] = to_string(s.design_stress_flag);
     j["undrained_strength"] = q(s.undrained_strength, "kPa");
     j["initial_stiffness"] = q(s.initial_stiffness, "kPa", s.initial_stiffness_reason);
     j["secant_stiffness_50"] = q(s.secant_stiffness_50, "kPa", s.secant_stiffness_reason);
@@ -121,6 +132,12 @@ std::string interpretation_json(const Interpretation& r) {
                        {"cu_max", q(r.cu_max, "kPa")},
                        {"phi_u", q(r.uu_count > 0 ? 0.0 : std::nan(""), "deg")},
                        {"assumption", "phi_u = 0 (total stresses)"}};
+  if (r.options.cu_depth_trend)
+    root["undrained"]["depth_trend"] = {{"cu0", q(r.cu_depth.intercept, "kPa", r.cu_depth_reason)},
+                                        {"k", q(r.cu_depth.slope, "kPa/m", r.cu_depth_reason)},
+                                        {"r2", q(r.cu_depth.r2, "-", r.cu_depth_reason)},
+                                        {"n", r.cu_depth.n},
+                                        {"form", "c_u = cu0 + k z, z depth in m"}};
   json envs = json::array();
   for (const StrengthEnvelope& e : r.envelopes) {
     json j;
@@ -138,12 +155,19 @@ std::string interpretation_json(const Interpretation& r) {
     j["design_line"] = {{"phi", q(e.design_phi, "deg", design_reason)},
                         {"cohesion", q(e.design_cohesion, "kPa", design_reason)},
                         {"form", to_string(e.design_form)},
-                        {"rule", kDesignLineRule}};
+                        {"rule", kDesignLineRule},
+                        {"secant_phi_at_design_stress", q(e.design_secant_phi_at_design, "deg")}};
+    j["secant_phi_at_design_stress"] = {{"phi", q(e.secant_phi_at_design, "deg")}, {"rule", kSecantAtDesignRule}};
+    if (r.options.origin_regression)
+      j["origin_regression"] = {{"phi", q(e.origin_phi, "deg", e.note.empty() ? e.origin_reason : e.note)},
+                                {"se_phi", q(e.origin_se_phi, "deg")},
+                                {"r2", q(e.origin_r2, "-")},
+                                {"rule", kOriginRegressionRule}};
     const std::string power_reason = e.note.empty() ? e.power_reason : e.note;
     j["power_law"] = {{"a", q(e.power_a, "-", power_reason)}, {"b", q(e.power_b, "-", power_reason)}, {"form", "t = a p_ref (s'/p_ref)^b"}};
     json pts = json::array();
     for (const UsedPoint& u : e.points)
-      pts.push_back({{"specimen", u.specimen}, {"stage", u.stage}, {"s", q(u.s, "kPa")}, {"t", q(u.t, "kPa")}, {"used", u.used},
+      pts.push_back({{"specimen", u.specimen}, {"stage", u.stage}, {"shear_stage", u.shear_stage}, {"s", q(u.s, "kPa")}, {"t", q(u.t, "kPa")}, {"used", u.used},
                      {"excluded_because", u.reason}});
     j["tests"] = pts;
     if (!e.note.empty()) j["note"] = e.note;
@@ -184,12 +208,12 @@ std::string interpretation_text(const Interpretation& r) {
   if (!r.options.material.empty()) o << "Material: " << r.options.material << "\n";
   o << "Failure points (criterion " << to_string(r.options.criterion) << "; both common criteria side by side)\n";
   std::snprintf(line, sizeof line, "  %-10s %5s %-4s %-4s %9s | %9s %9s %9s | %9s %9s %9s | %8s %9s %9s\n", "specimen", "stage", "test",
-                "dir", "s3'c[kPa]", "eps_a[-]", "s'[kPa]", "t[kPa]", "eps_a[-]", "s'[kPa]", "t[kPa]", "cu[kPa]", "E50[kPa]", "A_f[-]");
+                "dir", "s3'c[kPa]", "ea,st[-]", "s'[kPa]", "t[kPa]", "ea,st[-]", "s'[kPa]", "t[kPa]", "cu[kPa]", "E50[kPa]", "A_f[-]");
   o << line;
   std::snprintf(line, sizeof line, "  %-10s %5s %-4s %-4s %9s | %29s | %29s |\n", "", "", "", "", "", "max-deviator", "max-stress-ratio");
   o << line;
   for (const StageInterpretation& s : r.stages) {
-    std::snprintf(line, sizeof line, "  %-10s %5d %-4s %-4s %9s | %9s %9s %9s | %9s %9s %9s | %8s %9s %9s\n", s.specimen.c_str(), s.stage,
+    std::snprintf(line, sizeof line, "  %-10s %5d %-4s %-4s %9s | %9s %9s %9s | %9s %9s %9s | %8s %9s %9s\n", s.specimen.c_str(), s.shear_stage,
                   to_string(s.test).c_str(), s.direction == ShearDirection::compression ? "comp" : "ext",
                   cell(s.consolidation_radial).c_str(), cell(s.by_max_deviator.axial_strain, 4).c_str(),
                   cell(s.by_max_deviator.s).c_str(), cell(s.by_max_deviator.t).c_str(),
@@ -197,11 +221,48 @@ std::string interpretation_text(const Interpretation& r) {
                   cell(s.by_max_stress_ratio.t).c_str(), cell(s.undrained_strength).c_str(), cell(s.secant_stiffness_50, 0).c_str(),
                   cell(s.skempton_a, 2).c_str());
     o << line;
+    if (!s.left_out.empty()) o << "      left out: " << s.left_out << "\n";
+  }
+  o << "  (stage: the specimen's shear stages 1, 2, 3; ea,st: engineering axial strain from the start of the stage, "
+       "the stage strain)\n";
+  if (!r.left_out.empty()) {
+    o << "\nLeft out by choice:\n";
+    for (const LeftOut& l : r.left_out)
+      o << "  " << l.specimen << (l.shear_stage > 0 ? " stage " + std::to_string(l.shear_stage) : std::string(" (all stages)")) << ": "
+        << l.reason << "\n";
+  }
+  {
+    bool any = false;
+    for (const StageInterpretation& s : r.stages) any = any || given(s.normal_stress_on_failure_plane);
+    if (any) {
+      o << "\nNormal effective stress on the failure plane sigma'_nf = s' - t sin phi' (criterion " << to_string(r.options.criterion)
+        << ", phi' " << cell(r.envelopes.front().phi, 2) << " deg)";
+      if (given(r.options.design_stress)) o << "; design stress " << cell(r.options.design_stress) << " kPa";
+      o << "\n";
+      for (const StageInterpretation& s : r.stages) {
+        if (!given(s.normal_stress_on_failure_plane)) continue;
+        std::snprintf(line, sizeof line, "  %-10s %5d  sigma'_nf %9s kPa", s.specimen.c_str(), s.shear_stage,
+                      cell(s.normal_stress_on_failure_plane).c_str());
+        o << line;
+        if (s.design_stress_flag == DesignStressFlag::above) o << "  ABOVE the design stress";
+        else if (s.design_stress_flag == DesignStressFlag::above_twice) o << "  ABOVE TWICE the design stress";
+        else if (s.design_stress_flag == DesignStressFlag::within) o << "  at or below the design stress";
+        o << (s.left_out.empty() ? "" : "  (left out)") << "\n";
+      }
+      if (given(r.options.design_stress)) o << "  (rule: " << kDesignStressRule << ")\n";
+    }
   }
   if (r.uu_count > 0) {
     std::snprintf(line, sizeof line, "\nUndrained strength (UU, phi_u = 0 assumed): c_u mean %s kPa, range %s to %s kPa, %d specimens\n",
                   cell(r.cu_mean).c_str(), cell(r.cu_min).c_str(), cell(r.cu_max).c_str(), r.uu_count);
     o << line;
+  }
+  if (r.options.cu_depth_trend) {
+    if (r.cu_depth_reason.empty())
+      o << "  c_u = c_u0 + k z: c_u0 " << cell(r.cu_depth.intercept) << " kPa, k " << cell(r.cu_depth.slope, 2) << " kPa/m (n = "
+        << r.cu_depth.n << ", R2 " << cell(r.cu_depth.r2, 3) << ")\n";
+    else
+      o << "  c_u = c_u0 + k z not determined: " << r.cu_depth_reason << "\n";
   }
   o << "\nEffective strength (s'-t least squares; p'-q route on compression tests)\n";
   std::snprintf(line, sizeof line, "  %-17s %3s %9s %9s %8s %8s %6s | %9s %9s | %9s %9s | %7s %6s\n", "criterion", "n", "phi'[deg]",
@@ -215,10 +276,20 @@ std::string interpretation_text(const Interpretation& r) {
                   cell(e.design_cohesion, 2).c_str(), cell(e.power_a, 3).c_str(), cell(e.power_b, 3).c_str());
     o << line;
     for (const UsedPoint& u : e.points)
-      if (!u.used) o << "      excluded: " << u.specimen << " stages[" << u.stage << "]: " << u.reason << "\n";
+      if (!u.used) o << "      excluded: " << u.specimen << " stage " << u.shear_stage << ": " << u.reason << "\n";
     if (!e.note.empty()) {
       o << "      phi' and c' not determined: " << e.note << "\n";
       continue;
+    }
+    if (given(r.options.design_stress))
+      o << "      secant phi' with c' = 0 at the design stress " << cell(r.options.design_stress) << " kPa: " << cell(e.secant_phi_at_design, 2)
+        << " deg (best fit), " << cell(e.design_secant_phi_at_design, 2) << " deg (design line)\n";
+    if (r.options.origin_regression) {
+      if (e.origin_reason.empty())
+        o << "      through the origin (c' = 0): phi'_0 " << cell(e.origin_phi, 2) << " deg (se " << cell(e.origin_se_phi, 2) << ", R2 "
+          << cell(e.origin_r2, 4) << ")\n";
+      else
+        o << "      through the origin: not determined: " << e.origin_reason << "\n";
     }
     if (e.design_form == DesignLineForm::origin_secant)
       o << "      design line: c' = 0, secant from the origin (a negative intercept of the regression or of the line under its bound)\n";
@@ -232,7 +303,7 @@ std::string interpretation_text(const Interpretation& r) {
   for (const StageInterpretation& s : r.stages) {
     std::string ur;
     for (double e : s.unload_reload_stiffness) ur += (ur.empty() ? "" : ", ") + cell(e, 0);
-    std::snprintf(line, sizeof line, "  %-10s %5d %-4s E_i %9s kPa  E_50 %9s kPa  E_ur %s kPa\n", s.specimen.c_str(), s.stage,
+    std::snprintf(line, sizeof line, "  %-10s %5d %-4s E_i %9s kPa  E_50 %9s kPa  E_ur %s kPa\n", s.specimen.c_str(), s.shear_stage,
                   to_string(s.test).c_str(), cell(s.initial_stiffness, 0).c_str(), cell(s.secant_stiffness_50, 0).c_str(),
                   ur.empty() ? "-" : ur.c_str());
     o << line;
@@ -257,7 +328,7 @@ std::string interpretation_text(const Interpretation& r) {
     std::snprintf(line, sizeof line,
                   "  %-10s %5d  d %7s (se %s; local windows %s wide; peak stretch %s to %s axial strain, %d points)  psi %6s deg  phi_cv %6s deg  "
                   "I_R %5s  3 I_R %5s deg  measured %5s deg\n",
-                  s.specimen.c_str(), s.stage, cell(s.max_dilation_rate, 3).c_str(), cell(s.max_dilation_rate_se, 3).c_str(),
+                  s.specimen.c_str(), s.shear_stage, cell(s.max_dilation_rate, 3).c_str(), cell(s.max_dilation_rate_se, 3).c_str(),
                   cell(w.width, 4).c_str(), cell(w.from, 4).c_str(), cell(w.to, 4).c_str(), w.points,
                   cell(s.dilation_angle, 2).c_str(), cell(s.phi_cv_rowe, 2).c_str(),
                   cell(s.bolton_index, 2).c_str(), cell(s.bolton_phi_difference, 1).c_str(), cell(s.measured_phi_difference, 1).c_str());

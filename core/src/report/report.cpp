@@ -729,3 +729,11 @@ std::vector<std::string> expected_table_ids(const ReportData& data) {
 std::string render_report(const ReportData& data) { return Renderer(data).run(); }
 
 }  // namespace triaxcal::report
+
+namespace triaxcal::report::detail {
+
+// Shared with the interpretation report (report_shared.hpp): one look for both reports.
+const char* report_style() { return kStyle; }
+const char* report_check_script() { return kCheckScript; }
+
+}  // namespace triaxcal::report::detail

@@ -1,0 +1,272 @@
+// The interpretation report (triaxcal interpret --report): rendered in headless Chromium with every
+// plot and table and no console message; the s'-t and Mohr plots read back within a pixel through
+// their own tick labels; the declared criterion (a non-default one too) is the one the page uses.
+// Data: the invented Kestrel Bay demo series (examples/kestrel_bay, never a reference).
+#include <catch2/catch.hpp>
+
+#include <algorithm>
+#include <cmath>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+
+#include "chromium.hpp"
+#include "svg_reader.hpp"
+#include "triaxcal/interpret.hpp"
+#include "triaxcal/interpretation_report.hpp"
+#include "triaxcal/series.hpp"
+
+using namespace triaxcal;
+using namespace triaxcal::test;
+namespace fs = std::filesystem;
+
+namespace {
+
+const TestSeries& demo() {
+  static const TestSeries series = read_test_series(source_path("examples/kestrel_bay/kestrel_bay_series.json"));
+  return series;
+}
+
+Interpretation clay(FailureCriterion criterion = FailureCriterion::max_deviator) {
+  InterpretOptions o;
+  o.material = "clay C";
+  o.criterion = criterion;
+  o.design_stress = 100.0;
+  o.origin_regression = true;
+  o.cu_depth_trend = true;
+  o.left_out.push_back({"C-MS-1", 3, "membrane leak (invented)"});
+  return interpret(demo(), o);
+}
+
+Interpretation sand() {
+  InterpretOptions o;
+  o.material = "sand S";
+  o.design_stress = 150.0;
+  return interpret(demo(), o);
+}
+
+// Least-squares map value = a + b * pixel through one axis' tick marks and labels, read from the SVG
+// (as tests/report/svg_plot_test.cpp reads them).
+struct AxisMap {
+  double a = 0, b = 0;
+};
+
+AxisMap read_axis(const Element& svg, const std::string& which) {
+  std::vector<double> px, val;
+  for (const Element* g : svg.by_class("tick-" + which)) {
+    const auto lines = g->by_name("line");
+    const auto texts = g->by_name("text");
+    REQUIRE(lines.size() == 1);
+    REQUIRE(texts.size() == 1);
+    px.push_back(std::stod(lines[0]->get(which == "x" ? "x1" : "y1")));
+    val.push_back(std::stod(texts[0]->text));
+  }
+  REQUIRE(px.size() >= 2);
+  double mx = 0, my = 0;
+  for (std::size_t i = 0; i < px.size(); ++i) {
+    mx += px[i];
+    my += val[i];
+  }
+  mx /= static_cast<double>(px.size());
+  my /= static_cast<double>(px.size());
+  double sxy = 0, sxx = 0;
+  for (std::size_t i = 0; i < px.size(); ++i) {
+    sxy += (px[i] - mx) * (val[i] - my);
+    sxx += (px[i] - mx) * (px[i] - mx);
+  }
+  AxisMap m;
+  m.b = sxy / sxx;
+  m.a = my - m.b * mx;
+  return m;
+}
+
+double pixel_error(const AxisMap& m, double data, double pixel) { return std::abs((data - m.a) / m.b - pixel); }
+
+const Element* series_of_class(const Element& svg, const std::string& cls) {
+  for (const Element* g : svg.by_class("series"))
+    if (g->has_class(cls)) return g;
+  return nullptr;
+}
+
+std::vector<std::pair<double, double>> polyline(const Element& g) {
+  std::vector<std::pair<double, double>> pts;
+  const auto lines = g.by_name("polyline");
+  if (lines.empty()) return pts;
+  std::istringstream in(lines[0]->get("points"));
+  std::string pair;
+  while (in >> pair) {
+    const auto comma = pair.find(',');
+    pts.emplace_back(std::stod(pair.substr(0, comma)), std::stod(pair.substr(comma + 1)));
+  }
+  return pts;
+}
+
+std::string write(const std::string& tag, const Interpretation& in) {
+  const std::string html = "interpretation_" + tag + ".html";
+  std::ofstream(html) << report::render_interpretation_report(in, demo());
+  return html;
+}
+
+void check_in_browser(const Interpretation& in, const std::string& tag) {
+  const std::string browser = find_chromium();
+  INFO(kChromiumMissing);
+  REQUIRE_FALSE(browser.empty());
+  const std::string html = write(tag, in);
+  const BrowserRun run = run_chromium(browser, html, "interp_" + tag, "report_interpretation_" + tag + ".png", 6000);
+  INFO("chromium log:\n" << run.log);
+  REQUIRE(run.exit_code == 0);
+  const auto dom = parse_xml(run.dom);
+  INFO("console:\n" << console_lines(run.log));
+  CHECK(console_lines(run.log).empty());
+  const Element* check = dom->by_id("render-check");
+  REQUIRE(check != nullptr);
+  CHECK(check->get("data-status") == "ok");
+  const auto plots = report::interpretation_plot_ids(in, demo());
+  const auto tables = report::interpretation_table_ids(in, demo());
+  CHECK(check->get("data-plots") == std::to_string(plots.size()));
+  CHECK(check->get("data-tables") == std::to_string(tables.size()));
+  for (const std::string& id : plots) {
+    INFO("plot " << id);
+    const Element* svg = dom->by_id(id);
+    REQUIRE(svg != nullptr);
+    CHECK(svg->name == "svg");
+    CHECK(svg->by_class("tick-x").size() >= 2);
+    CHECK(svg->by_class("tick-y").size() >= 2);
+  }
+  for (const std::string& id : tables) {
+    INFO("table " << id);
+    const Element* t = dom->by_id(id);
+    REQUIRE(t != nullptr);
+    CHECK(t->name == "table");
+    CHECK_FALSE(t->by_name("tr").empty());
+  }
+  CHECK(dom->by_id("caution")->text.find("reviewed by a qualified geotechnical engineer") != std::string::npos);
+  const fs::path png = "report_interpretation_" + tag + ".png";
+  REQUIRE(fs::exists(png));
+  CHECK(fs::file_size(png) > 20000);
+}
+
+}  // namespace
+
+TEST_CASE("the interpretation report renders in headless Chromium with every plot and table and no console message",
+          "[report][interpret][browser]") {
+  const Interpretation c = clay();
+  const auto plots = report::interpretation_plot_ids(c, demo());
+  // The clay has UU tests with depths, CU tests, an oedometer and steady end states.
+  for (const char* id : {"plot-uu-mohr", "plot-cu-depth", "plot-s-t", "plot-mohr", "plot-oedometer", "plot-critical-state"})
+    CHECK(std::find(plots.begin(), plots.end(), id) != plots.end());
+  check_in_browser(c, "clay");
+  const Interpretation s = sand();
+  const auto sand_plots = report::interpretation_plot_ids(s, demo());
+  for (const char* id : {"plot-s-t", "plot-mohr", "plot-stiffness", "plot-dilatancy"})
+    CHECK(std::find(sand_plots.begin(), sand_plots.end(), id) != sand_plots.end());
+  check_in_browser(s, "sand");
+}
+
+TEST_CASE("the interpretation report's page layout: running header with page x of y, headings kept with what follows, sign-off",
+          "[report][interpret]") {
+  const std::string html = report::render_interpretation_report(clay(), demo());
+  CHECK(html.find("@top-left { content: \"Interpretation of triaxial and oedometer tests\"") != std::string::npos);
+  CHECK(html.find("@top-right { content: \"Kestrel Bay terrace (INVENTED demo site)\"") != std::string::npos);
+  CHECK(html.find("content: \"page \" counter(page) \" of \" counter(pages)") != std::string::npos);
+  CHECK(html.find("h2, h3, figcaption { break-after: avoid;") != std::string::npos);
+  const auto dom = parse_xml(html);
+  const Element* signoff = dom->by_id("table-signoff");
+  REQUIRE(signoff != nullptr);
+  std::vector<std::string> roles;
+  for (const Element* th : signoff->by_name("th")) roles.push_back(th->text);
+  for (const char* role : {"prepared", "checked", "approved"}) CHECK(std::find(roles.begin(), roles.end(), role) != roles.end());
+  for (const Element* td : signoff->by_name("td")) CHECK(td->text.empty());  // blank fields
+  // Left out, with the reason, in the tests table and the list of tests left out.
+  CHECK(dom->by_id("table-left-out")->by_name("td").size() >= 4);
+  CHECK(html.find("no: membrane leak (invented)") != std::string::npos);
+}
+
+TEST_CASE("the s'-t plot reads back within a pixel: failure points by both criteria, the lines over the s' range used",
+          "[report][interpret][readback]") {
+  const Interpretation in = clay();
+  const auto dom = parse_xml(report::render_interpretation_report(in, demo()));
+  const Element* svg = dom->by_id("plot-s-t");
+  REQUIRE(svg != nullptr);
+  const AxisMap mx = read_axis(*svg, "x"), my = read_axis(*svg, "y");
+  // Markers of the maximum-deviator points in stage order, then the maximum-stress-ratio ones.
+  for (const char* cls : {"failure-max-deviator", "failure-max-stress-ratio"}) {
+    INFO(cls);
+    const Element* g = series_of_class(*svg, cls);
+    REQUIRE(g != nullptr);
+    const auto uses = g->by_name("use");
+    std::vector<const FailurePoint*> expected;
+    for (const StageInterpretation& s : in.stages)
+      if (s.test != ShearType::uu)
+        expected.push_back(std::string(cls) == "failure-max-deviator" ? &s.by_max_deviator : &s.by_max_stress_ratio);
+    REQUIRE(uses.size() == expected.size());
+    for (std::size_t i = 0; i < uses.size(); ++i) {
+      CHECK(pixel_error(mx, expected[i]->s, std::stod(uses[i]->get("x"))) < 1.0);
+      CHECK(pixel_error(my, expected[i]->t, std::stod(uses[i]->get("y"))) < 1.0);
+    }
+  }
+  // The regression line from the smallest to the largest s' used, at t = a + b s'.
+  const StrengthEnvelope& e = in.envelopes.front();
+  const Element* reg = series_of_class(*svg, "regression");
+  REQUIRE(reg != nullptr);
+  const auto pts = polyline(*reg);
+  REQUIRE(pts.size() == 2);
+  CHECK(pixel_error(mx, e.st.x_min, pts[0].first) < 1.0);
+  CHECK(pixel_error(mx, e.st.x_max, pts[1].first) < 1.0);
+  CHECK(pixel_error(my, e.st.intercept + e.st.slope * e.st.x_min, pts[0].second) < 1.0);
+  CHECK(pixel_error(my, e.st.intercept + e.st.slope * e.st.x_max, pts[1].second) < 1.0);
+  // The design stress: the locus s' - t sin phi' = 100 kPa starts at (100, 0).
+  const Element* ds = series_of_class(*svg, "design-stress");
+  REQUIRE(ds != nullptr);
+  const auto dpts = polyline(*ds);
+  REQUIRE(dpts.size() == 2);
+  CHECK(pixel_error(mx, 100.0, dpts[0].first) < 1.0);
+  CHECK(pixel_error(my, 0.0, dpts[0].second) < 1.0);
+  // ... and every point on it has sigma'_nf = 100: the far end read back.
+  const double s_end = mx.a + mx.b * dpts[1].first, t_end = my.a + my.b * dpts[1].second;
+  CHECK(std::abs(s_end - t_end * std::sin(degrees_to_radians(e.phi)) - 100.0) < std::abs(mx.b) + std::abs(my.b));
+}
+
+TEST_CASE("the effective Mohr circles read back within a pixel, each labelled, and honour a non-default criterion",
+          "[report][interpret][readback]") {
+  for (FailureCriterion criterion : {FailureCriterion::max_deviator, FailureCriterion::max_stress_ratio}) {
+    const Interpretation in = clay(criterion);
+    INFO("criterion " << to_string(criterion));
+    REQUIRE(in.envelopes.front().criterion == criterion);
+    const auto dom = parse_xml(report::render_interpretation_report(in, demo()));
+    const Element* svg = dom->by_id("plot-mohr");
+    REQUIRE(svg != nullptr);
+    const AxisMap mx = read_axis(*svg, "x"), my = read_axis(*svg, "y");
+    const auto arcs = svg->by_class("mohr-circle");
+    std::vector<const FailurePoint*> expected;
+    std::vector<std::string> names;
+    for (const StageInterpretation& s : in.stages)
+      if (s.test != ShearType::uu) {
+        expected.push_back(criterion == FailureCriterion::max_deviator ? &s.by_max_deviator : &s.by_max_stress_ratio);
+        names.push_back(s.specimen);
+      }
+    REQUIRE(arcs.size() == expected.size());
+    for (std::size_t i = 0; i < arcs.size(); ++i) {
+      std::istringstream d(arcs[i]->get("d"));
+      std::string M, A;
+      double x0, y0, rx, ry, rot, large, sweep, x1, y1;
+      d >> M >> x0 >> y0 >> A >> rx >> ry >> rot >> large >> sweep >> x1 >> y1;
+      const double c = expected[i]->s, r = expected[i]->t;
+      CHECK(pixel_error(mx, c - r, x0) < 1.0);
+      CHECK(pixel_error(mx, c + r, x1) < 1.0);
+      CHECK(pixel_error(my, 0.0, y0) < 1.0);
+      CHECK(arcs[i]->get("data-name").rfind(names[i], 0) == 0);  // labelled by its test
+    }
+    // The page names the declared criterion where the envelope is reported.
+    const Element* table = dom->by_id("table-strength");
+    REQUIRE(table != nullptr);
+    const auto rows = table->by_name("tr");
+    REQUIRE(rows.size() >= 2);
+    CHECK(rows[1]->get("data-criterion") == to_string(criterion));
+    const Element* st = dom->by_id("plot-s-t");
+    const Element* declared = series_of_class(
+        *st, criterion == FailureCriterion::max_deviator ? "failure-max-deviator" : "failure-max-stress-ratio");
+    REQUIRE(declared != nullptr);
+    CHECK(declared->get("data-name").find("(declared)") != std::string::npos);
+  }
+}
