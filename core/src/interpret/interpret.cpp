@@ -400,6 +400,19 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
     if (bottom >= 0 && v.ea(top) > v.ea(bottom)) r.unload_reload_stiffness.push_back((v.qd(top) - v.qd(bottom)) / (v.ea(top) - v.ea(bottom)));
   }
   if (st.shear == ShearType::cd && effective) interpret_dilatancy(sp, st, v, q0, qpk, r);
+  if (st.shear == ShearType::cd && effective && given(sp.relative_density) && r.by_max_stress_ratio.index >= 0 &&
+      r.by_max_stress_ratio.p > 0.0) {
+    // Bolton (1986), "The strength and dilatancy of sands", Geotechnique 36(1): I_R = I_D (Q - ln p')
+    // - R with Q = 10, R = 1 (p' in kPa), 0 <= I_R <= 4; triaxial phi_max - phi_crit = 3 I_R (deg).
+    const double ir = std::clamp(sp.relative_density * (10.0 - std::log(r.by_max_stress_ratio.p)) - 1.0, 0.0, 4.0);
+    r.bolton_index = ir;
+    r.bolton_phi_difference = 3.0 * ir;
+  }
+  if (given(r.phi_cv_rowe) && r.by_max_stress_ratio.index >= 0 && r.by_max_stress_ratio.s3 > 0.0) {
+    // phi'_max from the peak stress ratio R: sin phi' = (R - 1)/(R + 1) (Mohr-Coulomb, cohesionless).
+    const double rr = r.by_max_stress_ratio.s1 / r.by_max_stress_ratio.s3;
+    r.measured_phi_difference = radians_to_degrees(std::asin((rr - 1.0) / (rr + 1.0))) - r.phi_cv_rowe;
+  }
   // End state and steady state.
   r.end_p = c.mean_stress[static_cast<std::size_t>(last)];
   r.end_q = c.deviator_stress[static_cast<std::size_t>(last)];

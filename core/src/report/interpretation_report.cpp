@@ -265,10 +265,10 @@ class InterpretationRenderer {
       p.title = "UU: total-stress Mohr circles at q_max (φu = 0)";
       p.x = {"total normal stress σ", "kPa"};
       p.y = {"shear stress τ", "kPa"};
-      p.x.min = p.y.min = 0.0;
+      p.y.min = 0.0;
       p.equal_scale = true;
       p.height = 360.0;
-      double right = 0.0;
+      double right = 0.0, left = INFINITY;
       int style = 0, missing = 0;
       for (const StageInterpretation& s : in_.stages) {
         if (!is_uu(s) || !given(s.undrained_strength)) continue;
@@ -285,9 +285,10 @@ class InterpretationRenderer {
         c.dash = s.left_out.empty() ? svg::Dash::solid : svg::Dash::dotted;
         p.circles.push_back(c);
         right = std::max(right, c.centre + c.radius);
+        left = std::min(left, c.centre - c.radius);
       }
       if (given(in_.cu_mean) && right > 0.0)
-        p.series.push_back(line("τ = c_u mean = " + num(in_.cu_mean, 1) + " kPa (φu = 0)", {0.0, right * 1.05}, {in_.cu_mean, in_.cu_mean},
+        p.series.push_back(line("τ = c_u mean = " + num(in_.cu_mean, 1) + " kPa (φu = 0)", {left, right}, {in_.cu_mean, in_.cu_mean},
                                 8, svg::Dash::dashed));
       p.note = "no UU test with a cell pressure";
       o_ << figure(p, "Total-stress Mohr circles of the UU tests at the largest deviator stress (centre σ3 + c_u, radius c_u), "
@@ -419,7 +420,7 @@ class InterpretationRenderer {
     p.y = {"t = (σ'1 - σ'3)/2", "kPa"};
     p.x.include_zero = p.y.include_zero = true;
     p.height = 460.0;
-    double smax = 0.0, tmax = 0.0;
+    double smax = 0.0, tmax = 0.0, tmin = 0.0;
     int style = 0;
     for (const StageInterpretation& s : in_.stages) {
       if (!effective(s)) continue;
@@ -442,9 +443,14 @@ class InterpretationRenderer {
       }
       for (std::size_t i = 0; i < xs.size(); ++i) {
         if (given(xs[i])) smax = std::max(smax, xs[i]);
-        if (given(ys[i])) tmax = std::max(tmax, ys[i]);
+        if (given(ys[i])) {
+          tmax = std::max(tmax, ys[i]);
+          tmin = std::min(tmin, ys[i]);
+        }
       }
-      svg::Series path = line(label_of(s) + (s.left_out.empty() ? "" : " (left out)"), xs, ys, style++ % 8,
+      // Path colours skip black (4), which marks the failure points.
+      static const int kPathStyles[] = {0, 1, 2, 3, 5, 6};
+      svg::Series path = line(label_of(s) + (s.left_out.empty() ? "" : " (left out)"), xs, ys, kPathStyles[style++ % 6],
                               s.left_out.empty() ? svg::Dash::solid : svg::Dash::dotted, "stress-path");
       path.width = 1.0;
       p.series.push_back(std::move(path));
@@ -472,12 +478,12 @@ class InterpretationRenderer {
       }
     }
     const bool dev = o.criterion == FailureCriterion::max_deviator, ratio = o.criterion == FailureCriterion::max_stress_ratio;
-    p.series.push_back(points(std::string("failure: maximum deviator stress") + (dev ? " (declared)" : ""), dx, dy, 0,
+    p.series.push_back(points(std::string("failure: maximum deviator stress") + (dev ? " (declared)" : ""), dx, dy, 4,
                               svg::Marker::circle, "failure-max-deviator"));
-    p.series.push_back(points(std::string("failure: maximum stress ratio") + (ratio ? " (declared)" : ""), rx, ry, 2,
+    p.series.push_back(points(std::string("failure: maximum stress ratio") + (ratio ? " (declared)" : ""), rx, ry, 4,
                               svg::Marker::triangle, "failure-max-stress-ratio"));
     if (!cx.empty())
-      p.series.push_back(points("failure: " + to_string(o.criterion) + " (declared)", cx, cy, 3, svg::Marker::square, "failure-criterion"));
+      p.series.push_back(points("failure: " + to_string(o.criterion) + " (declared)", cx, cy, 4, svg::Marker::square, "failure-criterion"));
     if (!ox.empty()) p.series.push_back(points("declared failure point not used", ox, oy, 1, svg::Marker::cross, "failure-unused"));
     // Lines only over the s' range used.
     if (env.note.empty()) {
@@ -514,15 +520,18 @@ class InterpretationRenderer {
       const double top = std::max(tmax, 1.0) * 1.05;
       if (given(env.phi) && env.phi > 0.0) {
         const double sp = std::sin(env.phi * kDeg);
-        p.series.push_back(line("design stress: σ'nf = s' - t sin φ' = " + num(d, 0) + " kPa", {d, d + top * sp}, {0.0, top}, 7,
+        p.series.push_back(line("design stress: σ'nf = s' - t sin φ' = " + num(d, 0) + " kPa", {d, d + top * sp}, {0.0, top}, 3,
                                 svg::Dash::long_dash, "design-stress"));
         p.series.push_back(line("twice the design stress: σ'nf = " + num(2.0 * d, 0) + " kPa", {2.0 * d, 2.0 * d + top * sp},
-                                {0.0, top}, 7, svg::Dash::dotted, "design-stress-twice"));
+                                {0.0, top}, 3, svg::Dash::dotted, "design-stress-twice"));
       } else {
-        p.series.push_back(line("design stress " + num(d, 0) + " kPa (φ' not determined: drawn at s')", {d, d}, {0.0, top}, 7,
+        p.series.push_back(line("design stress " + num(d, 0) + " kPa (φ' not determined: drawn at s')", {d, d}, {0.0, top}, 3,
                                 svg::Dash::long_dash, "design-stress"));
       }
     }
+    // Lab scatter can put the first points of a path a little below t = 0; the axis starts at 0 unless
+    // a path goes clearly below it (more than 2 % of the largest t), so the plot is not half empty.
+    if (!(tmin < -0.02 * tmax)) p.y.min = 0.0;
     o_ << figure(p, "Stress path of every test (dotted: left out), failure points by maximum deviator stress (circles) and by "
                     "maximum stress ratio (triangles), the regression and design lines drawn only over the s' range used (shaded), "
                     "and the design stress as the locus of s'-t points whose failure plane carries it.");
