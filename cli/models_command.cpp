@@ -34,6 +34,15 @@ void add_models_command(CLI::App& app, Action& action) {
         std::cout << std::left << std::setw(name_width) << p.name << std::setw(7) << p.unit << std::setw(12)
                   << (std::isnan(p.default_value) ? std::string("required") : format_number(p.default_value))
                   << std::setw(18) << format_bounds(p) << p.description << "\n";
+      // What calibration seeds from the interpretation and the report compares: by role, not name.
+      bool any_role = false;
+      for (const ParameterInfo& p : info.parameters) any_role = any_role || p.role != ParameterRole::none;
+      if (any_role) {
+        std::cout << "\nroles (calibration seeds, and the report compares, by role):\n";
+        for (const ParameterInfo& p : info.parameters)
+          if (p.role != ParameterRole::none)
+            std::cout << "  " << std::left << std::setw(name_width) << p.name << to_string(p.role) << "\n";
+      }
       if (!info.state_names.empty()) {
         std::cout << "\nstate variables:";
         for (const auto& s : info.state_names) std::cout << " " << s;

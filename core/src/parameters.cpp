@@ -27,6 +27,39 @@ int parameter_index(const ModelInfo& info, const std::string& name) {
   return -1;
 }
 
+int parameter_with_role(const ModelInfo& info, ParameterRole role) {
+  if (role == ParameterRole::none) return -1;
+  for (std::size_t i = 0; i < info.parameters.size(); ++i)
+    if (info.parameters[i].role == role) return static_cast<int>(i);
+  return -1;
+}
+
+const char* to_string(ParameterRole role) {
+  switch (role) {
+    case ParameterRole::none: return "none";
+    case ParameterRole::friction_angle: return "friction_angle";
+    case ParameterRole::cohesion: return "cohesion";
+    case ParameterRole::dilation_angle: return "dilation_angle";
+    case ParameterRole::critical_state_ratio: return "critical_state_ratio";
+    case ParameterRole::critical_state_friction_angle: return "critical_state_friction_angle";
+    case ParameterRole::youngs_modulus: return "youngs_modulus";
+    case ParameterRole::shear_modulus: return "shear_modulus";
+    case ParameterRole::secant_stiffness_ref: return "secant_stiffness_ref";
+    case ParameterRole::unload_reload_stiffness_ref: return "unload_reload_stiffness_ref";
+    case ParameterRole::oedometer_stiffness_ref: return "oedometer_stiffness_ref";
+    case ParameterRole::stiffness_exponent: return "stiffness_exponent";
+    case ParameterRole::reference_pressure: return "reference_pressure";
+    case ParameterRole::poissons_ratio: return "poissons_ratio";
+    case ParameterRole::compression_index: return "compression_index";
+    case ParameterRole::swelling_index: return "swelling_index";
+    case ParameterRole::earth_pressure_at_rest: return "earth_pressure_at_rest";
+    case ParameterRole::tensile_strength: return "tensile_strength";
+    case ParameterRole::undrained_shear_strength: return "undrained_shear_strength";
+    case ParameterRole::undrained_youngs_modulus: return "undrained_youngs_modulus";
+  }
+  return "none";
+}
+
 void check_bounds(const ModelInfo& model, const ParameterInfo& info, double value, const std::string& where) {
   const bool below = info.lower_open ? !(value > info.lower) : !(value >= info.lower);
   const bool above = info.upper_open ? !(value < info.upper) : !(value <= info.upper);

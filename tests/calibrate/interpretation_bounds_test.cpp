@@ -359,3 +359,46 @@ TEST_CASE("Modified Cam-Clay's critical_friction_angle takes its start and bound
   CHECK(s.lower == Approx(v - 8.0).epsilon(1e-12));
   CHECK(s.upper == Approx(v + 8.0).epsilon(1e-12));
 }
+
+TEST_CASE("seeds and bounds follow the parameter's declared role, never its name", "[interpretation][bounds][roles]") {
+  const TestSeries series = read_test_series(kDemoSeries);
+  const Values v = values_of(interpret(series, InterpretOptions{}));
+  // A made-up model: Mohr-Coulomb's metadata with the friction angle under a name no rule knows.
+  ModelInfo renamed = model("mohr_coulomb");
+  ParameterInfo& phi_info = renamed.parameters[static_cast<std::size_t>(parameter_index(renamed, "friction_angle"))];
+  phi_info.name = "shearing_resistance_angle";
+  json p = free_without_bounds();
+  p.erase("friction_angle");
+  p["shearing_resistance_angle"] = {{"status", "free"}};
+  CalibrationFile f = parse_calibration_file(example_with(p).dump(), "cal.json");
+  const std::vector<std::string> notes = seed_from_interpretation(f, series, renamed);
+  const ParameterSpec& phi = spec_of(f, "shearing_resistance_angle");
+  CHECK(phi.lower == Approx(v.phi - 8.0).epsilon(1e-12));
+  CHECK(phi.upper == Approx(v.phi + 8.0).epsilon(1e-12));
+  CHECK(phi.start == Approx(v.phi).epsilon(1e-12));
+  CHECK(has_line(notes, "shearing_resistance_angle: start " + format_number(v.phi) +
+                            " from the interpretation (s'-t envelope)"));
+
+  // The same parameter under its usual name but without a role gets nothing from the interpretation.
+  ModelInfo no_role = model("mohr_coulomb");
+  no_role.parameters[static_cast<std::size_t>(parameter_index(no_role, "friction_angle"))].role = ParameterRole::none;
+  CalibrationFile g = parse_calibration_file(example_with(free_without_bounds()).dump(), "cal.json");
+  CHECK(message_of(g, series, no_role) ==
+        "cal.json: parameters.friction_angle: lower and upper are needed: the interpretation of the series gives no "
+        "value for friction_angle");
+}
+
+TEST_CASE("every registered model declares each role at most once", "[roles]") {
+  for (const ModelEntry& e : model_registry()) {
+    const ModelInfo& info = e.info();
+    for (std::size_t i = 0; i < info.parameters.size(); ++i) {
+      const ParameterRole role = info.parameters[i].role;
+      if (role == ParameterRole::none) continue;
+      INFO(info.name << ": " << info.parameters[i].name << " declares " << to_string(role));
+      CHECK(parameter_with_role(info, role) == static_cast<int>(i));
+    }
+  }
+  CHECK(parameter_with_role(model("mohr_coulomb"), ParameterRole::none) == -1);
+  CHECK(parameter_with_role(model("mohr_coulomb"), ParameterRole::compression_index) == -1);
+  CHECK(std::string(to_string(ParameterRole::earth_pressure_at_rest)) == "earth_pressure_at_rest");
+}

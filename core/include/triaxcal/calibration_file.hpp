@@ -65,20 +65,21 @@ TRIAXCAL_CORE_EXPORT CalibrationProblem build_calibration_problem(const Calibrat
 
 /// Missing bounds and starts of the free parameters of `file` from the classical interpretation
 /// of `series` (interpret.hpp; only the specimens' material when every fitted specimen has the
-/// same one; the stiffness laws at the model's fixed reference_pressure where it has one), by
-/// parameter name, with v the interpretation's value:
+/// same one; the stiffness laws at the model's fixed reference pressure where it has one), by the
+/// parameter's declared role (ParameterInfo::role, never its name), with v the interpretation's value:
 ///   friction_angle, cohesion            s'-t envelope
 ///   dilation_angle                      mean peak dilation angle of the CD stages
 ///   youngs_modulus                      mean initial stiffness of the CD stages
-///   secant_stiffness_ref, stress_exponent   secant stiffness law
-///   unloading_stiffness_ref             unload-reload stiffness law
+///   secant_stiffness_ref, stiffness_exponent   secant stiffness law
+///   unload_reload_stiffness_ref         unload-reload stiffness law
 ///   oedometer_stiffness_ref             mean constrained modulus of the oedometer stages at s_a' = p_ref
 ///   critical_state_ratio, critical_state_friction_angle   critical states, else Rowe's phi_cv
-///   lambda, kappa                       consolidation and oedometer stages
-/// Bounds not given (either one or both) follow a rule per parameter: stiffnesses, lambda and kappa
-/// [v/4, 4 v]; friction_angle and critical_state_friction_angle [v - 8, v + 8] deg; dilation_angle
-/// [0, max(v + 8, 5)] deg; cohesion [0, max(3 v, 20)] kPa; stress_exponent
-/// [max(0.1, v - 0.3), min(1, v + 0.3)]; critical_state_ratio [0.75 v, 1.25 v]. v is first taken
+///   compression_index, swelling_index   consolidation and oedometer stages
+///   undrained_shear_strength, undrained_youngs_modulus   mean c_u and initial stiffness of the UU stages
+/// Bounds not given (either one or both) follow a rule per role: stiffnesses, lambda and kappa
+/// [v/4, 4 v]; friction angles [v - 8, v + 8] deg; dilation_angle [0, max(v + 8, 5)] deg; cohesion
+/// [0, max(3 v, 20)] kPa; stiffness_exponent [max(0.1, v - 0.3), min(1, v + 0.3)];
+/// critical_state_ratio [0.75 v, 1.25 v]; undrained_shear_strength [v/2, 2 v]. v is first taken
 /// into the model's range (ParameterInfo, open ends moved inward by 1e-4 max(1, |end|)), the
 /// derived bounds are cut to that range and widened to include a start given in the file; a given
 /// bound is kept as given. A start not given is v clamped into the bounds.

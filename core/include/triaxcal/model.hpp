@@ -20,6 +20,37 @@ inline constexpr int kMaxStateVariables = 8;
 
 inline constexpr double kNotGiven = std::numeric_limits<double>::quiet_NaN();
 
+/// What a parameter means to the rest of triaxcal. Calibration seeds and bounds a free parameter
+/// from the interpretation by its role, and the report compares a fitted parameter with the
+/// classical value of its role: neither knows a model's parameter names, so adding a model touches
+/// models/ only. A role is declared by at most one parameter of a model; `none` where no classical
+/// value corresponds (a numerical switch, a ratio of the model's own).
+enum class ParameterRole {
+  none,
+  friction_angle,                 ///< effective friction angle phi' (deg) of the failure envelope
+  cohesion,                       ///< effective cohesion c' (kPa)
+  dilation_angle,                 ///< dilation angle psi (deg), peak dilation rate
+  critical_state_ratio,           ///< M = q/p' at critical state in triaxial compression (-)
+  critical_state_friction_angle,  ///< phi_cs (deg)
+  youngs_modulus,                 ///< a constant Young's modulus E (kPa), seeded from the initial stiffness
+  shear_modulus,                  ///< a constant shear modulus G (kPa)
+  secant_stiffness_ref,           ///< E_50 at the reference pressure (kPa)
+  unload_reload_stiffness_ref,    ///< E_ur at the reference pressure (kPa)
+  oedometer_stiffness_ref,        ///< tangent constrained modulus at the reference pressure (kPa)
+  stiffness_exponent,             ///< exponent of the stiffness power law (-)
+  reference_pressure,             ///< reference pressure of the stiffness power laws (kPa)
+  poissons_ratio,                 ///< Poisson's ratio nu (-)
+  compression_index,              ///< lambda, slope of the normal compression line in e-ln p' (-)
+  swelling_index,                 ///< kappa, slope of unloading-reloading lines in e-ln p' (-)
+  earth_pressure_at_rest,         ///< K0 = s3'/s1' in one-dimensional loading (-)
+  tensile_strength,               ///< tension cut-off (kPa)
+  undrained_shear_strength,       ///< c_u (kPa), total stress
+  undrained_youngs_modulus,       ///< E_u (kPa), total stress
+};
+
+/// The role's name as printed (`triaxcal models NAME`), e.g. "friction_angle"; "none" for none.
+TRIAXCAL_CORE_EXPORT const char* to_string(ParameterRole role);
+
 /// One parameter: what the user sets, in which unit, and where it is physically meaningful.
 struct ParameterInfo {
   std::string name;          ///< snake_case key used in files and on the command line
@@ -30,6 +61,7 @@ struct ParameterInfo {
   bool lower_open = false;   ///< true: value must be > lower, else >= lower
   bool upper_open = false;   ///< true: value must be < upper, else <= upper
   std::string description;   ///< one line, shown by `triaxcal models NAME`
+  ParameterRole role = ParameterRole::none;  ///< what calibration and the report take it for
 };
 
 struct ModelInfo {
@@ -38,6 +70,9 @@ struct ModelInfo {
   std::vector<ParameterInfo> parameters; ///< in the order of ParameterValues
   std::vector<std::string> state_names;  ///< names of MaterialState::internal[0..n)
 };
+
+/// Index of the parameter that declares `role` in `info`, -1 when none does.
+TRIAXCAL_CORE_EXPORT int parameter_with_role(const ModelInfo& info, ParameterRole role);
 
 /// Values in the order of ModelInfo::parameters.
 using ParameterValues = std::vector<double>;

@@ -366,7 +366,8 @@ struct Seed {
   std::string basis;
 };
 
-/// The interpretation's value for each parameter name it can seed (kNotGiven where it has none).
+/// The interpretation's value for each parameter role it can seed (kNotGiven where it has none).
+/// Seeds go by ParameterInfo::role, never by a model's parameter names.
 class InterpretationSeeds {
  public:
   InterpretationSeeds(const TestSeries& series, const InterpretOptions& options) {
@@ -377,12 +378,17 @@ class InterpretationSeeds {
       failure_ = e.what();
     }
     if (!ok_) return;
-    std::vector<double> dilation, initial_stiffness, lambdas, kappas, constrained;
-    for (const StageInterpretation& s : in_.stages)
+    std::vector<double> dilation, initial_stiffness, lambdas, kappas, constrained, cu, uu_stiffness;
+    for (const StageInterpretation& s : in_.stages) {
       if (s.test == ShearType::cd) {
         dilation.push_back(s.dilation_angle);
         initial_stiffness.push_back(s.initial_stiffness);
       }
+      if (s.test == ShearType::uu) {
+        cu.push_back(s.undrained_strength);
+        uu_stiffness.push_back(s.initial_stiffness);
+      }
+    }
     for (const auto& c : in_.compressibility) {
       lambdas.push_back(c.lambda);
       kappas.push_back(c.kappa);
@@ -394,38 +400,57 @@ class InterpretationSeeds {
     lambda_mean_ = mean_of(lambdas);
     kappa_mean_ = mean_of(kappas);
     constrained_mean_ = mean_of(constrained);
+    cu_mean_ = mean_of(cu);
+    uu_stiffness_mean_ = mean_of(uu_stiffness);
     reference_pressure_ = options.reference_pressure;
   }
 
-  /// Names with a rule: seed_for gives them a value when the series has the data.
-  static bool known(const std::string& name) {
-    for (const char* n : {"friction_angle", "cohesion", "dilation_angle", "youngs_modulus", "secant_stiffness_ref",
-                          "stress_exponent", "unloading_stiffness_ref", "oedometer_stiffness_ref", "critical_state_ratio",
-                          "critical_state_friction_angle", "critical_friction_angle", "lambda", "kappa"})
-      if (name == n) return true;
-    return false;
+  /// Roles with a rule: seed_for gives them a value when the series has the data.
+  static bool known(ParameterRole role) {
+    switch (role) {
+      case ParameterRole::friction_angle:
+      case ParameterRole::cohesion:
+      case ParameterRole::dilation_angle:
+      case ParameterRole::youngs_modulus:
+      case ParameterRole::secant_stiffness_ref:
+      case ParameterRole::stiffness_exponent:
+      case ParameterRole::unload_reload_stiffness_ref:
+      case ParameterRole::oedometer_stiffness_ref:
+      case ParameterRole::critical_state_ratio:
+      case ParameterRole::critical_state_friction_angle:
+      case ParameterRole::compression_index:
+      case ParameterRole::swelling_index:
+      case ParameterRole::undrained_shear_strength:
+      case ParameterRole::undrained_youngs_modulus: return true;
+      default: return false;
+    }
   }
 
-  Seed seed_for(const std::string& name) const {
+  Seed seed_for(ParameterRole role) const {
     if (!ok_) return {};
     const StrengthEnvelope* env = in_.envelopes.empty() ? nullptr : &in_.envelopes.front();
-    if (name == "friction_angle") return {env ? env->phi : kNotGiven, "s'-t envelope"};
-    if (name == "cohesion") return {env && std::isfinite(env->cohesion) ? std::max(0.0, env->cohesion) : kNotGiven, "s'-t envelope"};
-    if (name == "dilation_angle") return {dilation_mean_, "mean peak dilation of the CD stages"};
-    if (name == "youngs_modulus") return {initial_mean_, "mean initial stiffness of the CD stages"};
-    if (name == "secant_stiffness_ref") return {in_.secant_law.reference, "secant stiffness law at " + pressure()};
-    if (name == "stress_exponent") return {in_.secant_law.exponent, "secant stiffness law"};
-    if (name == "unloading_stiffness_ref") return {in_.unload_reload_law.reference, "unload-reload stiffness law at " + pressure()};
-    if (name == "oedometer_stiffness_ref")
-      return {constrained_mean_, "mean constrained modulus of the oedometer stages at s_a' = " + format_number(reference_pressure_) + " kPa"};
-    if (name == "critical_state_ratio") return {in_.critical_m, "critical states"};
-    // critical_state_friction_angle (hyperbolic_hardening) and critical_friction_angle
-    // (modified_cam_clay) are the same angle phi_cs.
-    if (name == "critical_state_friction_angle" || name == "critical_friction_angle")
-      return std::isfinite(in_.phi_cs) ? Seed{in_.phi_cs, "critical states"} : Seed{in_.phi_cv_rowe, "Rowe's stress-dilatancy"};
-    if (name == "lambda") return {lambda_mean_, "consolidation and oedometer stages"};
-    if (name == "kappa") return {kappa_mean_, "consolidation and oedometer stages"};
-    return {};
+    switch (role) {
+      case ParameterRole::friction_angle: return {env ? env->phi : kNotGiven, "s'-t envelope"};
+      case ParameterRole::cohesion:
+        return {env && std::isfinite(env->cohesion) ? std::max(0.0, env->cohesion) : kNotGiven, "s'-t envelope"};
+      case ParameterRole::dilation_angle: return {dilation_mean_, "mean peak dilation of the CD stages"};
+      case ParameterRole::youngs_modulus: return {initial_mean_, "mean initial stiffness of the CD stages"};
+      case ParameterRole::secant_stiffness_ref: return {in_.secant_law.reference, "secant stiffness law at " + pressure()};
+      case ParameterRole::stiffness_exponent: return {in_.secant_law.exponent, "secant stiffness law"};
+      case ParameterRole::unload_reload_stiffness_ref:
+        return {in_.unload_reload_law.reference, "unload-reload stiffness law at " + pressure()};
+      case ParameterRole::oedometer_stiffness_ref:
+        return {constrained_mean_,
+                "mean constrained modulus of the oedometer stages at s_a' = " + format_number(reference_pressure_) + " kPa"};
+      case ParameterRole::critical_state_ratio: return {in_.critical_m, "critical states"};
+      case ParameterRole::critical_state_friction_angle:
+        return std::isfinite(in_.phi_cs) ? Seed{in_.phi_cs, "critical states"} : Seed{in_.phi_cv_rowe, "Rowe's stress-dilatancy"};
+      case ParameterRole::compression_index: return {lambda_mean_, "consolidation and oedometer stages"};
+      case ParameterRole::swelling_index: return {kappa_mean_, "consolidation and oedometer stages"};
+      case ParameterRole::undrained_shear_strength: return {cu_mean_, "mean undrained strength of the UU stages"};
+      case ParameterRole::undrained_youngs_modulus: return {uu_stiffness_mean_, "mean initial stiffness of the UU stages"};
+      default: return {};
+    }
   }
 
   bool ok() const { return ok_; }
@@ -438,7 +463,8 @@ class InterpretationSeeds {
   bool ok_ = false;
   std::string failure_;
   double dilation_mean_ = kNotGiven, initial_mean_ = kNotGiven, lambda_mean_ = kNotGiven, kappa_mean_ = kNotGiven;
-  double constrained_mean_ = kNotGiven, reference_pressure_ = kNotGiven;
+  double constrained_mean_ = kNotGiven, reference_pressure_ = kNotGiven, cu_mean_ = kNotGiven;
+  double uu_stiffness_mean_ = kNotGiven;
 };
 
 /// How bounds follow from the interpretation's value v (docs/calibration-format.md). Widths are
@@ -466,18 +492,26 @@ BoundsRule unusable(const char* needs) {
   return r;
 }
 
-BoundsRule bounds_rule(const std::string& name, double v) {
-  if (name == "youngs_modulus" || name == "secant_stiffness_ref" || name == "oedometer_stiffness_ref" ||
-      name == "unloading_stiffness_ref" || name == "lambda" || name == "kappa")
-    return v > 0.0 ? box(v / 4.0, 4.0 * v, "v/4 to 4 v") : unusable("> 0");
-  if (name == "friction_angle" || name == "critical_state_friction_angle" || name == "critical_friction_angle")
-    return box(v - 8.0, v + 8.0, "v +- 8 deg");
-  if (name == "dilation_angle") return box(0.0, std::max(v + 8.0, 5.0), "0 to max(v + 8, 5) deg");
-  if (name == "cohesion") return box(0.0, std::max(3.0 * v, 20.0), "0 to max(3 v, 20 kPa)");
-  if (name == "stress_exponent")
-    return box(std::max(0.1, v - 0.3), std::min(1.0, v + 0.3), "max(0.1, v - 0.3) to min(1, v + 0.3)");
-  if (name == "critical_state_ratio") return v > 0.0 ? box(0.75 * v, 1.25 * v, "0.75 v to 1.25 v") : unusable("> 0");
-  return unusable("");  // not reached: seed_for gives no value for other names
+BoundsRule bounds_rule(ParameterRole role, double v) {
+  switch (role) {
+    case ParameterRole::youngs_modulus:
+    case ParameterRole::secant_stiffness_ref:
+    case ParameterRole::oedometer_stiffness_ref:
+    case ParameterRole::unload_reload_stiffness_ref:
+    case ParameterRole::compression_index:
+    case ParameterRole::swelling_index:
+    case ParameterRole::undrained_youngs_modulus: return v > 0.0 ? box(v / 4.0, 4.0 * v, "v/4 to 4 v") : unusable("> 0");
+    case ParameterRole::undrained_shear_strength:
+      return v > 0.0 ? box(v / 2.0, 2.0 * v, "v/2 to 2 v") : unusable("> 0");
+    case ParameterRole::friction_angle:
+    case ParameterRole::critical_state_friction_angle: return box(v - 8.0, v + 8.0, "v +- 8 deg");
+    case ParameterRole::dilation_angle: return box(0.0, std::max(v + 8.0, 5.0), "0 to max(v + 8, 5) deg");
+    case ParameterRole::cohesion: return box(0.0, std::max(3.0 * v, 20.0), "0 to max(3 v, 20 kPa)");
+    case ParameterRole::stiffness_exponent:
+      return box(std::max(0.1, v - 0.3), std::min(1.0, v + 0.3), "max(0.1, v - 0.3) to min(1, v + 0.3)");
+    case ParameterRole::critical_state_ratio: return v > 0.0 ? box(0.75 * v, 1.25 * v, "0.75 v to 1.25 v") : unusable("> 0");
+    default: return unusable("");  // not reached: seed_for gives no value for other roles
+  }
 }
 
 /// The model's range with open ends moved inward by 1e-4 max(1, |end|): a derived bound must be a
@@ -514,11 +548,12 @@ std::string material_of_tests(const CalibrationFile& file, const TestSeries& ser
 /// The reference pressure of the stiffness laws: the model's fixed reference_pressure where it has
 /// one (E_ref is the stiffness at s3' = reference_pressure), else the interpretation's default.
 double reference_pressure_of(const CalibrationFile& file, const ModelInfo& model) {
-  const int i = parameter_index(model, "reference_pressure");
+  const int i = parameter_with_role(model, ParameterRole::reference_pressure);
   if (i < 0) return InterpretOptions{}.reference_pressure;
-  double value = model.parameters[static_cast<std::size_t>(i)].default_value;
+  const ParameterInfo& pi = model.parameters[static_cast<std::size_t>(i)];
+  double value = pi.default_value;
   for (const ParameterSpec& p : file.parameters)
-    if (p.name == "reference_pressure")
+    if (p.name == pi.name)
       value = p.status == ParameterStatus::fixed ? (std::isnan(p.value) ? value : p.value) : kNotGiven;
   return std::isfinite(value) && value > 0.0 ? value : InterpretOptions{}.reference_pressure;
 }
@@ -544,7 +579,7 @@ std::vector<std::string> seed_from_interpretation(CalibrationFile& file, const T
     if (index < 0) continue;  // build_calibration_problem names the unknown parameter
     const ParameterInfo& pi = model.parameters[static_cast<std::size_t>(index)];
     const std::string where = src + ": parameters." + p.name + ": ";
-    const Seed seed = seeds.seed_for(p.name);
+    const Seed seed = seeds.seed_for(pi.role);
     const bool lower_missing = std::isnan(p.lower), upper_missing = std::isnan(p.upper);
 
     if (lower_missing || upper_missing) {
@@ -552,14 +587,14 @@ std::vector<std::string> seed_from_interpretation(CalibrationFile& file, const T
       if (!std::isfinite(seed.value)) {
         std::string why = "the interpretation of the series gives no value for " + p.name;
         if (!seeds.ok()) why += " (the interpretation failed: " + seeds.failure() + ")";
-        else if (InterpretationSeeds::known(p.name)) why += " (it would come from the " + seed.basis + ")";
+        else if (InterpretationSeeds::known(pi.role)) why += " (it would come from the " + seed.basis + ")";
         throw InputError(missing + why);
       }
       // Take v into the model's range first, so that the rule gives a box the model accepts.
       const auto [range_lo, range_hi] = closed_range(pi);
       assert(range_lo < range_hi && "a model's range leaves no room for a value");
       const double v = std::clamp(seed.value, range_lo, range_hi);
-      const BoundsRule rule = bounds_rule(p.name, v);
+      const BoundsRule rule = bounds_rule(pi.role, v);
       if (!rule.usable)
         throw InputError(missing + "the interpretation of the series gives " + p.name + " = " + format_number(seed.value) +
                          " (" + seed.basis + "), which cannot set bounds (it must be " + rule.needs + ")");

@@ -70,7 +70,13 @@ XY simulated_curve(const SimulationResult& r, const MeasuredCurve& c) {
   return out;
 }
 
-const FittedParameter* find_parameter(const CalibrationSummary& s, const std::string& name) {
+/// The fitted parameter that declares `role` in the model's ModelInfo (never matched by name), or
+/// nullptr when the model has none.
+const FittedParameter* find_parameter(const CalibrationSummary& s, const ModelInfo* model, ParameterRole role) {
+  if (!model) return nullptr;
+  const int i = parameter_with_role(*model, role);
+  if (i < 0) return nullptr;
+  const std::string& name = model->parameters[static_cast<std::size_t>(i)].name;
   for (const FittedParameter& p : s.parameters)
     if (p.name == name) return &p;
   return nullptr;
@@ -207,8 +213,8 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
   }
 
   // Model envelope in s'-t where the model has c' and phi': t = c' cos phi' + s' sin phi'.
-  const FittedParameter* phi = find_parameter(s, "friction_angle");
-  const FittedParameter* coh = find_parameter(s, "cohesion");
+  const FittedParameter* phi = find_parameter(s, problem.model, ParameterRole::friction_angle);
+  const FittedParameter* coh = find_parameter(s, problem.model, ParameterRole::cohesion);
   if (phi && std::isfinite(phi->value)) {
     const double c = coh && std::isfinite(coh->value) ? coh->value : 0.0;
     d.strength.model = {"model envelope (c' = " + std::to_string(static_cast<int>(std::lround(c))) + " kPa, phi' = " +
@@ -233,9 +239,10 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
       // A classical value the data cannot determine is shown as "not determined" with the reason.
       const std::string why = e.note.empty() ? std::string() : "; not determined: " + e.note;
       d.comparisons.push_back({"friction angle phi'", "deg", e.phi, phi ? phi->value : kUnknown,
-                               "s'-t regression (" + to_string(e.criterion) + ") vs model friction_angle" + why});
+                               "s'-t regression (" + to_string(e.criterion) + ") vs model " +
+                                   (phi ? phi->name : std::string("friction angle")) + why});
       d.comparisons.push_back({"cohesion c'", "kPa", e.cohesion, coh ? coh->value : kUnknown,
-                               "s'-t regression vs model cohesion" + why});
+                               "s'-t regression vs model " + (coh ? coh->name : std::string("cohesion")) + why});
     }
     if (std::isfinite(in.options.stress_low) && in.options.stress_low > 0) d.strength.range_low = in.options.stress_low;
     if (std::isfinite(in.options.stress_high)) d.strength.range_high = in.options.stress_high;
@@ -244,23 +251,23 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
       d.strength.pq_lines.push_back({"critical state line q = M p'", 0.0, in.critical_m, kUnknown, kUnknown});
     // A classical value the data cannot determine is shown as "not determined" with the reason,
     // never as a number; one with neither a value nor a reason (no such tests) is left out.
-    auto compare = [&](const char* quantity, const char* unit, double classical, const std::string& reason, const char* name,
-                       const char* basis) {
-      const FittedParameter* p = find_parameter(s, name);
+    // Matched by the parameter's declared role; the basis names the model's parameter.
+    auto compare = [&](const char* quantity, const char* unit, double classical, const std::string& reason, ParameterRole role,
+                       const std::string& classical_basis) {
+      const FittedParameter* p = find_parameter(s, problem.model, role);
       if (!p) return;
+      const std::string basis = classical_basis + " vs model " + p->name;
       if (std::isfinite(classical)) d.comparisons.push_back({quantity, unit, classical, p->value, basis});
-      else if (!reason.empty()) d.comparisons.push_back({quantity, unit, kUnknown, p->value, std::string(basis) + "; not determined: " + reason});
+      else if (!reason.empty()) d.comparisons.push_back({quantity, unit, kUnknown, p->value, basis + "; not determined: " + reason});
     };
-    compare("critical-state friction angle phi_cs", "deg", in.phi_cs, in.critical_m_reason, "critical_state_friction_angle",
-            "large-strain states vs model critical_state_friction_angle");
-    compare("critical-state friction angle phi_cs", "deg", in.phi_cs, in.critical_m_reason, "critical_friction_angle",
-            "large-strain states vs model critical_friction_angle");
-    compare("secant stiffness at p_ref", "kPa", in.secant_law.reference, in.secant_law.reason, "secant_stiffness_ref",
-            "E_50 power law vs model secant_stiffness_ref");
+    compare("critical-state friction angle phi_cs", "deg", in.phi_cs, in.critical_m_reason,
+            ParameterRole::critical_state_friction_angle, "large-strain states");
+    compare("secant stiffness at p_ref", "kPa", in.secant_law.reference, in.secant_law.reason,
+            ParameterRole::secant_stiffness_ref, "E_50 power law");
     compare("unload-reload stiffness at p_ref", "kPa", in.unload_reload_law.reference, in.unload_reload_law.reason,
-            "unloading_stiffness_ref", "E_ur power law vs model unloading_stiffness_ref");
-    compare("stiffness exponent m", "-", in.secant_law.exponent, in.secant_law.reason, "stress_exponent",
-            "E_50 power law vs model stress_exponent");
+            ParameterRole::unload_reload_stiffness_ref, "E_ur power law");
+    compare("stiffness exponent m", "-", in.secant_law.exponent, in.secant_law.reason, ParameterRole::stiffness_exponent,
+            "E_50 power law");
     {
       // Dilation angle: the mean over the CD stages that determine one.
       double sum = 0.0;
@@ -275,8 +282,8 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
           reason = st.specimen + ": " + st.dilation_reason;
         }
       }
-      compare("dilation angle psi", "deg", n > 0 ? sum / n : kUnknown, reason, "dilation_angle",
-              "peak dilation rate of the CD stages (mean) vs model dilation_angle");
+      compare("dilation angle psi", "deg", n > 0 ? sum / n : kUnknown, reason, ParameterRole::dilation_angle,
+              "peak dilation rate of the CD stages (mean)");
     }
     for (const std::string& w : in.warnings) d.warnings.push_back("interpretation: " + w);
   }
