@@ -27,6 +27,39 @@ int parameter_index(const ModelInfo& info, const std::string& name) {
   return -1;
 }
 
+std::string new_name_of(const ModelInfo& info, const std::string& name) {
+  for (const auto& [old_name, new_name] : info.renamed)
+    if (old_name == name) return new_name;
+  return "";
+}
+
+std::string renamed_message(const ModelInfo& info, const std::string& name, const std::string& where) {
+  const std::string now = new_name_of(info, name);
+  if (now.empty()) return "";
+  return where + ": " + info.name + ": parameter '" + name + "' is now called '" + now + "'";
+}
+
+int word_index(const ParameterInfo& info, const std::string& word) {
+  for (std::size_t i = 0; i < info.words.size(); ++i)
+    if (info.words[i] == word) return static_cast<int>(i);
+  return -1;
+}
+
+std::string word_list(const ParameterInfo& info) {
+  std::string list;
+  for (std::size_t i = 0; i < info.words.size(); ++i) {
+    if (i > 0) list += i + 1 == info.words.size() ? " or " : ", ";
+    list += "\"" + info.words[i] + "\"";
+  }
+  return list;
+}
+
+std::string word_of(const ParameterInfo& info, double value) {
+  if (info.words.empty()) return format_number(value);
+  if (!(value >= 0.0) || value != std::floor(value) || value >= static_cast<double>(info.words.size())) return "";
+  return info.words[static_cast<std::size_t>(value)];
+}
+
 int parameter_with_role(const ModelInfo& info, ParameterRole role) {
   if (role == ParameterRole::none) return -1;
   for (std::size_t i = 0; i < info.parameters.size(); ++i)

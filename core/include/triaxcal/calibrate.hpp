@@ -81,6 +81,7 @@ struct ParameterSpec {
   std::string name;
   ParameterStatus status = ParameterStatus::fixed;
   double value = kNotGiven;  ///< fixed: the value (NaN = model default)
+  std::string word;          ///< fixed word parameter as the file writes it (ParameterInfo::words); sets value
   double lower = kNotGiven;  ///< free: bounds (required) and start (NaN = middle of the box)
   double upper = kNotGiven;
   double start = kNotGiven;

@@ -7,6 +7,7 @@
 #include <memory>
 #include <span>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "triaxcal/conventions.hpp"
@@ -62,6 +63,9 @@ struct ParameterInfo {
   bool upper_open = false;   ///< true: value must be < upper, else <= upper
   std::string description;   ///< one line, shown by `triaxcal models NAME`
   ParameterRole role = ParameterRole::none;  ///< what calibration and the report take it for
+  /// A word parameter (a choice among named rules): the value is the index of the word; files and
+  /// outputs write the word, never the number. Empty for a number.
+  std::vector<std::string> words;
 };
 
 struct ModelInfo {
@@ -69,6 +73,9 @@ struct ModelInfo {
   std::string title;                     ///< one line with the published source
   std::vector<ParameterInfo> parameters; ///< in the order of ParameterValues
   std::vector<std::string> state_names;  ///< names of MaterialState::internal[0..n)
+  /// Former parameter names and the names that replaced them: an old name is an error that names
+  /// the new one (no silent alias).
+  std::vector<std::pair<std::string, std::string>> renamed;
 };
 
 /// Index of the parameter that declares `role` in `info`, -1 when none does.

@@ -18,6 +18,7 @@ struct ParameterFile {
   std::string model;                     ///< registry name
   std::map<std::string, double> values;  ///< by parameter name
   std::map<std::string, std::string> units;  ///< declared units, where given
+  std::map<std::string, std::string> words;  ///< word parameters as written (ParameterInfo::words)
 };
 
 /// Each parameter is a number or an object {"value": v, "unit": "kPa", ...}. Unknown top-level

@@ -29,4 +29,20 @@ TRIAXCAL_CORE_EXPORT void check_bounds(const ModelInfo& model, const ParameterIn
 /// Index of a parameter by name, or -1.
 TRIAXCAL_CORE_EXPORT int parameter_index(const ModelInfo& info, const std::string& name);
 
+/// The name that replaced a former parameter name (ModelInfo::renamed), or "" when `name` is not one.
+TRIAXCAL_CORE_EXPORT std::string new_name_of(const ModelInfo& info, const std::string& name);
+
+/// "<where>: <model>: parameter '<old>' is now called '<new>'" for a former name, else "".
+TRIAXCAL_CORE_EXPORT std::string renamed_message(const ModelInfo& info, const std::string& name, const std::string& where);
+
+/// Index of `word` among a word parameter's words, or -1.
+TRIAXCAL_CORE_EXPORT int word_index(const ParameterInfo& info, const std::string& word);
+
+/// The words of a word parameter as messages list them: "a", "b" or "c" (quoted).
+TRIAXCAL_CORE_EXPORT std::string word_list(const ParameterInfo& info);
+
+/// A value as files write it: the word of a word parameter (its index rounded), else the number
+/// (format_number); "" for an index that is not one of the words.
+TRIAXCAL_CORE_EXPORT std::string word_of(const ParameterInfo& info, double value);
+
 }  // namespace triaxcal
