@@ -70,7 +70,7 @@ CalibrationProblem hyperbolic() {
                   free_parameter("oedometer_stiffness_ref", 5000, 100000, 17000, ParameterScale::log),
                   free_parameter("unloading_stiffness_ref", 20000, 300000, 60000, ParameterScale::log),
                   free_parameter("stress_exponent", 0.3, 0.9, 0.5), free_parameter("friction_angle", 28, 42, 33),
-                  free_parameter("critical_state_friction_angle", 25, 35, 29), fixed_parameter("k0_nc", k0)};
+                  free_parameter("critical_state_friction_angle", 25, 35, 29), fixed_parameter("k0_normally_consolidated", k0)};
   p.constraints = {"critical_state_friction_angle <= friction_angle", "unloading_stiffness_ref >= 2 * secant_stiffness_ref"};
   return p;
 }

@@ -107,6 +107,8 @@ ParameterValues resolve_parameters(const ModelInfo& info, const std::map<std::st
   for (const auto& [name, value] : given) {
     (void)value;
     if (parameter_index(info, name) < 0) {
+      const std::string renamed = renamed_message(info, name, where);
+      if (!renamed.empty()) throw InputError(renamed);
       std::string known;
       for (const auto& p : info.parameters) known += (known.empty() ? "" : ", ") + p.name;
       throw InputError(where + ": " + info.name + " has no parameter '" + name + "' (known: " + known + ")");

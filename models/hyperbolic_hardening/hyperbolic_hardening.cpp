@@ -198,44 +198,52 @@ const ModelInfo& HyperbolicHardening::model_info() {
   static const ModelInfo info{
       kName,
       "double-hardening model with hyperbolic shear hardening and a cap, after Schanz, Vermeer & Bonnier (1999)",
+      // Strength, then stiffness, then the cap. Defaults are typical values from memory of Schanz,
+      // Vermeer & Bonnier (1999) (p_ref 100 kPa, nu_ur 0.2, R_f 0.9, E_ur = 3 E50, E_oed = E50) and
+      // a medium-dense sand of our own (phi' 33, phi_cv 30, K0 0.5); starting values, not design values.
       {
-          {"secant_stiffness_ref", "kPa", 20000.0, 0.0, inf, true, true,
-           "E50 at the reference pressure: secant stiffness at 50 % of the failure deviator stress in drained "
-           "triaxial compression at s3' = reference_pressure (s3' = minor principal effective stress)",
-           ParameterRole::secant_stiffness_ref},
-          {"oedometer_stiffness_ref", "kPa", 20000.0, 0.0, inf, true, true,
-           "tangent oedometric stiffness d s1'/d eps_1 of a normally consolidated sample at s1' = reference_pressure",
-           ParameterRole::oedometer_stiffness_ref},
-          {"unloading_stiffness_ref", "kPa", 60000.0, 0.0, inf, true, true,
-           "Young's modulus for unloading and reloading at s3' = reference_pressure; must exceed 2 E50/(2 - failure_ratio)",
-           ParameterRole::unload_reload_stiffness_ref},
-          {"stress_exponent", "-", 0.5, 0.0, 1.0, false, false,
-           "m: stiffness ~ ((s3' + c' cot phi')/(reference_pressure + c' cot phi'))^m",
-           ParameterRole::stiffness_exponent},
-          {"reference_pressure", "kPa", 100.0, 0.0, inf, true, true, "reference pressure of the stiffness power law",
-           ParameterRole::reference_pressure},
-          {"poissons_ratio_ur", "-", 0.2, -1.0, 0.5, true, true, "Poisson's ratio for unloading and reloading",
-           ParameterRole::poissons_ratio},
-          {"failure_ratio", "-", 0.9, 0.0, 1.0, true, false,
-           "R_f = q_f / q_a: failure deviator over the asymptote of the hyperbola", ParameterRole::none},
-          {"cohesion", "kPa", 0.0, 0.0, inf, false, true, "effective cohesion c'", ParameterRole::cohesion},
           {"friction_angle", "deg", 33.0, 0.0, 90.0, true, true, "effective friction angle phi' (Mohr-Coulomb failure)",
            ParameterRole::friction_angle},
+          {"cohesion", "kPa", 0.0, 0.0, inf, false, true, "effective cohesion c'", ParameterRole::cohesion},
+          {"tensile_strength", "kPa", 0.0, 0.0, inf, false, true,
+           "largest tensile minor principal effective stress (tension cut-off); capped at c' cot phi'",
+           ParameterRole::tensile_strength},
           {"critical_state_friction_angle", "deg", 30.0, 0.0, 90.0, true, true,
            "phi_cv of Rowe's stress-dilatancy (<= friction_angle); phi_cv = phi' gives no dilation",
            ParameterRole::critical_state_friction_angle},
           {"dilatancy_rule", "-", 1.0, 0.0, 2.0, false, false,
-           "cut-off of Rowe's relation: 0 as is (contraction below phi_cv), 1 no contraction, 2 no dilatancy at all",
-           ParameterRole::none},
-          {"k0_nc", "-", 0.5, 0.0, 1.0, true, true,
-           "s3'/s1' in normally consolidated oedometer loading (common practice: 1 - sin phi', Jaky 1944)",
+           "cut-off of Rowe's relation: \"rowe\" as is (contraction below phi_cv), \"rowe_no_contraction\" "
+           "(psi_m >= 0), \"no_dilatancy\" (psi_m = 0)",
+           ParameterRole::none, {"rowe", "rowe_no_contraction", "no_dilatancy"}},
+          {"secant_stiffness_ref", "kPa", 20000.0, 0.0, inf, true, true,
+           "E50 at the reference pressure: secant stiffness at 50 % of the failure deviator stress in drained "
+           "triaxial compression at s3' = reference_pressure (s3' = minor principal effective stress)",
+           ParameterRole::secant_stiffness_ref},
+          {"unloading_stiffness_ref", "kPa", 60000.0, 0.0, inf, true, true,
+           "Young's modulus E_ur for unloading and reloading at s3' = reference_pressure; must exceed "
+           "2 E50/(2 - failure_ratio) (default 3 x the default E50: a first estimate from memory of Schanz et al. 1999)",
+           ParameterRole::unload_reload_stiffness_ref},
+          {"poissons_ratio_ur", "-", 0.2, -1.0, 0.5, true, true, "Poisson's ratio nu_ur for unloading and reloading",
+           ParameterRole::poissons_ratio},
+          {"stress_exponent", "-", 0.5, 0.0, 1.0, false, false,
+           "m: stiffness ~ ((s3' + c' cot phi')/(reference_pressure + c' cot phi'))^m",
+           ParameterRole::stiffness_exponent},
+          {"reference_pressure", "kPa", 100.0, 0.0, inf, true, true, "reference pressure p_ref of the stiffness power law",
+           ParameterRole::reference_pressure},
+          {"failure_ratio", "-", 0.9, 0.0, 1.0, true, false,
+           "R_f = q_f / q_a: failure deviator over the asymptote of the hyperbola", ParameterRole::none},
+          {"oedometer_stiffness_ref", "kPa", 20000.0, 0.0, inf, true, true,
+           "tangent oedometric stiffness d s1'/d eps_1 of a normally consolidated sample at s1' = reference_pressure "
+           "(sets the cap's hardening)",
+           ParameterRole::oedometer_stiffness_ref},
+          {"k0_normally_consolidated", "-", 0.5, 0.0, 1.0, true, true,
+           "K0 = s3'/s1' in normally consolidated oedometer loading (sets the cap's shape; common practice: "
+           "1 - sin phi', Jaky 1944)",
            ParameterRole::earth_pressure_at_rest},
-          {"tensile_strength", "kPa", 0.0, 0.0, inf, false, true,
-           "largest tensile minor principal effective stress (tension cut-off); capped at c' cot phi'",
-           ParameterRole::tensile_strength},
       },
       {"shear_hardening", "cap_pressure", "cap_volumetric_strain", "mobilised_friction_angle",
        "mobilised_dilation_angle", "active_surfaces", "shear_multiplier_rate", "cap_multiplier_rate"},
+      {{"k0_nc", "k0_normally_consolidated"}},
   };
   return info;
 }
@@ -255,8 +263,8 @@ HyperbolicHardening::HyperbolicHardening(const ParameterValues& v, const std::st
     throw InputError(head + "critical_state_friction_angle = " + format_number(v[critical_state_friction_angle]) +
                      " deg must not exceed friction_angle = " + format_number(v[friction_angle]) + " deg");
   if (v[dilatancy_rule] != std::floor(v[dilatancy_rule]))
-    throw InputError(head + "dilatancy_rule = " + format_number(v[dilatancy_rule]) +
-                     " must be 0 (Rowe as is), 1 (no contraction) or 2 (no dilatancy)");
+    throw InputError(head + "dilatancy_rule = " + format_number(v[dilatancy_rule]) + " must be the index of " +
+                     word_list(info.parameters[dilatancy_rule]) + " (0, 1 or 2)");
   const double ei_ref = 2.0 * v[secant_stiffness_ref] / (2.0 - v[failure_ratio]);
   if (!(v[unloading_stiffness_ref] > ei_ref))
     throw InputError(head + "unloading_stiffness_ref = " + format_number(v[unloading_stiffness_ref]) +
@@ -280,7 +288,7 @@ HyperbolicHardening::HyperbolicHardening(const ParameterValues& v, const std::st
   k_.floor = kStiffnessFloor * (k_.p_ref + k_.c_cot);
 
   // The cap from one element in oedometer loading on the normally consolidated line, at
-  // s1' = p_ref, s3' = k0_nc p_ref, ds = (1, K0, K0) ds1 (Schanz et al. 1999 find alpha and beta by
+  // s1' = p_ref, s3' = K0 p_ref, ds = (1, K0, K0) ds1 (Schanz et al. 1999 find alpha and beta by
   // simulating this test; here the element's rate equations are solved directly):
   //   radial:  e_r + dl_s n_s,r + dl_c n_c,r = 0           e = D^-1 ds (elastic, E_ur at s3')
   //   axial:   e_1 + dl_s n_s,1 + dl_c n_c,1 = 1 / E_oed   E_oed = oedometer_stiffness_ref here
@@ -289,14 +297,14 @@ HyperbolicHardening::HyperbolicHardening(const ParameterValues& v, const std::st
   // With n_c ~ u (1, -1/2, -1/2) + p'/3 (1, 1, 1), u = q/alpha^2, the first two fix u and dl_c,
   // the last fixes H. With c' = 0 the whole response is homogeneous of degree m in stress, so the
   // match holds at every s1' on the K0 line; with c' > 0 it holds at s1' = p_ref.
-  const double kk = v[k0_nc];
+  const double kk = v[k0_normally_consolidated];
   const double s1 = k_.p_ref;
   const double s3 = kk * s1;
   const double q = s1 - s3;
   const double p = (s1 + 2.0 * s3) / 3.0;
   const double qf = k_.kf * (s3 + k_.c_cot);
   if (!(q < qf))
-    throw InputError(head + "k0_nc = " + format_number(kk) + " puts the normally consolidated state at or beyond "
+    throw InputError(head + "k0_normally_consolidated = " + format_number(kk) + " puts the normally consolidated state at or beyond "
                      "failure (deviator " + format_number(q) + " kPa >= q_f = " + format_number(qf) +
                      " kPa at s1' = reference_pressure); it must exceed " +
                      format_number((1.0 - k_.sin_phi) / (1.0 + k_.sin_phi)) + " for c' = 0");
@@ -317,14 +325,14 @@ HyperbolicHardening::HyperbolicHardening(const ParameterValues& v, const std::st
   const double axial = 1.0 / eoed - e1 - dl_s * pt.n[0][0].v;  // cap plastic strain needed, axial
   const double radial = -(er + dl_s * pt.n[0][1].v);           // and each radial
   if (!(axial > 0.0))
-    throw InputError(head + "oedometer_stiffness_ref = " + format_number(eoed) + " kPa is too stiff for k0_nc = " +
+    throw InputError(head + "oedometer_stiffness_ref = " + format_number(eoed) + " kPa is too stiff for k0_normally_consolidated = " +
                      format_number(kk) + ": elastic and shear-hardening strains alone give a tangent of " +
                      format_number(1.0 / (e1 + dl_s * pt.n[0][0].v)) +
                      " kPa at s1' = reference_pressure; give a smaller value");
   if (!(axial > radial) || !(axial + 2.0 * radial > 0.0))
-    throw InputError(head + "k0_nc = " + format_number(kk) + " and oedometer_stiffness_ref = " +
+    throw InputError(head + "k0_normally_consolidated = " + format_number(kk) + " and oedometer_stiffness_ref = " +
                      format_number(eoed) + " kPa cannot both be matched by the cap (it would need a negative "
-                     "alpha^2); try a smaller k0_nc or a smaller oedometer_stiffness_ref");
+                     "alpha^2); try a smaller k0_normally_consolidated or a smaller oedometer_stiffness_ref");
   const double u = (axial - radial) * p / (3.0 * (0.5 * axial + radial));
   k_.alpha2 = q / u;
   const double big_f = std::sqrt(q * u + p * p);

@@ -24,11 +24,11 @@
 //   gamma_p = eps_1^p - eps_2^p - eps_3^p; d gamma_p = d lambda_s.
 //   sin psi_m from Rowe's (1962) stress-dilatancy, sin psi_m = (sin phi_m - sin phi_cv)/(1 - sin phi_m sin phi_cv),
 //   sin phi_m = (s1' - s3')/(s1' + s3' + 2 c cot phi), capped at sin phi, then a cut-off rule:
-//   0 = as is (contraction below phi_cv), 1 = no contraction (psi_m >= 0), 2 = no dilatancy (psi_m = 0).
+//   "rowe" = as is (contraction below phi_cv), "rowe_no_contraction" (psi_m >= 0), "no_dilatancy" (psi_m = 0).
 // - Cap (paper eqs. 20-22): f_c = sqrt(q~^2/alpha^2 + p'^2) - p_p, associated flow; hardening
 //   d p_p = H_ref (p_p/p_ref)^m d eps_v^pc (the paper's eps_v^pc = beta/(1-m) (p_p/p_ref)^(1-m) with
 //   H_ref = p_ref/beta), integrated in closed form over an increment. alpha and H_ref follow from
-//   k0_nc and oedometer_stiffness_ref (see calibrate_cap in the .cpp).
+//   k0_normally_consolidated and oedometer_stiffness_ref (see calibrate_cap in the .cpp).
 // - Tension cut-off: s3 >= -min(tensile_strength, c cot phi), associated.
 // Integration: implicit (backward Euler) return mapping in principal stress space, multi-surface
 // (shear, cap, tension), Newton with an exact Jacobian, and the consistent tangent of an isotropic
@@ -49,21 +49,23 @@ namespace triaxcal {
 class HyperbolicHardening final : public Model {
  public:
   enum Parameter {
-    secant_stiffness_ref,
-    oedometer_stiffness_ref,
-    unloading_stiffness_ref,
-    stress_exponent,
-    reference_pressure,
-    poissons_ratio_ur,
-    failure_ratio,
-    cohesion,
     friction_angle,
+    cohesion,
+    tensile_strength,
     critical_state_friction_angle,
     dilatancy_rule,
-    k0_nc,
-    tensile_strength,
+    secant_stiffness_ref,
+    unloading_stiffness_ref,
+    poissons_ratio_ur,
+    stress_exponent,
+    reference_pressure,
+    failure_ratio,
+    oedometer_stiffness_ref,
+    k0_normally_consolidated,
     parameter_count
   };
+  /// Words of dilatancy_rule (files write the word; the value is its index).
+  enum DilatancyRule { rowe = 0, rowe_no_contraction = 1, no_dilatancy = 2 };
   enum StateVariable {
     shear_hardening,          ///< gamma_p (-)
     cap_pressure,             ///< p_p (kPa)

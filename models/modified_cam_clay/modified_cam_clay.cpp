@@ -118,9 +118,9 @@ const ModelInfo& ModifiedCamClay::model_info() {
            "slope of unloading-reloading lines in e-ln p'; elastic K = (1 + e) p'/kappa with the current e; "
            "kappa < lambda", ParameterRole::swelling_index},
           {"critical_state_ratio", "-", 0.0, 0.0, 3.0, false, true,
-           "M = q/p' at critical state in triaxial compression; 0 = from critical_friction_angle",
+           "M = q/p' at critical state in triaxial compression; 0 = from critical_state_friction_angle",
            ParameterRole::critical_state_ratio},
-          {"critical_friction_angle", "deg", 0.0, 0.0, 90.0, false, true,
+          {"critical_state_friction_angle", "deg", 0.0, 0.0, 90.0, false, true,
            "critical-state friction angle phi_cs, M = 6 sin(phi_cs)/(3 - sin(phi_cs)); 0 = use critical_state_ratio (give one)",
            ParameterRole::critical_state_friction_angle},
           {"poissons_ratio", "-", 0.3, -1.0, 0.5, true, true,
@@ -134,6 +134,7 @@ const ModelInfo& ModifiedCamClay::model_info() {
            "6 sin(phi_cs)/(3 + sin(phi_cs)) in extension", ParameterRole::none},
       },
       {"preconsolidation_pressure", "void_ratio", "plastic_rate", "multiplier_rate"},
+      {{"critical_friction_angle", "critical_state_friction_angle"}},
   };
   return info;
 }
@@ -149,12 +150,12 @@ std::unique_ptr<Model> ModifiedCamClay::create(const ParameterValues& v, const s
     throw InputError(prefix + "kappa = " + format_number(v[kappa]) + " must be smaller than lambda = " +
                      format_number(v[lambda]));
   const bool has_m = v[critical_state_ratio] > 0.0;
-  const bool has_phi = v[critical_friction_angle] > 0.0;
+  const bool has_phi = v[critical_state_friction_angle] > 0.0;
   if (!has_m && !has_phi)
-    throw InputError(prefix + "give critical_state_ratio (M > 0) or critical_friction_angle (phi_cs > 0); both are 0");
+    throw InputError(prefix + "give critical_state_ratio (M > 0) or critical_state_friction_angle (phi_cs > 0); both are 0");
   if (has_m && has_phi)
     throw InputError(prefix + "give only one of critical_state_ratio = " + format_number(v[critical_state_ratio]) +
-                     " and critical_friction_angle = " + format_number(v[critical_friction_angle]) +
+                     " and critical_state_friction_angle = " + format_number(v[critical_state_friction_angle]) +
                      " deg (set the other to 0)");
   if (v[lode_dependence] != 0.0 && v[lode_dependence] != 1.0)
     throw InputError(prefix + "lode_dependence = " + format_number(v[lode_dependence]) +
@@ -162,7 +163,7 @@ std::unique_ptr<Model> ModifiedCamClay::create(const ParameterValues& v, const s
   if (v[lode_dependence] == 1.0) {
     double m = v[critical_state_ratio];
     if (has_phi) {
-      const double s = std::sin(degrees_to_radians(v[critical_friction_angle]));
+      const double s = std::sin(degrees_to_radians(v[critical_state_friction_angle]));
       m = 6.0 * s / (3.0 - s);
     }
     if (m > kConvexLimit)
@@ -180,7 +181,7 @@ ModifiedCamClay::ModifiedCamClay(const ParameterValues& v)
     m_compression_ = v[critical_state_ratio];
     sphi = 3.0 * m_compression_ / (6.0 + m_compression_);
   } else {
-    sphi = std::sin(degrees_to_radians(v[critical_friction_angle]));
+    sphi = std::sin(degrees_to_radians(v[critical_state_friction_angle]));
     m_compression_ = 6.0 * sphi / (3.0 - sphi);
   }
   const double a = (3.0 - sphi) / (3.0 + sphi);

@@ -65,7 +65,7 @@ class ModifiedCamClay final : public Model {
     lambda,
     kappa,
     critical_state_ratio,
-    critical_friction_angle,
+    critical_state_friction_angle,
     poissons_ratio,
     shear_modulus,
     lode_dependence,

@@ -80,7 +80,7 @@ CalibrationProblem hh_problem() {
       free_parameter("stress_exponent", 0.3, 0.9, 0.5),
       free_parameter("friction_angle", 28, 42, 33),
       free_parameter("critical_state_friction_angle", 25, 35, 29),
-      fixed_parameter("k0_nc", k0),
+      fixed_parameter("k0_normally_consolidated", k0),
   };
   problem.constraints = {"critical_state_friction_angle <= friction_angle",
                          "unloading_stiffness_ref >= 2 * secant_stiffness_ref"};

@@ -330,7 +330,7 @@ TEST_CASE("oedometer_stiffness_ref takes bounds v/4 to 4 v from the constrained 
   }
 }
 
-TEST_CASE("Modified Cam-Clay's critical_friction_angle takes its start and bounds v +- 8 deg from the critical states",
+TEST_CASE("Modified Cam-Clay's critical_state_friction_angle takes its start and bounds v +- 8 deg from the critical states",
           "[interpretation][bounds]") {
   const TestSeries series = read_test_series(kKestrelSeries);
   std::string specimen, material;
@@ -347,13 +347,13 @@ TEST_CASE("Modified Cam-Clay's critical_friction_angle takes its start and bound
   const Interpretation in = interpret(series, io);
   const double v = std::isfinite(in.phi_cs) ? in.phi_cs : in.phi_cv_rowe;
   REQUIRE(std::isfinite(v));
-  json c = example_with({{"critical_state_ratio", 0}, {"critical_friction_angle", {{"status", "free"}}}});
+  json c = example_with({{"critical_state_ratio", 0}, {"critical_state_friction_angle", {{"status", "free"}}}});
   c["series"] = kKestrelSeries;
   c["model"] = "modified_cam_clay";
   c["tests"] = json::array({{{"specimen", specimen}, {"curves", {"deviator_stress"}}}});
   CalibrationFile f = parse_calibration_file(c.dump(), "cal.json");
   const std::vector<std::string> notes = seed_from_interpretation(f, series, model("modified_cam_clay"));
-  const ParameterSpec& s = spec_of(f, "critical_friction_angle");
+  const ParameterSpec& s = spec_of(f, "critical_state_friction_angle");
   INFO("phi_cs from the interpretation: " << v);
   CHECK(s.start == Approx(v).epsilon(1e-12));
   CHECK(s.lower == Approx(v - 8.0).epsilon(1e-12));
@@ -401,4 +401,45 @@ TEST_CASE("every registered model declares each role at most once", "[roles]") {
   CHECK(parameter_with_role(model("mohr_coulomb"), ParameterRole::none) == -1);
   CHECK(parameter_with_role(model("mohr_coulomb"), ParameterRole::compression_index) == -1);
   CHECK(std::string(to_string(ParameterRole::earth_pressure_at_rest)) == "earth_pressure_at_rest");
+}
+
+TEST_CASE("a calibration file fixes a word parameter at its word and names the new name of a former one",
+          "[calibration][names][errors]") {
+  const TestSeries series = read_test_series(kDemoSeries);
+  const ModelEntry& entry = find_model("hyperbolic_hardening");
+  json p = {{"friction_angle", {{"status", "free"}, {"lower", 30}, {"upper", 40}}}, {"dilatancy_rule", "no_dilatancy"}};
+  auto build = [&](const json& parameters) {
+    json c = example_with(parameters);
+    c["model"] = "hyperbolic_hardening";
+    c.erase("constraints");
+    const CalibrationFile f = parse_calibration_file(c.dump(), "cal.json");
+    return build_calibration_problem(f, series, entry.info(), [&](const ParameterValues& v) { return entry.create(v, "cal.json"); });
+  };
+  auto message = [&](const json& parameters) {
+    try {
+      build(parameters);
+    } catch (const InputError& e) {
+      return std::string(e.what());
+    }
+    return std::string("no error");
+  };
+  const CalibrationProblem problem = build(p);
+  for (const ParameterSpec& s : problem.parameters)
+    if (s.name == "dilatancy_rule") CHECK(s.value == 2.0);  // the index of "no_dilatancy"
+  json q = p;
+  q["dilatancy_rule"] = {{"status", "fixed"}, {"value", "rowe"}};
+  for (const ParameterSpec& s : build(q).parameters)
+    if (s.name == "dilatancy_rule") CHECK(s.value == 0.0);
+  q["dilatancy_rule"] = 1;
+  CHECK(message(q) == "cal.json: parameters.dilatancy_rule: expected one of \"rowe\", \"rowe_no_contraction\" or "
+                      "\"no_dilatancy\", found 1");
+  q["dilatancy_rule"] = {{"status", "free"}, {"lower", 0}, {"upper", 2}};
+  CHECK(message(q) == "cal.json: parameters.dilatancy_rule: a word parameter is fixed at one of \"rowe\", "
+                      "\"rowe_no_contraction\" or \"no_dilatancy\", not free");
+  q = p;
+  q["k0_nc"] = 0.45;
+  CHECK(message(q) == "cal.json: hyperbolic_hardening: parameter 'k0_nc' is now called 'k0_normally_consolidated'");
+  q = p;
+  q["cohesion"] = "none";
+  CHECK(message(q) == "cal.json: parameters.cohesion: expected a number (kPa), found \"none\"");
 }

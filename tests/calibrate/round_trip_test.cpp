@@ -252,7 +252,7 @@ RoundTrip hyperbolic_cd_oedometer() {
       free_parameter("stress_exponent", 0.3, 0.9, 0.5),
       free_parameter("friction_angle", 28, 42, 33.5),
       free_parameter("critical_state_friction_angle", 25, 35, 29.5),
-      fixed_parameter("k0_nc", k0),
+      fixed_parameter("k0_normally_consolidated", k0),
   };
   rt.problem.constraints = {"critical_state_friction_angle <= friction_angle",
                             "unloading_stiffness_ref >= 2 * secant_stiffness_ref"};

@@ -18,6 +18,7 @@
 #include "triaxcal/driver.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/models/registry.hpp"
+#include "triaxcal/parameter_file.hpp"
 #include "triaxcal/parameters.hpp"
 
 using namespace triaxcal;
@@ -117,22 +118,24 @@ TEST_CASE("hyperbolic_hardening: bad parameters give exact messages", "[hyperbol
         "params.json: hyperbolic_hardening: oedometer_stiffness_ref = -5 is outside (0, inf) (kPa)");
   CHECK(create_message({{"unloading_stiffness_ref", 0.0}}) ==
         "params.json: hyperbolic_hardening: unloading_stiffness_ref = 0 is outside (0, inf) (kPa)");
-  CHECK(create_message({{"k0_nc", 0.0}}) == "params.json: hyperbolic_hardening: k0_nc = 0 is outside (0, 1) (-)");
-  CHECK(create_message({{"k0_nc", 1.0}}) == "params.json: hyperbolic_hardening: k0_nc = 1 is outside (0, 1) (-)");
+  CHECK(create_message({{"k0_normally_consolidated", 0.0}}) ==
+        "params.json: hyperbolic_hardening: k0_normally_consolidated = 0 is outside (0, 1) (-)");
+  CHECK(create_message({{"k0_normally_consolidated", 1.0}}) ==
+        "params.json: hyperbolic_hardening: k0_normally_consolidated = 1 is outside (0, 1) (-)");
   CHECK(create_message({{"unloading_stiffness_ref", 30000.0}}) ==
         "params.json: hyperbolic_hardening: unloading_stiffness_ref = 30000 kPa must exceed the initial stiffness "
         "2 secant_stiffness_ref / (2 - failure_ratio) = 36363.6 kPa");
   CHECK(create_message({{"critical_state_friction_angle", 35.0}}) ==
         "params.json: hyperbolic_hardening: critical_state_friction_angle = 35 deg must not exceed friction_angle = 33 deg");
   CHECK(create_message({{"dilatancy_rule", 1.5}}) ==
-        "params.json: hyperbolic_hardening: dilatancy_rule = 1.5 must be 0 (Rowe as is), 1 (no contraction) or 2 "
-        "(no dilatancy)");
-  CHECK(create_message({{"k0_nc", 0.25}}) ==
-        "params.json: hyperbolic_hardening: k0_nc = 0.25 puts the normally consolidated state at or beyond failure "
-        "(deviator 75 kPa >= q_f = 59.803 kPa at s1' = reference_pressure); it must exceed 0.294801 for c' = 0");
+        "params.json: hyperbolic_hardening: dilatancy_rule = 1.5 must be the index of \"rowe\", \"rowe_no_contraction\" "
+        "or \"no_dilatancy\" (0, 1 or 2)");
+  CHECK(create_message({{"k0_normally_consolidated", 0.25}}) ==
+        "params.json: hyperbolic_hardening: k0_normally_consolidated = 0.25 puts the normally consolidated state at or "
+        "beyond failure (deviator 75 kPa >= q_f = 59.803 kPa at s1' = reference_pressure); it must exceed 0.294801 for c' = 0");
   CHECK(create_message({{"oedometer_stiffness_ref", 200000.0}}).rfind(
-            "params.json: hyperbolic_hardening: oedometer_stiffness_ref = 200000 kPa is too stiff for k0_nc = 0.5: "
-            "elastic and shear-hardening strains alone give a tangent of ",
+            "params.json: hyperbolic_hardening: oedometer_stiffness_ref = 200000 kPa is too stiff for "
+            "k0_normally_consolidated = 0.5: elastic and shear-hardening strains alone give a tangent of ",
             0) == 0);
   CHECK(create_message({}) == "no error");
 }
@@ -220,17 +223,17 @@ TEST_CASE("drained compression with dilatancy off follows the hyperbola within 1
 
 // Oedometer check of the cap calibration (Schanz, Vermeer & Bonnier 1999, section 4: alpha and
 // the cap modulus are chosen so that the model reproduces E_oed^ref and K0_nc).
-TEST_CASE("normally consolidated oedometer: tangent at s1' = reference pressure within 2 %, s3'/s1' = k0_nc within 1 %",
+TEST_CASE("normally consolidated oedometer: tangent at s1' = reference pressure within 2 %, s3'/s1' = k0_normally_consolidated within 1 %",
           "[hyperbolic_hardening]") {
   for (const Overrides& over :
-       {Overrides{}, Overrides{{"stress_exponent", 0.8}, {"k0_nc", 0.6}, {"oedometer_stiffness_ref", 12000.0},
+       {Overrides{}, Overrides{{"stress_exponent", 0.8}, {"k0_normally_consolidated", 0.6}, {"oedometer_stiffness_ref", 12000.0},
                                {"reference_pressure", 50.0}, {"friction_angle", 30.0}},
-        Overrides{{"stress_exponent", 0.3}, {"k0_nc", 0.42}, {"oedometer_stiffness_ref", 30000.0},
+        Overrides{{"stress_exponent", 0.3}, {"k0_normally_consolidated", 0.42}, {"oedometer_stiffness_ref", 30000.0},
                   {"secant_stiffness_ref", 35000.0}, {"unloading_stiffness_ref", 120000.0}, {"friction_angle", 38.0},
                   {"critical_state_friction_angle", 32.0}}}) {
     const auto model = make(over);
     const double pref = param(over, "reference_pressure");
-    const double k0 = param(over, "k0_nc");
+    const double k0 = param(over, "k0_normally_consolidated");
     const double eoed = param(over, "oedometer_stiffness_ref");
     TestProtocol p;
     p.initial.stress = triaxial_stress(0.5 * pref, 0.5 * pref * k0);
@@ -717,4 +720,47 @@ TEST_CASE("hyperbolic_hardening integrate allocates nothing on elastic, shear, c
   const long after = test::g_allocations.load();
   CHECK(ok == 8);
   CHECK(after == before);
+}
+
+TEST_CASE("hyperbolic_hardening: parameters listed strength, then stiffness, then the cap; dilatancy_rule takes words; "
+          "k0_nc names its new name",
+          "[hyperbolic_hardening][names]") {
+  const ModelInfo& info = HyperbolicHardening::model_info();
+  std::vector<std::string> names;
+  for (const ParameterInfo& p : info.parameters) names.push_back(p.name);
+  CHECK(names == std::vector<std::string>{"friction_angle", "cohesion", "tensile_strength", "critical_state_friction_angle",
+                                          "dilatancy_rule", "secant_stiffness_ref", "unloading_stiffness_ref",
+                                          "poissons_ratio_ur", "stress_exponent", "reference_pressure", "failure_ratio",
+                                          "oedometer_stiffness_ref", "k0_normally_consolidated"});
+  // The enum that the model reads its values with follows the same order.
+  CHECK(parameter_index(info, "k0_normally_consolidated") == HyperbolicHardening::k0_normally_consolidated);
+  CHECK(parameter_index(info, "dilatancy_rule") == HyperbolicHardening::dilatancy_rule);
+  CHECK(parameter_index(info, "secant_stiffness_ref") == HyperbolicHardening::secant_stiffness_ref);
+
+  auto message = [&](const std::string& text) {
+    try {
+      resolve_parameter_file(info, parse_parameter_file(text, "P.json"));
+    } catch (const InputError& e) {
+      return std::string(e.what());
+    }
+    return std::string("no error");
+  };
+  const std::string head = R"({"format": "triaxcal-parameters", "version": 1, "model": "hyperbolic_hardening", "parameters": )";
+  CHECK(message(head + R"({"k0_nc": 0.5}})") ==
+        "P.json: hyperbolic_hardening: parameter 'k0_nc' is now called 'k0_normally_consolidated'");
+  CHECK(message(head + R"({"dilatancy_rule": 2}})") ==
+        "P.json: parameters.dilatancy_rule: expected one of \"rowe\", \"rowe_no_contraction\" or \"no_dilatancy\", found 2");
+  CHECK(message(head + R"({"dilatancy_rule": "none"}})") ==
+        "P.json: parameters.dilatancy_rule: expected one of \"rowe\", \"rowe_no_contraction\" or \"no_dilatancy\", "
+        "found \"none\"");
+  CHECK(message(head + R"({"friction_angle": "steep"}})") ==
+        "P.json: parameters.friction_angle: expected a number (deg), found \"steep\"");
+  CHECK(message(head + R"({"dilatancy_rule": "no_dilatancy"}})") == "no error");
+  for (const auto& [word, index] : std::vector<std::pair<std::string, double>>{
+           {"rowe", 0.0}, {"rowe_no_contraction", 1.0}, {"no_dilatancy", 2.0}}) {
+    const ParameterValues v =
+        resolve_parameter_file(info, parse_parameter_file(head + R"({"dilatancy_rule": {"value": ")" + word + R"("}}})", "P.json"));
+    CHECK(v[HyperbolicHardening::dilatancy_rule] == index);
+    CHECK(word_of(info.parameters[HyperbolicHardening::dilatancy_rule], index) == word);
+  }
 }

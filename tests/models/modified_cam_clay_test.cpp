@@ -623,7 +623,7 @@ TEST_CASE("undrained MCC extension reaches q = -M_e p'_0 (OCR/2)^Lambda, M_e = 6
 TEST_CASE("MCC with phi_cs instead of M uses M = 6 sin phi_cs/(3 - sin phi_cs)") {
   auto given = base_parameters();
   given.erase("critical_state_ratio");
-  given["critical_friction_angle"] = 30.0;
+  given["critical_state_friction_angle"] = 30.0;
   const auto mcc = make_mcc(given);
   const auto r = simulate(fixed_steps(), *mcc, triaxial(200.0, 1.0, Drainage::undrained, 0.4, 2000));
   REQUIRE(r.ok());
@@ -645,12 +645,16 @@ TEST_CASE("MCC bad parameters give exact messages") {
   CHECK_THROWS_WITH(make_mcc(with({{"critical_state_ratio", -0.5}})),
                     "test: modified_cam_clay: critical_state_ratio = -0.5 is outside [0, 3) (-)");
   CHECK_THROWS_WITH(make_mcc(with({{"critical_state_ratio", 0.0}})),
-                    "test: modified_cam_clay: give critical_state_ratio (M > 0) or critical_friction_angle "
+                    "test: modified_cam_clay: give critical_state_ratio (M > 0) or critical_state_friction_angle "
                     "(phi_cs > 0); both are 0");
-  CHECK_THROWS_WITH(make_mcc(with({{"critical_friction_angle", 25.0}})),
+  CHECK_THROWS_WITH(make_mcc(with({{"critical_state_friction_angle", 25.0}})),
                     "test: modified_cam_clay: give only one of critical_state_ratio = 0.9 and "
-                    "critical_friction_angle = 25 deg (set the other to 0)");
+                    "critical_state_friction_angle = 25 deg (set the other to 0)");
   CHECK_THROWS_WITH(make_mcc(with({{"lambda", 0.0}})), "test: modified_cam_clay: lambda = 0 is outside (0, inf) (-)");
+  // The former name of the critical-state friction angle names its new one (no silent alias).
+  CHECK_THROWS_WITH(make_mcc(with({{"critical_friction_angle", 30.0}})),
+                    "test: modified_cam_clay: parameter 'critical_friction_angle' is now called "
+                    "'critical_state_friction_angle'");
   CHECK_THROWS_WITH(make_mcc(with({{"poissons_ratio", 0.5}})),
                     "test: modified_cam_clay: poissons_ratio = 0.5 is outside (-1, 0.5) (-)");
   CHECK_THROWS_WITH(make_mcc(with({{"shear_modulus", -1.0}})),

@@ -148,7 +148,7 @@ TEST_CASE("batch gmsh runs the client through initialize, check and compute, and
   CHECK(value(db, "triaxcal/2Results/lower_clay/1Model") == "modified_cam_clay");
   // The parameter set's values, in model order, with units in the names.
   CHECK(std::stod(value(db, "triaxcal/2Results/lower_clay/200lambda")) == 0.18);
-  CHECK(std::stod(value(db, "triaxcal/2Results/lower_clay/203critical_friction_angle [deg]")) == 26.0);
+  CHECK(std::stod(value(db, "triaxcal/2Results/lower_clay/203critical_state_friction_angle [deg]")) == 26.0);
   const std::string phi_name = "triaxcal/2Results/upper_sand/203friction_angle [deg]";
   REQUIRE(db.count(phi_name) == 1);
   const double phi = std::stod(value(db, phi_name));

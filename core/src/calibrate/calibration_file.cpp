@@ -43,6 +43,11 @@ ParameterSpec parse_parameter(const std::string& name, const json& v, const std:
     s.value = v.get<double>();
     return s;
   }
+  if (v.is_string()) {  // a word parameter, fixed; checked against the model by build_calibration_problem
+    s.status = ParameterStatus::fixed;
+    s.word = v.get<std::string>();
+    return s;
+  }
   detail::require_object(v, src, path);
   const std::string status = detail::get_string(v, "status", src, path);
   s.status = choose<ParameterStatus>(
@@ -51,7 +56,10 @@ ParameterSpec parse_parameter(const std::string& name, const json& v, const std:
   switch (s.status) {
     case ParameterStatus::fixed:
       detail::check_keys(v, {"status", "value", "note"}, src, path);
-      s.value = detail::get_number_or(v, "value", kNotGiven, src, path);
+      if (v.contains("value") && v.at("value").is_string())
+        s.word = v.at("value").get<std::string>();
+      else
+        s.value = detail::get_number_or(v, "value", kNotGiven, src, path);
       break;
     case ParameterStatus::tied:
       detail::check_keys(v, {"status", "expression", "note"}, src, path);
@@ -280,6 +288,30 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
   p.model = &model;
   p.create = std::move(create);
   p.parameters = file.parameters;
+  // Former names say the new one; word parameters are fixed at a word, which becomes its index.
+  for (ParameterSpec& ps : p.parameters) {
+    const std::string where = src + ": parameters." + ps.name;
+    const int index = parameter_index(model, ps.name);
+    if (index < 0) {
+      const std::string renamed = renamed_message(model, ps.name, src);
+      if (!renamed.empty()) throw InputError(renamed);
+      continue;  // the engine names the unknown parameter
+    }
+    const ParameterInfo& pi = model.parameters[static_cast<std::size_t>(index)];
+    if (pi.words.empty()) {
+      if (!ps.word.empty())
+        throw InputError(where + ": expected a number (" + pi.unit + "), found \"" + ps.word + "\"");
+      continue;
+    }
+    if (ps.status != ParameterStatus::fixed)
+      throw InputError(where + ": a word parameter is fixed at one of " + word_list(pi) + ", not " + to_string(ps.status));
+    if (ps.word.empty() && !std::isnan(ps.value))
+      throw InputError(where + ": expected one of " + word_list(pi) + ", found " + format_number(ps.value));
+    if (ps.word.empty()) continue;  // the model default
+    const int w = word_index(pi, ps.word);
+    if (w < 0) throw InputError(where + ": expected one of " + word_list(pi) + ", found \"" + ps.word + "\"");
+    ps.value = w;
+  }
   p.constraints = file.constraints;
   p.driver.tolerance = file.simulation_tolerance;
   p.driver.fixed_steps = file.fixed_steps;

@@ -95,7 +95,11 @@ std::string format_parameter_set(const CalibrationSummary& s, const ModelInfo& m
   ordered_json params = ordered_json::object();
   for (const FittedParameter& p : s.parameters) {
     ordered_json o;
-    o["value"] = p.value;
+    const int index = parameter_index(model, p.name);
+    if (index >= 0 && !model.parameters[static_cast<std::size_t>(index)].words.empty())
+      o["value"] = word_of(model.parameters[static_cast<std::size_t>(index)], p.value);  // a word parameter
+    else
+      o["value"] = p.value;
     o["unit"] = p.unit;
     o["status"] = to_string(p.status);
     if (p.status == ParameterStatus::free) {
