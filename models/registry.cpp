@@ -4,6 +4,7 @@
 #include "modified_cam_clay/modified_cam_clay.hpp"
 #include "mohr_coulomb/mohr_coulomb.hpp"
 #include "triaxcal/error.hpp"
+#include "undrained_tresca/undrained_tresca.hpp"
 
 namespace triaxcal {
 
@@ -12,6 +13,7 @@ const std::vector<ModelEntry>& model_registry() {
       {&MohrCoulomb::model_info, &MohrCoulomb::create},
       {&ModifiedCamClay::model_info, &ModifiedCamClay::create},
       {&HyperbolicHardening::model_info, &HyperbolicHardening::create},
+      {&UndrainedTresca::model_info, &UndrainedTresca::create},
   };
   return entries;
 }

@@ -8,6 +8,7 @@
 #include <limits>
 
 #include "triaxcal/error.hpp"
+#include "principal_space.hpp"
 #include "triaxcal/parameters.hpp"
 
 namespace triaxcal {
@@ -180,22 +181,6 @@ int MohrCoulomb::return_principal(const Vec3& trial, Vec3& stress, Mat3& tangent
   return -1;
 }
 
-namespace {
-
-// Column by column: g++ 12 turns a whole-matrix setZero of the 288-byte Mat6 into `rep stos`,
-// whose start-up cost was a fifth of a plastic increment; per column it is 18 vector stores.
-void zero_columns(Mat6& m) {
-  for (int j = 0; j < 6; ++j) m.col(j).setZero();
-}
-
-// Voigt slot of the shear pair (i, j), i != j.
-int shear_slot(int i, int j) {
-  const int lo = std::min(i, j), hi = std::max(i, j);
-  return lo == 0 ? (hi == 1 ? voigt::xy : voigt::zx) : voigt::yz;
-}
-
-}  // namespace
-
 IntegrationResult MohrCoulomb::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
                                          Mat6& tangent) const {
   // Elastic trial D de, written out for the isotropic D (a third of the cost of the 6x6 product).
@@ -206,34 +191,15 @@ IntegrationResult MohrCoulomb::integrate(const MaterialState& in, const Vec6& de
   out = in;
   if (!trial.allFinite()) return {Status::numerical_issue, 0};
 
-  // Principal values (sorted descending: A, B, C) and directions of the trial stress. When the
-  // shear components vanish (every triaxial path) the axes are the coordinate axes: no
-  // eigen-decomposition.
-  const double scale = std::max(1.0, trial.cwiseAbs().maxCoeff());
-  const bool diagonal = std::abs(trial[3]) + std::abs(trial[4]) + std::abs(trial[5]) <= 1e-14 * scale;
-  Vec3 principal;
-  Mat3 axes;  // columns: unit directions of A, B, C
-  int order[3] = {0, 1, 2};  // diagonal case: coordinate index of A, B, C
-  if (diagonal) {
-    if (trial[order[0]] < trial[order[1]]) std::swap(order[0], order[1]);
-    if (trial[order[1]] < trial[order[2]]) std::swap(order[1], order[2]);
-    if (trial[order[0]] < trial[order[1]]) std::swap(order[0], order[1]);
-    for (int i = 0; i < 3; ++i) principal[i] = trial[order[i]];
-  } else {
-    Mat3 t;
-    t << trial[0], trial[3], trial[5], trial[3], trial[1], trial[4], trial[5], trial[4], trial[2];
-    Eigen::SelfAdjointEigenSolver<Mat3> es(t);
-    if (es.info() != Eigen::Success) return {Status::numerical_issue, 0};
-    for (int i = 0; i < 3; ++i) {  // eigenvalues ascending
-      principal[i] = es.eigenvalues()[2 - i];
-      axes.col(i) = es.eigenvectors().col(2 - i);
-    }
-  }
+  // Principal values (sorted descending: A, B, C) and directions of the trial stress
+  // (principal_space.hpp: no eigen-decomposition on triaxial paths).
+  principal::Decomposition d;
+  if (!principal::decompose_sorted(trial, d)) return {Status::numerical_issue, 0};
 
   Vec3 returned;
   Mat3 dp;
   double multiplier = 0.0;
-  const int active = return_principal(principal, returned, dp, multiplier);
+  const int active = return_principal(d.values, returned, dp, multiplier);
   if (active < 0) return {Status::no_convergence, 0};
   if (active == 0) {
     out.stress = trial;
@@ -244,48 +210,7 @@ IntegrationResult MohrCoulomb::integrate(const MaterialState& in, const Vec6& de
 
   out.internal[0] = in.internal[0] + multiplier;
   out.internal[1] = active;
-  if (diagonal) {
-    // Principal axes = coordinate axes: the same formula as below, written out without dyads.
-    out.stress.setZero();
-    zero_columns(tangent);
-    for (int a = 0; a < 3; ++a) {
-      out.stress[order[a]] = returned[a];
-      for (int b = 0; b < 3; ++b) tangent(order[a], order[b]) = dp(a, b);
-    }
-    for (int a = 0; a < 3; ++a) {
-      for (int b = a + 1; b < 3; ++b) {
-        const double gap = principal[a] - principal[b];
-        const double coef = std::abs(gap) > 1e-9 * scale ? 2.0 * shear_ * (returned[a] - returned[b]) / gap
-                                                          : 0.5 * (dp(a, a) - dp(a, b) + dp(b, b) - dp(b, a));
-        // sym(e_i e_j) has 1/2 in Voigt slot of the pair: 2 coef (1/2)^2 = coef / 2.
-        tangent(shear_slot(order[a], order[b]), shear_slot(order[a], order[b])) = 0.5 * coef;
-      }
-    }
-    return {Status::ok, 1};
-  }
-  Vec6 n[3];
-  for (int i = 0; i < 3; ++i) n[i] = symmetric_dyad(axes.col(i), axes.col(i));
-  out.stress = returned[0] * n[0] + returned[1] * n[1] + returned[2] * n[2];
-
-  // Consistent tangent of an isotropic tensor function (de Souza Neto, Peric & Owen 2008,
-  // "Computational Methods for Plasticity", eq. A.46): the principal tangent on the principal
-  // dyads, plus 2 (s_a - s_b)/(e_a - e_b) on each sym(n_a n_b) pair, where e_a - e_b =
-  // (trial_a - trial_b) / 2G; for coincident trial values the limit from the principal tangent.
-  zero_columns(tangent);
-  for (int a = 0; a < 3; ++a)
-    for (int b = 0; b < 3; ++b) tangent += dp(a, b) * n[a] * n[b].transpose();
-  for (int a = 0; a < 3; ++a) {
-    for (int b = a + 1; b < 3; ++b) {
-      const double gap = principal[a] - principal[b];
-      double coef;
-      if (std::abs(gap) > 1e-9 * scale)
-        coef = 2.0 * shear_ * (returned[a] - returned[b]) / gap;
-      else
-        coef = 0.5 * (dp(a, a) - dp(a, b) + dp(b, b) - dp(b, a));
-      const Vec6 s = symmetric_dyad(axes.col(a), axes.col(b));
-      tangent += 2.0 * coef * s * s.transpose();
-    }
-  }
+  principal::assemble(d, returned, dp, shear_, out.stress, tangent);
   return {Status::ok, 1};
 }
 

@@ -14,7 +14,7 @@ json number_or_null(double value) { return std::isfinite(value) ? json(value) : 
 
 json model_json(const ModelInfo& info) {
   json parameters = json::array();
-  for (const ParameterInfo& p : info.parameters)
+  for (const ParameterInfo& p : info.parameters) {
     parameters.push_back({{"name", p.name},
                           {"unit", p.unit},
                           {"default", number_or_null(p.default_value)},
@@ -23,7 +23,10 @@ json model_json(const ModelInfo& info) {
                           {"lower_open", p.lower_open},
                           {"upper_open", p.upper_open},
                           {"bounds", format_bounds(p)},
-                          {"description", p.description}});
+                          {"description", p.description},
+                          {"role", to_string(p.role)}});
+    if (!p.words.empty()) parameters.back()["words"] = p.words;  // a word parameter: files write the word
+  }
   return {{"name", info.name}, {"title", info.title}, {"parameters", parameters}, {"state_variables", info.state_names}};
 }
 
@@ -36,7 +39,9 @@ json models_json() {
 json parameter_set_json(const ModelInfo& info, const ParameterValues& values, const std::string& description) {
   json parameters = json::object();
   for (std::size_t i = 0; i < info.parameters.size() && i < values.size(); ++i)
-    parameters[info.parameters[i].name] = {{"value", values[i]}, {"unit", info.parameters[i].unit}};
+    parameters[info.parameters[i].name] = {
+        {"value", info.parameters[i].words.empty() ? json(values[i]) : json(word_of(info.parameters[i], values[i]))},
+        {"unit", info.parameters[i].unit}};
   json out = {{"format", kParameterFormat}, {"version", kParameterVersion}, {"model", info.name}};
   if (!description.empty()) out["description"] = description;
   out["parameters"] = parameters;

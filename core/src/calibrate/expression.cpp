@@ -1,153 +1,119 @@
 #include "expression.hpp"
 
+#include <muParser.h>
+
 #include <algorithm>
 #include <cctype>
 #include <cmath>
-#include <cstdlib>
 #include <limits>
+#include <mutex>
 
 #include "triaxcal/error.hpp"
 
 namespace triaxcal::detail {
 
-class ExpressionParser {
- public:
-  ExpressionParser(Expression& e, const std::vector<std::string>& names, const std::string& where)
-      : e_(e), names_(names), where_(where), s_(e.text_) {}
+namespace {
 
-  void parse() {
-    skip();
-    if (pos_ >= s_.size()) fail("empty expression");
-    sum();
-    skip();
-    if (pos_ < s_.size()) fail(std::string("unexpected '") + s_[pos_] + "' at position " + std::to_string(pos_ + 1));
-  }
+constexpr double kPi = 3.14159265358979323846;
 
- private:
-  using Op = Expression::Op;
-  [[noreturn]] void fail(const std::string& what) const {
-    throw InputError(where_ + ": " + what + " in \"" + s_ + "\"");
-  }
-  void skip() {
-    while (pos_ < s_.size() && std::isspace(static_cast<unsigned char>(s_[pos_]))) ++pos_;
-  }
-  bool accept(char c) {
-    skip();
-    if (pos_ < s_.size() && s_[pos_] == c) {
-      ++pos_;
-      return true;
-    }
-    return false;
-  }
-  void emit(Op op, double number = 0.0, int variable = -1) { e_.code_.push_back({op, number, variable}); }
-  void sum() {
-    product();
-    for (;;) {
-      if (accept('+')) { product(); emit(Op::add); }
-      else if (accept('-')) { product(); emit(Op::subtract); }
-      else return;
-    }
-  }
-  void product() {
-    power();
-    for (;;) {
-      if (accept('*')) { power(); emit(Op::multiply); }
-      else if (accept('/')) { power(); emit(Op::divide); }
-      else return;
-    }
-  }
-  void power() {
-    unary();
-    if (accept('^')) {
-      power();
-      emit(Op::power);
-    }
-  }
-  void unary() {
-    if (accept('-')) {
-      unary();
-      emit(Op::negate);
-      return;
-    }
-    if (accept('+')) {
-      unary();
-      return;
-    }
-    atom();
-  }
-  void atom() {
-    skip();
-    if (pos_ >= s_.size()) fail("unexpected end");
-    const char c = s_[pos_];
-    if (c == '(') {
-      ++pos_;
-      sum();
-      if (!accept(')')) fail("missing ')'");
-      return;
-    }
-    if (std::isdigit(static_cast<unsigned char>(c)) || c == '.') {
-      const char* begin = s_.c_str() + pos_;
-      char* end = nullptr;
-      const double v = std::strtod(begin, &end);
-      if (end == begin) fail("bad number at position " + std::to_string(pos_ + 1));
-      pos_ += static_cast<std::size_t>(end - begin);
-      emit(Op::number, v);
-      return;
-    }
-    if (std::isalpha(static_cast<unsigned char>(c)) || c == '_') {
-      const std::size_t start = pos_;
-      while (pos_ < s_.size() && (std::isalnum(static_cast<unsigned char>(s_[pos_])) || s_[pos_] == '_')) ++pos_;
-      const std::string name = s_.substr(start, pos_ - start);
-      const auto it = std::find(names_.begin(), names_.end(), name);
-      if (it == names_.end()) {
-        std::string known;
-        for (const auto& n : names_) known += (known.empty() ? "" : ", ") + n;
-        throw InputError(where_ + ": unknown name '" + name + "' in \"" + s_ + "\" (known: " + known + ")");
-      }
-      const int index = static_cast<int>(it - names_.begin());
-      emit(Op::variable, 0.0, index);
-      if (std::find(e_.used_.begin(), e_.used_.end(), index) == e_.used_.end()) e_.used_.push_back(index);
-      return;
-    }
-    fail(std::string("unexpected '") + c + "' at position " + std::to_string(pos_ + 1));
-  }
+double radians(double degrees) { return degrees * kPi / 180.0; }
+double degrees(double radians) { return radians * 180.0 / kPi; }
+double natural_log(double x) { return std::log(x); }
 
-  Expression& e_;
-  const std::vector<std::string>& names_;
-  const std::string& where_;
-  const std::string& s_;
-  std::size_t pos_ = 0;
+/// The functions an expression may call (muparser's own, with log and the angle conversions
+/// defined here so that their meaning does not depend on the library's version).
+bool is_function(const std::string& name) {
+  for (const char* f : {"sin", "cos", "tan", "asin", "acos", "atan", "radians", "degrees", "sqrt", "exp", "log", "abs",
+                        "min", "max"})
+    if (name == f) return true;
+  return false;
+}
+
+}  // namespace
+
+/// One parsed expression: muparser bound to one slot per variable. muparser evaluates through
+/// mutable state (the slots, its stack), so evaluation holds the lock.
+struct Expression::Compiled {
+  std::mutex lock;
+  mu::Parser parser;
+  std::vector<double> slots;
 };
 
 Expression::Expression(const std::string& text, const std::vector<std::string>& names, const std::string& where)
     : text_(text) {
-  ExpressionParser(*this, names, where).parse();
-}
+  const auto fail = [&](const std::string& what) { throw InputError(where + ": " + what + " in \"" + text + "\""); };
+  const auto blank = [](char c) { return std::isspace(static_cast<unsigned char>(c)) != 0; };
+  if (std::all_of(text.begin(), text.end(), blank)) fail("empty expression");
 
-double Expression::evaluate(const std::vector<double>& v) const {
-  double stack[64];
-  int top = 0;
-  for (const Instruction& in : code_) {
-    if (top >= 63) return std::numeric_limits<double>::quiet_NaN();  // deeper than any sensible tie
-    switch (in.op) {
-      case Op::number: stack[top++] = in.number; break;
-      case Op::variable: stack[top++] = v[static_cast<std::size_t>(in.variable)]; break;
-      case Op::negate: stack[top - 1] = -stack[top - 1]; break;
-      default: {
-        const double b = stack[--top];
-        double& a = stack[top - 1];
-        switch (in.op) {
-          case Op::add: a += b; break;
-          case Op::subtract: a -= b; break;
-          case Op::multiply: a *= b; break;
-          case Op::divide: a /= b; break;
-          case Op::power: a = std::pow(a, b); break;
-          default: break;
+  // Names first, with our messages: every identifier not followed by '(' must be a parameter.
+  for (std::size_t pos = 0; pos < text.size();) {
+    const char c = text[pos];
+    if (std::isdigit(static_cast<unsigned char>(c)) || c == '.') {
+      while (pos < text.size() && (std::isdigit(static_cast<unsigned char>(text[pos])) || text[pos] == '.')) ++pos;
+      if (pos < text.size() && (text[pos] == 'e' || text[pos] == 'E')) {
+        std::size_t after = pos + 1;
+        if (after < text.size() && (text[after] == '+' || text[after] == '-')) ++after;
+        if (after < text.size() && std::isdigit(static_cast<unsigned char>(text[after]))) {
+          pos = after;
+          while (pos < text.size() && std::isdigit(static_cast<unsigned char>(text[pos]))) ++pos;
         }
+      }
+      continue;
+    }
+    if (!(std::isalpha(static_cast<unsigned char>(c)) || c == '_')) {
+      ++pos;
+      continue;
+    }
+    const std::size_t start = pos;
+    while (pos < text.size() && (std::isalnum(static_cast<unsigned char>(text[pos])) || text[pos] == '_')) ++pos;
+    const std::string name = text.substr(start, pos - start);
+    std::size_t next = pos;
+    while (next < text.size() && blank(text[next])) ++next;
+    if (next < text.size() && text[next] == '(' && is_function(name)) continue;
+    const auto it = std::find(names.begin(), names.end(), name);
+    if (it == names.end()) {
+      std::string known;
+      for (const auto& n : names) known += (known.empty() ? "" : ", ") + n;
+      throw InputError(where + ": unknown name '" + name + "' in \"" + text + "\" (known: " + known + ")");
+    }
+    const int index = static_cast<int>(it - names.begin());
+    if (std::find(used_.begin(), used_.end(), index) == used_.end()) used_.push_back(index);
+  }
+
+  compiled_ = std::make_shared<Compiled>();
+  Compiled& c = *compiled_;
+  c.slots.assign(names.size(), 0.0);
+  try {
+    for (const int i : used_) c.parser.DefineVar(names[static_cast<std::size_t>(i)], &c.slots[static_cast<std::size_t>(i)]);
+    c.parser.DefineFun("radians", radians);
+    c.parser.DefineFun("degrees", degrees);
+    c.parser.DefineFun("log", natural_log);
+    c.parser.SetExpr(text);
+    c.parser.Eval();  // parses now: syntax errors are input errors here, not at the first evaluation
+  } catch (const mu::Parser::exception_type& e) {
+    switch (e.GetCode()) {
+      case mu::ecMISSING_PARENS: fail("missing ')'");
+      case mu::ecUNEXPECTED_EOF: fail("unexpected end");
+      default: {
+        const int pos = e.GetPos();
+        if (pos >= 0 && static_cast<std::size_t>(pos) < text.size())
+          fail(std::string("unexpected '") + text[static_cast<std::size_t>(pos)] + "' at position " + std::to_string(pos + 1));
+        fail("unexpected end");
       }
     }
   }
-  return top == 1 ? stack[0] : std::numeric_limits<double>::quiet_NaN();
+}
+
+double Expression::evaluate(const std::vector<double>& v) const {
+  if (!compiled_) return std::numeric_limits<double>::quiet_NaN();
+  Compiled& c = *compiled_;
+  const std::lock_guard<std::mutex> guard(c.lock);
+  for (const int i : used_) c.slots[static_cast<std::size_t>(i)] = v[static_cast<std::size_t>(i)];
+  try {
+    return c.parser.Eval();
+  } catch (const mu::Parser::exception_type&) {
+    return std::numeric_limits<double>::quiet_NaN();
+  }
 }
 
 Inequality parse_inequality(const std::string& text, const std::vector<std::string>& names, const std::string& where) {

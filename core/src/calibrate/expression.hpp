@@ -1,8 +1,11 @@
 #pragma once
-// Internal: the small arithmetic expressions of tied parameters and constraints.
-// Grammar: sum := product (('+'|'-') product)*; product := power (('*'|'/') power)*;
-// power := unary ('^' power)?; unary := '-' unary | atom; atom := number | name | '(' sum ')'.
+// Internal: the arithmetic expressions of tied parameters and constraints, evaluated by muparser
+// (Debian's libmuparser-dev): numbers, parameter names, + - * / ^ (right-associative; unary minus
+// binds looser than ^, so -2^2 = -4), parentheses and the functions sin, cos, tan, asin, acos, atan
+// (radians), radians, degrees, sqrt, exp, log (natural), abs, min, max. Names are checked before
+// muparser sees the text, so messages name the unknown name and the known ones.
 
+#include <memory>
 #include <string>
 #include <vector>
 
@@ -11,26 +14,22 @@ namespace triaxcal::detail {
 class Expression {
  public:
   /// Parses `text`; names resolve against `names` (their index is the variable). Throws InputError
-  /// "<where>: <what> in "<text>"" for a syntax error or "unknown name 'x' ... (known: a, b)".
+  /// "<where>: <what> in "<text>"" for a syntax error (empty expression, missing ')', unexpected end,
+  /// unexpected 'c' at position n) or "unknown name 'x' ... (known: a, b)".
   Expression(const std::string& text, const std::vector<std::string>& names, const std::string& where);
   Expression() = default;
 
+  /// The value with variables[i] for names[i]. Thread-safe (copies share one parser, used under a lock).
   double evaluate(const std::vector<double>& variables) const;
-  /// Indices of the variables it reads.
+  /// Indices of the variables it reads, in order of first appearance.
   const std::vector<int>& variables() const { return used_; }
   const std::string& text() const { return text_; }
 
  private:
-  enum class Op { number, variable, add, subtract, multiply, divide, power, negate };
-  struct Instruction {
-    Op op;
-    double number;
-    int variable;
-  };
-  std::vector<Instruction> code_;  // reverse Polish
+  struct Compiled;
+  std::shared_ptr<Compiled> compiled_;
   std::vector<int> used_;
   std::string text_;
-  friend class ExpressionParser;
 };
 
 /// "lhs <= rhs" as g = lhs - rhs <= 0 (or rhs - lhs for ">=").

@@ -1,0 +1,47 @@
+#pragma once
+// Undrained total-stress model (phi_u = 0): linear elastic, perfectly plastic with the Tresca
+// criterion s_1 - s_3 <= 2 c_u (Tresca 1864; the phi = 0 case of Mohr-Coulomb) and associated flow,
+// for the total-stress analysis of undrained clay and for fitting UU tests. The stresses it sees
+// are total stresses: in an undrained triaxial stage the driver keeps the specimen isochoric
+// (eps_r = -eps_a/2), so the mean stress stays at its start and the driver's "excess pore
+// pressure" (q/3) has no meaning for it; compare q only.
+// Return mapping in principal space, sorted s_A >= s_B >= s_C, onto the main plane A-C and the
+// triaxial compression (s_B = s_C) and extension (s_A = s_B) edges; since every plane's normal is
+// deviatoric, D a = 2G a and the returns are closed-form (de Souza Neto, Peric & Owen 2008,
+// "Computational Methods for Plasticity", section 8.1, the Tresca return in principal stresses).
+
+#include <memory>
+#include <string>
+
+#include "triaxcal/model.hpp"
+
+namespace triaxcal {
+
+class UndrainedTresca final : public Model {
+ public:
+  enum Parameter { undrained_shear_strength, undrained_youngs_modulus, undrained_poissons_ratio };
+  enum StateVariable { accumulated_plastic_multiplier, active_surfaces };
+
+  static const ModelInfo& model_info();
+  static std::unique_ptr<Model> create(const ParameterValues& values, const std::string& where);
+
+  explicit UndrainedTresca(const ParameterValues& values);
+
+  const ModelInfo& info() const override { return model_info(); }
+  /// The stress of the conditions, taken as total stress.
+  void initialise(const InitialConditions& conditions, MaterialState& state) const override;
+  IntegrationResult integrate(const MaterialState& in, const Vec6& strain_increment, MaterialState& out,
+                              Mat6& tangent) const override;
+
+  double shear_modulus() const { return shear_; }  ///< G = E_u / (2 (1 + nu_u)) (kPa)
+
+ private:
+  double cu_ = 0.0;
+  double bulk_ = 0.0;
+  double shear_ = 0.0;
+  double lame_ = 0.0;
+  Mat3 elastic_principal_ = Mat3::Zero();
+  Mat6 elastic_ = Mat6::Zero();
+};
+
+}  // namespace triaxcal
