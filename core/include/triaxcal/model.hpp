@@ -65,7 +65,7 @@ struct ParameterInfo {
   ParameterRole role = ParameterRole::none;  ///< what calibration and the report take it for
   /// A word parameter (a choice among named rules): the value is the index of the word; files and
   /// outputs write the word, never the number. Empty for a number.
-  std::vector<std::string> words;
+  std::vector<std::string> words{};
 };
 
 struct ModelInfo {
@@ -75,7 +75,7 @@ struct ModelInfo {
   std::vector<std::string> state_names;  ///< names of MaterialState::internal[0..n)
   /// Former parameter names and the names that replaced them: an old name is an error that names
   /// the new one (no silent alias).
-  std::vector<std::pair<std::string, std::string>> renamed;
+  std::vector<std::pair<std::string, std::string>> renamed{};
 };
 
 /// Index of the parameter that declares `role` in `info`, -1 when none does.

@@ -91,16 +91,13 @@ Expression::Expression(const std::string& text, const std::vector<std::string>& 
     c.parser.SetExpr(text);
     c.parser.Eval();  // parses now: syntax errors are input errors here, not at the first evaluation
   } catch (const mu::Parser::exception_type& e) {
-    switch (e.GetCode()) {
-      case mu::ecMISSING_PARENS: fail("missing ')'");
-      case mu::ecUNEXPECTED_EOF: fail("unexpected end");
-      default: {
-        const int pos = e.GetPos();
-        if (pos >= 0 && static_cast<std::size_t>(pos) < text.size())
-          fail(std::string("unexpected '") + text[static_cast<std::size_t>(pos)] + "' at position " + std::to_string(pos + 1));
-        fail("unexpected end");
-      }
-    }
+    std::string what = "unexpected end";
+    const int pos = e.GetPos();
+    if (e.GetCode() == mu::ecMISSING_PARENS)
+      what = "missing ')'";
+    else if (e.GetCode() != mu::ecUNEXPECTED_EOF && pos >= 0 && static_cast<std::size_t>(pos) < text.size())
+      what = std::string("unexpected '") + text[static_cast<std::size_t>(pos)] + "' at position " + std::to_string(pos + 1);
+    fail(what);
   }
 }
 

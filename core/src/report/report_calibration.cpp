@@ -285,6 +285,32 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
       compare("dilation angle psi", "deg", n > 0 ? sum / n : kUnknown, reason, ParameterRole::dilation_angle,
               "peak dilation rate of the CD stages (mean)");
     }
+    {
+      // Undrained strength and stiffness of the UU stages (total stress): c_u, E_u and their ratio.
+      double cu = 0.0, eu = 0.0;
+      int n_cu = 0, n_eu = 0;
+      for (const StageInterpretation& st : in.stages) {
+        if (st.test != ShearType::uu) continue;
+        if (std::isfinite(st.undrained_strength)) {
+          cu += st.undrained_strength;
+          ++n_cu;
+        }
+        if (std::isfinite(st.initial_stiffness)) {
+          eu += st.initial_stiffness;
+          ++n_eu;
+        }
+      }
+      const double cu_mean = n_cu > 0 ? cu / n_cu : kUnknown, eu_mean = n_eu > 0 ? eu / n_eu : kUnknown;
+      compare("undrained shear strength c_u", "kPa", cu_mean, "", ParameterRole::undrained_shear_strength,
+              "q_max / 2 of the UU stages (mean)");
+      compare("undrained Young's modulus E_u", "kPa", eu_mean, "", ParameterRole::undrained_youngs_modulus,
+              "initial stiffness of the UU stages (mean)");
+      const FittedParameter* fcu = find_parameter(s, problem.model, ParameterRole::undrained_shear_strength);
+      const FittedParameter* feu = find_parameter(s, problem.model, ParameterRole::undrained_youngs_modulus);
+      if (fcu && feu && fcu->value > 0.0)
+        d.comparisons.push_back({"stiffness ratio E_u / c_u", "-", n_cu > 0 && n_eu > 0 ? eu_mean / cu_mean : kUnknown,
+                                 feu->value / fcu->value, "UU stages (mean E_i / mean c_u) vs model " + feu->name + " / " + fcu->name});
+    }
     for (const std::string& w : in.warnings) d.warnings.push_back("interpretation: " + w);
   }
   return d;
