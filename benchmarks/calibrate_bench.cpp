@@ -47,7 +47,7 @@ CalibrationProblem cam_clay() {
 CalibrationProblem hyperbolic() {
   CalibrationProblem p = problem_for("hyperbolic_hardening");
   const double k0 = 1.0 - std::sin(degrees_to_radians(35.0));
-  const auto truth = p.create({25000, 22000, 80000, 0.55, 100, 0.2, 0.9, 0, 35, 31, 1, k0, 0});
+  const auto truth = p.create({35, 0, 0, 31, 1, 25000, 80000, 0.2, 0.55, 100, 0.9, 22000, k0});
   for (double p0 : {50.0, 100.0, 200.0}) {
     TestProtocol t = consolidated_shear("CD", p0, Drainage::drained, 0.10, 120, 0.6);
     t.initial.overconsolidation_ratio = 1.0;

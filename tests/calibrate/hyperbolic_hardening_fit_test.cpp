@@ -67,7 +67,7 @@ CalibrationProblem hh_problem() {
   CalibrationProblem problem = problem_for("hyperbolic_hardening");
   const double k0 = 1.0 - std::sin(degrees_to_radians(kPhi));  // Jaky (1944), common practice
   const auto truth =
-      problem.create({kSecant, kOedometer, kUnloading, kExponent, 100.0, 0.2, 0.9, 0.0, kPhi, kPhiCv, 1.0, k0, 0.0});
+      problem.create({kPhi, 0.0, 0.0, kPhiCv, 1.0, kSecant, kUnloading, 0.2, kExponent, 100.0, 0.9, kOedometer, k0});
   const std::vector<Quantity> cd{Quantity::deviator_stress, Quantity::volumetric_strain};
   problem.tests.push_back(synthetic_test("CD-50", cd_with_loop("CD-50", 50.0, false), *truth, cd, 0, nullptr));
   problem.tests.push_back(synthetic_test("CD-100", cd_with_loop("CD-100", 100.0, true), *truth, cd, 0, nullptr));

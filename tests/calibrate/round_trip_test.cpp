@@ -239,7 +239,7 @@ RoundTrip hyperbolic_cd_oedometer() {
   rt.problem = problem_for("hyperbolic_hardening");
   const double k0 = 1.0 - std::sin(degrees_to_radians(kHhPhi));  // Jaky (1944), common practice
   const auto truth =
-      rt.problem.create({kSecant, kOedometer, kUnloading, kExponent, 100.0, 0.2, 0.9, 0.0, kHhPhi, kPhiCv, 1.0, k0, 0.0});
+      rt.problem.create({kHhPhi, 0.0, 0.0, kPhiCv, 1.0, kSecant, kUnloading, 0.2, kExponent, 100.0, 0.9, kOedometer, k0});
   const std::vector<Quantity> cd{Quantity::deviator_stress, Quantity::volumetric_strain};
   rt.problem.tests.push_back(synthetic_test("CD-50", cd_with_loop("CD-50", 50.0, false), *truth, cd, 0, nullptr));
   rt.problem.tests.push_back(synthetic_test("CD-100", cd_with_loop("CD-100", 100.0, true), *truth, cd, 0, nullptr));
