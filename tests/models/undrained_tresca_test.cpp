@@ -3,6 +3,8 @@
 // Tresca 1864 for the criterion s1 - s3 <= 2 c_u).
 #include <catch2/catch.hpp>
 
+#include <Eigen/Eigenvalues>
+
 #include <cmath>
 #include <map>
 
