@@ -87,6 +87,17 @@ struct Plan {
   }
 };
 
+/// Colour and dash of the k-th test in the s'-t and Mohr plots: the palette without black (black marks
+/// the failure points and the regression), solid for the first six tests, dashed for the next six, ...
+int test_style(int k) {
+  static const int styles[] = {0, 1, 2, 3, 5, 6};
+  return styles[k % 6];
+}
+svg::Dash test_dash(int k) {
+  static const svg::Dash dashes[] = {svg::Dash::solid, svg::Dash::dashed, svg::Dash::dash_dot};
+  return dashes[(k / 6) % 3];
+}
+
 svg::Series points(const std::string& name, std::vector<double> xs, std::vector<double> ys, int style, svg::Marker marker,
                    const std::string& css = "measured") {
   svg::Series s;
@@ -448,10 +459,9 @@ class InterpretationRenderer {
           tmin = std::min(tmin, ys[i]);
         }
       }
-      // Path colours skip black (4), which marks the failure points.
-      static const int kPathStyles[] = {0, 1, 2, 3, 5, 6};
-      svg::Series path = line(label_of(s) + (s.left_out.empty() ? "" : " (left out)"), xs, ys, kPathStyles[style++ % 6],
-                              s.left_out.empty() ? svg::Dash::solid : svg::Dash::dotted, "stress-path");
+      svg::Series path = line(label_of(s) + (s.left_out.empty() ? "" : " (left out)"), xs, ys, test_style(style),
+                              s.left_out.empty() ? test_dash(style) : svg::Dash::dotted, "stress-path");
+      ++style;
       path.width = 1.0;
       p.series.push_back(std::move(path));
     }
@@ -556,8 +566,9 @@ class InterpretationRenderer {
       c.name = u.specimen + (multi ? " stage " + std::to_string(u.shear_stage) : std::string()) + (u.used ? "" : " (not used)");
       c.centre = u.s;
       c.radius = u.t;
-      c.style = style++ % 8;
-      c.dash = u.used ? svg::Dash::solid : svg::Dash::dotted;
+      c.style = test_style(style);
+      c.dash = u.used ? test_dash(style) : svg::Dash::dotted;
+      ++style;
       p.circles.push_back(c);
       right = std::max(right, u.s + u.t);
     }
