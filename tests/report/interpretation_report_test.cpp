@@ -8,6 +8,7 @@
 #include <cmath>
 #include <filesystem>
 #include <fstream>
+#include <regex>
 #include <sstream>
 
 #include "chromium.hpp"
@@ -172,6 +173,14 @@ TEST_CASE("the interpretation report of drained tests renders in headless Chromi
 TEST_CASE("the interpretation report's page layout: running header with page x of y, headings kept with what follows, sign-off",
           "[report][interpret]") {
   const std::string html = report::render_interpretation_report(clay(), demo());
+  // Self-contained: the only URL is the SVG namespace name, an identifier that is not fetched.
+  const std::string stripped = std::regex_replace(html, std::regex("xmlns=\"http://www\\.w3\\.org/2000/svg\""), "");
+  CHECK(stripped.find("http:") == std::string::npos);
+  CHECK(stripped.find("https:") == std::string::npos);
+  CHECK(html.find("<link") == std::string::npos);
+  CHECK(html.find(" src=") == std::string::npos);
+  CHECK(html.find("@import") == std::string::npos);
+  CHECK(std::regex_search(html, std::regex("url\\((?!#)")) == false);
   CHECK(html.find("@top-left { content: \"Interpretation of triaxial and oedometer tests\"") != std::string::npos);
   CHECK(html.find("@top-right { content: \"Kestrel Bay terrace (INVENTED demo site)\"") != std::string::npos);
   CHECK(html.find("content: \"page \" counter(page) \" of \" counter(pages)") != std::string::npos);
