@@ -149,9 +149,11 @@ void add_interpret_command(CLI::App& app, Action& action) {
   cmd->add_option("--criterion", o->criterion, "Failure criterion: max-deviator (default), max-stress-ratio, strain:EPS (decimal) or end");
   cmd->add_option("--stress-range", o->stress_range, "Use failure points with s' in LO:HI (kPa) for the envelope");
   cmd->add_option("--design-stress", o->design_stress,
-                  "Largest normal effective stress of the design problem (kPa); tests far above it are flagged");
+                  "Largest normal effective stress of the design problem (kPa); tests whose failure plane carries more "
+                  "(sigma'_nf = s' - t sin phi') are flagged, above it and above twice it");
   cmd->add_option("--reference-pressure", o->reference_pressure, "p_ref of the stiffness law E = E_ref (s3'/p_ref)^m (kPa, default 100)");
-  cmd->add_option("--material", o->material, "Interpret only the specimens of this material (the series' material labels)");
+  cmd->add_option("--material", o->material, "Interpret only the specimens of this material (the series' material labels); required when the series "
+                  "holds several");
   cmd->add_option("--out", o->out, "JSON result file (written atomically; every number with its unit)");
   cmd->add_option("--report", o->report, "Self-contained HTML report of the interpretation (written atomically)");
   cmd->add_option("--site", o->site, "Site name for the report's running header (default: the series' name)");
