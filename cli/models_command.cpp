@@ -32,7 +32,7 @@ void add_models_command(CLI::App& app, Action& action) {
                 << std::setw(18) << "bounds" << "description\n";
       for (const ParameterInfo& p : info.parameters)
         std::cout << std::left << std::setw(name_width) << p.name << std::setw(7) << p.unit << std::setw(12)
-                  << (std::isnan(p.default_value) ? std::string("required") : format_number(p.default_value))
+                  << (std::isnan(p.default_value) ? std::string("required") : word_of(p, p.default_value))
                   << std::setw(18) << format_bounds(p) << p.description << "\n";
       // What calibration seeds from the interpretation and the report compares: by role, not name.
       bool any_role = false;
