@@ -3,6 +3,8 @@
 // branch of its rule.
 #include <catch2/catch.hpp>
 
+#include <limits>
+
 #include "synthetic_specimen.hpp"
 #include "triaxcal/calibrate.hpp"
 #include "triaxcal/interpret.hpp"
@@ -51,7 +53,20 @@ TEST_CASE("the report shows not determined with the reason for classical values 
   summary.model = "mohr_coulomb";
   summary.parameters = {parameter("friction_angle", 30.0), parameter("cohesion", 0.0), parameter("dilation_angle", 2.0),
                         parameter("critical_state_friction_angle", 31.0), parameter("secant_stiffness_ref", 20000.0)};
-  const report::ReportData d = report::report_from_calibration(summary, CalibrationProblem{}, CalibrationProvenance{}, nullptr, &in);
+  // The report matches parameters by their declared role (ParameterInfo::role): a made-up model
+  // that declares one for each of the names above.
+  ModelInfo info;
+  info.name = "mohr_coulomb";
+  const double inf = std::numeric_limits<double>::infinity();
+  info.parameters = {{"friction_angle", "deg", 30.0, 0.0, 90.0, true, true, "", ParameterRole::friction_angle},
+                     {"cohesion", "kPa", 0.0, 0.0, inf, false, true, "", ParameterRole::cohesion},
+                     {"dilation_angle", "deg", 0.0, 0.0, 90.0, false, true, "", ParameterRole::dilation_angle},
+                     {"critical_state_friction_angle", "deg", 30.0, 0.0, 90.0, true, true, "",
+                      ParameterRole::critical_state_friction_angle},
+                     {"secant_stiffness_ref", "kPa", 20000.0, 0.0, inf, true, true, "", ParameterRole::secant_stiffness_ref}};
+  CalibrationProblem problem;
+  problem.model = &info;
+  const report::ReportData d = report::report_from_calibration(summary, problem, CalibrationProvenance{}, nullptr, &in);
   CHECK(d.strength.design.name == "design line (c' = 0, secant from the origin)");
   CHECK(d.strength.design.intercept == 0.0);
   auto row = [&](const std::string& quantity) -> const report::Comparison* {
