@@ -28,11 +28,16 @@ void add_models_command(CLI::App& app, Action& action) {
       std::size_t width = 10;
       for (const ParameterInfo& p : info.parameters) width = std::max(width, p.name.size() + 2);
       const int name_width = static_cast<int>(width);
-      std::cout << std::left << std::setw(name_width) << "parameter" << std::setw(7) << "unit" << std::setw(12) << "default"
+      auto default_of = [](const ParameterInfo& p) {
+        return std::isnan(p.default_value) ? std::string("required") : word_of(p, p.default_value);
+      };
+      std::size_t default_width = 12;  // wider for a word parameter's default word
+      for (const ParameterInfo& p : info.parameters) default_width = std::max(default_width, default_of(p).size() + 2);
+      const int dw = static_cast<int>(default_width);
+      std::cout << std::left << std::setw(name_width) << "parameter" << std::setw(7) << "unit" << std::setw(dw) << "default"
                 << std::setw(18) << "bounds" << "description\n";
       for (const ParameterInfo& p : info.parameters)
-        std::cout << std::left << std::setw(name_width) << p.name << std::setw(7) << p.unit << std::setw(12)
-                  << (std::isnan(p.default_value) ? std::string("required") : word_of(p, p.default_value))
+        std::cout << std::left << std::setw(name_width) << p.name << std::setw(7) << p.unit << std::setw(dw) << default_of(p)
                   << std::setw(18) << format_bounds(p) << p.description << "\n";
       // What calibration seeds from the interpretation and the report compares: by role, not name.
       bool any_role = false;
