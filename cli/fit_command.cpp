@@ -35,6 +35,7 @@ struct FitOptions {
   int threads = -1;
   long long seed = -1;
   bool report = false;
+  bool verbose = false;
   bool require_converged = false;
 };
 
@@ -105,7 +106,9 @@ int run(const FitOptions& o) {
   }
   // Bounds and starts the file leaves out come from the classical interpretation of the series;
   // the problem is checked with them filled in.
-  for (const std::string& note : seed_from_interpretation(file, series, entry->info())) std::printf("%s\n", note.c_str());
+  const std::vector<std::string> seed_notes = seed_from_interpretation(file, series, entry->info());
+  if (o.verbose)
+    for (const std::string& note : seed_notes) std::printf("%s\n", note.c_str());
   auto create = entry->create;
   const std::string where = o.calibration;
   CalibrationProblem problem =
@@ -125,10 +128,13 @@ int run(const FitOptions& o) {
   prov.description = file.description;
   prov.inputs.emplace_back(o.calibration, sha256_file(o.calibration));
   prov.inputs.emplace_back(file.series, sha256_file(file.series));
-  for (const CalibrationTest& t : problem.tests) {
-    prov.tests.push_back(t.id);
-    for (const Specimen& s : series.specimens)
-      if (s.id == t.id) prov.inputs.emplace_back(s.data.path, sha256_file(s.data.path));
+  // Every data file the series reader read (the fitted specimens' and the others', which the
+  // classical interpretation beside the fit uses), each once, in series order.
+  for (const CalibrationTest& t : problem.tests) prov.tests.push_back(t.id);
+  for (const Specimen& s : series.specimens) {
+    bool listed = false;
+    for (const auto& input : prov.inputs) listed = listed || input.first == s.data.path;
+    if (!listed && !s.data.path.empty()) prov.inputs.emplace_back(s.data.path, sha256_file(s.data.path));
   }
 
   ProgressLine progress;
@@ -137,8 +143,11 @@ int run(const FitOptions& o) {
   const CalibrationSummary summary = calibrate(options, problem);
   progress.clear();
 
+  if (!o.verbose && !seed_notes.empty())
+    std::printf("%zu bounds/starts taken from the classical interpretation of the series (--verbose lists them)\n",
+                seed_notes.size());
   std::printf("%s", summary.brief().c_str());
-  if (o.report) std::printf("\n%s", summary.full().c_str());
+  if (o.verbose) std::printf("\n%s", summary.full().c_str());
 
   // The report input (and, with --report, the HTML page) is written for a failed calibration too,
   // so that a reviewer sees what failed. The classical interpretation of the fitted specimens'
@@ -146,9 +155,9 @@ int run(const FitOptions& o) {
   const fs::path report_input = dir / (stem + ".report.json");
   const fs::path report_html = dir / (stem + ".report.html");
   {
-    InterpretOptions iopt;
-    for (const Specimen& s : series.specimens)
-      if (!problem.tests.empty() && s.id == problem.tests.front().id) iopt.material = s.material;
+    // The interpretation the user chose in the file (criterion, stress range, design stress), on
+    // the fitted specimens' material: the same one that seeded the bounds and starts.
+    const InterpretOptions iopt = interpretation_options(file, series, entry->info());
     std::optional<Interpretation> interpretation;
     try {
       interpretation = interpret(series, iopt);
@@ -208,7 +217,10 @@ void add_fit_command(CLI::App& app, Action& action) {
   cmd->add_option("--seed", o->seed, "Seed of the design and the global stage (default: the file's option, else 1)")
       ->check(CLI::Range(0LL, 4294967295LL));
   cmd->add_flag("--report", o->report,
-                "Print the full summary and write the HTML report (<name>.report.html) and a text summary beside the results");
+                "Write the HTML report (<name>.report.html) and the full text summary (<name>.report.txt) beside the results");
+  cmd->add_flag("--verbose", o->verbose,
+                "Print the full account: the bounds and starts taken from the interpretation, the options asked and used, "
+                "every curve's fit, the correlations and every warning (default: outcome, parameters, worst curve, files)");
   cmd->add_flag("--require-converged", o->require_converged,
                 "Exit 5 (files still written) when the outcome is stopped or poor_fit instead of 0");
   cmd->footer(

@@ -183,7 +183,8 @@ TEST_CASE("free parameters without a start take theirs from the classical interp
     "friction_angle": {"status": "free", "lower": 20, "upper": 45},
     "dilation_angle": {"status": "free", "lower": 0, "upper": 20, "start": 2}})";
   const std::string f = write("fit_seed.json", calibration(p, kTests, "{}"));
-  const CliResult r = run_cli("fit " + f + " --out fit_seed_out", "fit_seed");
+  // The notes on bounds and starts are part of the full account (--verbose).
+  const CliResult r = run_cli("fit " + f + " --out fit_seed_out --verbose", "fit_seed");
   INFO(r.out << r.err);
   REQUIRE(r.exit_code == 0);
   CHECK(r.out.find("friction_angle: start ") != std::string::npos);
@@ -192,6 +193,45 @@ TEST_CASE("free parameters without a start take theirs from the classical interp
   // The interpretation of the invented demo data gives phi' close to the 34 deg they were made with.
   const auto pos = r.out.find("friction_angle: start ");
   CHECK(std::stod(r.out.substr(pos + 22)) == Approx(34).margin(1.5));
+  CHECK(r.out.find("\nOptions as asked:\n") != std::string::npos);
+  CHECK(r.out.find("\nFit per test and curve (RMSE in the curve's unit):\n") != std::string::npos);
+}
+
+TEST_CASE("fit prints a brief account by default: outcome, parameters with intervals, worst curve, files, caution",
+          "[cli][fit]") {
+  fs::remove_all("fit_brief_out");
+  const std::string p = R"({"youngs_modulus": {"status": "free", "lower": 5000, "upper": 200000, "scale": "log"},
+    "poissons_ratio": {"status": "free", "lower": 0.05, "upper": 0.45, "start": 0.25},
+    "cohesion": {"status": "free", "lower": 0, "upper": 30},
+    "friction_angle": {"status": "free", "lower": 20, "upper": 45},
+    "dilation_angle": {"status": "free", "lower": 0, "upper": 20, "start": 2}})";
+  // The interpretation the report shows is the one the file asks for (here not the default).
+  std::string text = calibration(p, kTests, "{}");
+  text.insert(text.size() - 1, R"(, "interpretation": {"criterion": "max_stress_ratio", "design_stress": 150})");
+  const std::string f = write("fit_brief.json", text);
+  const CliResult r = run_cli("fit " + f + " --out fit_brief_out", "fit_brief");
+  INFO(r.out << r.err);
+  REQUIRE(r.exit_code == 0);
+  // One line says how many bounds and starts came from the interpretation; --verbose lists them.
+  CHECK(r.out.rfind("3 bounds/starts taken from the classical interpretation of the series (--verbose lists them)\n"
+                    "calibration of mohr_coulomb: converged, objective ", 0) == 0);
+  CHECK(r.out.find("friction_angle: start ") == std::string::npos);
+  CHECK(r.out.find("  friction_angle = ") != std::string::npos);
+  CHECK(r.out.find("95 % [") != std::string::npos);
+  CHECK(r.out.find("  worst curve: CD-") != std::string::npos);
+  CHECK(r.out.find("Options as asked") == std::string::npos);
+  CHECK(r.out.find("Fit per test and curve") == std::string::npos);
+  for (const char* line : {"\noutcome:       converged", "\nparameter set: fit_brief_out/fit_brief.parameters.json\n",
+                           "\ncurves:        fit_brief_out/fit_brief.curves.csv\n", "\nCaution: "})
+    CHECK(r.out.find(line) != std::string::npos);
+  const auto input = nlohmann::json::parse(slurp("fit_brief_out/fit_brief.report.json"));
+  CHECK(input["strength"]["criterion"] == "maximum stress ratio");
+  CHECK(input["strength"]["design_stress"] == 150.0);
+  // Every data file read is in the provenance, each once.
+  int data_files = 0;
+  for (const auto& row : input["provenance"])
+    data_files += row[0].get<std::string>().find("demo_cd_") != std::string::npos ? 1 : 0;
+  CHECK(data_files == 3);
 }
 
 namespace {

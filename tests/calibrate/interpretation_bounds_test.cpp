@@ -142,7 +142,7 @@ TEST_CASE("fit with friction angle, cohesion, E' and dilation free without bound
   const fs::path out = scratch() / "fit_bounds_out";
   fs::remove_all(out);
   const std::string file = write("fit_bounds.json", example_with(free_without_bounds()));
-  const CliResult r = run_cli("fit " + file + " --out " + out.string(), "fit_bounds");
+  const CliResult r = run_cli("fit " + file + " --out " + out.string() + " --verbose", "fit_bounds");
   INFO(r.out << r.err);
   REQUIRE(r.exit_code == 0);
   CHECK(r.out.find("calibration of mohr_coulomb: converged") != std::string::npos);
@@ -442,4 +442,58 @@ TEST_CASE("a calibration file fixes a word parameter at its word and names the n
   q = p;
   q["cohesion"] = "none";
   CHECK(message(q) == "cal.json: parameters.cohesion: expected a number (kPa), found \"none\"");
+
+TEST_CASE("the calibration file's interpretation key chooses the criterion, stress range and design stress the seeds "
+          "and the report use",
+          "[interpretation][bounds]") {
+  const TestSeries series = read_test_series(kDemoSeries);
+  json c = example_with(free_without_bounds());
+  c["interpretation"] = {{"criterion", "max_stress_ratio"}, {"stress_range", {0, 500}}, {"design_stress", 150}};
+  CalibrationFile f = parse_calibration_file(c.dump(), "cal.json");
+  CHECK(f.interpretation.criterion == FailureCriterion::max_stress_ratio);
+  CHECK(f.interpretation.stress_low == 0.0);
+  CHECK(f.interpretation.stress_high == 500.0);
+  CHECK(f.interpretation.design_stress == 150.0);
+  const InterpretOptions io = interpretation_options(f, series, model("mohr_coulomb"));
+  CHECK(io.criterion == FailureCriterion::max_stress_ratio);
+  CHECK(io.design_stress == 150.0);
+  // The seeded start of phi' is the envelope of the chosen criterion, not of the default one.
+  const Interpretation by_ratio = interpret(series, io);
+  REQUIRE_FALSE(by_ratio.envelopes.empty());
+  CHECK(by_ratio.envelopes.front().criterion == FailureCriterion::max_stress_ratio);
+  seed_from_interpretation(f, series, model("mohr_coulomb"));
+  CHECK(spec_of(f, "friction_angle").start == by_ratio.envelopes.front().phi);
+  // Without the key: the defaults (maximum deviator stress, every s', no design stress).
+  const CalibrationFile d = parse_calibration_file(example_with(free_without_bounds()).dump(), "cal.json");
+  CHECK(d.interpretation.criterion == FailureCriterion::max_deviator);
+  CHECK(std::isnan(d.interpretation.design_stress));
+}
+
+TEST_CASE("bad interpretation keys in a calibration file give exact messages", "[interpretation][bounds][errors]") {
+  auto message = [](const json& interpretation) {
+    json c = example_with(free_without_bounds());
+    c["interpretation"] = interpretation;
+    try {
+      parse_calibration_file(c.dump(), "cal.json");
+    } catch (const InputError& e) {
+      return std::string(e.what());
+    }
+    return std::string("(no error)");
+  };
+  CHECK(message({{"criterion", "peak"}}) ==
+        "cal.json: interpretation.criterion: expected one of \"max_deviator\", \"max_stress_ratio\", \"limiting_strain\", "
+        "\"end_of_test\", found \"peak\"");
+  CHECK(message({{"colour", 1}}) ==
+        "cal.json: interpretation.colour: unknown key 'colour' (expected one of: criterion, limiting_strain, stress_range, "
+        "design_stress)");
+  CHECK(message({{"limiting_strain", 0.1}}) ==
+        "cal.json: interpretation.limiting_strain: only with \"criterion\": \"limiting_strain\", found criterion "
+        "\"max_deviator\"");
+  CHECK(message({{"criterion", "limiting_strain"}, {"limiting_strain", 15}}) ==
+        "cal.json: interpretation.limiting_strain: must be a decimal axial strain in (0, 1), found 15");
+  CHECK(message({{"stress_range", {300, 100}}}) ==
+        "cal.json: interpretation.stress_range: expected [low, high] in kPa of s' at failure with 0 <= low < high, found "
+        "[300,100]");
+  CHECK(message({{"design_stress", -5}}) == "cal.json: interpretation.design_stress: expected a positive stress in kPa, found -5");
+  CHECK(message(json::array()) == "cal.json: interpretation: expected an object, found array");
 }

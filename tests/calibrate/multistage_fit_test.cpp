@@ -12,10 +12,13 @@
 #include "synthetic.hpp"
 #include "tolerances.hpp"
 #include "triaxcal/calibration_file.hpp"
+#include "triaxcal/calibration_output.hpp"
 #include "triaxcal/conventions.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/models/registry.hpp"
 #include "triaxcal/parameters.hpp"
+#include "triaxcal/report.hpp"
+#include "triaxcal/report_input.hpp"
 
 using namespace triaxcal;
 using namespace triaxcal::test;
@@ -173,6 +176,7 @@ TEST_CASE("a multi-stage specimen gives one curve per shear stage and quantity, 
     const int k = static_cast<int>(c % 3);
     CHECK(t.curves[c].y == (c < 3 ? Quantity::deviator_stress : Quantity::excess_pore_pressure));
     CHECK(t.curves[c].stage == shear_stage[k]);
+    CHECK(t.curves[c].shear_stage == k + 1);  // numbered 1, 2, 3 for people
     CHECK(t.curves[c].strain_zero_stage == shear_stage[k]);
     CHECK(t.curves[c].xs.size() == 41);
     CHECK(t.curves[c].xs.front() == 0.0);
@@ -237,6 +241,44 @@ TEST_CASE("three-stage CU round trip with Modified Cam-Clay recovers lambda, kap
   CHECK(close(value_named(s, "kappa"), kKappa, 0.01, 0.0));
   CHECK(close(value_named(s, "critical_state_ratio"), kM, 0.01, 0.0));
   CHECK(s.evaluations < 1500);
+
+  // Every stage reaches the outputs with its number: the curves CSV, the report data and the page.
+  const std::string csv = format_fit_csv(s);
+  CHECK(csv.rfind("test,stage,quantity,stage_axial_strain[-],measured,simulated,unit\n", 0) == 0);
+  for (const char* stage : {",1,deviator_stress,", ",2,deviator_stress,", ",3,deviator_stress,", ",3,excess_pore_pressure,"})
+    CHECK(csv.find(stage) != std::string::npos);
+  {
+    // Every row's stage is 1, 2 or 3 (the id "MS" has no comma): never 0.
+    std::size_t rows = 0, at = csv.find('\n') + 1;
+    while (at < csv.size()) {
+      const std::size_t end = csv.find('\n', at);
+      const std::string row = csv.substr(at, end - at);
+      const std::string stage = row.substr(row.find(',') + 1, row.find(',', row.find(',') + 1) - row.find(',') - 1);
+      CHECK((stage == "1" || stage == "2" || stage == "3"));
+      ++rows;
+      at = end + 1;
+    }
+    CHECK(rows == 6 * 41);
+  }
+  const report::ReportData d = report::report_from_calibration(s, problem, CalibrationProvenance{}, &series);
+  REQUIRE(d.tests.size() == 1);
+  const report::TestReport& t = d.tests.front();
+  REQUIRE(t.curves.size() == 6);
+  for (std::size_t c = 0; c < 6; ++c) {
+    INFO("curve " << c);
+    const int k = static_cast<int>(c % 3);
+    CHECK(t.curves[c].stage == k + 1);
+    CHECK(t.curves[c].quantity == (c < 3 ? "deviator_stress" : "excess_pore_pressure"));
+    REQUIRE(t.curves[c].simulated.x.size() > 2);
+    // Each stage's model curve starts at its own stage strain 0 and ends where its data end.
+    CHECK(close(t.curves[c].simulated.x.front(), 0.0, kExact, kStrainFloor));
+    CHECK(close(t.curves[c].simulated.x.back(), kShearTo[k], 1e-9, kStrainFloor));
+    CHECK(close(t.curves[c].simulated.y.back(), t.curves[c].measured.y.back(), 0.01, kStressFloor));
+  }
+  CHECK(t.quality.at(1).name == "deviator_stress vs axial_strain, stage 2");
+  const std::string html = report::render_report(d);
+  for (const char* name : {"stage 1 measured", "stage 2 model", "stage 3 model"})
+    CHECK(html.find("data-name=\"" + std::string(name) + "\"") != std::string::npos);
 }
 
 TEST_CASE("the calibration file sets the simulation tolerance and fixed steps, with exact messages for bad values", "[calibrate][multistage]") {

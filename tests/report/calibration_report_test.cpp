@@ -65,12 +65,17 @@ TEST_CASE("report data from a calibration carries its tests, curves, parameters,
   for (std::size_t i = 0; i < 2; ++i) {
     const report::TestReport& t = d.tests[i];
     CHECK(t.drainage == report::Drainage::drained);
-    CHECK(t.deviator.measured.x == f.problem.tests[i].curves[0].xs);
-    REQUIRE_FALSE(t.deviator.simulated.empty());
+    REQUIRE(t.curves.size() == 2);
+    const report::TestCurve& dev = t.curves[0];
+    CHECK(dev.quantity == "deviator_stress");
+    CHECK(dev.stage == 0);  // one shear stage
+    CHECK(dev.measured.x == f.problem.tests[i].curves[0].xs);
+    REQUIRE_FALSE(dev.simulated.empty());
     // The fitted model ends where the synthetic data ends (same model, same history).
-    CHECK(close(t.deviator.simulated.y.back(), t.deviator.measured.y.back(), 0.01, kStressFloor));
-    CHECK(close(t.deviator.simulated.x.back(), t.deviator.measured.x.back(), 1e-9, kStrainFloor));
-    CHECK_FALSE(t.volumetric.simulated.empty());
+    CHECK(close(dev.simulated.y.back(), dev.measured.y.back(), 0.01, kStressFloor));
+    CHECK(close(dev.simulated.x.back(), dev.measured.x.back(), 1e-9, kStrainFloor));
+    CHECK(t.curves[1].quantity == "volumetric_strain");
+    CHECK_FALSE(t.curves[1].simulated.empty());
     CHECK_FALSE(t.stress_path.simulated.empty());
     REQUIRE(t.quality.size() == 2);
     CHECK(t.quality[0].points > 0);
@@ -112,4 +117,62 @@ TEST_CASE("a calibration stopped by its evaluation budget is reported as stopped
   CHECK(banner->has_class("outcome-stopped"));
   CHECK(banner->get("data-outcome") == "stopped");
   CHECK(root->by_id("outcome-reason")->text == d.outcome_reason);
+}
+
+TEST_CASE("the report input keeps every curve with its stage and fitted range, and the design stress (version 3)") {
+  report::ReportData d;
+  report::TestReport t;
+  t.id = "MS-1";
+  for (int k = 1; k <= 2; ++k) {
+    report::TestCurve c;
+    c.quantity = "excess_pore_pressure";
+    c.stage = k;
+    c.measured = {{0.0, 0.01}, {0.0, 10.0 * k}};
+    c.simulated = {{0.0, 0.005, 0.01}, {0.0, 6.0 * k, 9.5 * k}};
+    c.fitted_from = 0.0;
+    c.fitted_to = 0.008;
+    t.curves.push_back(c);
+  }
+  d.tests.push_back(t);
+  d.strength.design_stress = 150.0;
+  const report::ReportData back = report::parse_report_input(report::report_input_json(d), "r.json");
+  REQUIRE(back.tests.size() == 1);
+  REQUIRE(back.tests[0].curves.size() == 2);
+  for (int k = 0; k < 2; ++k) {
+    const report::TestCurve& c = back.tests[0].curves[static_cast<std::size_t>(k)];
+    CHECK(c.quantity == "excess_pore_pressure");
+    CHECK(c.unit == "kPa");
+    CHECK(c.stage == k + 1);
+    CHECK(c.measured.y == d.tests[0].curves[static_cast<std::size_t>(k)].measured.y);
+    CHECK(c.simulated.x == d.tests[0].curves[static_cast<std::size_t>(k)].simulated.x);
+    CHECK(c.fitted_from == 0.0);
+    CHECK(c.fitted_to == 0.008);
+  }
+  CHECK(back.strength.design_stress == 150.0);
+  // Bad values name the key path.
+  CHECK_THROWS_WITH(report::parse_report_input(R"({"format": "triaxcal-report-input", "version": 3, "outcome": "converged",
+      "tests": [{"id": "T1", "curves": [{"quantity": "deviator_stress", "stage": -1}]}]})", "r.json"),
+                    "r.json: tests[0].curves[0].stage: expected a stage number 0 to 1000, found -1");
+  CHECK_THROWS_WITH(report::parse_report_input(R"({"format": "triaxcal-report-input", "version": 3, "outcome": "converged",
+      "tests": [{"id": "T1", "deviator": {}}]})", "r.json"),
+                    "r.json: tests[0].deviator: unknown key 'deviator' (expected one of: id, description, drainage, used, "
+                    "simulated, message, objective, weight, curves, stress_path, compression, quality)");
+}
+
+TEST_CASE("a version 2 report input's deviator, pore-pressure and volumetric pairs are read as curves") {
+  const report::ReportData d = report::parse_report_input(R"({"format": "triaxcal-report-input", "version": 2,
+      "outcome": "converged",
+      "tests": [{"id": "T1", "drainage": "drained",
+                 "deviator": {"measured": {"x": [0, 0.01], "y": [0, 50]}, "simulated": {"x": [0, 0.01], "y": [0, 49]}},
+                 "volumetric": {"measured": {"x": [0, 0.01], "y": [0, -0.001]}}}]})", "old.json");
+  REQUIRE(d.tests.size() == 1);
+  REQUIRE(d.tests[0].curves.size() == 2);
+  CHECK(d.tests[0].curves[0].quantity == "deviator_stress");
+  CHECK(d.tests[0].curves[0].unit == "kPa");
+  CHECK(d.tests[0].curves[0].simulated.y == std::vector<double>{0, 49});
+  CHECK(d.tests[0].curves[1].quantity == "volumetric_strain");
+  CHECK(d.tests[0].curves[1].unit == "-");
+  CHECK(d.tests[0].curves[1].stage == 0);
+  const auto ids = report::expected_plot_ids(d);
+  CHECK(std::find(ids.begin(), ids.end(), "plot-volumetric-T1") != ids.end());
 }

@@ -38,39 +38,44 @@ inline report::ReportData demo_report() {
     t.objective = 0.002 + 0.001 * k;
     const double qf = (undrained ? 1.2 : 2.4) * cell[k], E = 120.0 * cell[k];
     CurveQuality qq{"q vs axial strain", "kPa", 0, 4.0 + k, 0.98, {}, "axial strain", 100.0, "%"};
+    TestCurve deviator, second;
+    second.quantity = undrained ? "excess_pore_pressure" : "volumetric_strain";
+    second.unit = undrained ? "kPa" : "-";
+    if (k == 4) deviator.fitted_to = second.fitted_to = 0.15;  // the fit compared 0 to 15 % only
     for (int i = 0; i <= 200; ++i) {
       const double e = 0.001 * i;
       const double q = e / (1.0 / E + e / qf);
       const double qm = q * (1.0 + 0.03 * std::sin(0.7 * i + k));
-      t.deviator.simulated.x.push_back(e);
-      t.deviator.simulated.y.push_back(q);
+      deviator.simulated.x.push_back(e);
+      deviator.simulated.y.push_back(q);
       const double p = cell[k] + q / 3.0 - (undrained ? 0.45 * q : 0.0);
       t.stress_path.simulated.x.push_back(p);
       t.stress_path.simulated.y.push_back(q);
       if (undrained) {
-        t.pore_pressure.simulated.x.push_back(e);
-        t.pore_pressure.simulated.y.push_back(0.45 * q);
+        second.simulated.x.push_back(e);
+        second.simulated.y.push_back(0.45 * q);
       } else {
-        t.volumetric.simulated.x.push_back(e);
-        t.volumetric.simulated.y.push_back(0.004 * std::sin(20 * e) - 0.15 * e * e * 10);
+        second.simulated.x.push_back(e);
+        second.simulated.y.push_back(0.004 * std::sin(20 * e) - 0.15 * e * e * 10);
       }
       if (i % 4 == 0) {
-        t.deviator.measured.x.push_back(e);
-        t.deviator.measured.y.push_back(qm);
+        deviator.measured.x.push_back(e);
+        deviator.measured.y.push_back(qm);
         t.stress_path.measured.x.push_back(cell[k] + qm / 3.0 - (undrained ? 0.47 * qm : 0.0));
         t.stress_path.measured.y.push_back(qm);
         if (undrained) {
-          t.pore_pressure.measured.x.push_back(e);
-          t.pore_pressure.measured.y.push_back(0.47 * qm);
+          second.measured.x.push_back(e);
+          second.measured.y.push_back(0.47 * qm);
         } else {
-          t.volumetric.measured.x.push_back(e);
-          t.volumetric.measured.y.push_back(0.0042 * std::sin(20 * e) - 1.4 * e * e);
+          second.measured.x.push_back(e);
+          second.measured.y.push_back(0.0042 * std::sin(20 * e) - 1.4 * e * e);
         }
         qq.residuals.x.push_back(e);
         qq.residuals.y.push_back((q - qm) / qf);
         ++qq.points;
       }
     }
+    t.curves = {deviator, second};
     t.quality.push_back(qq);
     d.tests.push_back(t);
     d.strength.points.push_back({t.id, cell[k] + qf / 2.0, qf / 2.0, k != 4});
@@ -93,6 +98,7 @@ inline report::ReportData demo_report() {
   d.strength.model = {"model envelope", 3.0, 0.49, kUnknown, kUnknown};
   d.strength.range_low = 40.0;
   d.strength.range_high = 450.0;
+  d.strength.design_stress = 250.0;
   d.strength.criterion = "maximum deviator stress";
   d.strength.pq_lines.push_back({"critical state line q = M p'", 0.0, 1.2, kUnknown, kUnknown});
 
@@ -142,9 +148,7 @@ inline report::ReportData failed_report() {
   for (auto& t : d.tests) {
     t.simulated = false;
     t.message = "stage 1, step 3, axial strain 0.0021: no convergence after 8 increment cuts";
-    t.deviator.simulated = {};
-    t.pore_pressure.simulated = {};
-    t.volumetric.simulated = {};
+    for (auto& c : t.curves) c.simulated = {};
     t.stress_path.simulated = {};
     t.compression.simulated = {};
     t.quality.clear();

@@ -305,7 +305,7 @@ TEST_CASE("default styles differ in dash pattern and marker shape, so series rea
     seen.insert(lines[0]->get("stroke-dasharray") + "|" + g->get("data-marker"));
   }
   CHECK(seen.size() == 4);
-  CHECK(e.by_class("axis-title-x").at(0)->text == "x (-)");
+  CHECK(e.by_class("axis-title-x").at(0)->text == "x");  // dimensionless: no "(-)"
 }
 
 TEST_CASE("non-finite values break a line and are not marked") {

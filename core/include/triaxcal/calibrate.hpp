@@ -60,6 +60,9 @@ struct MeasuredCurve {
   /// Compare with the records of this stage only; -1 = every record from the start of
   /// strain_zero_stage (or of the protocol) to the end. Points are matched in time order.
   int stage = -1;
+  /// Which shear stage of a multi-stage specimen the curve holds, numbered 1, 2, 3 for people;
+  /// 0 = the specimen's only shear stage (or an oedometer test). Labels only, never used to compare.
+  int shear_stage = 0;
   double x_min = -std::numeric_limits<double>::infinity();  ///< points with x outside [x_min, x_max]
   double x_max = std::numeric_limits<double>::infinity();   ///< are not compared
 };
@@ -196,6 +199,7 @@ struct FittedParameter {
 struct CurveFit {
   Quantity x = Quantity::axial_strain;
   Quantity y = Quantity::deviator_stress;
+  int shear_stage = 0;         ///< MeasuredCurve::shear_stage (1, 2, 3; 0 = the specimen's only stage)
   int points = 0;              ///< compared points
   double rmse = kNotGiven;     ///< in the unit of y
   double r_squared = kNotGiven;
@@ -253,7 +257,8 @@ struct CalibrationSummary {
   bool usable() const { return outcome != CalibrationOutcome::failed; }
   /// "<outcome>: <reason>", the line every front end shows.
   std::string outcome_line() const;
-  /// A few lines: outcome, objective, counts, each free parameter with its interval.
+  /// A few lines: outcome, objective, counts, each free or tied parameter (free ones with their
+  /// intervals), the worst curve, and how many warnings there are (full() lists them).
   std::string brief() const;
   /// Everything: options asked against used, per-test/per-curve fit, correlations, warnings.
   std::string full() const;

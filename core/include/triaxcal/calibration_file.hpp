@@ -11,6 +11,7 @@
 
 #include "triaxcal/calibrate.hpp"
 #include "triaxcal/core_export.hpp"
+#include "triaxcal/interpret.hpp"
 #include "triaxcal/series.hpp"
 
 namespace triaxcal {
@@ -45,6 +46,10 @@ struct CalibrationFile {
   std::vector<ParameterSpec> parameters;
   std::vector<std::string> constraints;
   CalibrationOptions options;  ///< from "options" (defaults otherwise); no progress callback
+  /// The classical interpretation the user chose (key "interpretation": criterion, limiting_strain,
+  /// stress_range, design_stress); material and reference pressure are set by
+  /// interpretation_options(). It seeds bounds and starts and is the one the report shows.
+  InterpretOptions interpretation;
 };
 
 /// Strict: unknown keys, wrong types and bad values throw InputError "<source>: <key path>: ...".
@@ -63,9 +68,14 @@ TRIAXCAL_CORE_EXPORT CalibrationFile read_calibration_file(const std::string& pa
 TRIAXCAL_CORE_EXPORT CalibrationProblem build_calibration_problem(const CalibrationFile& file, const TestSeries& series,
                                                                   const ModelInfo& model, ModelFactory create);
 
+/// The options of the classical interpretation of a calibration: the file's "interpretation" key,
+/// the fitted specimens' material when they all have the same one (else every specimen), and the
+/// model's fixed reference_pressure where it has one (else the interpretation's default).
+TRIAXCAL_CORE_EXPORT InterpretOptions interpretation_options(const CalibrationFile& file, const TestSeries& series,
+                                                             const ModelInfo& model);
+
 /// Missing bounds and starts of the free parameters of `file` from the classical interpretation
-/// of `series` (interpret.hpp; only the specimens' material when every fitted specimen has the
-/// same one; the stiffness laws at the model's fixed reference pressure where it has one), by the
+/// of `series` with interpretation_options(file, series, model) (interpret.hpp), by the
 /// parameter's declared role (ParameterInfo::role, never its name), with v the interpretation's value:
 ///   friction_angle, cohesion            s'-t envelope
 ///   dilation_angle                      mean peak dilation angle of the CD stages

@@ -34,7 +34,8 @@ TRIAXCAL_CORE_EXPORT std::string utc_now();
 TRIAXCAL_CORE_EXPORT std::string format_parameter_set(const CalibrationSummary& summary, const ModelInfo& model,
                                                       const CalibrationProvenance& provenance);
 
-/// One row a compared point: test,quantity,axial_strain[-],measured,simulated,unit.
+/// One row a compared point: test,stage,quantity,stage_axial_strain[-],measured,simulated,unit (stage
+/// numbered 1, 2, 3 for people; the strain since the start of that stage, engineering).
 TRIAXCAL_CORE_EXPORT std::string format_fit_csv(const CalibrationSummary& summary);
 
 /// HDF5 archive written to a temporary name beside `path`, then renamed. Throws InputError when the

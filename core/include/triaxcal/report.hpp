@@ -38,6 +38,20 @@ struct CurvePair {
   bool empty() const { return measured.empty() && simulated.empty(); }
 };
 
+/// One compared curve of a test: a quantity against the axial strain since the start of its shear
+/// stage (engineering, decimal; an oedometer test: since the start of its loading), as the fit
+/// compares it.
+struct TestCurve {
+  std::string quantity = "deviator_stress";  ///< y, a Quantity name ("deviator_stress", "excess_pore_pressure", ...)
+  std::string unit = "kPa";  ///< of y ("-": a decimal strain, plotted in %)
+  /// Which shear stage of the specimen, numbered 1, 2, 3 for people; 0 = the specimen's only one.
+  int stage = 0;
+  XY measured, simulated;    ///< x: stage axial strain (decimal)
+  /// The stage strains the fit compared (decimal; NaN = open): points outside are drawn faded.
+  double fitted_from = kUnknown, fitted_to = kUnknown;
+  bool empty() const { return measured.empty() && simulated.empty(); }
+};
+
 /// Fit quality of one compared curve.
 struct CurveQuality {
   std::string name;          ///< e.g. "q vs axial_strain"
@@ -56,7 +70,7 @@ enum class Drainage { drained, undrained, oedometer, other };
 
 struct TestReport {
   std::string id;
-  std::string description;   ///< e.g. "CU, s3' = 100 kPa, OCR 1"
+  std::string description;   ///< the specimen's description, e.g. "CU, s3' = 100 kPa, OCR 1"
   Drainage drainage = Drainage::other;
   bool used = true;          ///< part of the calibration
   bool simulated = true;     ///< the simulation at the fitted parameters completed
@@ -64,9 +78,8 @@ struct TestReport {
   double objective = kUnknown;  ///< this test's share of the objective
   double weight = 1.0;
   // Curves. Strains are decimals (the report plots them in %), stresses kPa.
-  CurvePair deviator;        ///< q vs axial strain
-  CurvePair pore_pressure;   ///< excess pore pressure vs axial strain (undrained)
-  CurvePair volumetric;      ///< volumetric strain vs axial strain (drained)
+  /// Every compared curve, one a quantity and shear stage (a multi-stage specimen has one per stage).
+  std::vector<TestCurve> curves;
   CurvePair stress_path;     ///< q vs p'
   CurvePair compression;     ///< void ratio vs p' (consolidation stages, where e is known)
   std::vector<CurveQuality> quality;
@@ -120,6 +133,7 @@ struct Strength {
   Line design;                       ///< the conservative design line
   Line model;                        ///< the fitted model's envelope in s'-t, if it has one
   double range_low = kUnknown, range_high = kUnknown;  ///< s' range used (shaded)
+  double design_stress = kUnknown;   ///< largest normal effective stress of the design problem (kPa), drawn at s' = it
   std::vector<Line> pq_lines;        ///< envelopes / critical state line in p'-q
   std::string criterion;             ///< failure criterion in words
 };

@@ -1,6 +1,6 @@
 #pragma once
 // Where report data comes from. (1) A "report input" JSON (format "triaxcal-report-input",
-// version 2, docs/report.md; version 1 is still read): ReportData written out as it is, so any run can hand its report to
+// version 3, docs/report.md; versions 1 and 2 are still read): ReportData written out as it is, so any run can hand its report to
 // `triaxcal report`. (2) A calibration summary with its problem (what `triaxcal fit` has in memory).
 // (3) The files `triaxcal fit` writes today (<stem>.parameters.json and <stem>.curves.csv), when
 // no report input is there: parameters, fit quality and the compared points, but no optimiser
@@ -19,7 +19,9 @@
 namespace triaxcal::report {
 
 inline constexpr const char* kReportInputFormat = "triaxcal-report-input";
-inline constexpr int kReportInputVersion = 2;  ///< 2: outcome converged/stopped/poor_fit/failed
+/// 2: outcome converged/stopped/poor_fit/failed; 3: a test's compared curves as a list ("curves"),
+/// one a quantity and shear stage, with the fitted strain range (versions 1 and 2 are still read)
+inline constexpr int kReportInputVersion = 3;
 
 /// ReportData as JSON; NaN is written as null.
 TRIAXCAL_CORE_EXPORT std::string report_input_json(const ReportData& data);

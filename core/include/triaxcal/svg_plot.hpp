@@ -43,6 +43,7 @@ struct Series {
   Dash dash = Dash::solid;  ///< Dash::none = no line
   int style = 0;            ///< palette index (colour), see style_colour()
   double width = 1.6;       ///< line width (px)
+  double opacity = 1.0;     ///< below 1: drawn faded (e.g. points outside the fitted range)
   std::string css_class;    ///< extra class, e.g. "measured" or "simulated"
 };
 

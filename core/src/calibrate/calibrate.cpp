@@ -624,6 +624,7 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
       CurveFit cf;
       cf.x = c.x;
       cf.y = c.y;
+      cf.shear_stage = pt.test->curves[static_cast<std::size_t>(c.source)].shear_stage;
       cf.points = static_cast<int>(c.xs.size());
       cf.range = c.range;
       cf.xs = c.xs;

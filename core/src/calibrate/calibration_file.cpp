@@ -143,6 +143,44 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
   return c;
 }
 
+/// The "interpretation" object: which failure criterion, over which stress range, for which design
+/// stress the classical interpretation beside the fit is made (docs/calibration-format.md).
+InterpretOptions parse_interpretation(const json& o, const std::string& src) {
+  const std::string path = "interpretation";
+  detail::require_object(o, src, path);
+  detail::check_keys(o, {"criterion", "limiting_strain", "stress_range", "design_stress"}, src, path);
+  InterpretOptions i;
+  i.criterion = choose<FailureCriterion>(detail::get_string_or(o, "criterion", "max_deviator", src, path),
+                                         {{"max_deviator", FailureCriterion::max_deviator},
+                                          {"max_stress_ratio", FailureCriterion::max_stress_ratio},
+                                          {"limiting_strain", FailureCriterion::limiting_strain},
+                                          {"end_of_test", FailureCriterion::end_of_test}},
+                                         src + ": interpretation.criterion");
+  if (o.contains("limiting_strain") && i.criterion != FailureCriterion::limiting_strain)
+    throw InputError(src + ": interpretation.limiting_strain: only with \"criterion\": \"limiting_strain\", found criterion \"" +
+                     detail::get_string_or(o, "criterion", "max_deviator", src, path) + "\"");
+  i.limiting_strain = detail::get_number_or(o, "limiting_strain", i.limiting_strain, src, path);
+  if (!(i.limiting_strain > 0.0 && i.limiting_strain < 1.0))
+    throw InputError(src + ": interpretation.limiting_strain: must be a decimal axial strain in (0, 1), found " +
+                     o.at("limiting_strain").dump());
+  if (o.contains("stress_range")) {
+    const json& r = o.at("stress_range");
+    if (!r.is_array() || r.size() != 2 || !r[0].is_number() || !r[1].is_number() || !(r[0].get<double>() >= 0.0) ||
+        !(r[1].get<double>() > r[0].get<double>()))
+      throw InputError(src + ": interpretation.stress_range: expected [low, high] in kPa of s' at failure with 0 <= low < high, found " +
+                       r.dump());
+    i.stress_low = r[0].get<double>();
+    i.stress_high = r[1].get<double>();
+  }
+  if (o.contains("design_stress")) {
+    const json& v = o.at("design_stress");
+    if (!v.is_number() || !(v.get<double>() > 0.0))
+      throw InputError(src + ": interpretation.design_stress: expected a positive stress in kPa, found " + v.dump());
+    i.design_stress = v.get<double>();
+  }
+  return i;
+}
+
 }  // namespace
 
 CalibrationFile parse_calibration_file(const std::string& text, const std::string& source) {
@@ -150,7 +188,7 @@ CalibrationFile parse_calibration_file(const std::string& text, const std::strin
   detail::check_format(root, kCalibrationFormat, kCalibrationVersion, source);
   detail::check_keys(root,
                      {"format", "version", "description", "series", "model", "steps_per_shear_stage", "simulation_tolerance",
-                      "fixed_steps", "tests", "parameters", "constraints", "options"},
+                      "fixed_steps", "tests", "parameters", "constraints", "options", "interpretation"},
                      source, "");
   CalibrationFile f;
   f.source = source;
@@ -229,6 +267,7 @@ CalibrationFile parse_calibration_file(const std::string& text, const std::strin
     }
   }
   if (root.contains("options")) f.options = parse_options(root.at("options"), source);
+  if (root.contains("interpretation")) f.interpretation = parse_interpretation(root.at("interpretation"), source);
   return f;
 }
 
@@ -352,6 +391,9 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
         m.weight = cs.weight;
         m.strain_zero_stage = w.zero_stage;
         m.stage = w.stage;
+        if (windows.size() > 1)
+          for (std::size_t k = 0; k < windows.size(); ++k)
+            if (&windows[k] == &w) m.shear_stage = static_cast<int>(k) + 1;
         m.x_min = spec.strain_min;
         m.x_max = spec.strain_max;
         // Points with a value missing (e.g. void ratio unknown) are not compared.
@@ -592,6 +634,13 @@ double reference_pressure_of(const CalibrationFile& file, const ModelInfo& model
 
 }  // namespace
 
+InterpretOptions interpretation_options(const CalibrationFile& file, const TestSeries& series, const ModelInfo& model) {
+  InterpretOptions options = file.interpretation;
+  options.material = material_of_tests(file, series);
+  options.reference_pressure = reference_pressure_of(file, model);
+  return options;
+}
+
 std::vector<std::string> seed_from_interpretation(CalibrationFile& file, const TestSeries& series, const ModelInfo& model) {
   std::vector<std::string> notes;
   bool needed = false;
@@ -599,10 +648,7 @@ std::vector<std::string> seed_from_interpretation(CalibrationFile& file, const T
     needed = needed || (p.status == ParameterStatus::free && (std::isnan(p.start) || std::isnan(p.lower) || std::isnan(p.upper)));
   if (!needed) return notes;
 
-  InterpretOptions options;
-  options.material = material_of_tests(file, series);
-  options.reference_pressure = reference_pressure_of(file, model);
-  const InterpretationSeeds seeds(series, options);
+  const InterpretationSeeds seeds(series, interpretation_options(file, series, model));
   const std::string& src = file.source;
 
   for (ParameterSpec& p : file.parameters) {

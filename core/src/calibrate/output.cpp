@@ -1,3 +1,4 @@
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <cstdint>
@@ -141,6 +142,7 @@ std::string format_parameter_set(const CalibrationSummary& s, const ModelInfo& m
     ordered_json curves = ordered_json::array();
     for (const CurveFit& c : t.curves)
       curves.push_back({{"quantity", to_string(c.y)},
+                        {"stage", std::max(1, c.shear_stage)},
                         {"unit", unit_of(c.y)},
                         {"points", c.points},
                         {"rmse", number_or_null(c.rmse)},
@@ -165,12 +167,15 @@ std::string format_parameter_set(const CalibrationSummary& s, const ModelInfo& m
 }
 
 std::string format_fit_csv(const CalibrationSummary& s) {
-  std::string out = "test,quantity,axial_strain[-],measured,simulated,unit\n";
+  // One row a compared point. stage: the shear stage of the specimen, numbered 1, 2, 3 for people
+  // (1 for a specimen with one shear stage and for an oedometer test); stage_axial_strain: the
+  // engineering axial strain since the start of that stage (dL / L at the stage start), as compared.
+  std::string out = "test,stage,quantity,stage_axial_strain[-],measured,simulated,unit\n";
   char buf[96];
   for (const TestFit& t : s.tests)
     for (const CurveFit& c : t.curves)
       for (std::size_t i = 0; i < c.xs.size(); ++i) {
-        out += csv_field(t.id) + "," + to_string(c.y);
+        out += csv_field(t.id) + "," + std::to_string(std::max(1, c.shear_stage)) + "," + to_string(c.y);
         const double sim = i < c.simulated.size() ? c.simulated[i] : kNotGiven;
         if (std::isnan(sim))
           std::snprintf(buf, sizeof buf, ",%.10g,%.10g,", c.xs[i], c.measured[i]);

@@ -18,7 +18,8 @@ std::string fmt(const char* format, double v) {
 std::string value_text(double v) { return std::isnan(v) ? "-" : format_number(v); }
 
 std::string parameter_line(const FittedParameter& p) {
-  std::string line = "  " + p.name + " = " + format_number(p.value) + " " + p.unit;
+  // A dimensionless parameter has no unit after its value (never "-").
+  std::string line = "  " + p.name + " = " + format_number(p.value) + (p.unit.empty() || p.unit == "-" ? "" : " " + p.unit);
   if (p.status == ParameterStatus::free) {
     if (std::isinf(p.standard_error)) {
       line += "  (not determined)";
@@ -91,11 +92,13 @@ std::string CalibrationSummary::brief() const {
     for (const CurveFit& c : t.curves)
       if (!std::isnan(c.rmse) && c.range > 0.0 && c.rmse / c.range >= worst) {
         worst = c.rmse / c.range;
-        worst_name = t.id + " " + to_string(c.y);
+        worst_name = t.id + " " + to_string(c.y) + (c.shear_stage > 0 ? " (stage " + std::to_string(c.shear_stage) + ")" : "") +
+                     ", R^2 " + (std::isnan(c.r_squared) ? std::string("-") : fmt("%.3f", c.r_squared));
       }
   if (!worst_name.empty()) s << "  worst curve: " << worst_name << ", RMSE " << fmt("%.2f", 100.0 * worst) << " % of its range\n";
-  if (!warnings.empty()) s << "  " << warnings.size() << (warnings.size() == 1 ? " warning" : " warnings") << ":\n";
-  for (const std::string& w : warnings) s << "  - " << w << "\n";
+  // The warnings themselves are in full() and the report.
+  if (!warnings.empty())
+    s << "  " << warnings.size() << (warnings.size() == 1 ? " warning" : " warnings") << " (listed in the full summary)\n";
   return s.str();
 }
 
@@ -144,7 +147,8 @@ std::string CalibrationSummary::full() const {
     s << "  " << t.id << ": " << (t.simulated ? "simulated" : "FAILED: " + t.message) << ", objective share "
       << format_number(t.objective) << "\n";
     for (const CurveFit& c : t.curves)
-      s << "    " << to_string(c.y) << " vs " << to_string(c.x) << ": " << c.points << " points, RMSE "
+      s << "    " << to_string(c.y) << " vs " << to_string(c.x)
+        << (c.shear_stage > 0 ? " (stage " + std::to_string(c.shear_stage) + ")" : "") << ": " << c.points << " points, RMSE "
         << value_text(c.rmse) << " " << unit_of(c.y) << " ("
         << (std::isnan(c.rmse) ? std::string("-") : fmt("%.2f", 100.0 * c.rmse / c.range)) << " % of range "
         << format_number(c.range) << "), R^2 " << (std::isnan(c.r_squared) ? std::string("-") : fmt("%.4f", c.r_squared))

@@ -185,7 +185,6 @@ std::string drainage_word(Drainage d) {
   return "other";
 }
 
-bool is_triaxial(const TestReport& t) { return t.drainage != Drainage::oedometer; }
 bool any_strength(const Strength& s) { return !s.points.empty(); }
 bool any_compression(const ReportData& d) {
   return std::any_of(d.tests.begin(), d.tests.end(), [](const TestReport& t) { return !t.compression.empty(); });
@@ -197,7 +196,64 @@ bool any_residuals(const ReportData& d) {
   return false;
 }
 
-std::string second_kind(const TestReport& t) { return t.drainage == Drainage::undrained ? "pore" : "volumetric"; }
+bool dimensionless(const std::string& unit) { return unit.empty() || unit == "-"; }
+
+/// A unit column's cell: a dimensionless quantity says so instead of showing "-".
+std::string unit_cell(const std::string& unit) { return dimensionless(unit) ? "dimensionless" : esc(unit); }
+
+/// Fixed decimals without a "-0.00".
+std::string fixed_text(double v, int decimals) {
+  if (!std::isfinite(v)) return "-";
+  char buf[48];
+  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
+  std::string s = buf;
+  if (s.find_first_not_of("-0.") == std::string::npos && s[0] == '-') s.erase(0, 1);
+  return s;
+}
+
+/// How a compared quantity is named and scaled in the plots.
+struct CurveLabel {
+  std::string title;  ///< in words, for titles and captions
+  std::string axis;   ///< axis label with its symbol
+  std::string unit;   ///< plotted unit ("" = dimensionless)
+  double scale = 1.0; ///< stored value times this is plotted
+};
+
+CurveLabel curve_label(const std::string& quantity) {
+  if (quantity == "deviator_stress") return {"deviator stress", "deviator stress q", "kPa", 1.0};
+  if (quantity == "excess_pore_pressure") return {"excess pore pressure", "excess pore pressure Δu", "kPa", 1.0};
+  if (quantity == "volumetric_strain") return {"volumetric strain", "volumetric strain εv (compression +)", "%", 100.0};
+  if (quantity == "radial_strain") return {"radial strain", "radial strain εr", "%", 100.0};
+  if (quantity == "axial_stress") return {"axial effective stress", "axial effective stress σ'a", "kPa", 1.0};
+  if (quantity == "radial_stress") return {"radial effective stress", "radial effective stress σ'r", "kPa", 1.0};
+  if (quantity == "mean_stress") return {"mean effective stress", "mean effective stress p'", "kPa", 1.0};
+  if (quantity == "void_ratio") return {"void ratio", "void ratio e", "", 1.0};
+  if (quantity == "stress_ratio") return {"stress ratio", "stress ratio σ'a/σ'r", "", 1.0};
+  std::string words = quantity;
+  std::replace(words.begin(), words.end(), '_', ' ');
+  return {words, words, "", 1.0};
+}
+
+/// The quantities plotted for a test, in page order: a triaxial test always has q and then Δu
+/// (undrained) or εv (drained), with or without data; then every other compared quantity.
+std::vector<std::string> plotted_quantities(const TestReport& t) {
+  std::vector<std::string> out;
+  if (t.drainage != Drainage::oedometer) {
+    out.push_back("deviator_stress");
+    out.push_back(t.drainage == Drainage::undrained ? "excess_pore_pressure" : "volumetric_strain");
+  }
+  for (const TestCurve& c : t.curves)
+    if (std::find(out.begin(), out.end(), c.quantity) == out.end()) out.push_back(c.quantity);
+  return out;
+}
+
+std::string plot_id(const TestReport& t, const std::string& quantity) {
+  const std::string id = html_id(t.id);
+  if (quantity == "deviator_stress") return "plot-deviator-" + id;
+  if (quantity == "excess_pore_pressure") return "plot-pore-" + id;
+  if (quantity == "volumetric_strain") return "plot-volumetric-" + id;
+  return "plot-" + html_id(quantity) + "-" + id;
+}
 
 class Renderer {
  public:
@@ -300,7 +356,7 @@ class Renderer {
       if (!p.description.empty()) note += std::string(note.empty() ? "" : "; ") + esc(p.description);
       const bool free = p.status == "free";
       o_ << "<tr data-parameter=\"" << esc(p.name) << "\"><td>" << esc(p.name) << "</td><td>"
-         << esc(p.unit.empty() ? std::string("-") : p.unit) << "</td><td>" << esc(p.status) << "</td><td class=\"num\">"
+         << unit_cell(p.unit) << "</td><td>" << esc(p.status) << "</td><td class=\"num\">"
          << fmt(p.value) << "</td><td class=\"num\">" << (free ? fmt(p.start) : "") << "</td><td class=\"num\">"
          << (free ? fmt(p.lower) : "") << "</td><td class=\"num\">" << (free ? fmt(p.upper) : "")
          << "</td><td class=\"num\">" << (free ? fmt(p.standard_error) : "") << "</td><td class=\"num\">"
@@ -361,7 +417,7 @@ class Renderer {
         } else {
           const CurveQuality& q = t.quality[r];
           o_ << "<td>" << esc(q.name) << "</td><td class=\"num\">" << q.points << "</td><td class=\"num\">"
-             << fmt(q.rmse) << " " << esc(q.unit) << "</td><td class=\"num\">" << fmt_fixed(q.r_squared, 3) << "</td>";
+             << fmt(q.rmse) << (std::isfinite(q.rmse) && !dimensionless(q.unit) ? " " + esc(q.unit) : std::string()) << "</td><td class=\"num\">" << fmt_fixed(q.r_squared, 3) << "</td>";
         }
         o_ << "</tr>\n";
       }
@@ -373,7 +429,7 @@ class Renderer {
       svg::Plot p;
       p.id = "plot-residuals";
       p.title = "Residuals (simulated - measured) / measured range";
-      p.x = {"axial strain", "%"};
+      p.x = {"axial strain since the stage start", "%"};
       p.y = {"normalised residual", "-"};
       p.y.include_zero = true;
       int style = 0;
@@ -427,64 +483,149 @@ class Renderer {
   void curves() {
     section("curves", "3. Measured and simulated curves per test");
     o_ << "<p>Measured points are markers; the model at the reported parameters is a line of the same colour with "
-          "its own dash pattern. Strains in %, compression positive.</p>\n";
+          "its own dash pattern. Strains in %, compression positive; the axial strain of each curve is counted from "
+          "the start of its own shear stage (an oedometer test: from the start of its data), as the fit compares "
+          "it. A multi-stage specimen has one colour a stage. Parts outside the strain range the fit compared are "
+          "drawn faded.</p>\n";
     int style = 0;
-    bool any = false;
     for (const TestReport& t : d_.tests) {
       const int st = style++;
-      if (!is_triaxial(t)) continue;
-      any = true;
       const std::string id = html_id(t.id);
-      o_ << "<div class=\"test-block\" id=\"test-" << id << "\">\n<h3>" << esc(t.id) << " (" << drainage_word(t.drainage) << ")"
-         << (t.description.empty() ? "" : " &#8212; " + esc(t.description)) << "</h3>\n";
+      o_ << "<div class=\"test-block\" id=\"test-" << id << "\">\n<h3>" << esc(t.id)
+         << (t.description.empty() || t.description == t.id ? std::string() : " &#8212; " + esc(t.description)) << " ("
+         << drainage_word(t.drainage) << ")</h3>\n";
       if (!t.simulated)
         o_ << "<p class=\"flag\">Simulation failed: " << esc(t.message) << "</p>\n";
       else if (!t.used)
         o_ << "<p>Not used in the calibration (shown for comparison).</p>\n";
+      const std::string range = fitted_range_text(t);
+      if (!range.empty()) o_ << "<p class=\"meta\">" << esc(range) << "</p>\n";
       o_ << "<div class=\"plots\">\n";
-      {
-        svg::Plot p;
-        p.id = "plot-deviator-" + id;
-        p.title = t.id + ": deviator stress";
-        p.x = {"axial strain εa", "%"};
-        p.y = {"deviator stress q", "kPa"};
-        p.x.include_zero = p.y.include_zero = true;
-        add_pair(p, t.deviator, st, 100.0, 1.0);
-        p.note = "no deviator-stress data";
-        o_ << figure(p, t.id + ": q against axial strain.");
-      }
-      {
-        svg::Plot p;
-        const bool undrained = t.drainage == Drainage::undrained;
-        p.id = "plot-" + second_kind(t) + "-" + id;
-        p.x = {"axial strain εa", "%"};
-        p.x.include_zero = true;
-        p.y.include_zero = true;
-        if (undrained) {
-          p.title = t.id + ": excess pore pressure";
-          p.y = {"excess pore pressure Δu", "kPa"};
-          p.y.include_zero = true;
-          add_pair(p, t.pore_pressure, st, 100.0, 1.0);
-          p.note = "no pore-pressure data";
-        } else {
-          p.title = t.id + ": volumetric strain";
-          p.y = {"volumetric strain εv (compression +)", "%"};
-          p.y.include_zero = true;
-          add_pair(p, t.volumetric, st, 100.0, 100.0);
-          p.note = "no volume-change data";
-        }
-        o_ << figure(p, undrained ? t.id + ": excess pore pressure against axial strain."
-                                  : t.id + ": volumetric strain against axial strain; negative is dilation.");
-      }
+      for (const std::string& quantity : plotted_quantities(t)) curve_plot(t, quantity, st);
       o_ << "</div>\n</div>\n";
     }
-    if (!any) o_ << "<p>No triaxial tests.</p>\n";
+    if (d_.tests.empty()) o_ << "<p>No tests.</p>\n";
     end_section();
   }
 
-  void add_pair(svg::Plot& p, const CurvePair& c, int style, double xs, double ys) {
-    if (!c.measured.empty()) p.series.push_back(measured_series("measured", c.measured, style, xs, ys));
-    if (!c.simulated.empty()) p.series.push_back(simulated_series("model", c.simulated, style, xs, ys));
+  /// "Compared over stage axial strains 0 to 2.5 %" when the fit used part of a curve.
+  static std::string fitted_range_text(const TestReport& t) {
+    for (const TestCurve& c : t.curves)
+      if (std::isfinite(c.fitted_from) || std::isfinite(c.fitted_to))
+        return "The fit compared axial strains from " +
+               (std::isfinite(c.fitted_from) ? fixed_text(100.0 * c.fitted_from, 2) + " %" : std::string("the start")) +
+               " to " + (std::isfinite(c.fitted_to) ? fixed_text(100.0 * c.fitted_to, 2) + " %" : std::string("the end")) +
+               " of each stage; the rest is drawn faded.";
+    return {};
+  }
+
+  void curve_plot(const TestReport& t, const std::string& quantity, int test_style) {
+    const CurveLabel label = curve_label(quantity);
+    svg::Plot p;
+    p.id = plot_id(t, quantity);
+    p.title = t.id + ": " + label.title;
+    const bool oedometer = t.drainage == Drainage::oedometer;
+    p.x = {oedometer ? "axial strain εa since the start of the data" : "axial strain εa since the stage start", "%"};
+    p.y = {label.axis, label.unit};
+    p.x.include_zero = p.y.include_zero = true;
+    bool faded_named = false;
+    // The y range of the measured points and the model inside the fitted range: the model outside it
+    // (an extrapolation) is drawn only within this range widened by a fifth, so that it cannot set
+    // the scale and squeeze the data it was fitted to.
+    double lo = std::numeric_limits<double>::infinity(), hi = -lo;
+    for (const TestCurve& c : t.curves) {
+      if (c.quantity != quantity) continue;
+      XY in_s, out_s;
+      split_fitted(c.simulated, c, true, in_s, out_s);
+      for (const XY* xy : {&c.measured, static_cast<const XY*>(&in_s)})
+        for (double v : xy->y)
+          if (std::isfinite(v)) {
+            lo = std::min(lo, v);
+            hi = std::max(hi, v);
+          }
+    }
+    const double margin = hi > lo ? 0.2 * (hi - lo) : 0.0;
+    int stages = 0;
+    for (const TestCurve& c : t.curves)
+      if (c.quantity == quantity && c.stage > 0) ++stages;
+    for (const TestCurve& c : t.curves) {
+      if (c.quantity != quantity) continue;
+      const int style = stages > 0 ? c.stage - 1 : test_style;
+      const std::string prefix = c.stage > 0 ? "stage " + std::to_string(c.stage) + " " : std::string();
+      XY in_m, out_m, in_s, out_s;
+      split_fitted(c.measured, c, false, in_m, out_m);
+      split_fitted(c.simulated, c, true, in_s, out_s);
+      if (!in_m.empty()) p.series.push_back(measured_series(prefix + "measured", in_m, style, 100.0, label.scale));
+      if (!in_s.empty()) p.series.push_back(simulated_series(prefix + "model", in_s, style, 100.0, label.scale));
+      if (std::isfinite(lo))
+        for (double& v : out_s.y)
+          if (v < lo - margin || v > hi + margin) v = std::numeric_limits<double>::quiet_NaN();
+      for (XY* part : {&out_m, &out_s}) {
+        if (part->empty()) continue;
+        svg::Series f = part == &out_m ? measured_series("", *part, style, 100.0, label.scale)
+                                       : simulated_series("", *part, style, 100.0, label.scale);
+        if (!faded_named) f.name = "outside the fitted range (faded)";
+        faded_named = true;
+        f.opacity = 0.3;
+        f.css_class += " outside-fit";
+        p.series.push_back(std::move(f));
+      }
+    }
+    p.note = "no " + label.title + " data";
+    o_ << figure(p, t.id + ": " + label.title + " against the axial strain" +
+                        (quantity == "volumetric_strain" ? "; negative is dilation." : "."));
+  }
+
+  /// Points of `xy` inside the fitted strain range of `c`, and outside it. Lines keep their
+  /// continuity: each part holds NaN where the other one is drawn.
+  static void split_fitted(const XY& xy, const TestCurve& c, bool line, XY& in, XY& out) {
+    const double lo = std::isfinite(c.fitted_from) ? c.fitted_from : -std::numeric_limits<double>::infinity();
+    const double hi = std::isfinite(c.fitted_to) ? c.fitted_to : std::numeric_limits<double>::infinity();
+    const double nan = std::numeric_limits<double>::quiet_NaN();
+    const std::size_t n = std::min(xy.x.size(), xy.y.size());
+    bool any_out = false;
+    for (std::size_t i = 0; i < n; ++i) any_out = any_out || xy.x[i] < lo || xy.x[i] > hi;
+    if (!any_out) {
+      in = xy;
+      return;
+    }
+    for (std::size_t i = 0; i < n; ++i) {
+      const bool inside = xy.x[i] >= lo && xy.x[i] <= hi;
+      XY& mine = inside ? in : out;
+      XY& other = inside ? out : in;
+      if (line && !mine.x.empty() && std::isnan(mine.x.back()) && i > 0) {
+        // Rejoin the line at the previous point, so the two parts meet.
+        mine.x.push_back(xy.x[i - 1]);
+        mine.y.push_back(xy.y[i - 1]);
+      }
+      mine.x.push_back(xy.x[i]);
+      mine.y.push_back(xy.y[i]);
+      if (line && (other.x.empty() || !std::isnan(other.x.back()))) {
+        other.x.push_back(nan);
+        other.y.push_back(nan);
+      }
+    }
+    auto drop_breaks = [](XY& part) {
+      bool finite = false;
+      for (double v : part.x) finite = finite || std::isfinite(v);
+      if (!finite) part = {};
+    };
+    drop_breaks(in);
+    drop_breaks(out);
+    if (!line) {
+      // Markers: no breaks needed.
+      auto finite_only = [](XY& part) {
+        XY k;
+        for (std::size_t i = 0; i < part.x.size(); ++i)
+          if (std::isfinite(part.x[i])) {
+            k.x.push_back(part.x[i]);
+            k.y.push_back(part.y[i]);
+          }
+        part = k;
+      };
+      finite_only(in);
+      finite_only(out);
+    }
   }
 
   void paths() {
@@ -537,12 +678,14 @@ class Renderer {
         if (!t.compression.simulated.empty())
           p.series.push_back(simulated_series(t.id + " model", t.compression.simulated, st));
       }
-      o_ << figure(p, "Void ratio against p' on a log scale for the consolidation stages where e is known.");
+      o_ << figure(p, "Void ratio against p' (log scale) in the isotropic, anisotropic and K0 consolidation stages whose "
+                      "void ratios are known: measured as markers, the model as a line. Shear stages and oedometer "
+                      "tests are not in this plot.");
     }
     o_ << "</div>\n";
     if (!any_strength(s)) o_ << "<p id=\"no-strength\">No failure points: no s'-t or Mohr-circle plot.</p>\n";
     if (!any_compression(d_))
-      o_ << "<p id=\"no-compression\">No consolidation stage with known void ratios: no e - ln p' plot.</p>\n";
+      o_ << "<p id=\"no-compression\">No consolidation stage with measured void ratios: no e - ln p' plot.</p>\n";
     end_section();
   }
 
@@ -591,8 +734,28 @@ class Renderer {
     if (line_known(s.regression)) p.series.push_back(line_series(s.regression, 0.0, smax, 4, svg::Dash::solid));
     if (line_known(s.design)) p.series.push_back(line_series(s.design, 0.0, smax, 1, svg::Dash::dashed));
     if (line_known(s.model)) p.series.push_back(line_series(s.model, 0.0, smax, 2, svg::Dash::dash_dot));
+    design_stress_line(p);
     o_ << figure(p, "Failure points in s'-t with the regression line, the conservative design line and the model's "
-                    "envelope; the shaded band is the stress range used.");
+                    "envelope; the shaded band is the stress range used" +
+                        std::string(std::isfinite(s.design_stress) ? "; the vertical line is the design stress" : "") + ".");
+  }
+
+  /// The design stress as a vertical line (at s' in the s'-t plot, at sigma' in the Mohr plot).
+  void design_stress_line(svg::Plot& p) const {
+    const double ds = d_.strength.design_stress;
+    if (!std::isfinite(ds) || !(ds > 0)) return;
+    double top = 0;
+    for (const StressPoint& pt : d_.strength.points)
+      if (std::isfinite(pt.t)) top = std::max(top, pt.t);
+    svg::Series v;
+    v.name = "design stress " + fixed_text(ds, 0) + " kPa";
+    v.xs = {ds, ds};
+    v.ys = {0.0, top > 0 ? 1.1 * top : 1.0};
+    v.style = 5;
+    v.dash = svg::Dash::dotted;
+    v.width = 1.4;
+    v.css_class = "design-stress";
+    p.series.push_back(std::move(v));
   }
 
   void mohr_plot() {
@@ -608,15 +771,18 @@ class Renderer {
     p.equal_scale = true;
     p.height = 360.0;
     const double smax = strength_smax(true);
+    // One colour and legend entry a failure point (test and stage); left-out points dotted.
+    int circle_style = 0;
     for (const StressPoint& pt : s.points) {
       svg::HalfCircle c;
-      c.name = pt.used ? "circle at failure (used)" : "circle at failure (left out)";
+      c.name = pt.label;
       c.centre = pt.s;
       c.radius = pt.t;
-      c.style = pt.used ? 0 : 1;
+      c.style = circle_style++;
       c.dash = pt.used ? svg::Dash::solid : svg::Dash::dotted;
       p.circles.push_back(c);
     }
+    design_stress_line(p);
     // s'-t line t = a + s tan(alpha) <=> tau = c' + sigma' tan(phi'), sin phi' = tan alpha,
     // c' = a / cos phi' (common practice, e.g. Lambe & Whitman 1969, Soil Mechanics, ch. 10).
     auto mc = [&](const Line& l, int style, svg::Dash dash, const std::string& name) {
@@ -627,9 +793,7 @@ class Renderer {
       env.intercept = l.intercept / std::cos(phi);
       env.slope = std::tan(phi);
       p.series.push_back(line_series(env, 0.0, smax, style, dash));
-      char buf[96];
-      std::snprintf(buf, sizeof buf, " (c' = %.1f kPa, phi' = %.1f deg)", env.intercept, phi * 180.0 / kPi);
-      p.series.back().name += buf;
+      p.series.back().name += " (c' = " + fixed_text(env.intercept, 1) + " kPa, phi' = " + fixed_text(phi * 180.0 / kPi, 1) + " deg)";
     };
     mc(s.regression, 4, svg::Dash::solid, "envelope from regression");
     mc(s.design, 1, svg::Dash::dashed, "design envelope");
@@ -646,7 +810,7 @@ class Renderer {
             "<th>classical interpretation</th><th>fitted model</th><th>difference</th><th>basis</th></tr></thead>\n"
             "<tbody>\n";
       for (const Comparison& c : d_.comparisons) {
-        o_ << "<tr><td>" << esc(c.quantity) << "</td><td>" << esc(c.unit) << "</td><td class=\"num\">"
+        o_ << "<tr><td>" << esc(c.quantity) << "</td><td>" << unit_cell(c.unit) << "</td><td class=\"num\">"
            << (std::isnan(c.classical) ? std::string("not determined") : fmt(c.classical)) << "</td><td class=\"num\">"
            << fmt(c.model) << "</td><td class=\"num\">"
            << fmt(c.model - c.classical) << "</td><td>" << esc(c.basis) << "</td></tr>\n";
@@ -701,11 +865,8 @@ std::vector<std::string> expected_plot_ids(const ReportData& data) {
   std::vector<std::string> ids;
   if (any_residuals(data)) ids.push_back("plot-residuals");
   if (!data.history.empty()) ids.push_back("plot-history");
-  for (const TestReport& t : data.tests) {
-    if (!is_triaxial(t)) continue;
-    ids.push_back("plot-deviator-" + html_id(t.id));
-    ids.push_back("plot-" + second_kind(t) + "-" + html_id(t.id));
-  }
+  for (const TestReport& t : data.tests)
+    for (const std::string& quantity : plotted_quantities(t)) ids.push_back(plot_id(t, quantity));
   ids.push_back("plot-stress-paths");
   if (any_strength(data.strength)) {
     ids.push_back("plot-s-t");

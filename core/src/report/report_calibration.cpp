@@ -1,10 +1,12 @@
 // Report data from a calibration summary and its problem (what `triaxcal fit` holds in memory).
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <sstream>
 
 #include "triaxcal/conventions.hpp"
 #include "triaxcal/report_input.hpp"
+#include "triaxcal/series.hpp"
 
 namespace triaxcal::report {
 
@@ -15,7 +17,6 @@ constexpr double kDeg = 3.14159265358979323846 / 180.0;
 bool consolidation(StageType t) {
   return t != StageType::shear && t != StageType::constant_p_shear && t != StageType::unload_reload;
 }
-
 Drainage drainage_of(const TestProtocol& p) {
   bool shear = false, undrained = false;
   for (const Stage& s : p.stages)
@@ -25,17 +26,6 @@ Drainage drainage_of(const TestProtocol& p) {
     }
   if (!shear) return Drainage::oedometer;
   return undrained ? Drainage::undrained : Drainage::drained;
-}
-
-CurvePair* target(TestReport& t, Quantity x, Quantity y) {
-  if (x == Quantity::axial_strain) {
-    if (y == Quantity::deviator_stress) return &t.deviator;
-    if (y == Quantity::excess_pore_pressure) return &t.pore_pressure;
-    if (y == Quantity::volumetric_strain) return &t.volumetric;
-  }
-  if (x == Quantity::mean_stress && y == Quantity::deviator_stress) return &t.stress_path;
-  if (x == Quantity::mean_stress && y == Quantity::void_ratio) return &t.compression;
-  return nullptr;
 }
 
 bool is_strain(Quantity q) {
@@ -68,6 +58,21 @@ XY simulated_curve(const SimulationResult& r, const MeasuredCurve& c) {
     out.y.push_back(y);
   }
   return out;
+}
+
+/// The failure criterion in words, as the report states it.
+std::string criterion_words(FailureCriterion c, double limiting_strain) {
+  switch (c) {
+    case FailureCriterion::max_deviator: return "maximum deviator stress";
+    case FailureCriterion::max_stress_ratio: return "maximum stress ratio";
+    case FailureCriterion::limiting_strain: {
+      char b[64];
+      std::snprintf(b, sizeof b, "limiting axial strain %.4g %%", 100.0 * limiting_strain);
+      return b;
+    }
+    case FailureCriterion::end_of_test: return "end of test";
+  }
+  return to_string(c);
 }
 
 /// The fitted parameter that declares `role` in the model's ModelInfo (never matched by name), or
@@ -106,6 +111,11 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
     t.weight = ct.weight;
     t.drainage = drainage_of(ct.protocol);
     t.description = ct.protocol.name;
+    const Specimen* specimen = nullptr;
+    if (series)
+      for (const Specimen& sp : series->specimens)
+        if (sp.id == ct.id) specimen = &sp;
+    if (specimen && !specimen->description.empty()) t.description = specimen->description;
     const TestFit* fit = nullptr;
     for (const TestFit& f : s.tests)
       if (f.id == ct.id) fit = &f;
@@ -113,45 +123,57 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
     t.simulated = fit ? fit->simulated : false;
     t.message = fit ? fit->message : std::string("not simulated");
     if (fit) t.objective = fit->objective;
+    // Every compared curve, one a quantity and shear stage, against its own stage strain.
     for (const MeasuredCurve& c : ct.curves) {
-      CurvePair* pair = target(t, c.x, c.y);
-      if (!pair) continue;
-      pair->measured.x = c.xs;
-      pair->measured.y = c.ys;
-      if (sim && t.simulated) pair->simulated = simulated_curve(*sim, c);
+      if (c.x != Quantity::axial_strain) continue;
+      TestCurve tc;
+      tc.quantity = to_string(c.y);
+      tc.unit = unit_of(c.y);
+      tc.stage = c.shear_stage;
+      tc.measured.x = c.xs;
+      tc.measured.y = c.ys;
+      if (std::isfinite(c.x_min)) tc.fitted_from = c.x_min;
+      if (std::isfinite(c.x_max)) tc.fitted_to = c.x_max;
+      if (sim && t.simulated) tc.simulated = simulated_curve(*sim, c);
+      t.curves.push_back(std::move(tc));
     }
+    // e - ln p': the consolidation stages only (isotropic, anisotropic, K0), measured and simulated;
+    // shear stages and oedometer tests (no measured p') are not in it.
+    auto consolidating = [](StageType type) {
+      return type == StageType::isotropic_consolidation || type == StageType::anisotropic_consolidation ||
+             type == StageType::k0_consolidation;
+    };
     if (sim && t.simulated && !sim->steps.empty()) {
       for (const StepRecord& r : sim->steps) {
         t.stress_path.simulated.x.push_back(r.p);
         t.stress_path.simulated.y.push_back(r.q);
         if (std::isfinite(r.void_ratio) && static_cast<std::size_t>(r.stage) < ct.protocol.stages.size() &&
-            consolidation(ct.protocol.stages[static_cast<std::size_t>(r.stage)].type)) {
+            consolidating(ct.protocol.stages[static_cast<std::size_t>(r.stage)].type)) {
           t.compression.simulated.x.push_back(r.p);
           t.compression.simulated.y.push_back(r.void_ratio);
         }
       }
     }
-    if (series) {
-      for (const Specimen& sp : series->specimens) {
-        if (sp.id != ct.id) continue;
-        const ReducedCurves& rc = sp.curves;
-        if (t.stress_path.measured.empty()) {
-          t.stress_path.measured.x = rc.mean_stress;
-          t.stress_path.measured.y = rc.deviator_stress;
+    if (specimen) {
+      const ReducedCurves& rc = specimen->curves;
+      t.stress_path.measured.x = rc.mean_stress;
+      t.stress_path.measured.y = rc.deviator_stress;
+      for (std::size_t k = 0; k < rc.void_ratio.size() && k < rc.mean_stress.size() && k < rc.stage.size(); ++k) {
+        const int st = rc.stage[k];
+        const bool consolidation_row = st >= 0 && static_cast<std::size_t>(st) < specimen->stages.size() &&
+                                       specimen->stages[static_cast<std::size_t>(st)].type == SpecimenStageType::consolidation;
+        if (consolidation_row && std::isfinite(rc.void_ratio[k]) && rc.mean_stress[k] > 0) {
+          t.compression.measured.x.push_back(rc.mean_stress[k]);
+          t.compression.measured.y.push_back(rc.void_ratio[k]);
         }
-        if (t.compression.measured.empty())
-          for (std::size_t k = 0; k < rc.void_ratio.size() && k < rc.mean_stress.size(); ++k)
-            if (std::isfinite(rc.void_ratio[k]) && rc.mean_stress[k] > 0) {
-              t.compression.measured.x.push_back(rc.mean_stress[k]);
-              t.compression.measured.y.push_back(rc.void_ratio[k]);
-            }
-        if (t.compression.measured.empty()) t.compression.simulated = {};
       }
     }
+    // Without measured void ratios there is nothing to compare the model's with.
+    if (t.compression.measured.empty()) t.compression.simulated = {};
     if (fit)
       for (const CurveFit& c : fit->curves) {
         CurveQuality q;
-        q.name = to_string(c.y) + " vs " + to_string(c.x);
+        q.name = to_string(c.y) + " vs " + to_string(c.x) + (c.shear_stage > 0 ? ", stage " + std::to_string(c.shear_stage) : "");
         q.unit = unit_of(c.y);
         q.points = c.points;
         q.rmse = c.rmse;
@@ -223,10 +245,23 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
   }
   if (interpretation) {
     const Interpretation& in = *interpretation;
-    d.strength.criterion = in.envelopes.empty() ? std::string() : to_string(in.envelopes.front().criterion);
+    d.strength.criterion =
+        in.envelopes.empty() ? std::string() : criterion_words(in.envelopes.front().criterion, in.options.limiting_strain);
     if (!in.envelopes.empty()) {
       const StrengthEnvelope& e = in.envelopes.front();
-      for (const UsedPoint& p : e.points) d.strength.points.push_back({p.specimen, p.s, p.t, p.used});
+      // Label: the specimen, and the stage (numbered 1, 2, 3 among its shear stages) when it has several.
+      for (const UsedPoint& p : e.points) {
+        std::string label = p.specimen;
+        if (series)
+          for (const Specimen& sp : series->specimens)
+            if (sp.id == p.specimen) {
+              const std::vector<int> shear = sp.shear_stages();
+              const auto at = std::find(shear.begin(), shear.end(), p.stage);
+              if (shear.size() > 1 && at != shear.end()) label += " stage " + std::to_string(at - shear.begin() + 1);
+            }
+        if (!p.used) label += " (left out)";
+        d.strength.points.push_back({label, p.s, p.t, p.used});
+      }
       if (std::isfinite(e.st.intercept))
         d.strength.regression = {"regression t = a + s' tan alpha", e.st.intercept, e.st.slope, kUnknown, kUnknown};
       if (std::isfinite(e.design_phi)) {
@@ -239,13 +274,14 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
       // A classical value the data cannot determine is shown as "not determined" with the reason.
       const std::string why = e.note.empty() ? std::string() : "; not determined: " + e.note;
       d.comparisons.push_back({"friction angle phi'", "deg", e.phi, phi ? phi->value : kUnknown,
-                               "s'-t regression (" + to_string(e.criterion) + ") vs model " +
+                               "s'-t regression (" + criterion_words(e.criterion, in.options.limiting_strain) + ") vs model " +
                                    (phi ? phi->name : std::string("friction angle")) + why});
       d.comparisons.push_back({"cohesion c'", "kPa", e.cohesion, coh ? coh->value : kUnknown,
                                "s'-t regression vs model " + (coh ? coh->name : std::string("cohesion")) + why});
     }
     if (std::isfinite(in.options.stress_low) && in.options.stress_low > 0) d.strength.range_low = in.options.stress_low;
     if (std::isfinite(in.options.stress_high)) d.strength.range_high = in.options.stress_high;
+    d.strength.design_stress = in.options.design_stress;
     if (!d.strength.points.empty() && !std::isfinite(d.strength.range_low)) d.strength.range_low = 0.0;
     if (std::isfinite(in.critical_m))
       d.strength.pq_lines.push_back({"critical state line q = M p'", 0.0, in.critical_m, kUnknown, kUnknown});

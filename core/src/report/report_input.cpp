@@ -32,6 +32,10 @@ ordered_json numbers(const std::vector<double>& v) {
 
 ordered_json xy(const XY& c) { return {{"x", numbers(c.x)}, {"y", numbers(c.y)}}; }
 ordered_json pair(const CurvePair& c) { return {{"measured", xy(c.measured)}, {"simulated", xy(c.simulated)}}; }
+ordered_json test_curve(const TestCurve& c) {
+  return {{"quantity", c.quantity}, {"unit", c.unit}, {"stage", c.stage}, {"measured", xy(c.measured)},
+          {"simulated", xy(c.simulated)}, {"fitted_from", number(c.fitted_from)}, {"fitted_to", number(c.fitted_to)}};
+}
 ordered_json line(const Line& l) {
   return {{"name", l.name}, {"intercept", number(l.intercept)}, {"slope", number(l.slope)},
           {"x_from", number(l.x_from)}, {"x_to", number(l.x_to)}};
@@ -275,27 +279,31 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
   }
   if (root.contains("caution") && root["caution"].is_string()) d.caution = root["caution"].get<std::string>();
 
-  // Curves: test,quantity,axial_strain[-],measured,simulated,unit (the compared points).
-  // RFC 4180 records (test ids may hold commas and quotes: results_csv.hpp).
+  // Curves: test,stage,quantity,stage_axial_strain[-],measured,simulated,unit (the compared points;
+  // files before stages were numbered: test,quantity,axial_strain[-],...). RFC 4180 records (test
+  // ids may hold commas and quotes: results_csv.hpp).
   const std::vector<CsvRecord> records = parse_csv(detail::read_text_file(csv_path.string()), csv_path.string());
   std::string header;
   if (!records.empty())
     for (const std::string& f : records.front().fields) header += (header.empty() ? "" : ",") + f;
-  if (header.rfind("test,quantity,axial_strain[-],measured,simulated,unit", 0) != 0)
-    throw InputError(csv_path.string() + ": line 1: expected the header "
-                     "\"test,quantity,axial_strain[-],measured,simulated,unit\", found \"" + header + "\"");
-  std::map<std::string, std::map<std::string, std::size_t>> quality_index;
-  for (std::size_t i = 0; i < d.tests.size(); ++i)
-    for (std::size_t k = 0; k < d.tests[i].quality.size(); ++k) {
-      const std::string& n = d.tests[i].quality[k].name;
-      quality_index[d.tests[i].id][n.substr(0, n.find(" vs "))] = k;
-    }
+  const char* kHeader = "test,stage,quantity,stage_axial_strain[-],measured,simulated,unit";
+  const char* kOldHeader = "test,quantity,axial_strain[-],measured,simulated,unit";
+  const bool staged = header.rfind(kHeader, 0) == 0;
+  if (!staged && header.rfind(kOldHeader, 0) != 0)
+    throw InputError(csv_path.string() + ": line 1: expected the header \"" + kHeader + "\", found \"" + header + "\"");
+  const std::size_t columns = staged ? 7 : 6;
+  // Each (test, quantity, stage) is one curve; quality rows (one a curve, in file order) get their residuals.
+  std::map<std::string, std::map<std::string, std::size_t>> curve_index;  // id -> "quantity/stage" -> curves index
   for (std::size_t r = 1; r < records.size(); ++r) {
     const auto& cells = records[r].fields;
-    if (cells.size() < 6)
-      throw InputError(csv_path.string() + ": line " + std::to_string(records[r].line) + ": expected 6 columns, found " +
-                       std::to_string(cells.size()));
+    if (cells.size() < columns)
+      throw InputError(csv_path.string() + ": line " + std::to_string(records[r].line) + ": expected " +
+                       std::to_string(columns) + " columns, found " + std::to_string(cells.size()));
     const std::string& id = cells[0];
+    const std::size_t o = staged ? 1 : 0;
+    const double stage_number = staged ? parse_or_nan(cells[1]) : 0.0;
+    const int stage = stage_number >= 1.0 && stage_number <= 1000.0 ? static_cast<int>(stage_number) : 0;
+    const std::string& quantity = cells[1 + o];
     if (!index.count(id)) {
       index[id] = d.tests.size();
       TestReport t;
@@ -303,48 +311,58 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
       d.tests.push_back(t);
     }
     TestReport& t = d.tests[index[id]];
-    const double x = parse_or_nan(cells[2]), m = parse_or_nan(cells[3]), s = parse_or_nan(cells[4]);
-    CurvePair* target = nullptr;
-    if (cells[1] == "deviator_stress") target = &t.deviator;
-    if (cells[1] == "excess_pore_pressure") {
-      target = &t.pore_pressure;
-      t.drainage = Drainage::undrained;
+    const double x = parse_or_nan(cells[2 + o]), m = parse_or_nan(cells[3 + o]), sim = parse_or_nan(cells[4 + o]);
+    if (quantity == "excess_pore_pressure") t.drainage = Drainage::undrained;
+    if (quantity == "volumetric_strain" && t.drainage == Drainage::other) t.drainage = Drainage::drained;
+    const std::string key = quantity + "/" + std::to_string(stage);
+    auto& curves_of = curve_index[id];
+    if (!curves_of.count(key)) {
+      curves_of[key] = t.curves.size();
+      TestCurve c;
+      c.quantity = quantity;
+      c.unit = cells[5 + o];
+      c.stage = stage;
+      t.curves.push_back(c);
     }
-    if (cells[1] == "volumetric_strain") {
-      target = &t.volumetric;
-      if (t.drainage == Drainage::other) t.drainage = Drainage::drained;
-    }
-    if (target) {
-      target->measured.x.push_back(x);
-      target->measured.y.push_back(m);
-      if (std::isfinite(s)) {
-        target->simulated.x.push_back(x);
-        target->simulated.y.push_back(s);
-      }
-    }
-    auto qi = quality_index.find(id);
-    if (qi != quality_index.end() && qi->second.count(cells[1]) && std::isfinite(s)) {
-      CurveQuality& q = t.quality[qi->second[cells[1]]];
-      q.residuals.x.push_back(x);
-      q.residuals.y.push_back(s - m);  // normalised below by the measured range
+    TestCurve& c = t.curves[curves_of[key]];
+    c.measured.x.push_back(x);
+    c.measured.y.push_back(m);
+    if (std::isfinite(sim)) {
+      c.simulated.x.push_back(x);
+      c.simulated.y.push_back(sim);
     }
   }
+  // A file numbers stage 1 also for a specimen with one shear stage: shown as the only stage.
   for (TestReport& t : d.tests) {
-    if (t.drainage == Drainage::other && !t.deviator.empty()) t.drainage = Drainage::drained;
+    int most = 0;
+    for (const TestCurve& c : t.curves) most = std::max(most, c.stage);
+    if (most <= 1)
+      for (TestCurve& c : t.curves) c.stage = 0;
+  }
+  // Residuals of each quality row from the curve of the same quantity, in order (stage by stage).
+  for (TestReport& t : d.tests) {
+    if (t.drainage == Drainage::other && !t.curves.empty()) t.drainage = Drainage::drained;
+    std::map<std::string, int> seen;
     for (CurveQuality& q : t.quality) {
-      const CurvePair* c = q.name.rfind("deviator_stress", 0) == 0        ? &t.deviator
-                           : q.name.rfind("excess_pore_pressure", 0) == 0 ? &t.pore_pressure
-                           : q.name.rfind("volumetric_strain", 0) == 0    ? &t.volumetric
-                                                                          : nullptr;
+      const std::string quantity = q.name.substr(0, q.name.find(" vs "));
+      int k = seen[quantity]++;
+      const TestCurve* c = nullptr;
+      for (const TestCurve& tc : t.curves)
+        if (tc.quantity == quantity && k-- == 0) {
+          c = &tc;
+          break;
+        }
+      if (!c || c->simulated.x.size() != c->measured.x.size()) continue;
       double lo = 0, hi = 0;
-      if (c && !c->measured.y.empty()) {
+      if (!c->measured.y.empty()) {
         lo = *std::min_element(c->measured.y.begin(), c->measured.y.end());
         hi = *std::max_element(c->measured.y.begin(), c->measured.y.end());
       }
-      if (hi > lo)
-        for (double& r : q.residuals.y) r /= (hi - lo);
-      else
-        q.residuals = {};
+      if (!(hi > lo)) continue;
+      for (std::size_t i = 0; i < c->measured.x.size(); ++i) {
+        q.residuals.x.push_back(c->measured.x[i]);
+        q.residuals.y.push_back((c->simulated.y[i] - c->measured.y[i]) / (hi - lo));
+      }
     }
   }
   if (!recorded_outcome) derive_outcome(d, source);
@@ -390,10 +408,11 @@ std::string report_input_json(const ReportData& d) {
       q.push_back({{"name", c.name}, {"unit", c.unit}, {"points", c.points}, {"rmse", number(c.rmse)},
                    {"r_squared", number(c.r_squared)}, {"residuals", xy(c.residuals)}, {"x_name", c.x_name},
                    {"x_scale", c.x_scale}, {"x_unit", c.x_unit}});
+    ordered_json curves = ordered_json::array();
+    for (const TestCurve& c : t.curves) curves.push_back(test_curve(c));
     tests.push_back({{"id", t.id}, {"description", t.description}, {"drainage", drainage_name(t.drainage)},
                      {"used", t.used}, {"simulated", t.simulated}, {"message", t.message},
-                     {"objective", number(t.objective)}, {"weight", t.weight}, {"deviator", pair(t.deviator)},
-                     {"pore_pressure", pair(t.pore_pressure)}, {"volumetric", pair(t.volumetric)},
+                     {"objective", number(t.objective)}, {"weight", t.weight}, {"curves", curves},
                      {"stress_path", pair(t.stress_path)}, {"compression", pair(t.compression)}, {"quality", q}});
   }
   root["tests"] = tests;
@@ -424,6 +443,7 @@ std::string report_input_json(const ReportData& d) {
                       {"model", line(d.strength.model)},
                       {"range_low", number(d.strength.range_low)},
                       {"range_high", number(d.strength.range_high)},
+                      {"design_stress", number(d.strength.design_stress)},
                       {"pq_lines", pq},
                       {"criterion", d.strength.criterion}};
   ordered_json hist = ordered_json::array();
@@ -445,8 +465,10 @@ ReportData parse_report_input(const std::string& text, const std::string& source
   const json root = detail::parse_json(text, source);
   detail::require_object(root, source, "");
   // Version 1 wrote the outcome as success/partial/failed; it is read and its outcome derived again.
+  // Versions 1 and 2 held one deviator / pore_pressure / volumetric pair a test instead of "curves".
   const bool version1 = root.contains("version") && root.at("version") == 1;
-  detail::check_format(root, kReportInputFormat, version1 ? 1 : kReportInputVersion, source);
+  const bool version2 = root.contains("version") && root.at("version") == 2;
+  detail::check_format(root, kReportInputFormat, version1 ? 1 : (version2 ? 2 : kReportInputVersion), source);
   const Reader r{source};
   r.object(root, "",
            {"format", "version", "title", "project", "model", "model_description", "outcome", "outcome_reason",
@@ -473,8 +495,12 @@ ReportData parse_report_input(const std::string& text, const std::string& source
   d.evaluations = r.integer(root, "evaluations", "");
   d.wall_time = r.num(root, "wall_time", "");
   r.each(root, "tests", "", [&](const json& j, const std::string& p) {
-    r.object(j, p, {"id", "description", "drainage", "used", "simulated", "message", "objective", "weight", "deviator",
-                    "pore_pressure", "volumetric", "stress_path", "compression", "quality"});
+    if (version1 || version2)
+      r.object(j, p, {"id", "description", "drainage", "used", "simulated", "message", "objective", "weight", "deviator",
+                      "pore_pressure", "volumetric", "stress_path", "compression", "quality"});
+    else
+      r.object(j, p, {"id", "description", "drainage", "used", "simulated", "message", "objective", "weight", "curves",
+                      "stress_path", "compression", "quality"});
     TestReport t;
     t.id = detail::get_string(j, "id", source, p);
     t.description = r.str(j, "description", p);
@@ -484,9 +510,34 @@ ReportData parse_report_input(const std::string& text, const std::string& source
     t.message = r.str(j, "message", p);
     t.objective = r.num(j, "objective", p);
     t.weight = r.num(j, "weight", p, 1.0);
-    t.deviator = r.pair(j, "deviator", p);
-    t.pore_pressure = r.pair(j, "pore_pressure", p);
-    t.volumetric = r.pair(j, "volumetric", p);
+    if (version1 || version2) {
+      const std::pair<const char*, const char*> old_pairs[] = {
+          {"deviator", "deviator_stress"}, {"pore_pressure", "excess_pore_pressure"}, {"volumetric", "volumetric_strain"}};
+      for (const auto& [key, quantity] : old_pairs) {
+        const CurvePair c = r.pair(j, key, p);
+        if (c.empty()) continue;
+        TestCurve tc;
+        tc.quantity = quantity;
+        tc.unit = std::string(quantity) == "volumetric_strain" ? "-" : "kPa";
+        tc.measured = c.measured;
+        tc.simulated = c.simulated;
+        t.curves.push_back(tc);
+      }
+    }
+    r.each(j, "curves", p, [&](const json& c, const std::string& cp) {
+      r.object(c, cp, {"quantity", "unit", "stage", "measured", "simulated", "fitted_from", "fitted_to"});
+      TestCurve tc;
+      tc.quantity = detail::get_string(c, "quantity", source, cp);
+      tc.unit = r.str(c, "unit", cp, tc.unit);
+      const long stage = r.integer(c, "stage", cp, 0);
+      if (stage < 0 || stage > 1000) r.fail(cp + ".stage", "expected a stage number 0 to 1000, found " + std::to_string(stage));
+      tc.stage = static_cast<int>(stage);
+      tc.measured = r.xy(c, "measured", cp);
+      tc.simulated = r.xy(c, "simulated", cp);
+      tc.fitted_from = r.num(c, "fitted_from", cp);
+      tc.fitted_to = r.num(c, "fitted_to", cp);
+      t.curves.push_back(tc);
+    });
     t.stress_path = r.pair(j, "stress_path", p);
     t.compression = r.pair(j, "compression", p);
     r.each(j, "quality", p, [&](const json& q, const std::string& qp) {
@@ -552,7 +603,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
   if (root.contains("strength")) {
     const json& s = root["strength"];
     const std::string p = "strength";
-    r.object(s, p, {"points", "regression", "design", "model", "range_low", "range_high", "pq_lines", "criterion"});
+    r.object(s, p, {"points", "regression", "design", "model", "range_low", "range_high", "design_stress", "pq_lines", "criterion"});
     r.each(s, "points", p, [&](const json& j, const std::string& pp) {
       r.object(j, pp, {"label", "s", "t", "used"});
       d.strength.points.push_back({r.str(j, "label", pp), r.num(j, "s", pp), r.num(j, "t", pp), r.boolean(j, "used", pp, true)});
@@ -562,6 +613,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
     if (s.contains("model")) d.strength.model = r.line(s["model"], p + ".model");
     d.strength.range_low = r.num(s, "range_low", p);
     d.strength.range_high = r.num(s, "range_high", p);
+    d.strength.design_stress = r.num(s, "design_stress", p);
     r.each(s, "pq_lines", p, [&](const json& j, const std::string& pp) { d.strength.pq_lines.push_back(r.line(j, pp)); });
     d.strength.criterion = r.str(s, "criterion", p);
   }

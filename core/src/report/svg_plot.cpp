@@ -125,7 +125,10 @@ void finish_log(double& lo, double& hi, bool lo_fixed, bool hi_fixed) {
   if (!(hi > lo)) hi = lo * 10.0;
 }
 
-std::string axis_title(const Axis& a) { return a.label + " (" + (a.unit.empty() ? std::string("-") : a.unit) + ")"; }
+// A dimensionless quantity has no unit in parentheses (never "(-)").
+std::string axis_title(const Axis& a) {
+  return a.unit.empty() || a.unit == "-" ? a.label : a.label + " (" + a.unit + ")";
+}
 
 struct Writer {
   const Plot& plot;
@@ -484,7 +487,8 @@ std::string render_svg(const Plot& plot) {
     const std::string colour = style_colour(s.style);
     o << "<g class=\"series s-" << index++ << (s.css_class.empty() ? "" : " " + xml_escape(s.css_class))
       << "\" data-name=\"" << xml_escape(s.name) << "\" data-marker=\"" << to_string(s.marker) << "\" data-dash=\""
-      << to_string(s.dash) << "\" stroke=\"" << colour << "\">\n";
+      << to_string(s.dash) << "\" stroke=\"" << colour << "\""
+      << (s.opacity < 1.0 ? " opacity=\"" + num(std::max(0.0, s.opacity)) + "\"" : std::string()) << ">\n";
     const std::size_t n = std::min(s.xs.size(), s.ys.size());
     if (s.dash != Dash::none) {
       const std::string da = dash_array(s.dash);
