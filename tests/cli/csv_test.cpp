@@ -132,9 +132,10 @@ TEST_CASE("the fitted-curves CSV keeps a test id with commas and quotes in one f
   std::vector<std::vector<std::string>> rows;
   REQUIRE(strict_records(csv, rows));
   REQUIRE(rows.size() == 3);
-  for (const auto& row : rows) CHECK(row.size() == 6);
+  for (const auto& row : rows) CHECK(row.size() == 7);  // test,stage,quantity,stage_axial_strain[-],measured,simulated,unit
   CHECK(rows[1][0] == kAwkwardName);
-  CHECK(rows[2][4].empty());
+  CHECK(rows[1][1] == "1");  // the specimen's only shear stage is stage 1 for people
+  CHECK(rows[2][5].empty());
 }
 
 TEST_CASE("simulate --out quotes a protocol name with commas and quotes: Python's csv module reads as many fields on every row as in the header",
