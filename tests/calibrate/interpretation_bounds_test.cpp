@@ -442,6 +442,7 @@ TEST_CASE("a calibration file fixes a word parameter at its word and names the n
   q = p;
   q["cohesion"] = "none";
   CHECK(message(q) == "cal.json: parameters.cohesion: expected a number (kPa), found \"none\"");
+}
 
 TEST_CASE("the calibration file's interpretation key chooses the criterion, stress range and design stress the seeds "
           "and the report use",
