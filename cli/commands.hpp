@@ -44,4 +44,13 @@ struct RegisteredCommand {
 
 std::vector<RegisteredCommand>& registered_commands();
 
+/// The check of every number option, run by CLI11 before the value is converted (CLI11 reads
+/// "nan" and "inf", takes 1e400 as infinity, and its Range lets NaN through): the text must read
+/// as a finite number within [low, high] ((low, high] with `low_open`). Message, after CLI11's
+/// "--option: ": "inf: expected a finite number above 0 (kPa)".
+CLI::Validator number_check(double low, double high, bool low_open, const std::string& unit = "");
+
+/// Reads `text` as a whole finite number; false for anything else (trailing text, nan, inf, 1e400).
+bool read_finite_number(const std::string& text, double& value);
+
 }  // namespace triaxcal::cli

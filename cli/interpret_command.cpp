@@ -1,6 +1,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <limits>
 #include <memory>
 
 #include "commands.hpp"
@@ -59,44 +60,46 @@ LeftOut parse_leave_out(const std::string& text) {
   return l;
 }
 
-double parse_number(const std::string& text, const std::string& option) {
-  std::size_t used = 0;
-  double v = 0.0;
-  try {
-    v = std::stod(text, &used);
-  } catch (const std::exception&) {
-    used = 0;
-  }
-  if (used == 0 || used != text.size() || !std::isfinite(v))
-    throw InputError(option + ": '" + text + "' is not a number");
-  return v;
+constexpr double kUnbounded = std::numeric_limits<double>::max();
+
+/// "strain:EPS" with EPS a decimal axial strain in (0, 1); false for anything else.
+bool read_limiting_strain(const std::string& criterion, double& strain) {
+  return criterion.rfind("strain:", 0) == 0 && read_finite_number(criterion.substr(7), strain) && strain > 0.0 &&
+         strain < 1.0;
 }
 
+std::string criterion_error(const std::string& c) {
+  double strain = 0.0;
+  if (c == "max-deviator" || c == "max-stress-ratio" || c == "end" || read_limiting_strain(c, strain)) return "";
+  if (c.rfind("strain:", 0) == 0)
+    return c + ": expected strain:EPS with EPS a decimal axial strain above 0 and below 1, e.g. strain:0.15";
+  return c + ": expected max-deviator, max-stress-ratio, strain:EPS or end";
+}
+
+/// "LO:HI" with 0 <= LO < HI, finite (kPa).
+bool read_stress_range(const std::string& text, double& low, double& high) {
+  const auto colon = text.find(':');
+  return colon != std::string::npos && read_finite_number(text.substr(0, colon), low) &&
+         read_finite_number(text.substr(colon + 1), high) && low >= 0.0 && high > low;
+}
+
+std::string stress_range_error(const std::string& text) {
+  double low = 0.0, high = 0.0;
+  if (read_stress_range(text, low, high)) return "";
+  return text + ": expected LO:HI, finite numbers with 0 <= LO < HI (kPa of s' at failure), e.g. 50:400";
+}
+
+/// The options were checked while parsing (the checks above); this only converts them.
 InterpretOptions to_options(const InterpretCliOptions& c) {
   InterpretOptions o;
   if (c.criterion == "max-deviator") o.criterion = FailureCriterion::max_deviator;
   else if (c.criterion == "max-stress-ratio") o.criterion = FailureCriterion::max_stress_ratio;
   else if (c.criterion == "end") o.criterion = FailureCriterion::end_of_test;
-  else if (c.criterion.rfind("strain:", 0) == 0) {
-    o.criterion = FailureCriterion::limiting_strain;
-    o.limiting_strain = parse_number(c.criterion.substr(7), "--criterion strain:");
-    if (!(o.limiting_strain > 0.0 && o.limiting_strain < 1.0))
-      throw InputError("--criterion: strain:" + c.criterion.substr(7) + " must be a decimal axial strain in (0, 1), e.g. strain:0.15");
-  } else {
-    throw InputError("--criterion: '" + c.criterion + "' (expected max-deviator, max-stress-ratio, strain:EPS or end)");
-  }
-  if (!c.stress_range.empty()) {
-    const auto colon = c.stress_range.find(':');
-    if (colon == std::string::npos)
-      throw InputError("--stress-range: '" + c.stress_range + "' (expected LO:HI in kPa of s' at failure, e.g. 50:400)");
-    o.stress_low = parse_number(c.stress_range.substr(0, colon), "--stress-range LO");
-    o.stress_high = parse_number(c.stress_range.substr(colon + 1), "--stress-range HI");
-    if (!(o.stress_low >= 0.0 && o.stress_high > o.stress_low))
-      throw InputError("--stress-range: '" + c.stress_range + "' (expected 0 <= LO < HI, kPa)");
-  }
+  else if (read_limiting_strain(c.criterion, o.limiting_strain)) o.criterion = FailureCriterion::limiting_strain;
+  else throw InputError("--criterion: " + criterion_error(c.criterion));
+  if (!c.stress_range.empty() && !read_stress_range(c.stress_range, o.stress_low, o.stress_high))
+    throw InputError("--stress-range: " + stress_range_error(c.stress_range));
   o.design_stress = c.design_stress;
-  if (!std::isnan(o.design_stress) && !(o.design_stress > 0.0))
-    throw InputError("--design-stress: " + std::to_string(o.design_stress) + " must be positive (kPa)");
   o.reference_pressure = c.reference_pressure;
   o.material = c.material;
   o.only = c.only;
@@ -146,12 +149,16 @@ void add_interpret_command(CLI::App& app, Action& action) {
                                  "Classical interpretation of a test series: failure points, c_u, c'/phi' envelopes with a design "
                                  "line, stiffness, dilatancy, critical state, Skempton A and B");
   cmd->add_option("series", o->series, "Test-series JSON (format triaxcal-test-series)")->required();
-  cmd->add_option("--criterion", o->criterion, "Failure criterion: max-deviator (default), max-stress-ratio, strain:EPS (decimal) or end");
-  cmd->add_option("--stress-range", o->stress_range, "Use failure points with s' in LO:HI (kPa) for the envelope");
+  cmd->add_option("--criterion", o->criterion, "Failure criterion: max-deviator (default), max-stress-ratio, strain:EPS (decimal) or end")
+      ->check(CLI::Validator([](std::string& c) { return criterion_error(c); }, "", ""));
+  cmd->add_option("--stress-range", o->stress_range, "Use failure points with s' in LO:HI (kPa) for the envelope")
+      ->check(CLI::Validator([](std::string& t) { return stress_range_error(t); }, "", ""));
   cmd->add_option("--design-stress", o->design_stress,
                   "Largest normal effective stress of the design problem (kPa); tests whose failure plane carries more "
-                  "(sigma'_nf = s' - t sin phi') are flagged, above it and above twice it");
-  cmd->add_option("--reference-pressure", o->reference_pressure, "p_ref of the stiffness law E = E_ref (s3'/p_ref)^m (kPa, default 100)");
+                  "(sigma'_nf = s' - t sin phi') are flagged, above it and above twice it")
+      ->check(number_check(0.0, kUnbounded, true, "kPa"));
+  cmd->add_option("--reference-pressure", o->reference_pressure, "p_ref of the stiffness law E = E_ref (s3'/p_ref)^m (kPa, default 100)")
+      ->check(number_check(0.0, kUnbounded, true, "kPa"));
   cmd->add_option("--material", o->material, "Interpret only the specimens of this material (the series' material labels); required when the series "
                   "holds several");
   cmd->add_option("--out", o->out, "JSON result file (written atomically; every number with its unit)");

@@ -101,7 +101,8 @@ void add_simulate_command(CLI::App& app, Action& action) {
                   "Accuracy of the integration: local relative error of each substep, in [1e-10, 0.1] (default " +
                       format_number(DriverOptions{}.tolerance) +
                       ": curves within about 0.1 % of their range of the converged solution); the protocol's "
-                      "steps only set where records are written");
+                      "steps only set where records are written")
+      ->check(number_check(1e-10, 0.1, false));
   cmd->add_flag("--fixed-steps", o->fixed_steps,
                 "No error control: each record step (the protocol's steps) is one increment, as accurate as the "
                 "step count makes it");

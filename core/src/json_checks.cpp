@@ -197,18 +197,24 @@ double get_number_or(const json& object, const char* key, double fallback, const
   return get_number(object, key, source, path);
 }
 
+long long get_integer_in(const json& value, long long low, long long high, const std::string& source,
+                         const std::string& path) {
+  if (!value.is_number_integer()) throw InputError(where(source, path) + ": expected an integer, found " + value.dump());
+  // nlohmann keeps integers as int64 or uint64; get<int>() would wrap 4294967297 to 1.
+  const bool fits = value.is_number_unsigned()
+                        ? high >= 0 && value.get<std::uint64_t>() <= static_cast<std::uint64_t>(high) &&
+                              (low <= 0 || value.get<std::uint64_t>() >= static_cast<std::uint64_t>(low))
+                        : value.get<std::int64_t>() >= low && value.get<std::int64_t>() <= high;
+  if (!fits)
+    throw InputError(where(source, path) + ": expected an integer from " + std::to_string(low) + " to " +
+                     std::to_string(high) + ", found " + value.dump());
+  return value.is_number_unsigned() ? static_cast<long long>(value.get<std::uint64_t>()) : value.get<std::int64_t>();
+}
+
 int get_int_or(const json& object, const char* key, int fallback, const std::string& source, const std::string& path) {
   const auto it = object.find(key);
   if (it == object.end()) return fallback;
-  if (!it->is_number_integer())
-    throw InputError(where(source, child(path, key)) + ": expected an integer, found " + it->dump());
-  // nlohmann keeps integers as int64 or uint64; get<int>() would wrap 4294967297 to 1.
-  const bool fits = it->is_number_unsigned() ? it->get<std::uint64_t>() <= static_cast<std::uint64_t>(INT_MAX)
-                                              : it->get<std::int64_t>() >= INT_MIN && it->get<std::int64_t>() <= INT_MAX;
-  if (!fits)
-    throw InputError(where(source, child(path, key)) + ": expected an integer from " + std::to_string(INT_MIN) + " to " +
-                     std::to_string(INT_MAX) + ", found " + it->dump());
-  return it->get<int>();
+  return static_cast<int>(get_integer_in(*it, INT_MIN, INT_MAX, source, child(path, key)));
 }
 
 std::string get_string(const json& object, const char* key, const std::string& source, const std::string& path) {

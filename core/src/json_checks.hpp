@@ -48,6 +48,11 @@ double get_number_or(const json& object, const char* key, double fallback, const
 /// Integer or `fallback` when absent; not an integer, or outside the range of an int, throws
 /// "<source>: <path>.<key>: expected an integer from -2147483648 to 2147483647, found 4294967297".
 int get_int_or(const json& object, const char* key, int fallback, const std::string& source, const std::string& path);
+/// The integer `value` (at `path`, for the message) within [low, high]: not an integer throws
+/// "<source>: <path>: expected an integer, found 1.5", out of range "...: expected an integer from
+/// <low> to <high>, found 18446744073709551615" (never wrapped, as get<long>() would).
+long long get_integer_in(const json& value, long long low, long long high, const std::string& source,
+                         const std::string& path);
 std::string get_string(const json& object, const char* key, const std::string& source, const std::string& path);
 std::string get_string_or(const json& object, const char* key, const std::string& fallback,
                           const std::string& source, const std::string& path);

@@ -100,11 +100,8 @@ Project parse_project(const std::string& text, const std::filesystem::path& path
 }
 
 Project read_project(const std::filesystem::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw InputError(path.string() + ": cannot open the file");
-  std::stringstream s;
-  s << in.rdbuf();
-  return parse_project(s.str(), path);
+  // Regular files of at most 64 MiB only, as every JSON file of ours (a device would be read forever).
+  return parse_project(detail::read_text_file(path.string(), detail::kMaxJsonBytes), path);
 }
 
 json project_json(const Project& project) {

@@ -76,7 +76,7 @@ void from_parameter_set(const Project& project, const UnitSettings& s, UnitResul
   r.model = entry->info().name;
   // Every parameter, defaults filled in, so that a solver input writer needs no triaxcal defaults;
   // statuses and intervals of a fitted set are kept in `parameters`.
-  r.parameters = parameter_outputs(entry->info(), values, json::parse(text));
+  r.parameters = parameter_outputs(entry->info(), values, detail::parse_json(text, path));
   r.parameter_set = plugin::parameter_set_json(entry->info(), values, "resolved from " + path);
   Curve c;
   c.label = "check test (" + s.check_drainage + ", p' = " + std::to_string(static_cast<int>(std::lround(s.check_p))) +
@@ -100,7 +100,7 @@ void from_calibration(const Project& project, const UnitSettings& s, UnitResult&
   const CalibrationSummary& sum = run.summary;
   r.model = sum.model;
   if (!sum.usable()) throw InputError(path + ": calibration " + sum.outcome_line());
-  r.parameter_set = json::parse(run.parameter_set);
+  r.parameter_set = detail::parse_json(run.parameter_set, path + ": parameter set");
   r.parameters = parameter_outputs(*run.model, sum.values, r.parameter_set);
   json curves = json::array();
   for (const TestFit& t : sum.tests)

@@ -3,6 +3,7 @@
 
 #include <string>
 
+#include "../../core/src/json_checks.hpp"
 #include "c_api_internal.hpp"
 #include "calibration_run.hpp"
 #include "triaxcal_c.h"
@@ -72,8 +73,10 @@ TRIAXCAL_C_API int triaxcal_calibration_outcome(const char* calibration_result_j
   if (!outcome) return null_argument(fn, "outcome");
   if (!calibration_result_json) return null_argument(fn, "calibration_result_json");
   return guarded(fn, [&] {
-    const json root = json::parse(calibration_result_json, nullptr, false);
-    if (root.is_discarded() || !root.is_object() || root.value("format", std::string()) != kCalibrationResultFormat)
+    // Under the limits of every JSON text read (depth, number range, size): a 100000-deep array
+    // would overflow the stack of nlohmann's recursive parse.
+    const json root = detail::parse_json(calibration_result_json, "calibration_result_json");
+    if (!root.is_object() || !root.contains("format") || root["format"] != kCalibrationResultFormat)
       throw InputError(std::string("calibration_result_json: format: expected \"") + kCalibrationResultFormat +
                        "\" (a result of triaxcal_calibrate)");
     const std::string word = root.contains("outcome") && root["outcome"].is_string() ? root["outcome"].get<std::string>() : "";

@@ -1,5 +1,7 @@
 #include "calibration_run.hpp"
 
+#include "../../core/src/json_checks.hpp"
+
 #include "triaxcal/calibration_file.hpp"
 #include "triaxcal/calibration_output.hpp"
 #include "triaxcal/error.hpp"
@@ -89,7 +91,7 @@ json calibration_result_json(const CalibrationRun& run) {
           {"wall_time", s.wall_time},
           {"warnings", s.warnings},
           {"notes", run.notes},
-          {"parameter_set", run.parameter_set.empty() ? json(nullptr) : json::parse(run.parameter_set)},
+          {"parameter_set", run.parameter_set.empty() ? json(nullptr) : detail::parse_json(run.parameter_set, "parameter set")},
           {"tests", tests},
           {"caution", kCaution}};
 }

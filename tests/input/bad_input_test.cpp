@@ -8,6 +8,9 @@
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <string>
+#include <utility>
+#include <vector>
 
 #include "../series/series_fixture.hpp"
 #include "cli_run.hpp"
@@ -421,4 +424,130 @@ TEST_CASE("check counts its errors in words: 1 error, 2 errors") {
   CHECK(r.exit_code == 2);
   CHECK(r.err == "2 errors:\ntriaxcal: error: " + (dir / "missing1.csv").string() + ": cannot open the file\ntriaxcal: error: " +
                      (dir / "missing2.csv").string() + ": cannot open the file\n");
+}
+
+TEST_CASE("every number option is checked while the command line is read: finite, in range, option and value named") {
+  const fs::path dir = scratch_dir("bad_input_cli_numbers");
+  const fs::path series = series_with("cli_numbers", [](json&) {});
+  const fs::path params = dir / "params.json", protocol = dir / "protocol.json", calibration = dir / "fit.json";
+  write_text(params, kParams);
+  write_text(protocol, kProtocol);
+  write_text(calibration, "{}");
+  const fs::path out = dir / "out.json";
+  const std::string interpret = "interpret " + arg(series) + " --out " + arg(out) + " ";
+  const std::string simulate = "simulate --model mohr_coulomb --params " + arg(params) + " --protocol " + arg(protocol) +
+                               " --out " + arg(out) + " ";
+  const std::string fit = "fit " + arg(calibration) + " --out " + arg(dir / "fit_out") + " ";
+  const std::string above0 = ": expected a finite number above 0 (kPa) ('triaxcal interpret --help' lists the options)\n";
+  const std::string strain =
+      ": expected strain:EPS with EPS a decimal axial strain above 0 and below 1, e.g. strain:0.15 ('triaxcal interpret "
+      "--help' lists the options)\n";
+  const std::string range =
+      ": expected LO:HI, finite numbers with 0 <= LO < HI (kPa of s' at failure), e.g. 50:400 ('triaxcal interpret "
+      "--help' lists the options)\n";
+  const std::string tolerance = ": expected a finite number from 1e-10 to 0.1 ('triaxcal simulate --help' lists the options)\n";
+  const std::vector<std::pair<std::string, std::string>> cases = {
+      {interpret + "--design-stress inf", "--design-stress: inf" + above0},
+      {interpret + "--design-stress nan", "--design-stress: nan" + above0},
+      {interpret + "--design-stress -5", "--design-stress: -5" + above0},
+      {interpret + "--design-stress 1e400", "--design-stress: 1e400" + above0},
+      {interpret + "--design-stress 0", "--design-stress: 0" + above0},
+      {interpret + "--design-stress 150x", "--design-stress: 150x" + above0},
+      {interpret + "--reference-pressure 1e400", "--reference-pressure: 1e400" + above0},
+      {interpret + "--reference-pressure 0", "--reference-pressure: 0" + above0},
+      {interpret + "--reference-pressure nan", "--reference-pressure: nan" + above0},
+      {interpret + "--reference-pressure -inf", "--reference-pressure: -inf" + above0},
+      {interpret + "--criterion strain:1e400", "--criterion: strain:1e400" + strain},
+      {interpret + "--criterion strain:nan", "--criterion: strain:nan" + strain},
+      {interpret + "--criterion strain:1", "--criterion: strain:1" + strain},
+      {interpret + "--criterion strain:0", "--criterion: strain:0" + strain},
+      {interpret + "--criterion strain:", "--criterion: strain:" + strain},
+      {interpret + "--stress-range 0:inf", "--stress-range: 0:inf" + range},
+      {interpret + "--stress-range nan:400", "--stress-range: nan:400" + range},
+      {interpret + "--stress-range 0:1e400", "--stress-range: 0:1e400" + range},
+      {interpret + "--stress-range -5:400", "--stress-range: -5:400" + range},
+      {interpret + "--stress-range 400:50", "--stress-range: 400:50" + range},
+      {interpret + "--stress-range 400", "--stress-range: 400" + range},
+      {simulate + "--tolerance nan", "--tolerance: nan" + tolerance},
+      {simulate + "--tolerance inf", "--tolerance: inf" + tolerance},
+      {simulate + "--tolerance 1e400", "--tolerance: 1e400" + tolerance},
+      {simulate + "--tolerance 0", "--tolerance: 0" + tolerance},
+      {simulate + "--tolerance 0.5", "--tolerance: 0.5" + tolerance},
+      {fit + "--threads 4294967297",
+       "--threads: Value 4294967297 not in range 0 to 1024 ('triaxcal fit --help' lists the options)\n"},
+      {fit + "--threads nan", "--threads: Value nan not in range 0 to 1024 ('triaxcal fit --help' lists the options)\n"},
+      {fit + "--threads -1", "--threads: Value -1 not in range 0 to 1024 ('triaxcal fit --help' lists the options)\n"},
+      {fit + "--seed 99999999999999999999",
+       "--seed: Value 99999999999999999999 not in range 0 to 4294967295 ('triaxcal fit --help' lists the options)\n"},
+      {fit + "--seed -1", "--seed: Value -1 not in range 0 to 4294967295 ('triaxcal fit --help' lists the options)\n"},
+      {fit + "--seed 4294967296",
+       "--seed: Value 4294967296 not in range 0 to 4294967295 ('triaxcal fit --help' lists the options)\n"},
+  };
+  for (const auto& [args, message] : cases) {
+    INFO(args);
+    const auto r = run_limited(args, "cli_numbers");
+    CHECK(r.exit_code == 2);
+    CHECK(r.err == "triaxcal: error: " + message);
+    CHECK(r.out.empty());
+    CHECK_FALSE(fs::exists(out));
+    CHECK_FALSE(fs::exists(dir / "fit_out"));
+  }
+  // The edges are accepted (the run then goes on to read its inputs).
+  auto r = run_limited(simulate + "--tolerance 1e-10", "cli_numbers_edge");
+  CHECK(r.exit_code == 0);
+  fs::remove(out);
+  r = run_limited(simulate + "--tolerance 0.1", "cli_numbers_edge");
+  CHECK(r.exit_code == 0);
+}
+
+TEST_CASE("integers of a report input are checked, never wrapped: evaluations 2^64 - 1, a history stage of 2^32 + 1") {
+  const fs::path dir = scratch_dir("bad_input_report_integers");
+  const fs::path input = dir / "run.report.json";
+  const std::string head = R"({"format": "triaxcal-report-input", "version": 2, "outcome": "converged", )";
+  const std::vector<std::pair<std::string, std::string>> cases = {
+      {R"("evaluations": 18446744073709551615})",
+       "evaluations: expected an integer from 0 to 9223372036854775807, found 18446744073709551615"},
+      {R"("evaluations": -1})", "evaluations: expected an integer from 0 to 9223372036854775807, found -1"},
+      {R"("evaluations": 12.5})", "evaluations: expected an integer, found 12.5"},
+      {R"("history": [[1, 0.5, 0.5, 4294967297]]})",
+       "history[0][3]: expected an integer from 0 to 2147483647, found 4294967297"},
+      {R"("history": [[18446744073709551615, 0.5, 0.5, 1]]})",
+       "history[0][0]: expected an integer from 0 to 9223372036854775807, found 18446744073709551615"},
+  };
+  for (const auto& [body, message] : cases) {
+    INFO(body);
+    write_text(input, head + body);
+    const auto r = run_limited("report " + arg(dir), "report_integers");
+    CHECK(r.exit_code == 2);
+    CHECK(r.err == "triaxcal: error: " + input.string() + ": " + message + "\n");
+    CHECK_FALSE(fs::exists(dir / "run.report.html"));
+  }
+}
+
+TEST_CASE("a fit's parameter set of the wrong types read for a report is an input error with its key path") {
+  const fs::path dir = scratch_dir("bad_input_report_fit_files");
+  write_text(dir / "run.curves.csv", "test,quantity,axial_strain[-],measured,simulated,unit\n");
+  const fs::path params = dir / "run.parameters.json";
+  const std::string head = R"({"format": "triaxcal-parameters", "version": 1, )";
+  const std::vector<std::pair<std::string, std::string>> cases = {
+      {R"("model": 5})", "model: expected a string, found 5"},
+      {R"("model": "mohr_coulomb", "fit": {"tests": [{"id": "A", "curves": [{"points": "x"}]}]}})",
+       "fit.tests[0].curves[0].points: expected an integer, found \"x\""},
+      {R"("model": "mohr_coulomb", "fit": {"tests": [{"id": "A", "curves": [{"points": 4294967297}]}]}})",
+       "fit.tests[0].curves[0].points: expected an integer from 0 to 2147483647, found 4294967297"},
+      {R"("model": "mohr_coulomb", "fit": {"tests": [{"id": "A", "simulated": "yes"}]}})",
+       "fit.tests[0].simulated: expected true or false, found \"yes\""},
+      {R"("model": "mohr_coulomb", "fit": {"evaluations": 18446744073709551615}})",
+       "fit.evaluations: expected an integer from 0 to 9223372036854775807, found 18446744073709551615"},
+      {R"("model": "mohr_coulomb", "parameters": {"cohesion": {"unit": 3}}})",
+       "parameters.cohesion.unit: expected a string, found 3"},
+  };
+  for (const auto& [body, message] : cases) {
+    INFO(body);
+    write_text(params, head + body);
+    const auto r = run_limited("report " + arg(dir), "report_fit_files");
+    CHECK(r.exit_code == 2);
+    CHECK(r.err == "triaxcal: error: " + params.string() + ": " + message + "\n");
+    CHECK_FALSE(fs::exists(dir / "run.report.html"));
+  }
 }

@@ -259,3 +259,39 @@ TEST_CASE("calibrate answers NULL arguments with null_argument naming them", "[p
   CHECK(last_error() == "triaxcal_calibrate: out is NULL");
   CHECK(text.t == nullptr);
 }
+
+TEST_CASE("every JSON text the C ABI reads is under the limits of our files: 100000 levels deep, 1e400 and 64 MiB "
+          "give invalid_input and a message, not a crash",
+          "[plugin][c_abi][limits]") {
+  // {"format": "x", "a": [[[...]]]}: the 64th '[' opens level 65 (the root object is level 1).
+  const std::string prefix = R"({"format": "triaxcal-calibration-result", "a": )";
+  const std::string deep = prefix + std::string(100000, '[') + std::string(100000, ']') + "}";
+  const std::string deep_at = ": line 1, column " + std::to_string(prefix.size() + 64) +
+                              ": arrays and objects nested deeper than 64 levels";
+  const std::string huge = prefix + "\"" + std::string(std::size_t{64} << 20, 'x') + "\"}";
+  const std::string huge_message = ": " + std::to_string(huge.size()) +
+                                   " bytes of JSON, more than the largest accepted (67108864 bytes = 64 MiB)";
+  const std::string overflow = R"({"format": "triaxcal-calibration-result", "outcome": 1e400})";
+  const std::string overflow_at = ": line 1, column 54: the number 1e400 is out of the range of a double (largest "
+                                  "magnitude about 1.8e308)";
+  int o = -1;
+  CHECK(triaxcal_calibration_outcome(deep.c_str(), &o) == TRIAXCAL_INVALID_INPUT);
+  CHECK(last_error() == "triaxcal_calibration_outcome: calibration_result_json" + deep_at);
+  CHECK(triaxcal_calibration_outcome(overflow.c_str(), &o) == TRIAXCAL_INVALID_INPUT);
+  CHECK(last_error() == "triaxcal_calibration_outcome: calibration_result_json" + overflow_at);
+  CHECK(triaxcal_calibration_outcome(huge.c_str(), &o) == TRIAXCAL_INVALID_INPUT);
+  CHECK(last_error() == "triaxcal_calibration_outcome: calibration_result_json" + huge_message);
+  CHECK(o == -1);
+
+  Text text;
+  CHECK(triaxcal_calibrate(deep.c_str(), "fit.json", nullptr, nullptr, &text.t) == TRIAXCAL_INVALID_INPUT);
+  CHECK(last_error() == "triaxcal_calibrate: fit.json" + deep_at);
+  CHECK(triaxcal_calibrate(huge.c_str(), "fit.json", nullptr, nullptr, &text.t) == TRIAXCAL_INVALID_INPUT);
+  CHECK(last_error() == "triaxcal_calibrate: fit.json" + huge_message);
+  CHECK(text.t == nullptr);
+  CHECK(triaxcal_validate_parameters(deep.c_str(), &text.t) == TRIAXCAL_INVALID_INPUT);
+  CHECK(last_error() == "triaxcal_validate_parameters: parameter_set_json" + deep_at);
+  CHECK(triaxcal_validate_parameters(overflow.c_str(), &text.t) == TRIAXCAL_INVALID_INPUT);
+  CHECK(last_error() == "triaxcal_validate_parameters: parameter_set_json" + overflow_at);
+  CHECK(text.t == nullptr);
+}

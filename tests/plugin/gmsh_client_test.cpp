@@ -349,6 +349,33 @@ TEST_CASE("a malformed project file is reported in Gmsh's console and left as it
   CHECK(slurp((dir / "gmsh" / "two_layers.txproj").string()) == broken);
 }
 
+TEST_CASE("a project file 100000 levels deep, with 1e400 or above 64 MiB is reported in Gmsh's console, not a crash",
+          "[plugin][gmsh][limits]") {
+  const fs::path dir = fresh_case("project_limits");
+  const fs::path project = dir / "gmsh" / "two_layers.txproj";
+  const std::string prefix = R"({"format": "triaxcal-gmsh-project", "version": 1, "units": )";
+  std::string text, expected;
+  SECTION("nested 100000 levels deep") {
+    text = prefix + std::string(100000, '[') + std::string(100000, ']') + "}";
+    expected = ": line 1, column " + std::to_string(prefix.size() + 64) + ": arrays and objects nested deeper than 64 levels";
+  }
+  SECTION("a number out of the range of a double") {
+    text = prefix + "{\"x\": {\"tag\": 1e400}}}";
+    expected = ": line 1, column " + std::to_string(prefix.size() + 15) +
+               ": the number 1e400 is out of the range of a double (largest magnitude about 1.8e308)";
+  }
+  SECTION("a file above the 64 MiB of a JSON text") {
+    text = prefix + "{}, \"description\": \"" + std::string(std::size_t{64} << 20, 'x') + "\"}";
+    expected = ": larger than the largest input file accepted (67108864 bytes = 64 MiB)";
+  }
+  write(project, text);
+  const GmshRun r = run_gmsh(dir, "two_layers.geo two_layers.txproj -");
+  INFO(r.log.substr(0, 4000));
+  CHECK(r.log.find("Error   : triaxcal - triaxcal: " + project.string() + expected +
+                   " (the project file is left as it is)") != std::string::npos);
+  CHECK(fs::file_size(project) == text.size());
+}
+
 TEST_CASE("merging the views file again replaces the triaxcal views instead of adding to them", "[plugin][gmsh]") {
   const fs::path dir = fresh_case("views");
   const GmshRun r = run_gmsh(dir, "two_layers.geo two_layers.txproj -");

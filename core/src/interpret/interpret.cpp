@@ -72,8 +72,10 @@ void InterpretOptions::validate() const {
   if (!(limiting_strain > 0.0 && limiting_strain < 1.0)) fail("limiting_strain", limiting_strain, "must be in (0, 1) (a decimal)");
   if (!(stress_low >= 0.0)) fail("stress_low", stress_low, "must be 0 or more (kPa)");
   if (!(stress_high > stress_low)) fail("stress_high", stress_high, "must be above stress_low (kPa)");
-  if (!std::isnan(design_stress) && !(design_stress > 0.0)) fail("design_stress", design_stress, "must be positive (kPa)");
-  if (!(reference_pressure > 0.0)) fail("reference_pressure", reference_pressure, "must be positive (kPa)");
+  if (!std::isnan(design_stress) && !(design_stress > 0.0 && std::isfinite(design_stress)))
+    fail("design_stress", design_stress, "must be positive and finite (kPa), or NaN for none");
+  if (!(reference_pressure > 0.0 && std::isfinite(reference_pressure)))
+    fail("reference_pressure", reference_pressure, "must be positive and finite (kPa)");
   for (const LeftOut& l : left_out) {
     if (l.specimen.empty()) throw InputError("interpret options: left_out: a specimen id is empty");
     if (l.shear_stage < 0)

@@ -6,6 +6,7 @@
 #include <cmath>
 #include <cstdio>
 #include <fstream>
+#include <limits>
 #include <map>
 #include <sstream>
 
@@ -72,10 +73,11 @@ struct Reader {
     if (!j[key].is_number()) fail(sub(path, key), "expected a number or null, found " + j[key].dump());
     return j[key].get<double>();
   }
-  long integer(const json& j, const char* key, const std::string& path, long fallback = 0) const {
+  /// A count: an integer from 0 to `high` (never wrapped).
+  long integer(const json& j, const char* key, const std::string& path, long fallback = 0,
+               long high = std::numeric_limits<long>::max()) const {
     if (!j.contains(key)) return fallback;
-    if (!j[key].is_number_integer()) fail(sub(path, key), "expected an integer, found " + j[key].dump());
-    return j[key].get<long>();
+    return static_cast<long>(detail::get_integer_in(j[key], 0, high, source, sub(path, key)));
   }
   bool boolean(const json& j, const char* key, const std::string& path, bool fallback) const {
     if (!j.contains(key)) return fallback;
@@ -201,18 +203,22 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
   const std::string source = params_path.string();
   const json root = detail::parse_json(detail::read_text_file(source), source);
   detail::require_object(root, source, "");
+  // Read leniently (keys of a later version are skipped) but typed: a key of the wrong type is an
+  // input error with its path, never a library exception.
+  const Reader reader{source};
   ReportData d;
   d.title = "Calibration report";
-  d.model = root.value("model", std::string());
-  d.project = root.value("description", std::string());
+  d.model = reader.str(root, "model", "");
+  d.project = reader.str(root, "description", "");
   d.message = "";
   if (root.contains("parameters") && root["parameters"].is_object()) {
     for (const auto& [name, p] : root["parameters"].items()) {
       ParameterRow row;
       row.name = name;
       if (!p.is_object()) continue;
-      row.unit = p.value("unit", std::string());
-      row.status = p.value("status", std::string("fixed"));
+      const std::string pp = "parameters." + name;
+      row.unit = reader.str(p, "unit", pp);
+      row.status = reader.str(p, "status", pp, "fixed");
       auto n = [&](const char* k) { return p.contains(k) && p[k].is_number() ? p[k].get<double>() : kUnknown; };
       row.value = n("value");
       row.lower = n("lower_bound");
@@ -222,7 +228,7 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
         if (p["interval_95"][0].is_number()) row.interval_low = p["interval_95"][0].get<double>();
         if (p["interval_95"][1].is_number()) row.interval_high = p["interval_95"][1].get<double>();
       }
-      row.expression = p.value("tied_to", std::string());
+      row.expression = reader.str(p, "tied_to", pp);
       d.parameters.push_back(row);
     }
   }
@@ -230,15 +236,15 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
   bool recorded_outcome = false;
   if (root.contains("fit") && root["fit"].is_object()) {
     const json& fit = root["fit"];
-    d.termination = fit.value("termination", std::string());
-    d.message = fit.value("message", std::string());
+    d.termination = reader.str(fit, "termination", "fit");
+    d.message = reader.str(fit, "message", "fit");
     if (fit.contains("outcome") && fit["outcome"].is_string() &&
         parse_outcome(fit["outcome"].get<std::string>(), d.outcome)) {
       recorded_outcome = true;
-      d.outcome_reason = fit.value("outcome_reason", std::string());
+      d.outcome_reason = reader.str(fit, "outcome_reason", "fit");
     }
     if (fit.contains("objective") && fit["objective"].is_number()) d.objective = fit["objective"].get<double>();
-    if (fit.contains("evaluations") && fit["evaluations"].is_number()) d.evaluations = fit["evaluations"].get<long>();
+    d.evaluations = reader.integer(fit, "evaluations", "fit");
     if (fit.contains("wall_time_s") && fit["wall_time_s"].is_number()) d.wall_time = fit["wall_time_s"].get<double>();
     if (fit.contains("warnings") && fit["warnings"].is_array())
       for (const auto& w : fit["warnings"])
@@ -249,17 +255,21 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
       for (const auto& [k, v] : fit["options"].items())
         d.provenance.emplace_back("option " + k, v.is_string() ? v.get<std::string>() : v.dump());
     if (fit.contains("tests") && fit["tests"].is_array())
-      for (const auto& t : fit["tests"]) {
+      for (std::size_t i = 0; i < fit["tests"].size(); ++i) {
+        const json& t = fit["tests"][i];
+        const std::string tp = "fit.tests[" + std::to_string(i) + "]";
         TestReport tr;
-        tr.id = t.value("id", std::string());
-        tr.simulated = t.value("simulated", true);
+        tr.id = reader.str(t, "id", tp);
+        tr.simulated = reader.boolean(t, "simulated", tp, true);
         if (!tr.simulated) tr.message = "the simulation at the fitted parameters failed (see the fit output)";
         if (t.contains("curves") && t["curves"].is_array())
-          for (const auto& c : t["curves"]) {
+          for (std::size_t k = 0; k < t["curves"].size(); ++k) {
+            const json& c = t["curves"][k];
+            const std::string cp = tp + ".curves[" + std::to_string(k) + "]";
             CurveQuality q;
-            q.name = c.value("quantity", std::string()) + " vs axial strain";
-            q.unit = c.value("unit", std::string());
-            q.points = c.value("points", 0);
+            q.name = reader.str(c, "quantity", cp) + " vs axial strain";
+            q.unit = reader.str(c, "unit", cp);
+            q.points = static_cast<int>(reader.integer(c, "points", cp, 0, std::numeric_limits<int>::max()));
             if (c.contains("rmse") && c["rmse"].is_number()) q.rmse = c["rmse"].get<double>();
             if (c.contains("r_squared") && c["r_squared"].is_number()) q.r_squared = c["r_squared"].get<double>();
             tr.quality.push_back(q);
@@ -273,9 +283,11 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
     if (p.contains("software") && p["software"].is_string()) d.provenance.emplace(d.provenance.begin(), "software", p["software"].get<std::string>());
     if (p.contains("created") && p["created"].is_string()) d.provenance.emplace_back("created", p["created"].get<std::string>());
     if (p.contains("inputs") && p["inputs"].is_array())
-      for (const auto& in : p["inputs"])
-        if (in.is_object())
-          d.provenance.emplace_back("input " + in.value("path", std::string()), "sha256 " + in.value("sha256", std::string()));
+      for (std::size_t i = 0; i < p["inputs"].size(); ++i) {
+        const std::string ip = "provenance.inputs[" + std::to_string(i) + "]";
+        const json& in = p["inputs"][i];
+        if (in.is_object()) d.provenance.emplace_back("input " + reader.str(in, "path", ip), "sha256 " + reader.str(in, "sha256", ip));
+      }
   }
   if (root.contains("caution") && root["caution"].is_string()) d.caution = root["caution"].get<std::string>();
 
@@ -545,7 +557,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
       CurveQuality c;
       c.name = r.str(q, "name", qp);
       c.unit = r.str(q, "unit", qp);
-      c.points = static_cast<int>(r.integer(q, "points", qp));
+      c.points = static_cast<int>(r.integer(q, "points", qp, 0, std::numeric_limits<int>::max()));
       c.rmse = r.num(q, "rmse", qp);
       c.r_squared = r.num(q, "r_squared", qp);
       c.residuals = r.xy(q, "residuals", qp);
@@ -621,10 +633,10 @@ ReportData parse_report_input(const std::string& text, const std::string& source
     if (!j.is_array() || j.size() != 4 || !j[0].is_number_integer() || !j[3].is_number_integer())
       r.fail(p, "expected [evaluation, objective, best, stage], found " + j.dump());
     HistoryPoint h;
-    h.evaluation = j[0].get<long>();
+    h.evaluation = static_cast<long>(detail::get_integer_in(j[0], 0, std::numeric_limits<long>::max(), r.source, p + "[0]"));
     h.objective = j[1].is_number() ? j[1].get<double>() : kUnknown;
     h.best = j[2].is_number() ? j[2].get<double>() : kUnknown;
-    h.stage = j[3].get<int>();
+    h.stage = static_cast<int>(detail::get_integer_in(j[3], 0, std::numeric_limits<int>::max(), r.source, p + "[3]"));
     d.history.push_back(h);
   });
   d.warnings = r.strings(root, "warnings", "");
