@@ -77,6 +77,15 @@ void require(bool ok, int stage, const std::string& key, const std::string& what
   if (!ok) throw InputError("stages[" + std::to_string(stage) + "]: " + key + " " + what);
 }
 
+/// The records a run of `protocol` holds: the initial state and every record step.
+std::size_t record_count(const TestProtocol& protocol) {
+  std::size_t total = 1;
+  for (const Stage& s : protocol.stages)
+    total += (s.record_at.empty() ? static_cast<std::size_t>(std::max(s.steps, 0)) : s.record_at.size()) *
+             (s.type == StageType::unload_reload ? 2 : 1);
+  return total;
+}
+
 }  // namespace
 
 void validate_protocol(const TestProtocol& protocol) {
@@ -90,7 +99,8 @@ void validate_protocol(const TestProtocol& protocol) {
   for (std::size_t k = 0; k < protocol.stages.size(); ++k) {
     const Stage& s = protocol.stages[k];
     const int i = static_cast<int>(k);
-    require(s.steps >= 1 && s.steps <= 10000000, i, "steps", "= " + std::to_string(s.steps) + " must be in [1, 10000000]");
+    require(s.steps >= 1 && s.steps <= kMaxRecords, i, "steps",
+            "= " + std::to_string(s.steps) + " must be in [1, " + std::to_string(kMaxRecords) + "]");
     switch (s.type) {
       case StageType::isotropic_consolidation:
         require(given(s.target_p) && s.target_p > 0.0, i, "p", "(target mean effective stress, kPa) must be given and positive");
@@ -121,8 +131,9 @@ void validate_protocol(const TestProtocol& protocol) {
         break;
     }
     if (!s.record_at.empty()) {
-      require(s.record_at.size() <= 10000000, i, "record_at", "has " + std::to_string(s.record_at.size()) +
-                                                            " points, at most 10000000 are allowed");
+      require(s.record_at.size() <= static_cast<std::size_t>(kMaxRecords), i, "record_at",
+              "has " + std::to_string(s.record_at.size()) + " points, at most " + std::to_string(kMaxRecords) +
+                  " are allowed");
       for (std::size_t j = 0; j < s.record_at.size(); ++j) {
         const double f = s.record_at[j];
         const std::string key = "record_at[" + std::to_string(j) + "]";
@@ -139,6 +150,11 @@ void validate_protocol(const TestProtocol& protocol) {
     if (consolidation)
       require(s.drainage == Drainage::drained, i, "drainage", "must be drained for a " + to_string(s.type) + " stage");
   }
+  const std::size_t records = record_count(protocol);
+  if (records > static_cast<std::size_t>(kMaxRecords))
+    throw InputError("stages: " + std::to_string(records) +
+                     " records in all (the initial state, every stage's steps or record_at points, twice for an "
+                     "unload_reload), more than the " + std::to_string(kMaxRecords) + " a simulation may hold");
 }
 
 namespace {
@@ -917,11 +933,7 @@ void Runner::run() {
       return;
     }
   }
-  std::size_t total = 1;
-  for (const Stage& s : protocol_.stages)
-    total += (s.record_at.empty() ? static_cast<std::size_t>(s.steps) : s.record_at.size()) *
-             (s.type == StageType::unload_reload ? 2 : 1);
-  result_.steps.reserve(total);
+  result_.steps.reserve(record_count(protocol_));
   result_.stages.reserve(protocol_.stages.size());
   record(0, 0, 0);
   for (std::size_t i = 0; i < protocol_.stages.size(); ++i)

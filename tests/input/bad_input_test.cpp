@@ -551,3 +551,34 @@ TEST_CASE("a fit's parameter set of the wrong types read for a report is an inpu
     CHECK_FALSE(fs::exists(dir / "run.report.html"));
   }
 }
+
+TEST_CASE("a protocol asking for more records than a simulation may hold is refused up front, naming the key and the limit") {
+  const fs::path dir = scratch_dir("bad_input_records");
+  const fs::path params = dir / "params.json", protocol = dir / "protocol.json", out = dir / "curves.csv";
+  write_text(params, kParams);
+  const std::string head = R"({"format": "triaxcal-protocol", "version": 1, "name": "T1", "initial": {"p": 100}, "stages": [)";
+  const std::string shear = R"({"type": "shear", "drainage": "drained", "axial_strain": 0.05, "steps": )";
+  const std::string run = "simulate --model mohr_coulomb --params " + arg(params) + " --protocol " + arg(protocol) +
+                          " --out " + arg(out);
+  // One stage of 10^7 steps (the issue's case: 119 s and 3 GB before the limit).
+  write_text(protocol, head + shear + "10000000}]}");
+  auto r = run_limited(run, "records_stage");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err == "triaxcal: error: " + protocol.string() + ": stages[0]: steps = 10000000 must be in [1, 1000000]\n");
+  CHECK_FALSE(fs::exists(out));
+  // Two stages within the limit each, 1200001 records together.
+  write_text(protocol, head + shear + "600000}, " + shear + "600000}]}");
+  r = run_limited(run, "records_total");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err == "triaxcal: error: " + protocol.string() +
+                     ": stages: 1200001 records in all (the initial state, every stage's steps or record_at points, twice "
+                     "for an unload_reload), more than the 1000000 a simulation may hold\n");
+  CHECK_FALSE(fs::exists(out));
+  // An unload-reload loop counts twice.
+  write_text(protocol, head + shear + "400000}, " +
+                           R"({"type": "unload_reload", "drainage": "drained", "deviator_stress": 0, "steps": 300000}]})");
+  r = run_limited(run, "records_loop");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err.find(": stages: 1000001 records in all") != std::string::npos);
+  CHECK_FALSE(fs::exists(out));
+}

@@ -10,6 +10,13 @@
 
 namespace triaxcal {
 
+/// Most records one simulation may hold: the protocol's steps (or record_at points) of every stage,
+/// twice for an unload-reload loop, plus the initial state. validate_protocol refuses more up front.
+/// Every record ends at least one substep, so under error control more records than the default
+/// max_substeps (1e6) could never complete anyway; the records are reserved before the run, and a
+/// record takes sizeof(StepRecord) = 176 bytes (g++ 12, x86-64): at most about 176 MB a simulation.
+inline constexpr long kMaxRecords = 1000000;
+
 struct DriverOptions {
   /// Local error tolerance of the adaptive substepping, in [1e-10, 0.1]: the step-doubling estimate
   /// of each substep's error (stress relative to max(|sigma'|, 1 kPa), strains of the stress-controlled
