@@ -9,11 +9,13 @@
 #include <csignal>
 #include <cstdio>
 #include <filesystem>
+#include <functional>
 #include <iostream>
 #include <memory>
 
 #include "commands.hpp"
 #include "triaxcal/atomic_file.hpp"
+#include "triaxcal/staged_outputs.hpp"
 #include "triaxcal/calibrate.hpp"
 #include "triaxcal/calibration_file.hpp"
 #include "triaxcal/calibration_output.hpp"
@@ -87,6 +89,30 @@ class InterruptGuard {
   void (*previous_)(int) = SIG_DFL;
 };
 
+/// The output folder: created when missing, and removed again (when still empty) unless the run
+/// keeps it, so that a run that fails writes nothing, not even an empty folder.
+class OutputFolder {
+ public:
+  explicit OutputFolder(const std::filesystem::path& dir) : dir_(dir) {
+    std::error_code ec;
+    created_ = !std::filesystem::exists(dir, ec);
+    std::filesystem::create_directories(dir, ec);
+    if (ec || !std::filesystem::is_directory(dir)) throw InputError("--out " + dir.string() + ": cannot create the directory");
+  }
+  ~OutputFolder() {
+    std::error_code ignored;
+    if (created_ && !kept_) std::filesystem::remove(dir_, ignored);  // only an empty folder is removed
+  }
+  OutputFolder(const OutputFolder&) = delete;
+  OutputFolder& operator=(const OutputFolder&) = delete;
+  void keep() const { kept_ = true; }
+
+ private:
+  std::filesystem::path dir_;
+  bool created_ = false;
+  mutable bool kept_ = false;
+};
+
 int run(const FitOptions& o) {
   const InterruptGuard interrupt_guard;
   CalibrationFile file = read_calibration_file(o.calibration);
@@ -117,9 +143,21 @@ int run(const FitOptions& o) {
   namespace fs = std::filesystem;
   const std::string stem = fs::path(o.calibration).stem().string();
   const fs::path dir = o.out.empty() ? fs::path(stem + "_fit") : fs::path(o.out);
-  std::error_code ec;
-  fs::create_directories(dir, ec);
-  if (ec || !fs::is_directory(dir)) throw InputError("--out " + dir.string() + ": cannot create the directory");
+  const OutputFolder folder(dir);
+  // The run's files are written into a hidden staging folder and moved into `dir` together at the
+  // end (a failed or killed run leaves an earlier run's set as it was; DEVELOPERS.md, Conventions).
+  const std::string f_report_input = stem + ".report.json", f_report_html = stem + ".report.html",
+                    f_params = stem + ".parameters.json", f_curves = stem + ".curves.csv", f_archive = stem + ".h5",
+                    f_report_text = stem + ".report.txt";
+  StagedOutputs staged(dir, stem, {f_report_input, f_report_html, f_params, f_curves, f_archive, f_report_text});
+  // A failed write (a full disk) names the file's place in `dir`; nothing of the run is moved there.
+  const auto stage = [&staged](const std::function<void()>& write) {
+    try {
+      write();
+    } catch (const InputError& e) {
+      throw InputError(staged.in_place(e.what()) + "; no file of this run was written");
+    }
+  };
 
   CalibrationProvenance prov;
   prov.software_version = kVersion;
@@ -152,8 +190,8 @@ int run(const FitOptions& o) {
   // The report input (and, with --report, the HTML page) is written for a failed calibration too,
   // so that a reviewer sees what failed. The classical interpretation of the fitted specimens'
   // material sits beside the model in it.
-  const fs::path report_input = dir / (stem + ".report.json");
-  const fs::path report_html = dir / (stem + ".report.html");
+  const fs::path report_input = dir / f_report_input;
+  const fs::path report_html = dir / f_report_html;
   {
     // The interpretation the user chose in the file (criterion, stress range, design stress), on
     // the fitted specimens' material: the same one that seeded the bounds and starts.
@@ -166,22 +204,30 @@ int run(const FitOptions& o) {
     }
     const report::ReportData rd = report::report_from_calibration(summary, problem, prov, &series,
                                                                   interpretation ? &*interpretation : nullptr);
-    write_file_atomically(report_input, report::report_input_json(rd));
-    if (o.report) write_file_atomically(report_html, report::render_report(rd));
+    stage([&] {
+      write_file_atomically(staged.path(f_report_input), report::report_input_json(rd));
+      if (o.report) write_file_atomically(staged.path(f_report_html), report::render_report(rd));
+    });
   }
   if (!summary.usable()) {
+    staged.commit();
+    folder.keep();
     std::fprintf(stderr, "triaxcal: fit: %s (report input: %s)\n", summary.outcome_line().c_str(),
                  report_input.string().c_str());
     return exit_nothing_usable;
   }
   const std::string json = format_parameter_set(summary, entry->info(), prov);
-  const fs::path params = dir / (stem + ".parameters.json");
-  const fs::path curves = dir / (stem + ".curves.csv");
-  const fs::path archive = dir / (stem + ".h5");
-  write_file_atomically(params, json);
-  write_file_atomically(curves, format_fit_csv(summary));
-  write_calibration_archive(archive, summary, entry->info(), prov, json);
-  if (o.report) write_file_atomically(dir / (stem + ".report.txt"), summary.full() + "\n" + kCaution + "\n");
+  const fs::path params = dir / f_params;
+  const fs::path curves = dir / f_curves;
+  const fs::path archive = dir / f_archive;
+  stage([&] {
+    write_file_atomically(staged.path(f_params), json);
+    write_file_atomically(staged.path(f_curves), format_fit_csv(summary));
+    write_calibration_archive(staged.path(f_archive), summary, entry->info(), prov, json);
+    if (o.report) write_file_atomically(staged.path(f_report_text), summary.full() + "\n" + kCaution + "\n");
+  });
+  staged.commit();
+  folder.keep();
 
   const bool converged = summary.outcome == CalibrationOutcome::converged;
   std::printf("\noutcome:       %s\n", summary.outcome_line().c_str());
@@ -190,7 +236,7 @@ int run(const FitOptions& o) {
   std::printf("report input:  %s\n", report_input.string().c_str());
   if (o.report)
     std::printf("report:        %s\n               %s\n", report_html.string().c_str(),
-                (dir / (stem + ".report.txt")).string().c_str());
+                (dir / f_report_text).string().c_str());
   std::printf("use it with:   triaxcal simulate --model %s --params %s --protocol ...\n", file.model.c_str(),
               params.string().c_str());
   std::printf("\n%s\n", kCaution);

@@ -1,11 +1,13 @@
 #include <cmath>
 #include <cstdio>
+#include <filesystem>
 #include <iostream>
 #include <memory>
 #include <vector>
 
 #include "commands.hpp"
 #include "triaxcal/atomic_file.hpp"
+#include "triaxcal/staged_outputs.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/models/registry.hpp"
 #include "triaxcal/parameter_file.hpp"
@@ -45,6 +47,11 @@ void print_table(const std::string& test, const TestProtocol& protocol, const Si
 }
 
 int run(const SimulateOptions& o) {
+  namespace fs = std::filesystem;
+  if (!o.out.empty()) {  // temporaries of a killed earlier write of the same file
+    const fs::path out(o.out);
+    sweep_temporaries(out.has_parent_path() ? out.parent_path() : fs::path("."), {out.filename().string()});
+  }
   const ModelEntry& entry = find_model(o.model);
   const ParameterFile file = read_parameter_file(o.params);
   const ParameterValues values = resolve_parameter_file(entry.info(), file);
@@ -65,7 +72,9 @@ int run(const SimulateOptions& o) {
     print_table(name, protocols[i], results.back());
     all_ok = all_ok && results.back().ok();
   }
-  if (!o.out.empty()) {
+  // A failed simulation writes no curves file (an earlier file of that name is left as it was):
+  // the table above shows how far each test got, the message where and why it stopped.
+  if (!o.out.empty() && all_ok) {
     std::vector<NamedResult> named;
     for (std::size_t i = 0; i < protocols.size(); ++i)
       named.push_back({protocols[i].name.empty() ? o.protocols[i] : protocols[i].name, &results[i]});
@@ -77,6 +86,7 @@ int run(const SimulateOptions& o) {
     for (std::size_t i = 0; i < results.size(); ++i)
       if (!results[i].ok()) std::fprintf(stderr, "triaxcal: simulation failed: %s: %s\n", o.protocols[i].c_str(),
                                          results[i].message.c_str());
+    if (!o.out.empty()) std::fprintf(stderr, "triaxcal: no curves written to %s (a simulation failed)\n", o.out.c_str());
     return exit_simulation_failed;
   }
   return exit_ok;
@@ -96,7 +106,10 @@ void add_simulate_command(CLI::App& app, Action& action) {
   cmd->add_option("--protocol", o->protocols, "Protocol JSON (format triaxcal-protocol); repeat for several tests")
       ->required()
       ->check(CLI::ExistingFile);
-  cmd->add_option("--out", o->out, "CSV file for the simulated curves (written atomically; units in the header)");
+  cmd->add_option("--out", o->out,
+                  "CSV file for the simulated curves (written atomically; units in the header). Written only when "
+                  "every simulation completes: after a failed one (exit 3) no file is written and an earlier file "
+                  "of that name is left as it was");
   cmd->add_option("--tolerance", o->tolerance,
                   "Accuracy of the integration: local relative error of each substep, in [1e-10, 0.1] (default " +
                       format_number(DriverOptions{}.tolerance) +

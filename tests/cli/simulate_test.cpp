@@ -187,8 +187,18 @@ TEST_CASE("simulate: a simulation that cannot be completed gives exit 3 and name
   CHECK(r.err.find("triaxcal: simulation failed: mcc_exit3_protocol.json: stage 0 (isotropic_consolidation), step ") !=
         std::string::npos);
   CHECK(r.err.find("could not be completed after 12 cuts") != std::string::npos);
-  // The curves up to the failure are still written, for a look at where it went wrong.
-  CHECK(fs::exists("exit3.csv"));
+  // No curves file: the table shows how far the test got, and stderr says nothing was written.
+  CHECK(r.err.find("triaxcal: no curves written to exit3.csv (a simulation failed)\n") != std::string::npos);
+  CHECK_FALSE(fs::exists("exit3.csv"));
+  // An earlier file of that name is left as it was; a temporary of a killed earlier write is swept.
+  std::ofstream("exit3.csv") << "an earlier run's curves\n";
+  std::ofstream(".exit3.csv.tmp12345") << "half a file";
+  const auto again = run_cli("simulate --model modified_cam_clay --params " + params + " --protocol " + protocol +
+                                 " --out exit3.csv",
+                             "exit3_again");
+  CHECK(again.exit_code == 3);
+  CHECK(slurp("exit3.csv") == "an earlier run's curves\n");
+  CHECK_FALSE(fs::exists(".exit3.csv.tmp12345"));
 }
 
 TEST_CASE("simulate --tolerance sets the accuracy, --fixed-steps the old stepping, and a bad tolerance gives exit 2 and the rule") {
@@ -210,9 +220,11 @@ TEST_CASE("simulate --tolerance sets the accuracy, --fixed-steps the old steppin
   fs::remove("bad_out.csv");
   const auto bad = run_cli(sim(params, protocol, "bad_out.csv") + " --tolerance 0.5", "badtol");
   CHECK(bad.exit_code == 2);
-  CHECK(bad.err == "triaxcal: error: driver options: tolerance = 0.5 must be in [1e-10, 0.1]\n");
+  CHECK(bad.err == "triaxcal: error: --tolerance: 0.5: expected a finite number from 1e-10 to 0.1 ('triaxcal simulate "
+                   "--help' lists the options)\n");
   CHECK_FALSE(fs::exists("bad_out.csv"));
   const auto help = run_cli("simulate --help", "help");
   CHECK(help.out.find("--tolerance") != std::string::npos);
   CHECK(help.out.find("--fixed-steps") != std::string::npos);
+  CHECK(help.out.find("after a failed one (exit 3) no file is written") != std::string::npos);
 }

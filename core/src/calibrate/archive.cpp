@@ -254,26 +254,35 @@ void write_contents(const Writer& w, hid_t file, const CalibrationSummary& s, co
 
 void write_calibration_archive(const std::filesystem::path& path, const CalibrationSummary& summary, const ModelInfo& model,
                                const CalibrationProvenance& provenance, const std::string& parameter_set_json) {
-  namespace fs = std::filesystem;
-  const fs::path tmp = temporary_path_beside(path);
+  // The archive is built in memory (HDF5's core driver without a backing store) and written with
+  // write_file_atomically: HDF5 itself never writes to the disk. A full disk is then an ordinary
+  // write error with its message; when HDF5 wrote the file itself, a close that failed on a full disk
+  // left the library in a state its shutdown at exit crashed on (segmentation fault, issue 13).
   H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);
   const Writer w(path.string());
-  const hid_t file = H5Fcreate(tmp.string().c_str(), H5F_ACC_TRUNC, H5P_DEFAULT, H5P_DEFAULT);
-  if (file < 0) throw InputError(path.string() + ": cannot write (directory missing or not writable)");
+  const hid_t fapl = w.check(H5Pcreate(H5P_FILE_ACCESS), "file access list");
+  // Strong: closing the file closes every object still open in it (on the error path).
+  if (H5Pset_fapl_core(fapl, std::size_t{1} << 20, false) < 0 || H5Pset_fclose_degree(fapl, H5F_CLOSE_STRONG) < 0) {
+    H5Pclose(fapl);
+    w.fail("in-memory file driver");
+  }
+  const hid_t file = H5Fcreate(path.filename().string().c_str(), H5F_ACC_TRUNC, H5P_DEFAULT, fapl);
+  H5Pclose(fapl);
+  if (file < 0) w.fail("create");
+  std::string image;
   try {
     write_contents(w, file, summary, model, provenance, parameter_set_json);
+    w.check(H5Fflush(file, H5F_SCOPE_GLOBAL), "flush");
+    const ssize_t size = H5Fget_file_image(file, nullptr, 0);
+    if (size <= 0) w.fail("file image");
+    image.resize(static_cast<std::size_t>(size));
+    if (H5Fget_file_image(file, image.data(), image.size()) != size) w.fail("file image");
   } catch (...) {
     H5Fclose(file);
-    std::error_code ignored;
-    fs::remove(tmp, ignored);
     throw;
   }
-  if (H5Fclose(file) < 0) {
-    std::error_code ignored;
-    fs::remove(tmp, ignored);
-    throw InputError(path.string() + ": cannot write the HDF5 archive (closing failed: disk full?)");
-  }
-  replace_with_temporary(tmp, path);
+  if (H5Fclose(file) < 0) w.fail("close");
+  write_file_atomically(path, image);
 }
 
 }  // namespace triaxcal
