@@ -152,7 +152,7 @@ TEST_CASE("the report input keeps every curve with its stage and fitted range, a
   // Bad values name the key path.
   CHECK_THROWS_WITH(report::parse_report_input(R"({"format": "triaxcal-report-input", "version": 3, "outcome": "converged",
       "tests": [{"id": "T1", "curves": [{"quantity": "deviator_stress", "stage": -1}]}]})", "r.json"),
-                    "r.json: tests[0].curves[0].stage: expected a stage number 0 to 1000, found -1");
+                    "r.json: tests[0].curves[0].stage: expected an integer from 0 to 1000, found -1");
   CHECK_THROWS_WITH(report::parse_report_input(R"({"format": "triaxcal-report-input", "version": 3, "outcome": "converged",
       "tests": [{"id": "T1", "deviator": {}}]})", "r.json"),
                     "r.json: tests[0].deviator: unknown key 'deviator' (expected one of: id, description, drainage, used, "

@@ -541,8 +541,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
       TestCurve tc;
       tc.quantity = detail::get_string(c, "quantity", source, cp);
       tc.unit = r.str(c, "unit", cp, tc.unit);
-      const long stage = r.integer(c, "stage", cp, 0);
-      if (stage < 0 || stage > 1000) r.fail(cp + ".stage", "expected a stage number 0 to 1000, found " + std::to_string(stage));
+      const long stage = r.integer(c, "stage", cp, 0, 1000);
       tc.stage = static_cast<int>(stage);
       tc.measured = r.xy(c, "measured", cp);
       tc.simulated = r.xy(c, "simulated", cp);
