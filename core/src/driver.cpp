@@ -317,8 +317,9 @@ bool solve_small(double (&a)[6][6], double (&b)[6], int k) {
 
 class Runner {
  public:
-  Runner(const DriverOptions& options, const Model& model, const TestProtocol& protocol, SimulationResult& result)
-      : opt_(options), model_(model), protocol_(protocol), result_(result) {}
+  Runner(const DriverOptions& options, const Model& model, const TestProtocol& protocol, SimulationResult& result,
+         SubstepPlan* record, const SubstepPlan* replay)
+      : opt_(options), model_(model), protocol_(protocol), result_(result), record_(record), replay_(replay) {}
   Runner(const Runner&) = delete;  // holds pointers into itself
   Runner& operator=(const Runner&) = delete;
 
@@ -376,6 +377,9 @@ class Runner {
   const Model& model_;
   const TestProtocol& protocol_;
   SimulationResult& result_;
+  SubstepPlan* record_ = nullptr;        // accepted substeps go here
+  const SubstepPlan* replay_ = nullptr;  // or the substeps come from here
+  std::size_t plan_cursor_ = 0;          // replay: the next entry of replay_->ends
 
   // The converged state and tangent and the spare pair a step writes into: swapped on success, not
   // copied (the pair is 400 bytes, a tenth of a drained Mohr-Coulomb increment). Step doubling
@@ -741,12 +745,21 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
   int cuts = 0;        // model-failure cuts of substeps within the current record step
   bool failed = false; // a substep failed since the last record: no growth
   const int first_counter = counter;
+  const bool replay = replay_ != nullptr;
   while (next <= per_phase) {
     const double limit = fraction(next);
     const double h = proposed;
     const double remaining = limit - s0;
     double s1;
-    if (h >= remaining / (1.0 + kSnapToRecord)) {
+    if (replay) {
+      // The recorded substep: it must move forward and not cross the next record.
+      s1 = plan_cursor_ < replay_->ends.size() ? replay_->ends[plan_cursor_++] : -1.0;
+      if (!(s1 > s0 && s1 <= limit)) {
+        fail(stage, first_counter + next, "the replayed substep plan does not fit this run (substep end " +
+                                              format_number(s1) + " after " + format_number(s0) + ")");
+        return false;
+      }
+    } else if (h >= remaining / (1.0 + kSnapToRecord)) {
       s1 = limit;
     } else if (h >= 0.5 * remaining) {
       s1 = s0 + 0.5 * remaining;  // two equal substeps to the end, no sliver
@@ -767,6 +780,10 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
       d_mid = d_acc + d_first;
       ok = substep(c, *half_state_, *half_tangent_, cs_start, sm, s1, d_mid, d_second, *spare_state_, *spare_tangent_,
                    failed);
+    }
+    if (!ok && replay) {
+      fail(stage, n, "the model failed on a replayed substep");
+      return false;
     }
     if (!ok) {
       // Cuts of a substep within one record step count against max_cuts; a substep across records
@@ -789,7 +806,7 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
     const double err = error_estimate(c, *one_state_, d_one, *spare_state_, d_second, stage_offset + d_acc + d_second);
     double factor = err > 0.0 ? std::clamp(0.9 * std::sqrt(opt_.tolerance / err), 0.2, 4.0) : 4.0;
     if (failed) factor = std::min(factor, 1.0);
-    if (err > opt_.tolerance) {
+    if (err > opt_.tolerance && !replay) {
       ++result_.rejected_substeps;
       proposed = factor * size;
       if (size <= kMinSubstep) {
@@ -801,6 +818,7 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
       continue;
     }
     ++result_.substeps;
+    if (record_ != nullptr) record_->ends.push_back(s1);
     if (opt_.extrapolate) {
       extrapolate(*state_, *one_state_, *spare_state_);
       d_second = 2.0 * d_second - d_one;
@@ -895,6 +913,16 @@ bool Runner::run_stage(int index) {
       control.set_pure_increments(1.0);
       const int before = counter;
       if (!adaptive_phase(index, control, per_phase, counter, watch, stop)) return false;
+      // Each stage (or loop half) of the plan ends with -1; a replay that stopped early skips the rest.
+      if (record_ != nullptr) record_->ends.push_back(-1.0);
+      if (replay_ != nullptr) {
+        while (plan_cursor_ < replay_->ends.size() && replay_->ends[plan_cursor_] != -1.0) ++plan_cursor_;
+        if (plan_cursor_ == replay_->ends.size()) {
+          fail(index, counter, "the replayed substep plan ended before this stage");
+          return false;
+        }
+        ++plan_cursor_;
+      }
       if (stop) summary.stopped_early = counter - before < per_phase;
       continue;
     }
@@ -964,7 +992,18 @@ void simulate(const DriverOptions& options, const Model& model, const TestProtoc
     validate_protocol(protocol);
   }
   result.clear();
-  Runner(options, model, protocol, result).run();
+  Runner(options, model, protocol, result, nullptr, nullptr).run();
+}
+
+void simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol, SimulationResult& result,
+              bool checked, SubstepPlan* record, const SubstepPlan* replay) {
+  if (!checked) {
+    options.validate();
+    validate_protocol(protocol);
+  }
+  result.clear();
+  if (record != nullptr) record->ends.clear();
+  Runner(options, model, protocol, result, record, replay).run();
 }
 
 }  // namespace triaxcal

@@ -131,7 +131,8 @@ TEST_CASE("bad calibration files exit 2 with exact messages and write nothing", 
                                                    "global_evaluations, global_runs, local, local_evaluations, starts, design_points, "
                                                    "relative_tolerance, x_tolerance, max_seconds, seed, threads, loss, "
                                                    "loss_scale, failure_penalty, uncertainty, jacobian_step, correlation_warning, "
-                                                   "min_r_squared, stress_precision, strain_precision, noise_from_residuals)\n");
+                                                   "min_r_squared, stress_precision, strain_precision, noise_from_residuals, "
+                                                   "same_optimum_tolerance)\n");
   }
   {
     const std::string f = write("fit_bad_r2.json", calibration(parameters(), kTests, R"({"min_r_squared": 2})"));

@@ -48,7 +48,7 @@ std::string write(const std::string& name, const json& content) {
 }
 
 /// The bundled example examples/calibrate/mohr_coulomb_cd.json (its tests, constraint and
-/// options: a global search then a local polish) with the given parameters block and its series as
+/// options: the least-squares multi-start) with the given parameters block and its series as
 /// an absolute path (the file is written elsewhere).
 json example_with(const json& parameters) {
   json c = json::parse(slurp(source_path("examples/calibrate/mohr_coulomb_cd.json")));

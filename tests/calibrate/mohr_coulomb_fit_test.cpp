@@ -372,3 +372,95 @@ TEST_CASE("with a robust loss, gross outliers barely move the fit and the true v
   CHECK(misses <= 2);
   CHECK(checks == 12);
 }
+
+// ---- The default local stage: least squares (Ceres) from a multi-start -------------------------
+
+TEST_CASE("the default least-squares multi-start recovers the noise-free Mohr-Coulomb set within 0.5 % and every start says whether it reached the best",
+          "[calibrate][least_squares]") {
+  const CalibrationProblem problem = mohr_coulomb_problem(nullptr);
+  CalibrationOptions o;  // the defaults: least_squares, starts by the rule (1 + 5 free)
+  o.threads = 2;
+  const CalibrationSummary s = calibrate(o, problem);
+  INFO(s.full());
+  REQUIRE(s.outcome == CalibrationOutcome::converged);
+  CHECK(s.local_algorithm == "least_squares");
+  CHECK(s.local_runs == 6);
+  CHECK(s.starts_at_best >= 1);
+  CHECK(s.starts_at_best <= s.local_runs);
+  CHECK(s.full().find("local runs reaching the best objective: " + std::to_string(s.starts_at_best) + " of 6") !=
+        std::string::npos);
+  CHECK(s.objective < 1e-8 * s.start_objective);
+  CHECK(worst_relative_rmse(s) < kCurveRange);
+  CHECK(close(value_named(s, "youngs_modulus"), kE, 0.005, 0.0));
+  CHECK(close(value_named(s, "poissons_ratio"), kNu, 0.005, 0.0));
+  CHECK(close(value_named(s, "cohesion"), kC, 0.005, 0.0));
+  CHECK(close(value_named(s, "friction_angle"), kPhi, 0.005, 0.0));
+  CHECK(close(value_named(s, "dilation_angle"), kPsi, 0.005, 0.0));
+  // Its Jacobian simulations are counted apart from the objective evaluations.
+  CHECK(s.jacobian_evaluations > 0);
+}
+
+TEST_CASE("the least-squares multi-start gives bit-identical results with one and two threads", "[calibrate][threads][least_squares]") {
+  Noise noise(11);
+  const CalibrationProblem problem = mohr_coulomb_problem(&noise, 60);
+  CalibrationOptions o;
+  o.seed = 5;
+  o.threads = 1;
+  const CalibrationSummary one = calibrate(o, problem);
+  o.threads = 2;
+  const CalibrationSummary two = calibrate(o, problem);
+  REQUIRE(one.threads == 1);
+  REQUIRE(two.threads == 2);
+  REQUIRE(one.usable());
+  for (std::size_t i = 0; i < one.values.size(); ++i) CHECK(one.values[i] == two.values[i]);
+  CHECK(one.objective == two.objective);
+  CHECK(one.evaluations == two.evaluations);
+  CHECK(one.jacobian_evaluations == two.jacobian_evaluations);
+  CHECK(one.starts_at_best == two.starts_at_best);
+  REQUIRE(one.history.size() == two.history.size());
+  for (std::size_t i = 0; i < one.history.size(); ++i) CHECK(one.history[i].objective == two.history[i].objective);
+  for (std::size_t k = 0; k < one.parameters.size(); ++k)
+    CHECK((one.parameters[k].standard_error == two.parameters[k].standard_error ||
+           (std::isnan(one.parameters[k].standard_error) && std::isnan(two.parameters[k].standard_error))));
+}
+
+TEST_CASE("least squares with a robust loss minimises the objective calibrate reports (Ceres's soft_l1 and huber are ours)",
+          "[calibrate][least_squares][loss]") {
+  Noise noise(3);
+  const CalibrationProblem problem = mohr_coulomb_problem(&noise, 60);
+  for (Loss loss : {Loss::soft_l1, Loss::huber}) {
+    CalibrationOptions o;
+    o.loss = loss;
+    o.loss_scale = 0.01;
+    o.starts = 1;
+    o.uncertainty = false;
+    o.threads = 2;
+    const CalibrationSummary s = calibrate(o, problem);
+    INFO(to_string(loss) << "\n" << s.full());
+    REQUIRE(s.usable());
+    // The reported objective is the one at the fitted values (the same sum of rho(e^2)).
+    CHECK(calibration_objective(o, problem, s.values) == Approx(s.objective).epsilon(1e-12));
+    // And it is a minimum of that objective: BOBYQA started there finds nothing clearly lower.
+    CalibrationProblem again = problem;
+    for (ParameterSpec& p : again.parameters)
+      if (p.status == ParameterStatus::free) p.start = value_named(s, p.name);
+    CalibrationOptions b = o;
+    b.local = LocalAlgorithm::bobyqa;
+    const CalibrationSummary polished = calibrate(b, again);
+    CHECK(polished.objective >= s.objective * (1.0 - 1e-4));
+  }
+}
+
+TEST_CASE("a least-squares fit whose start point fails is failed, never converged at the penalty", "[calibrate][least_squares][outcome]") {
+  CalibrationProblem problem = mohr_coulomb_problem(nullptr, 60);
+  // psi > phi' at the start: outside the constraint, and the model rejects it.
+  problem.parameters[3] = free_parameter("friction_angle", 20.0, 45.0, 24.0);
+  problem.parameters[4] = free_parameter("dilation_angle", 0.0, 30.0, 28.0);
+  CalibrationOptions o;
+  o.starts = 1;
+  o.threads = 2;
+  const CalibrationSummary s = calibrate(o, problem);
+  INFO(s.full());
+  CHECK(s.outcome == CalibrationOutcome::failed);
+  CHECK(s.outcome_reason.find("the start point failed") != std::string::npos);
+}

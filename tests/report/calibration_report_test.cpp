@@ -101,6 +101,7 @@ TEST_CASE("a calibration stopped by its evaluation budget is reported as stopped
   f.problem.parameters[0].start = 24000.0;
   f.problem.parameters[1].start = 32.5;
   CalibrationOptions o;
+  o.local = LocalAlgorithm::bobyqa;  // the default is least_squares since issue 14; this is about BOBYQA's budget
   o.local_evaluations = 4;  // fewer than BOBYQA needs to build its first model (2 n + 1 = 5)
   o.threads = 1;
   o.uncertainty = false;

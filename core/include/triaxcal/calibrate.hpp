@@ -107,7 +107,10 @@ struct CalibrationProblem {
 
 enum class Loss { linear, soft_l1, huber };
 enum class GlobalAlgorithm { none, crs2, isres, direct_l };
-enum class LocalAlgorithm { none, bobyqa, cobyla, sbplx, nelder_mead };
+/// least_squares: bounded nonlinear least squares (Ceres, Levenberg-Marquardt trust region) on the
+/// per-point residuals, with their Jacobian by finite differences; the others are NLopt's
+/// derivative-free methods (they minimise the objective as a number).
+enum class LocalAlgorithm { none, least_squares, bobyqa, cobyla, sbplx, nelder_mead };
 
 TRIAXCAL_CORE_EXPORT std::string to_string(Loss loss);
 TRIAXCAL_CORE_EXPORT std::string to_string(GlobalAlgorithm algorithm);
@@ -134,9 +137,12 @@ struct CalibrationOptions {
   /// its share of the budget and its own seed, run side by side on the threads; the best goes on.
   /// The result depends on this number, never on the thread count. direct_l always runs once.
   int global_runs = 2;
-  LocalAlgorithm local = LocalAlgorithm::bobyqa;    ///< derivative-free local polish; none = skip
-  long local_evaluations = 3000;                    ///< budget of each local run
-  int starts = 1;              ///< local runs: from the best point, then from the best design points
+  LocalAlgorithm local = LocalAlgorithm::least_squares;  ///< local stage; none = skip
+  long local_evaluations = 3000;                    ///< budget of each local run (objective evaluations)
+  /// Local runs. 0 = the rule: least_squares 1 + free parameters (the start point, then a Latin
+  /// hypercube of starts over the box), NLopt's methods 1. With design_points: from the best point,
+  /// then from the best design points. Several starts run side by side on the threads.
+  int starts = 0;
   int design_points = 0;       ///< space-filling (Latin hypercube) points evaluated before the stages
   double relative_tolerance = 1e-10;   ///< local stop: relative change of the objective
   double x_tolerance = 1e-7;           ///< local stop: change of the scaled unit-box coordinates
@@ -147,7 +153,10 @@ struct CalibrationOptions {
   double loss_scale = 0.05;            ///< robust loss: error (fraction of the range) where it bends
   double failure_penalty = 10.0;       ///< per failed test, times its weights
   bool uncertainty = true;             ///< Jacobian, covariance and intervals at the optimum
-  double jacobian_step = 1e-4;         ///< central-difference step, fraction of each box width
+  double jacobian_step = 1e-4;         ///< difference step of the Jacobian, fraction of each box width
+  /// Starts whose objective is within this relative distance of the best (or 1e-12 absolute: data
+  /// reproduced) count as reaching it (CalibrationSummary::starts_at_best).
+  double same_optimum_tolerance = 1e-6;
   double correlation_warning = 0.95;   ///< |correlation| above this gives an identifiability warning
   // Noise model of the intervals (errors in variables, docs/calibration-format.md "Uncertainty"):
   // every measured column is noisy, x as well as y; a point's variance is sigma_y^2 +
@@ -238,6 +247,9 @@ struct CalibrationSummary {
   long failed_simulations = 0;     ///< test simulations that failed (or models that could not be built)
   long design_evaluations = 0, global_evaluations = 0, local_evaluations = 0, jacobian_evaluations = 0;
   int local_runs = 0;
+  /// Local runs that ended within same_optimum_tolerance of the best objective: all of them (or
+  /// most) is a sign of a well-posed problem; few is a sign of several minima or a flat valley.
+  int starts_at_best = 0;
   double wall_time = 0.0;          ///< seconds
   int threads = 0;                 ///< threads used
   std::string global_algorithm, local_algorithm, loss;

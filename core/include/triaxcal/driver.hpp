@@ -91,6 +91,14 @@ struct SimulationResult {
   std::string brief() const;
 };
 
+/// The accepted substeps of an error-controlled run, so that another run (other parameters) can
+/// take exactly the same ones: finite differences on this frozen sequence are smooth in the
+/// parameters, where re-run error control would change its substeps with them (calibration
+/// Jacobian). Ignored with fixed_steps, whose steps never depend on the parameters.
+struct SubstepPlan {
+  std::vector<double> ends;  ///< path fraction of each accepted substep's end; -1 closes a stage (or loop half)
+};
+
 /// Simulate every stage of `protocol` with `model`. Never throws for numerical failure: the
 /// result says where and why. Throws InputError for a protocol that cannot be run (e.g. a stage
 /// without its target), naming the stage and key.
@@ -103,6 +111,14 @@ TRIAXCAL_CORE_EXPORT SimulationResult simulate(const DriverOptions& options, con
 /// DriverOptions::validate and validate_protocol, which are then skipped.
 TRIAXCAL_CORE_EXPORT void simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol,
                                    SimulationResult& result, bool checked = false);
+
+/// The same, with error control as usual and its accepted substeps written into `record` (cleared
+/// first), or, with `replay`, taking exactly the substeps of that plan: each by the same
+/// step-doubling pair and extrapolation, none rejected; a plan that does not fit the protocol or a
+/// model failure fails the run. Null = neither.
+TRIAXCAL_CORE_EXPORT void simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol,
+                                   SimulationResult& result, bool checked, SubstepPlan* record,
+                                   const SubstepPlan* replay);
 
 /// For a strain-controlled stage (shear, constant_p_shear, oedometer by axial_strain): the fraction
 /// of the stage's control path at which its engineering stage axial strain equals

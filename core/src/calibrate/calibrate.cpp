@@ -17,6 +17,8 @@
 #include <thread>
 
 #include "engine.hpp"
+#include "jacobian.hpp"
+#include "least_squares.hpp"
 #include "uncertainty.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/parameters.hpp"
@@ -45,6 +47,7 @@ std::string to_string(GlobalAlgorithm a) {
 std::string to_string(LocalAlgorithm a) {
   switch (a) {
     case LocalAlgorithm::none: return "none";
+    case LocalAlgorithm::least_squares: return "least_squares";
     case LocalAlgorithm::bobyqa: return "bobyqa";
     case LocalAlgorithm::cobyla: return "cobyla";
     case LocalAlgorithm::sbplx: return "sbplx";
@@ -76,10 +79,10 @@ void CalibrationOptions::validate() const {
     fail("global_evaluations", static_cast<double>(global_evaluations), "must be at least 1");
   if (local != LocalAlgorithm::none && local_evaluations < 1)
     fail("local_evaluations", static_cast<double>(local_evaluations), "must be at least 1");
-  if (starts < 1 || starts > 1000) fail("starts", starts, "must be in [1, 1000]");
+  if (starts < 0 || starts > 1000) fail("starts", starts, "must be in [0, 1000] (0 = the rule: least_squares 1 + free parameters, others 1)");
   if (global_runs < 1 || global_runs > 64) fail("global_runs", global_runs, "must be in [1, 64]");
   if (design_points < 0 || design_points > 1000000) fail("design_points", design_points, "must be in [0, 1000000]");
-  if (starts > 1 && design_points < starts - 1)
+  if (starts > 1 && design_points > 0 && design_points < starts - 1)
     fail("design_points", design_points, "must be at least starts - 1 = " + std::to_string(starts - 1) +
                                              " (extra local runs start from the best design points)");
   if (!(relative_tolerance >= 0.0 && relative_tolerance < 1.0)) fail("relative_tolerance", relative_tolerance, "must be in [0, 1)");
@@ -89,6 +92,8 @@ void CalibrationOptions::validate() const {
   if (!(loss_scale > 0.0 && std::isfinite(loss_scale))) fail("loss_scale", loss_scale, "must be positive");
   if (!(failure_penalty > 0.0 && std::isfinite(failure_penalty))) fail("failure_penalty", failure_penalty, "must be positive");
   if (!(jacobian_step > 0.0 && jacobian_step <= 0.1)) fail("jacobian_step", jacobian_step, "must be in (0, 0.1]");
+  if (!(same_optimum_tolerance >= 0.0 && same_optimum_tolerance < 1.0))
+    fail("same_optimum_tolerance", same_optimum_tolerance, "must be in [0, 1)");
   if (!(correlation_warning > 0.0 && correlation_warning <= 1.0))
     fail("correlation_warning", correlation_warning, "must be in (0, 1]");
   if (!(min_r_squared >= -1.0 && min_r_squared <= 1.0)) fail("min_r_squared", min_r_squared, "must be in [-1, 1]");
@@ -126,13 +131,25 @@ std::vector<std::vector<double>> latin_hypercube(int points, std::size_t dims, s
 
 struct Run;
 
+// The stage an evaluation belongs to (HistoryEntry::stage holds its number).
+enum class Phase { design = 0, global = 1, local = 2 };
+
+// NLopt's handle, destroyed on every way out.
+using NloptHandle = std::unique_ptr<nlopt_opt_s, decltype(&nlopt_destroy)>;
+
 // One evaluation context: an evaluator and what its evaluations found since the last merge. The
 // main lane simulates the tests of an evaluation in parallel; side lanes simulate serially and run
 // side by side (design points, global runs, Jacobian columns). Lanes are merged into the summary
 // in a fixed order, so the result never depends on the number of threads.
 struct Lane {
   detail::Evaluator evaluator;
-  long evaluations = 0, failed = 0, design = 0, global = 0, local = 0;
+  long evaluations = 0, failed = 0, design = 0, global = 0, local = 0, jacobian = 0;
+  bool record_plans = false;    // evaluations keep their substeps (the least-squares Jacobian replays them)
+  bool last_penalised = false;  // the latest evaluation holds a failure or constraint penalty
+  // The least-squares stage's latest Jacobian and where it was taken.
+  Eigen::MatrixXd jac;
+  std::vector<double> jac_at;
+  bool jac_complete = false;
   double best = std::numeric_limits<double>::infinity();
   std::vector<double> best_unit;
   bool best_penalised = false;  // the best point's objective holds a failure or constraint penalty
@@ -145,7 +162,7 @@ struct Lane {
 struct StageContext {
   Run* run;
   Lane* lane;
-  int stage;
+  Phase stage;
 };
 
 struct Run {
@@ -188,7 +205,7 @@ struct Run {
     main.evaluator.run_tasks(k, fn);
   }
 
-  double evaluate(Lane& lane, const double* u, int stage) {
+  double evaluate(Lane& lane, const double* u, Phase stage) {
     std::vector<double> unit(u, u + n);
     const ParameterValues values = prepared.values(unit);
     double f;
@@ -198,7 +215,7 @@ struct Run {
       // Outside the constraints: penalised without simulating, growing with the violation.
       f = penalty_all * (1.0 + violation);
     } else {
-      const bool built = lane.evaluator.simulate(values);
+      const bool built = lane.evaluator.simulate(values, lane.record_plans ? detail::PlanMode::record : detail::PlanMode::none);
       f = lane.evaluator.objective(built);
       lane.failed += built ? lane.evaluator.failed_tests() : static_cast<long>(prepared.tests.size());
       penalised = !built || !std::isfinite(f);
@@ -206,15 +223,16 @@ struct Run {
         penalised = !lane.evaluator.outcome(static_cast<int>(t)).ok && prepared.tests[t].total_weight > 0.0;
     }
     ++lane.evaluations;
-    if (stage == 0) ++lane.design;
-    if (stage == 1) ++lane.global;
-    if (stage == 2) ++lane.local;
+    lane.last_penalised = penalised;
+    if (stage == Phase::design) ++lane.design;
+    if (stage == Phase::global) ++lane.global;
+    if (stage == Phase::local) ++lane.local;
     if (f < lane.best) {
       lane.best = f;
       lane.best_unit = unit;
       lane.best_penalised = penalised;
     }
-    if (options.record_history) lane.history.push_back({0, stage, f, 0.0});
+    if (options.record_history) lane.history.push_back({0, static_cast<int>(stage), f, 0.0});
     const long total = total_evaluations.fetch_add(1) + 1;
     double best_now;
     {
@@ -226,7 +244,7 @@ struct Run {
     // The callback runs on the calling thread only; it sees the evaluations of every lane.
     if (options.progress && std::this_thread::get_id() == caller) {
       static const char* names[] = {"design", "global", "local"};
-      CalibrationProgress p{total == 1 ? "start" : names[stage], total, f, best_now, t};
+      CalibrationProgress p{total == 1 ? "start" : names[static_cast<int>(stage)], total, f, best_now, t};
       if (!options.progress(p)) stop_requested = true;
     }
     if (options.max_seconds > 0.0 && t >= options.max_seconds) time_up = true;
@@ -236,6 +254,17 @@ struct Run {
 
   bool halted() const { return stop_requested.load() || time_up.load(); }
 
+  // The least-squares Jacobian of the best local run so far, for the uncertainty when it was taken
+  // at the final optimum.
+  Eigen::MatrixXd kept_jac;
+  std::vector<double> kept_jac_at;
+  void keep_jacobian(const Lane& lane) {
+    kept_jac_at.clear();
+    if (!lane.jac_complete) return;
+    kept_jac = lane.jac;
+    kept_jac_at = lane.jac_at;
+  }
+
   /// Moves what the lane found into the summary (counts, history in order, best so far).
   void merge(Lane& lane) {
     summary.evaluations += lane.evaluations;
@@ -243,6 +272,7 @@ struct Run {
     summary.design_evaluations += lane.design;
     summary.global_evaluations += lane.global;
     summary.local_evaluations += lane.local;
+    summary.jacobian_evaluations += lane.jacobian;
     for (HistoryEntry h : lane.history) {
       h.evaluation = static_cast<long>(summary.history.size()) + 1;
       h.best = summary.history.empty() ? h.objective : std::min(summary.history.back().best, h.objective);
@@ -253,16 +283,17 @@ struct Run {
       best_unit = lane.best_unit;
       best_penalised = lane.best_penalised;
     }
-    lane.evaluations = lane.failed = lane.design = lane.global = lane.local = 0;
+    lane.evaluations = lane.failed = lane.design = lane.global = lane.local = lane.jacobian = 0;
     lane.history.clear();
     lane.best = std::numeric_limits<double>::infinity();
     lane.best_unit.clear();
     lane.best_penalised = false;
   }
 
-  nlopt_result optimise(Lane& lane, nlopt_algorithm algorithm, int stage, long budget, std::vector<double>& x,
+  nlopt_result optimise(Lane& lane, nlopt_algorithm algorithm, Phase stage, long budget, std::vector<double>& x,
                         double step, unsigned long seed) {
-    nlopt_opt opt = nlopt_create(algorithm, static_cast<unsigned>(n));
+    const NloptHandle handle(nlopt_create(algorithm, static_cast<unsigned>(n)), &nlopt_destroy);
+    nlopt_opt opt = handle.get();
     nlopt_set_lower_bounds1(opt, 0.0);
     nlopt_set_upper_bounds1(opt, 1.0);
     StageContext ctx{this, &lane, stage};
@@ -285,7 +316,7 @@ struct Run {
           this, 1e-9);
     }
     nlopt_set_maxeval(opt, static_cast<int>(std::min<long>(budget, 2000000000L)));
-    if (stage == 2) {
+    if (stage == Phase::local) {
       nlopt_set_ftol_rel(opt, options.relative_tolerance);
       nlopt_set_xtol_abs1(opt, options.x_tolerance);
       nlopt_set_initial_step1(opt, step);
@@ -300,10 +331,55 @@ struct Run {
     for (double& v : x) v = std::clamp(v, 0.0, 1.0);
     const nlopt_result result = nlopt_optimize(opt, x.data(), &f);
     lane.current = nullptr;
-    nlopt_destroy(opt);
     return result;
   }
 };
+
+// Runs the jobs of a Jacobian on the side lanes, side by side (each job a fresh simulation, so
+// which lane runs it never changes its result).
+detail::JobRunner side_jobs(Run& run) {
+  return [&run](int jobs, const std::function<void(int, detail::Evaluator&)>& task) {
+    const int lanes = std::max(1, std::min(run.main.evaluator.threads(), jobs));
+    run.on_side_lanes(lanes, [&](int lane) {
+      for (int j = lane; j < jobs; j += lanes) task(j, run.side[static_cast<std::size_t>(lane)]->evaluator);
+    });
+  };
+}
+
+// Runs them one after the other on the lane's own evaluator (a lane that is itself one of several
+// running side by side).
+detail::JobRunner serial_jobs(Lane& lane) {
+  return [&lane](int jobs, const std::function<void(int, detail::Evaluator&)>& task) {
+    for (int j = 0; j < jobs; ++j) task(j, lane.evaluator);
+  };
+}
+
+// One least-squares local run from x on `lane`. The values are the lane's evaluations (they keep
+// their substeps); the Jacobian is forward differences of options.jacobian_step in the unit box on
+// those frozen substeps (n simulations; central ones cost 2n and moved no fit measurably), its
+// simulations run by `jobs`.
+detail::LocalResult solve_least_squares(Run& run, Lane& lane, std::vector<double>& x, const detail::JobRunner& jobs) {
+  const CalibrationOptions& o = run.options;
+  const long used_before = lane.local;
+  lane.record_plans = true;
+  detail::LeastSquaresCalls calls;
+  calls.values = [&](const std::vector<double>& u, Eigen::VectorXd& d) {
+    run.evaluate(lane, u.data(), Phase::local);
+    return !lane.last_penalised && detail::residuals(run.prepared, lane.evaluator, d);
+  };
+  calls.jacobian = [&](const std::vector<double>& u, const Eigen::VectorXd& d, Eigen::MatrixXd& J) {
+    std::vector<bool> have;
+    lane.jacobian += detail::jacobian(run.prepared, u, d, o.jacobian_step, detail::Differences::forward,
+                                      &lane.evaluator.plans(), jobs, J, have);
+    lane.jac = J;
+    lane.jac_at = u;
+    lane.jac_complete = std::all_of(have.begin(), have.end(), [](bool b) { return b; });
+  };
+  calls.stop = [&] { return run.halted() || lane.local - used_before >= o.local_evaluations; };
+  const detail::LocalResult r = detail::least_squares(run.prepared, o, x, calls);
+  lane.record_plans = false;
+  return r;
+}
 
 nlopt_algorithm global_algorithm(GlobalAlgorithm a) {
   switch (a) {
@@ -321,6 +397,7 @@ nlopt_algorithm local_algorithm(LocalAlgorithm a) {
     case LocalAlgorithm::cobyla: return NLOPT_LN_COBYLA;
     case LocalAlgorithm::sbplx: return NLOPT_LN_SBPLX;
     case LocalAlgorithm::nelder_mead: return NLOPT_LN_NELDERMEAD;
+    case LocalAlgorithm::least_squares:
     case LocalAlgorithm::none: break;
   }
   return NLOPT_LN_BOBYQA;
@@ -335,6 +412,7 @@ std::string options_text(const CalibrationOptions& o) {
     << "\nseed = " << o.seed << "\nthreads = " << o.threads << "\nloss = " << to_string(o.loss)
     << "\nloss_scale = " << format_number(o.loss_scale) << "\nfailure_penalty = " << format_number(o.failure_penalty)
     << "\nuncertainty = " << (o.uncertainty ? "true" : "false") << "\njacobian_step = " << format_number(o.jacobian_step)
+    << "\nsame_optimum_tolerance = " << format_number(o.same_optimum_tolerance)
     << "\ncorrelation_warning = " << format_number(o.correlation_warning)
     << "\nmin_r_squared = " << format_number(o.min_r_squared) << "\nstress_precision = " << format_number(o.stress_precision)
     << "\nstrain_precision = " << format_number(o.strain_precision)
@@ -350,7 +428,17 @@ struct Ending {
   std::string reason;
 };
 
-Ending ending_of(const Run& run, nlopt_result last, const std::string& last_stage, long evaluations) {
+// How the last stage that ran ended: NLopt's code (a least-squares run maps onto it: converged
+// success, budget maxeval, a Ceres failure a halt with Ceres's words).
+struct StageEnd {
+  nlopt_result code = NLOPT_SUCCESS;
+  std::string stage = "start";
+  std::string halted;  ///< why the stage halted, when not an NLopt code
+};
+
+Ending ending_of(const Run& run, const StageEnd& end, long evaluations) {
+  const nlopt_result last = end.code;
+  const std::string& last_stage = end.stage;
   const CalibrationOptions& o = run.options;
   const std::string after = " after " + std::to_string(evaluations) + " evaluations";
   Ending e;
@@ -371,11 +459,11 @@ Ending ending_of(const Run& run, nlopt_result last, const std::string& last_stag
                 (last == NLOPT_MAXEVAL_REACHED ? "used its budget of " + std::to_string(o.global_evaluations) + " evaluations"
                                                : std::string("ended (NLopt ") + nlopt_result_to_string(last) + ")" + after) +
                 " and no local stage tested convergence";
-    e.reason = e.message + ": set options.local (e.g. bobyqa), or raise options.global_evaluations";
+    e.reason = e.message + ": set options.local (e.g. least_squares), or raise options.global_evaluations";
   } else if (o.local == LocalAlgorithm::none) {
     e.message = "only the start and " + std::to_string(o.design_points) +
                 " design points were evaluated and no stage tested convergence";
-    e.reason = e.message + ": set options.local (e.g. bobyqa) to polish the best of them";
+    e.reason = e.message + ": set options.local (e.g. least_squares) to polish the best of them";
   } else if (last == NLOPT_MAXEVAL_REACHED) {
     e.message = "the " + last_stage + " stage used its budget of " + std::to_string(o.local_evaluations) +
                 " evaluations; not converged to the tolerance";
@@ -383,8 +471,11 @@ Ending ending_of(const Run& run, nlopt_result last, const std::string& last_stag
                " evaluations before it met its tolerance: raise options.local_evaluations";
   } else if (last < 0) {
     e.termination = CalibrationTermination::optimiser_halted;
-    e.message = "the " + last_stage + " stage ended with NLopt code " + std::to_string(static_cast<int>(last)) + " (" +
-                nlopt_result_to_string(last) + ")" + after + "; not converged";
+    e.message = "the " + last_stage + " stage ended " +
+                (end.halted.empty() ? "with NLopt code " + std::to_string(static_cast<int>(last)) + " (" +
+                                          nlopt_result_to_string(last) + ")"
+                                    : "early (" + end.halted + ")") +
+                after + "; not converged";
     e.reason = e.message + ": loosen options.relative_tolerance or options.x_tolerance, or start from another point";
   } else {
     e.termination = CalibrationTermination::converged;
@@ -477,6 +568,170 @@ void judge_outcome(CalibrationSummary& s, const Ending& ending, const Run& run, 
   }
 }
 
+
+// The start point, evaluated first: the objective every stage has to beat.
+void evaluate_start(Run& run) {
+  std::vector<double> x(run.n);
+  for (std::size_t k = 0; k < run.n; ++k) x[k] = run.prepared.to_unit(static_cast<int>(k), run.prepared.start[k]);
+  run.summary.start_objective = run.evaluate(run.main, x.data(), Phase::design);
+  run.merge(run.main);
+}
+
+// Space-filling design, evaluated on side lanes in contiguous chunks and merged in point order;
+// ranked, its best points seed the extra local runs.
+void run_design(Run& run, std::mt19937_64& rng) {
+  const CalibrationOptions& options = run.options;
+  if (options.design_points == 0 || run.halted()) return;
+  const auto design = latin_hypercube(options.design_points, run.n, rng);
+  const int points = static_cast<int>(design.size());
+  const int lanes = std::max(1, std::min(run.summary.threads, points));
+  std::vector<double> f(design.size(), std::numeric_limits<double>::quiet_NaN());
+  run.on_side_lanes(lanes, [&](int lane) {
+    const int from = static_cast<int>(static_cast<long>(points) * lane / lanes);
+    const int to = static_cast<int>(static_cast<long>(points) * (lane + 1) / lanes);
+    for (int i = from; i < to && !run.halted(); ++i)
+      f[static_cast<std::size_t>(i)] =
+          run.evaluate(*run.side[static_cast<std::size_t>(lane)], design[static_cast<std::size_t>(i)].data(), Phase::design);
+  });
+  for (int lane = 0; lane < lanes; ++lane) run.merge(*run.side[static_cast<std::size_t>(lane)]);
+  for (std::size_t i = 0; i < design.size(); ++i)
+    if (!std::isnan(f[i])) run.design_ranked.emplace_back(f[i], design[i]);
+  std::stable_sort(run.design_ranked.begin(), run.design_ranked.end(),
+                   [](const auto& l, const auto& r) { return l.first < r.first; });
+}
+
+// The derivative-free global stage (NLopt). DIRECT-L is deterministic and ignores the start: one
+// run. The stochastic searches run global_runs independent searches from the best point so far,
+// each with its share of the budget and its own seed, side by side; the best goes on.
+void run_global(Run& run, StageEnd& end) {
+  const CalibrationOptions& options = run.options;
+  if (options.global == GlobalAlgorithm::none || run.halted()) return;
+  run.native_constraints = !run.prepared.constraints.empty() && options.global == GlobalAlgorithm::isres;
+  const int runs = options.global == GlobalAlgorithm::direct_l ? 1 : options.global_runs;
+  if (runs == 1) {
+    std::vector<double> g = run.best_unit;
+    end.code = run.optimise(run.main, global_algorithm(options.global), Phase::global, options.global_evaluations, g, 0.0,
+                            options.seed + 1);
+    run.merge(run.main);
+  } else {
+    std::vector<nlopt_result> results(static_cast<std::size_t>(runs), NLOPT_SUCCESS);
+    const std::vector<double> from = run.best_unit;
+    run.on_side_lanes(runs, [&](int i) {
+      const long budget = options.global_evaluations * (i + 1) / runs - options.global_evaluations * i / runs;
+      std::vector<double> g = from;
+      results[static_cast<std::size_t>(i)] =
+          run.optimise(*run.side[static_cast<std::size_t>(i)], global_algorithm(options.global), Phase::global,
+                       std::max(1L, budget), g, 0.0, options.seed + 1 + 7919UL * static_cast<unsigned long>(i));
+    });
+    // The result code of the run that found the best point.
+    int winner = 0;
+    for (int i = 0; i < runs; ++i)
+      if (run.side[static_cast<std::size_t>(i)]->best < run.side[static_cast<std::size_t>(winner)]->best) winner = i;
+    end.code = results[static_cast<std::size_t>(winner)];
+    for (int i = 0; i < runs; ++i) run.merge(*run.side[static_cast<std::size_t>(i)]);
+  }
+  end.stage = "global (" + to_string(options.global) + ")";
+}
+
+// Where the local runs start: the best point so far, then the best design points, or without a
+// design a Latin hypercube of further starts (the rule: least_squares 1 + free parameters starts,
+// NLopt's methods 1), taken in order from a hypercube of 4 times as many points, skipping those
+// outside the constraints (a start there cannot move). A start equal to an earlier one is dropped.
+std::vector<std::vector<double>> local_starts(const Run& run, std::mt19937_64& rng) {
+  const CalibrationOptions& o = run.options;
+  const int wanted = o.starts > 0 ? o.starts : (o.local == LocalAlgorithm::least_squares ? 1 + static_cast<int>(run.n) : 1);
+  std::vector<std::vector<double>> candidates{run.best_unit};
+  if (o.design_points > 0) {
+    for (const auto& [f, u] : run.design_ranked) candidates.push_back(u);
+  } else if (wanted > 1) {
+    std::vector<std::vector<double>> outside;
+    for (auto& u : latin_hypercube(4 * (wanted - 1), run.n, rng)) {
+      const bool inside = run.prepared.constraints.empty() || run.prepared.violation(run.prepared.values(u)) <= 0.0;
+      (inside ? candidates : outside).push_back(std::move(u));
+    }
+    // Too few inside: the rest from outside, in order (they fail and say so).
+    for (auto& u : outside) candidates.push_back(std::move(u));
+  }
+  std::vector<std::vector<double>> starts;
+  for (const auto& u : candidates) {
+    if (static_cast<int>(starts.size()) >= wanted) break;
+    if (std::find(starts.begin(), starts.end(), u) == starts.end()) starts.push_back(u);
+  }
+  return starts;
+}
+
+StageEnd local_end(const detail::LocalResult& r) {
+  StageEnd e;
+  switch (r.end) {
+    case detail::LocalEnd::converged: e.code = NLOPT_SUCCESS; break;
+    case detail::LocalEnd::stopped: e.code = NLOPT_MAXEVAL_REACHED; break;
+    case detail::LocalEnd::failed:
+      e.code = NLOPT_FAILURE;
+      e.halted = "Ceres: " + r.message;
+      break;
+  }
+  return e;
+}
+
+// Objectives below this are all "the data reproduced" (an RMS error of 1e-6 of each curve's range):
+// noise-free fits end anywhere between 1e-30 and 1e-13, and count as the same optimum.
+constexpr double kSameOptimumFloor = 1e-12;
+
+// The local stage from each start. least_squares: one start on the main lane with the Jacobian's
+// simulations side by side, several starts side by side on their own lanes; NLopt's methods one
+// after the other on the main lane. Lanes are merged in start order, the winner is the first run
+// with the lowest objective, and the summary counts the runs that reached it.
+void run_local(Run& run, std::mt19937_64& rng, StageEnd& end) {
+  const CalibrationOptions& options = run.options;
+  if (options.local == LocalAlgorithm::none || run.halted()) return;
+  run.native_constraints = !run.prepared.constraints.empty() && options.local == LocalAlgorithm::cobyla;
+  const std::vector<std::vector<double>> starts = local_starts(run, rng);
+  const std::size_t count = starts.size();
+  std::vector<StageEnd> ends(count);
+  std::vector<double> finals(count, std::numeric_limits<double>::infinity());
+  std::vector<char> ran(count, 0);
+  if (options.local == LocalAlgorithm::least_squares && count > 1) {
+    run.on_side_lanes(static_cast<int>(count), [&](int i) {
+      Lane& lane = *run.side[static_cast<std::size_t>(i)];
+      if (run.halted()) return;
+      std::vector<double> x = starts[static_cast<std::size_t>(i)];
+      ends[static_cast<std::size_t>(i)] = local_end(solve_least_squares(run, lane, x, serial_jobs(lane)));
+      ran[static_cast<std::size_t>(i)] = 1;
+    });
+    for (std::size_t i = 0; i < count; ++i) {
+      finals[i] = run.side[i]->best;
+      if (i == 0 || finals[i] < finals[0]) run.keep_jacobian(*run.side[i]);
+      run.merge(*run.side[i]);
+    }
+  } else {
+    const double step = options.global != GlobalAlgorithm::none ? 0.05 : 0.1;
+    for (std::size_t i = 0; i < count && !run.halted(); ++i) {
+      std::vector<double> x = starts[i];
+      if (options.local == LocalAlgorithm::least_squares)
+        ends[i] = local_end(solve_least_squares(run, run.main, x, side_jobs(run)));
+      else
+        ends[i].code = run.optimise(run.main, local_algorithm(options.local), Phase::local, options.local_evaluations, x,
+                                    i == 0 ? step : 0.1, options.seed + 2);
+      ran[i] = 1;
+      finals[i] = run.main.best;
+      if (i == 0 || finals[i] < *std::min_element(finals.begin(), finals.begin() + static_cast<std::ptrdiff_t>(i)))
+        run.keep_jacobian(run.main);
+      run.merge(run.main);
+    }
+  }
+  std::size_t winner = 0;
+  for (std::size_t i = 0; i < count; ++i) {
+    if (!ran[i]) continue;
+    ++run.summary.local_runs;
+    if (finals[i] < finals[winner] || !ran[winner]) winner = i;
+  }
+  for (std::size_t i = 0; i < count; ++i)
+    if (ran[i] && finals[i] - finals[winner] <= options.same_optimum_tolerance * std::abs(finals[winner]) + kSameOptimumFloor)
+      ++run.summary.starts_at_best;
+  end = ends[winner];
+  end.stage = "local (" + to_string(options.local) + ")";
+}
+
 }  // namespace
 
 CalibrationSummary calibrate(const CalibrationOptions& options, const CalibrationProblem& problem) {
@@ -494,97 +749,20 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
     std::size_t jobs = std::max(prepared.tests.size(), 2 * prepared.free.size());
     if (options.global != GlobalAlgorithm::none) jobs = std::max(jobs, static_cast<std::size_t>(options.global_runs));
     jobs = std::max(jobs, static_cast<std::size_t>(options.design_points));
+    jobs = std::max(jobs, static_cast<std::size_t>(options.starts > 0 ? options.starts : 1 + static_cast<int>(prepared.free.size())));
     summary.threads = resolve_threads(options.threads, jobs);
   }
   const std::size_t n = prepared.free.size();
   for (int k : prepared.free) summary.free_names.push_back(prepared.names[static_cast<std::size_t>(k)]);
 
   Run run(prepared, options, summary.threads, summary);
-  const bool wants_native = !prepared.constraints.empty();
-  std::vector<double> x(n);
-  for (std::size_t k = 0; k < n; ++k) x[k] = prepared.to_unit(static_cast<int>(k), prepared.start[k]);
-  summary.start_objective = run.evaluate(run.main, x.data(), 0);
-  run.merge(run.main);
-
-  // Space-filling design, evaluated on side lanes in contiguous chunks and merged in point order;
-  // ranked, its best points seed the extra local runs.
   std::mt19937_64 rng(options.seed);
-  if (options.design_points > 0 && !run.halted()) {
-    const auto design = latin_hypercube(options.design_points, n, rng);
-    const int points = static_cast<int>(design.size());
-    const int lanes = std::max(1, std::min(summary.threads, points));
-    std::vector<double> f(design.size(), std::numeric_limits<double>::quiet_NaN());
-    run.on_side_lanes(lanes, [&](int lane) {
-      const int from = static_cast<int>(static_cast<long>(points) * lane / lanes);
-      const int to = static_cast<int>(static_cast<long>(points) * (lane + 1) / lanes);
-      for (int i = from; i < to && !run.halted(); ++i)
-        f[static_cast<std::size_t>(i)] = run.evaluate(*run.side[static_cast<std::size_t>(lane)], design[static_cast<std::size_t>(i)].data(), 0);
-    });
-    for (int lane = 0; lane < lanes; ++lane) run.merge(*run.side[static_cast<std::size_t>(lane)]);
-    for (std::size_t i = 0; i < design.size(); ++i)
-      if (!std::isnan(f[i])) run.design_ranked.emplace_back(f[i], design[i]);
-    std::stable_sort(run.design_ranked.begin(), run.design_ranked.end(),
-                     [](const auto& l, const auto& r) { return l.first < r.first; });
-  }
-
-  nlopt_result last = NLOPT_SUCCESS;
-  std::string last_stage = "start";
-  if (options.global != GlobalAlgorithm::none && !run.halted()) {
-    run.native_constraints = wants_native && options.global == GlobalAlgorithm::isres;
-    // DIRECT-L is deterministic and ignores the start: one run. The stochastic searches run
-    // global_runs independent searches from the best point so far, each with its share of the
-    // budget and its own seed, side by side; the best of them goes on to the local stage.
-    const int runs = options.global == GlobalAlgorithm::direct_l ? 1 : options.global_runs;
-    if (runs == 1) {
-      std::vector<double> g = run.best_unit;
-      last = run.optimise(run.main, global_algorithm(options.global), 1, options.global_evaluations, g, 0.0,
-                          options.seed + 1);
-      run.merge(run.main);
-    } else {
-      std::vector<nlopt_result> results(static_cast<std::size_t>(runs), NLOPT_SUCCESS);
-      const std::vector<double> from = run.best_unit;
-      run.on_side_lanes(runs, [&](int i) {
-        const long budget = options.global_evaluations * (i + 1) / runs - options.global_evaluations * i / runs;
-        std::vector<double> g = from;
-        results[static_cast<std::size_t>(i)] =
-            run.optimise(*run.side[static_cast<std::size_t>(i)], global_algorithm(options.global), 1, std::max(1L, budget),
-                         g, 0.0, options.seed + 1 + 7919UL * static_cast<unsigned long>(i));
-      });
-      // The result code of the run that found the best point.
-      int winner = 0;
-      for (int i = 0; i < runs; ++i)
-        if (run.side[static_cast<std::size_t>(i)]->best < run.side[static_cast<std::size_t>(winner)]->best) winner = i;
-      last = results[static_cast<std::size_t>(winner)];
-      for (int i = 0; i < runs; ++i) run.merge(*run.side[static_cast<std::size_t>(i)]);
-    }
-    last_stage = "global (" + to_string(options.global) + ")";
-  }
-  if (options.local != LocalAlgorithm::none && !run.halted()) {
-    run.native_constraints = wants_native && options.local == LocalAlgorithm::cobyla;
-    std::vector<std::vector<double>> starts{run.best_unit};
-    for (const auto& [f, u] : run.design_ranked) {
-      if (static_cast<int>(starts.size()) >= options.starts) break;
-      if (u != run.best_unit) starts.push_back(u);
-    }
-    const double step = options.global != GlobalAlgorithm::none ? 0.05 : 0.1;
-    double winner_f = std::numeric_limits<double>::infinity();
-    nlopt_result winner_result = NLOPT_SUCCESS;
-    for (std::size_t i = 0; i < starts.size() && !run.halted(); ++i) {
-      std::vector<double> l = starts[i];
-      const nlopt_result r = run.optimise(run.main, local_algorithm(options.local), 2, options.local_evaluations, l,
-                                          i == 0 ? step : 0.1, options.seed + 2);
-      run.merge(run.main);
-      ++summary.local_runs;
-      if (run.best < winner_f || i == 0) {
-        winner_f = run.best;
-        winner_result = r;
-      }
-    }
-    last = winner_result;
-    last_stage = "local (" + to_string(options.local) + ")";
-  }
-
-  const Ending ending = ending_of(run, last, last_stage, summary.evaluations);
+  evaluate_start(run);
+  run_design(run, rng);
+  StageEnd end;
+  run_global(run, end);
+  run_local(run, rng, end);
+  const Ending ending = ending_of(run, end, summary.evaluations);
   summary.termination = ending.termination;
 
   // The fitted set, its curves and fit quality.
@@ -608,7 +786,7 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
     fp.upper = prepared.upper[k];
     fp.at_bound = run.best_unit[k] < 1e-6 || run.best_unit[k] > 1.0 - 1e-6;
   }
-  const bool built = run.main.evaluator.simulate(best_values);
+  const bool built = run.main.evaluator.simulate(best_values, detail::PlanMode::record);
   std::vector<double> shares;
   run.main.evaluator.objective(built, &shares);
   for (std::size_t t = 0; t < prepared.tests.size(); ++t) {
@@ -660,12 +838,9 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
   Eigen::VectorXd d0;
   if (options.uncertainty && summary.usable() && summary.termination != CalibrationTermination::stopped &&
       detail::residuals(prepared, run.main.evaluator, d0)) {
-    const detail::UncertaintyContext context{
-        prepared, options, run.best_unit, run.main.evaluator.threads(),
-        [&run](int lanes, const std::function<void(int, detail::Evaluator&)>& task) {
-          run.on_side_lanes(lanes, [&](int lane) { task(lane, run.side[static_cast<std::size_t>(lane)]->evaluator); });
-        },
-        summary};
+    const bool same = !run.kept_jac_at.empty() && run.kept_jac_at == run.best_unit;
+    const detail::UncertaintyContext context{prepared,          options, run.best_unit, run.main.evaluator,
+                                             side_jobs(run),    summary, same ? &run.kept_jac : nullptr};
     detail::uncertainty(context, best_values, d0);
   }
   summary.message = (summary.outcome == CalibrationOutcome::failed ? "no usable result: " + summary.outcome_reason

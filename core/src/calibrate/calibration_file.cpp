@@ -86,7 +86,7 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
                      {"global", "global_evaluations", "global_runs", "local", "local_evaluations", "starts", "design_points",
                       "relative_tolerance", "x_tolerance", "max_seconds", "seed", "threads", "loss", "loss_scale",
                       "failure_penalty", "uncertainty", "jacobian_step", "correlation_warning", "min_r_squared",
-                      "stress_precision", "strain_precision", "noise_from_residuals"},
+                      "stress_precision", "strain_precision", "noise_from_residuals", "same_optimum_tolerance"},
                      src, path);
   CalibrationOptions c;
   c.global = choose<GlobalAlgorithm>(detail::get_string_or(o, "global", "none", src, path),
@@ -95,8 +95,9 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
                                       {"isres", GlobalAlgorithm::isres},
                                       {"direct_l", GlobalAlgorithm::direct_l}},
                                      src + ": options.global");
-  c.local = choose<LocalAlgorithm>(detail::get_string_or(o, "local", "bobyqa", src, path),
+  c.local = choose<LocalAlgorithm>(detail::get_string_or(o, "local", "least_squares", src, path),
                                    {{"none", LocalAlgorithm::none},
+                                    {"least_squares", LocalAlgorithm::least_squares},
                                     {"bobyqa", LocalAlgorithm::bobyqa},
                                     {"cobyla", LocalAlgorithm::cobyla},
                                     {"sbplx", LocalAlgorithm::sbplx},
@@ -125,6 +126,7 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
     c.uncertainty = o.at("uncertainty").get<bool>();
   }
   c.jacobian_step = detail::get_number_or(o, "jacobian_step", c.jacobian_step, src, path);
+  c.same_optimum_tolerance = detail::get_number_or(o, "same_optimum_tolerance", c.same_optimum_tolerance, src, path);
   c.correlation_warning = detail::get_number_or(o, "correlation_warning", c.correlation_warning, src, path);
   c.min_r_squared = detail::get_number_or(o, "min_r_squared", c.min_r_squared, src, path);
   c.stress_precision = detail::get_number_or(o, "stress_precision", c.stress_precision, src, path);

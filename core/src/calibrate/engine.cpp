@@ -602,7 +602,8 @@ void place_records(TestProtocol& protocol, const std::vector<PreparedCurve>& cur
 // Evaluator
 
 Evaluator::Evaluator(const Prepared& prepared, const CalibrationOptions& options, int threads)
-    : prepared_(prepared), options_(options), pool_(threads), outcomes_(prepared.tests.size()) {
+    : prepared_(prepared), options_(options), pool_(threads), outcomes_(prepared.tests.size()),
+      plans_(prepared.tests.size()) {
   for (std::size_t t = 0; t < prepared.tests.size(); ++t)
     outcomes_[t].simulated.assign(static_cast<std::size_t>(prepared.tests[t].points), 0.0);
   task_ = [this](int t) { run_test(t); };
@@ -616,7 +617,10 @@ void Evaluator::run_test(int t) {
     // Into the test's own result: its vectors keep their capacity from one evaluation to the next.
     // The driver options and the protocol were checked when the problem was prepared.
     SimulationResult& r = o.result;
-    triaxcal::simulate(prepared_.problem->driver, *model_, pt.protocol, r, true);
+    const auto i = static_cast<std::size_t>(t);
+    triaxcal::simulate(prepared_.problem->driver, *model_, pt.protocol, r, true,
+                       mode_ == PlanMode::record ? &plans_[i] : nullptr,
+                       mode_ == PlanMode::replay ? &(*replay_)[i] : nullptr);
     if (r.ok()) {
       double* out = o.simulated.data();
       for (const PreparedCurve& c : pt.curves) {
@@ -634,7 +638,9 @@ void Evaluator::run_test(int t) {
   }
 }
 
-bool Evaluator::simulate(const ParameterValues& values) {
+bool Evaluator::simulate(const ParameterValues& values, PlanMode mode, const std::vector<SubstepPlan>* replay) {
+  mode_ = mode == PlanMode::replay && replay == nullptr ? PlanMode::none : mode;
+  replay_ = replay;
   std::unique_ptr<Model> model;
   try {
     model = prepared_.problem->create(values);

@@ -65,6 +65,10 @@ struct PreparedTest {
   double total_weight = 0.0;  ///< w_test * sum of curve weights (penalty scale)
 };
 
+/// How an evaluation treats the driver's substeps (SubstepPlan): as usual, recording them, or
+/// replaying recorded ones.
+enum class PlanMode { none, record, replay };
+
 /// Outcome of simulating one test at one parameter set.
 struct TestOutcome {
   bool ok = false;
@@ -105,7 +109,11 @@ class Evaluator {
 
   /// Simulates every test at `values`; fills outcome(t), whose `result` holds the simulation (or
   /// why it failed) until the next call. Returns false when the model could not be built.
-  bool simulate(const ParameterValues& values);
+  /// PlanMode::record keeps each test's accepted substeps in plans(); PlanMode::replay runs the
+  /// substeps of `replay` (one plan a test, e.g. another evaluator's plans()).
+  bool simulate(const ParameterValues& values, PlanMode mode = PlanMode::none,
+                const std::vector<SubstepPlan>* replay = nullptr);
+  const std::vector<SubstepPlan>& plans() const { return plans_; }
   /// Objective of the last simulate() (see calibrate.hpp), summed in test order.
   double objective(bool model_built, std::vector<double>* per_test = nullptr) const;
   const TestOutcome& outcome(int t) const { return outcomes_[static_cast<std::size_t>(t)]; }
@@ -121,6 +129,9 @@ class Evaluator {
   const CalibrationOptions& options_;
   TaskPool pool_;
   std::vector<TestOutcome> outcomes_;
+  std::vector<SubstepPlan> plans_;
+  PlanMode mode_ = PlanMode::none;
+  const std::vector<SubstepPlan>* replay_ = nullptr;
   const Model* model_ = nullptr;
   std::function<void(int)> task_;
 };

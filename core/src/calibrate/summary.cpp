@@ -84,6 +84,9 @@ std::string CalibrationSummary::brief() const {
     << ", " << evaluations << " evaluations (" << failed_simulations << " failed simulations), "
     << fmt("%.2f", wall_time) << " s on " << threads << (threads == 1 ? " thread\n" : " threads\n");
   if (!outcome_reason.empty()) s << "  " << outcome_reason << "\n";
+  if (local_runs > 1)
+    s << "  " << starts_at_best << " of " << local_runs << " local runs reached the best objective (within "
+      << "same_optimum_tolerance)\n";
   for (const FittedParameter& p : parameters)
     if (p.status != ParameterStatus::fixed) s << parameter_line(p) << "\n";
   double worst = 0.0;
@@ -111,6 +114,8 @@ std::string CalibrationSummary::full() const {
   s << "  evaluations: " << evaluations << " (design " << design_evaluations << ", global " << global_evaluations
     << ", local " << local_evaluations << " in " << local_runs << (local_runs == 1 ? " run" : " runs") << "), "
     << jacobian_evaluations << " for the Jacobian; " << failed_simulations << " failed test simulations\n";
+  if (local_runs > 1)
+    s << "  local runs reaching the best objective: " << starts_at_best << " of " << local_runs << "\n";
   s << "  wall time: " << fmt("%.3f", wall_time) << " s on " << threads << " threads ("
     << fmt("%.0f", wall_time > 0.0 ? static_cast<double>(evaluations + jacobian_evaluations) / wall_time : 0.0)
     << " evaluations/s)\n";

@@ -116,19 +116,6 @@ std::vector<std::vector<Eigen::Index>> row_groups(const Prepared& p) {
 
 }  // namespace
 
-bool residuals(const Prepared& p, const Evaluator& ev, Eigen::VectorXd& d) {
-  d.resize(p.points);
-  Eigen::Index k = 0;
-  for (std::size_t t = 0; t < p.tests.size(); ++t) {
-    const auto& o = ev.outcome(static_cast<int>(t));
-    if (!o.ok) return false;
-    std::size_t i = 0;
-    for (const auto& c : p.tests[t].curves)
-      for (std::size_t j = 0; j < c.xs.size(); ++j, ++i) d[k++] = o.simulated[i] - c.ys[j];
-  }
-  return true;
-}
-
 // Gauss-Newton (sandwich) covariance of the free parameters at the optimum:
 //     Cov = H^+ (G^T Omega G) H^+,  G = A J,  H = J^T A Psi' J,
 // with J the sensitivities of the compared values, A the objective's weight of each point
@@ -159,55 +146,26 @@ void uncertainty(const UncertaintyContext& run, const ParameterValues& best_valu
   CalibrationSummary& s = run.summary;
   const std::size_t n = p.free.size();
   const Eigen::Index N = p.points;
-  Eigen::MatrixXd jac = Eigen::MatrixXd::Zero(N, static_cast<Eigen::Index>(n));
+  // Sensitivities in unit coordinates: the least-squares stage's own Jacobian when it has one at
+  // the optimum, else central differences on the substeps of the run at the optimum (frozen: smooth
+  // in the parameters); then per physical unit: d/dtheta = d/du / (dtheta/du).
+  Eigen::MatrixXd jac;
   std::vector<bool> have(n, true);
-  const double h = run.options.jacobian_step;
-  // The 2n simulations beside the optimum and the one at it (for the noise model's slopes) are
-  // independent: side lanes run them in parallel.
-  const int jobs = static_cast<int>(2 * n) + 1;
-  std::vector<std::vector<double>> at_unit(static_cast<std::size_t>(jobs), run.best_unit);
-  for (std::size_t k = 0; k < n; ++k) {
-    at_unit[2 * k][k] = std::min(1.0, run.best_unit[k] + h);
-    at_unit[2 * k + 1][k] = std::max(0.0, run.best_unit[k] - h);
+  if (run.unit_jacobian != nullptr) {
+    jac = *run.unit_jacobian;
+  } else {
+    s.jacobian_evaluations += jacobian(p, run.best_unit, d0, run.options.jacobian_step, Differences::central,
+                                       &run.at_optimum.plans(), run.on_lanes, jac, have);
   }
-  std::vector<Eigen::VectorXd> shifted(static_cast<std::size_t>(jobs));
-  std::vector<char> shifted_ok(static_cast<std::size_t>(jobs), 0);
-  Eigen::VectorXd var_y, up, down;
-  bool noise_ok = false;
-  const int lanes = std::max(1, std::min(run.threads, jobs));
-  run.on_lanes(lanes, [&](int lane, Evaluator& ev) {
-    for (int j = lane; j < jobs; j += lanes) {
-      const auto i = static_cast<std::size_t>(j);
-      const bool built = ev.simulate(p.values(at_unit[i]));
-      if (i + 1 == static_cast<std::size_t>(jobs)) {
-        noise_ok = built && point_noise(p, ev, run.options, var_y, up, down);
-        continue;
-      }
-      shifted_ok[i] = built && residuals(p, ev, shifted[i]) ? 1 : 0;
-    }
-  });
-  s.jacobian_evaluations += jobs;
   for (std::size_t k = 0; k < n; ++k) {
     const int free_index = static_cast<int>(k);
-    const std::string& name = p.names[static_cast<std::size_t>(p.free[k])];
-    const Eigen::VectorXd& dp = shifted[2 * k];
-    const Eigen::VectorXd& dm = shifted[2 * k + 1];
-    const bool ok_up = shifted_ok[2 * k] != 0, ok_down = shifted_ok[2 * k + 1] != 0;
-    const double tp = p.to_physical(free_index, at_unit[2 * k][k]), tm = p.to_physical(free_index, at_unit[2 * k + 1][k]);
-    const double t0 = best_values[static_cast<std::size_t>(p.free[k])];
-    if (ok_up && ok_down) {
-      jac.col(static_cast<Eigen::Index>(k)) = (dp - dm) / (tp - tm);
-    } else if (ok_up && tp != t0) {
-      jac.col(static_cast<Eigen::Index>(k)) = (dp - d0) / (tp - t0);
-    } else if (ok_down && tm != t0) {
-      jac.col(static_cast<Eigen::Index>(k)) = (d0 - dm) / (t0 - tm);
-    } else {
-      have[k] = false;
-      s.warnings.push_back("The sensitivity of " + name +
+    jac.col(static_cast<Eigen::Index>(k)) /= p.slope(free_index, best_values[static_cast<std::size_t>(p.free[k])]);
+    if (!have[k])
+      s.warnings.push_back("The sensitivity of " + p.names[static_cast<std::size_t>(p.free[k])] +
                            " could not be computed (the simulations next to the optimum failed); it has no interval.");
-    }
   }
-  if (!noise_ok) {
+  Eigen::VectorXd var_y, up, down;
+  if (!point_noise(p, run.at_optimum, run.options, var_y, up, down)) {
     s.warnings.push_back("The simulation at the optimum could not be repeated for the noise model: no intervals.");
     return;
   }

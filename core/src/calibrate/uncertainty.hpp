@@ -8,6 +8,7 @@
 #include <vector>
 
 #include "engine.hpp"
+#include "jacobian.hpp"
 
 namespace triaxcal::detail {
 
@@ -16,16 +17,16 @@ struct UncertaintyContext {
   const Prepared& prepared;
   const CalibrationOptions& options;
   const std::vector<double>& best_unit;  ///< the optimum, unit coordinates of the free parameters
-  int threads;                           ///< how many lanes may run side by side
-  /// Runs task(lane, evaluator) for lanes 0..k-1 side by side, each lane with its own serial
-  /// evaluator (none of them the caller's).
-  std::function<void(int, const std::function<void(int, Evaluator&)>&)> on_lanes;
+  /// Simulated at the optimum with PlanMode::record: the residuals, the noise model's slopes and
+  /// the substeps the Jacobian's simulations replay.
+  const Evaluator& at_optimum;
+  JobRunner on_lanes;                    ///< for the Jacobian's simulations
   CalibrationSummary& summary;
+  /// The least-squares stage's Jacobian (d residual / d unit coordinate, forward differences of
+  /// step options.jacobian_step on frozen substeps) at best_unit, when its winning run ended with
+  /// one there; null = compute it (central differences, the same step, frozen substeps).
+  const Eigen::MatrixXd* unit_jacobian = nullptr;
 };
-
-/// Residuals y_sim - y_meas of the evaluator's last simulation, all tests, curves in order; false
-/// when a test was not simulated.
-bool residuals(const Prepared& p, const Evaluator& ev, Eigen::VectorXd& d);
 
 /// Fills the summary's covariance, correlation, standard errors, intervals and warnings. `d0` are
 /// the residuals at the optimum.
