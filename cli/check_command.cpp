@@ -61,6 +61,23 @@ int run_check(const std::string& path) {
                     num(c.axial_stress[e], 1).c_str(), num(largest, 1).c_str(), num(c.void_ratio[e], 3).c_str());
       }
     if (oedometer_header) std::printf("  (end state of each oedometer stage: effective axial stress, largest reached)\n");
+    bool failure_header = false;
+    for (const Specimen& sp : s.specimens)
+      for (int k : sp.shear_stages()) {
+        const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
+        if (!st.failure.given()) continue;
+        if (!failure_header) {
+          std::printf("\n  %-10s %-5s %-4s %-6s %10s %10s %10s %10s %10s  %s\n", "reported", "stage", "test", "curves", "cell[kPa]",
+                      "q_f[kPa]", "u_f[kPa]", "eps_a,f", "s3'_f", "criterion");
+          failure_header = true;
+        }
+        const ReportedFailure& f = st.failure;
+        std::printf("  %-10s %-5d %-4s %-6s %10s %10s %10s %10s %10s  %s\n", sp.id.c_str(), k, to_string(st.shear).c_str(),
+                    sp.failure_values_only() ? "no" : "yes", num(st.cell_pressure, 1).c_str(), num(f.deviator_stress, 1).c_str(),
+                    num(f.pore_pressure, 1).c_str(), num(f.axial_strain, 4).c_str(),
+                    num(st.cell_pressure - f.pore_pressure, 1).c_str(), f.criterion.empty() ? "-" : f.criterion.c_str());
+      }
+    if (failure_header) std::printf("  (values at failure as the lab reported them; s3'_f = cell - u_f)\n");
   }
   if (!s.warnings.empty()) {
     std::printf("\n%s:\n", count(s.warnings.size(), "warning").c_str());

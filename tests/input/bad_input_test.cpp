@@ -37,7 +37,7 @@ CliResult run_limited(const std::string& args, const std::string& tag) {
 
 std::string arg(const fs::path& p) { return "'" + p.string() + "'"; }
 
-const std::string kKnown = "simulate, check, interpret, fit, report, models";
+const std::string kKnown = "simulate, import, check, interpret, fit, report, models";
 
 const char* kParams = R"({"format": "triaxcal-parameters", "version": 1, "model": "mohr_coulomb",
   "parameters": {"youngs_modulus": 20000, "friction_angle": 30, "cohesion": 5, "dilation_angle": 2}})";

@@ -59,6 +59,7 @@ struct FailurePoint {
   double t = kNotGiven;        ///< t = (s1' - s3')/2 (kPa)
   double excess_pore_pressure = kNotGiven;  ///< kPa
   double cell_pressure = kNotGiven;         ///< total s3 (kPa)
+  bool reported = false;  ///< the lab's reported values at failure (a failure-value stage; index stays -1)
 };
 
 /// Where a stage's peak dilation rate was taken: local windows of `width` give a rate at every
@@ -97,6 +98,10 @@ struct StageInterpretation {
   ShearType test = ShearType::cu;
   ShearDirection direction = ShearDirection::compression;
   int points = 0;
+  /// Known by the lab's reported failure values only (series "failure", no curves): the point is put under the
+  /// lab's criterion (reported_criterion); the other criterion cannot be recomputed from failure values.
+  bool failure_values_only = false;
+  std::string reported_criterion;  ///< the lab's failure criterion as reported (free text)
   double consolidation_radial = kNotGiven;  ///< s3' at the stage start (kPa)
   FailurePoint by_max_deviator;
   FailurePoint by_max_stress_ratio;

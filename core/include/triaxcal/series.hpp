@@ -41,6 +41,20 @@ struct UnloadReloadLoop {
   double to_strain = kNotGiven;    ///< axial strain where the reload has passed the start again
 };
 
+/// Values at failure as the laboratory reported them (e.g. an AGS4 file's TRIT / TRET rows): a shear
+/// stage known only by them (a failure-value stage, its specimen without a data file), or given beside
+/// the stage's curves (then compared with the failure point recomputed from the curves).
+struct ReportedFailure {
+  double deviator_stress = kNotGiven;      ///< q_f (kPa), positive in the shear direction
+  double pore_pressure = kNotGiven;        ///< u_f, absolute (kPa); CU and CD (drained: the back pressure)
+  double pore_pressure_start = kNotGiven;  ///< u at the start of shear (kPa), for Skempton's A_f
+  double axial_strain = kNotGiven;         ///< at failure, from the stage start (decimal)
+  double volumetric_strain = kNotGiven;    ///< at failure, drained (decimal, as reported)
+  std::string criterion;                   ///< the lab's failure criterion, as reported (free text)
+
+  bool given() const { return deviator_stress == deviator_stress; }  ///< not NaN
+};
+
 /// One stage of a specimen's history, as the lab declared it. Fields not of its type stay NaN.
 struct SpecimenStage {
   SpecimenStageType type = SpecimenStageType::shear;
@@ -62,6 +76,7 @@ struct SpecimenStage {
   ShearType shear = ShearType::cu;
   ShearDirection direction = ShearDirection::compression;
   std::vector<UnloadReloadLoop> loops;
+  ReportedFailure failure;  ///< values at failure as reported (key "failure"), if any
 
   // oedometer: the effective axial stress (kPa) at the end of each load step, in order; a change of
   // direction starts an unloading or reloading branch.
@@ -151,6 +166,8 @@ struct Specimen {
   /// Indices of the oedometer stages (at most one, the specimen's only stage).
   std::vector<int> oedometer_stages() const;
   bool is_oedometer() const { return !oedometer_stages().empty(); }
+  /// A specimen known by its reported failure values only: no data file, every shear stage has `failure`.
+  bool failure_values_only() const { return data.path.empty(); }
   /// Point indices [first, last] of one stage's points; empty range (first > last) when none.
   std::pair<int, int> stage_points(int stage) const;
 };

@@ -301,6 +301,96 @@ void interpret_dilatancy(const Specimen& sp, const SpecimenStage& st, const Stag
   r.phi_cv_rowe = radians_to_degrees(std::asin((kcv - 1.0) / (kcv + 1.0)));
 }
 
+/// Tolerance of the check of a lab's reported failure values against the curve's (our rule, no
+/// source): 2 % of the reported deviator stress, at least 2 kPa.
+constexpr double kReportedRel = 0.02, kReportedAbs = 2.0;
+
+/// The criterion a lab's reported failure criterion (free text) names: "ratio" in it is the largest
+/// stress ratio, "deviator" the largest deviator stress; `fallback` otherwise (not stated or not recognised).
+FailureCriterion lab_criterion(const std::string& text, FailureCriterion fallback, bool& recognised) {
+  std::string t;
+  for (char c : text) t.push_back(static_cast<char>(c >= 'A' && c <= 'Z' ? c - 'A' + 'a' : c));
+  recognised = true;
+  if (t.find("ratio") != std::string::npos) return FailureCriterion::max_stress_ratio;
+  if (t.find("deviator") != std::string::npos) return FailureCriterion::max_deviator;
+  recognised = false;
+  return fallback;
+}
+
+/// A shear stage known only by the lab's values at failure (ReportedFailure): effective stresses at
+/// failure s3' = cell - u_f, s1' = s3' + q_f in compression (s1' = cell - u_f, s3' = s1' - q_f in
+/// extension, cell pressure constant); c_u = q_f / 2; A_f = (u_f - u_0) / q_f (Skempton 1954, B = 1).
+/// The point stands for the lab's criterion only: the other cannot be recomputed from failure values.
+void interpret_reported_stage(const Specimen& sp, int k, const InterpretOptions& o, StageInterpretation& r,
+                              std::vector<std::string>& warnings) {
+  const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
+  const ReportedFailure& rf = st.failure;
+  r.failure_values_only = true;
+  r.reported_criterion = rf.criterion;
+  const bool compression = st.direction == ShearDirection::compression;
+  FailurePoint f;
+  f.reported = true;
+  f.axial_strain = rf.axial_strain;
+  f.q = compression ? rf.deviator_stress : -rf.deviator_stress;
+  f.t = 0.5 * rf.deviator_stress;
+  f.cell_pressure = st.cell_pressure;
+  if (st.shear != ShearType::uu && given(rf.pore_pressure) && given(st.cell_pressure)) {
+    const double radial = st.cell_pressure - rf.pore_pressure;
+    f.s1 = compression ? radial + rf.deviator_stress : radial;
+    f.s3 = compression ? radial : radial - rf.deviator_stress;
+    f.s = 0.5 * (f.s1 + f.s3);
+    f.p = radial + f.q / 3.0;  // p' = s_r' + q/3 (axial = radial + q, q signed)
+    f.excess_pore_pressure = rf.pore_pressure - sp.back_pressure;
+    r.consolidation_radial = given(rf.pore_pressure_start) ? st.cell_pressure - rf.pore_pressure_start : kNotGiven;
+  }
+  if (!given(r.consolidation_radial))
+    for (int j = k - 1; j >= 0; --j)
+      if (sp.stages[static_cast<std::size_t>(j)].type == SpecimenStageType::consolidation) {
+        r.consolidation_radial = sp.stages[static_cast<std::size_t>(j)].radial_stress;
+        break;
+      }
+  bool recognised = false;
+  const FailureCriterion fallback =
+      o.criterion == FailureCriterion::max_stress_ratio ? FailureCriterion::max_stress_ratio : FailureCriterion::max_deviator;
+  const FailureCriterion lab = lab_criterion(rf.criterion, fallback, recognised);
+  if (!recognised && st.shear != ShearType::uu)
+    warnings.push_back("specimen '" + sp.id + "', stages[" + std::to_string(k) + "]: the failure criterion is " +
+                       (rf.criterion.empty() ? std::string("not reported") : "reported as '" + rf.criterion + "', not recognised") +
+                       "; its failure values are taken as " + to_string(lab));
+  if (lab == FailureCriterion::max_deviator) r.by_max_deviator = f;
+  else r.by_max_stress_ratio = f;
+  if (o.criterion == lab) r.by_criterion = f;
+  if (st.shear != ShearType::cd) r.undrained_strength = 0.5 * rf.deviator_stress;  // c_u = q_f / 2, phi_u = 0 (common practice)
+  if (st.shear == ShearType::cu && given(rf.pore_pressure) && given(rf.pore_pressure_start) && rf.deviator_stress > 0.0)
+    r.skempton_a = (rf.pore_pressure - rf.pore_pressure_start) / rf.deviator_stress;
+}
+
+/// A stage with curves and reported failure values: the lab's point recomputed from the curves by
+/// the lab's criterion (max-deviator when not recognised) against the reported deviator stress and pore
+/// pressure at failure; a difference over kReportedRel of q_f (kReportedAbs floor) is a warning.
+void check_reported_failure(const Specimen& sp, int k, const StageInterpretation& r, std::vector<std::string>& warnings) {
+  const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
+  const ReportedFailure& rf = st.failure;
+  bool recognised = false;
+  const FailureCriterion lab = lab_criterion(rf.criterion, FailureCriterion::max_deviator, recognised);
+  const FailurePoint& f = lab == FailureCriterion::max_stress_ratio ? r.by_max_stress_ratio : r.by_max_deviator;
+  if (f.index < 0) return;
+  const double tol = std::max(kReportedAbs, kReportedRel * rf.deviator_stress);
+  const std::string at = "specimen '" + sp.id + "', stages[" + std::to_string(k) + "]: ";
+  const double q = std::abs(f.q);
+  if (std::abs(q - rf.deviator_stress) > tol)
+    warnings.push_back(at + "the deviator stress at failure (" + to_string(lab) + ") recomputed from the curve is " + fmt(q) +
+                       " kPa, the lab reported " + fmt(rf.deviator_stress) + " kPa (difference " + fmt(q - rf.deviator_stress) +
+                       " kPa, tolerance " + fmt(tol) + " kPa: 2 % of the reported value, 2 kPa floor)");
+  if (given(rf.pore_pressure) && given(f.excess_pore_pressure) && st.shear == ShearType::cu) {
+    const double u = f.excess_pore_pressure + sp.back_pressure;
+    if (std::abs(u - rf.pore_pressure) > tol)
+      warnings.push_back(at + "the pore pressure at failure (" + to_string(lab) + ") from the curve is " + fmt(u) +
+                         " kPa, the lab reported " + fmt(rf.pore_pressure) + " kPa (difference " + fmt(u - rf.pore_pressure) +
+                         " kPa, tolerance " + fmt(tol) + " kPa)");
+  }
+}
+
 void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, StageInterpretation& r,
                      std::vector<std::string>& warnings) {
   const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
@@ -310,7 +400,11 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
   r.test = st.shear;
   r.direction = st.direction;
   r.points = last - first + 1;
-  if (r.points <= 0) return;
+  if (r.points <= 0) {
+    r.points = 0;
+    if (st.failure.given()) interpret_reported_stage(sp, k, o, r, warnings);
+    return;
+  }
   const ReducedCurves& c = sp.curves;
   StageView v{&sp, first, last, st.direction == ShearDirection::compression ? 1.0 : -1.0};
   const bool effective = given(c.radial_stress[static_cast<std::size_t>(first)]);
@@ -447,6 +541,7 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
     const double du = c.excess_pore_pressure[static_cast<std::size_t>(r.by_criterion.index)] - c.excess_pore_pressure[static_cast<std::size_t>(first)];
     if (std::abs(dq) > 0.0) r.skempton_a = du / dq;
   }
+  if (st.failure.given()) check_reported_failure(sp, k, r, warnings);
 }
 
 /// Why a regression in logs of a stress (x = ln of it) cannot determine its slope: too few points or
@@ -526,7 +621,10 @@ StrengthEnvelope fit_envelope(const Interpretation& res, FailureCriterion crit, 
     u.t = f.t;
     if (!r.left_out.empty()) {
       u.reason = "left out: " + r.left_out;
-    } else if (f.index < 0 || !given(f.s)) {
+    } else if (r.failure_values_only && !f.reported) {
+      u.reason = "failure values only (the lab's criterion: " + (r.reported_criterion.empty() ? std::string("not reported") : r.reported_criterion) +
+                 "): the " + to_string(crit) + " point cannot be recomputed from them";
+    } else if ((f.index < 0 && !f.reported) || !given(f.s)) {
       u.reason = "no effective-stress failure point";
     } else if (f.s < o.stress_low || f.s > o.stress_high) {
       u.reason = "s' = " + fmt(f.s) + " kPa is outside the stress range [" + fmt(o.stress_low) + ", " + fmt(o.stress_high) + "] kPa";
@@ -943,6 +1041,16 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
       res.notes.push_back("c_u against depth: c_u = c_u0 + k z by least squares over the UU tests whose depth reads as metres "
                           "(a range a-b m taken at its middle; common practice, no source)");
     }
+  }
+  {
+    bool any_reported = false;
+    for (const StageInterpretation& r : res.stages) any_reported = any_reported || r.failure_values_only;
+    if (any_reported)
+      res.notes.push_back(
+          "failure values only (stages without curves): effective stresses at failure s3' = cell - u_f, s1' = s3' + q_f "
+          "(compression; s1' = cell - u_f, s3' = s1' - q_f in extension), c_u = q_f / 2, A_f = (u_f - u_0) / q_f; each point stands "
+          "for the failure criterion the lab reported (shown per stage), the other criterion cannot be recomputed from failure values "
+          "alone; no stiffness, dilatancy or end state");
   }
   // Envelopes: the declared criterion, then the other of the two common ones.
   res.envelopes.push_back(fit_envelope(res, o.criterion, o, res.warnings));

@@ -27,11 +27,13 @@ json q(double v, const char* unit, const std::string& reason = {}) {
 }
 
 json point_json(const FailurePoint& f) {
-  if (f.index < 0) return nullptr;
-  return {{"axial_strain", q(f.axial_strain, "-")}, {"q", q(f.q, "kPa")},  {"s1", q(f.s1, "kPa")},
-          {"s3", q(f.s3, "kPa")},                   {"p", q(f.p, "kPa")},  {"s", q(f.s, "kPa")},
-          {"t", q(f.t, "kPa")},                     {"excess_pore_pressure", q(f.excess_pore_pressure, "kPa")},
-          {"cell_pressure", q(f.cell_pressure, "kPa")}};
+  if (f.index < 0 && !f.reported) return nullptr;
+  json j = {{"axial_strain", q(f.axial_strain, "-")}, {"q", q(f.q, "kPa")},  {"s1", q(f.s1, "kPa")},
+            {"s3", q(f.s3, "kPa")},                   {"p", q(f.p, "kPa")},  {"s", q(f.s, "kPa")},
+            {"t", q(f.t, "kPa")},                     {"excess_pore_pressure", q(f.excess_pore_pressure, "kPa")},
+            {"cell_pressure", q(f.cell_pressure, "kPa")}};
+  if (f.reported) j["reported"] = true;  // the lab's values at failure, not a point of a curve
+  return j;
 }
 
 json fit_json(const LineFit& f, const char* intercept_unit, const char* slope_unit) {
@@ -85,6 +87,9 @@ std::string interpretation_json(const Interpretation& r) {
     j["test"] = to_string(s.test);
     j["direction"] = s.direction == ShearDirection::compression ? "compression" : "extension";
     j["points"] = s.points;
+    if (s.failure_values_only)
+      j["failure_values_only"] = {{"reported_criterion", s.reported_criterion},
+                                  {"note", "the lab's values at failure; the other failure criterion cannot be recomputed from them"}};
     j["consolidation_radial_stress"] = q(s.consolidation_radial, "kPa");
     j["failure"] = {{"max-deviator", point_json(s.by_max_deviator)},
                     {"max-stress-ratio", point_json(s.by_max_stress_ratio)},
@@ -252,6 +257,14 @@ std::string interpretation_text(const Interpretation& r) {
       if (given(r.options.design_stress)) o << "  (rule: " << kDesignStressRule << ")\n";
     }
   }
+  bool any_reported = false;
+  for (const StageInterpretation& s : r.stages) {
+    if (!s.failure_values_only || s.test == ShearType::uu) continue;  // UU: c_u = q_f / 2 needs no criterion
+    if (!any_reported) o << "  failure values only (no curves; the other criterion cannot be recomputed from them):\n";
+    any_reported = true;
+    o << "      " << s.specimen << " stage " << s.shear_stage << ": lab's criterion "
+      << (s.reported_criterion.empty() ? std::string("not reported") : "'" + s.reported_criterion + "'") << "\n";
+  }
   if (r.uu_count > 0) {
     std::snprintf(line, sizeof line, "\nUndrained strength (UU, phi_u = 0 assumed): c_u mean %s kPa, range %s to %s kPa, %d specimens\n",
                   cell(r.cu_mean).c_str(), cell(r.cu_min).c_str(), cell(r.cu_max).c_str(), r.uu_count);
@@ -301,6 +314,7 @@ std::string interpretation_text(const Interpretation& r) {
   o << "\nStiffness (per stage: E_i, E_50, E_ur; law E = E_ref (s3'/p_ref)^m, p_ref = " << format_number(r.options.reference_pressure)
     << " kPa)\n";
   for (const StageInterpretation& s : r.stages) {
+    if (s.failure_values_only) continue;  // no curve, no stiffness
     std::string ur;
     for (double e : s.unload_reload_stiffness) ur += (ur.empty() ? "" : ", ") + cell(e, 0);
     std::snprintf(line, sizeof line, "  %-10s %5d %-4s E_i %9s kPa  E_50 %9s kPa  E_ur %s kPa\n", s.specimen.c_str(), s.shear_stage,

@@ -583,6 +583,7 @@ void check_stages(const Specimen& s, const TriaxialData& d, std::vector<SeriesWa
 
 /// A triaxial specimen's data file: read, assigned to stages, reduced and checked, as named steps.
 void read_data(Specimen& s, const std::string& series_src, const std::string& sp, std::vector<SeriesWarning>& warnings) {
+  if (s.failure_values_only()) return;  // known by its reported failure values only
   if (s.is_oedometer()) {
     read_oedometer_data(s, series_src, sp, warnings);
     return;

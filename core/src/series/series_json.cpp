@@ -42,6 +42,21 @@ std::pair<double, double> strain_pair(const json& v, const std::string& src, con
   return {a, b};
 }
 
+/// Values at failure as a lab reported them (docs/test-series-format.md "Failure values").
+ReportedFailure parse_failure(const json& f, const std::string& src, const std::string& path) {
+  detail::require_object(f, src, path);
+  detail::check_keys(f, {"deviator_stress", "pore_pressure", "pore_pressure_start", "axial_strain", "volumetric_strain", "criterion"},
+                     src, path);
+  ReportedFailure r;
+  r.deviator_stress = positive(f, "deviator_stress", src, path, true);
+  r.pore_pressure = detail::get_number_or(f, "pore_pressure", kNotGiven, src, path);
+  r.pore_pressure_start = detail::get_number_or(f, "pore_pressure_start", kNotGiven, src, path);
+  r.axial_strain = decimal_in(f, "axial_strain", 0.0, 1.0, src, path);
+  r.volumetric_strain = decimal_in(f, "volumetric_strain", -1.0, 1.0, src, path);
+  r.criterion = detail::get_string_or(f, "criterion", "", src, path);
+  return r;
+}
+
 SpecimenStage parse_stage(const json& s, const std::string& src, const std::string& path) {
   detail::require_object(s, src, path);
   SpecimenStage st;
@@ -86,7 +101,8 @@ SpecimenStage parse_stage(const json& s, const std::string& src, const std::stri
     st.end_axial_strain = decimal_in(s, "end_axial_strain", -0.5, 0.5, src, path);
     st.end_volumetric_strain = decimal_in(s, "end_volumetric_strain", -0.5, 0.5, src, path);
   } else if (type == "shear") {
-    detail::check_keys(s, {"type", "label", "test", "direction", "cell_pressure", "data_stage", "strain_range", "unload_reload"},
+    detail::check_keys(s, {"type", "label", "test", "direction", "cell_pressure", "data_stage", "strain_range", "unload_reload",
+                           "failure"},
                        src, path);
     st.type = SpecimenStageType::shear;
     const std::string t = detail::get_string(s, "test", src, path);
@@ -106,6 +122,7 @@ SpecimenStage parse_stage(const json& s, const std::string& src, const std::stri
       st.strain_from = r.first;
       st.strain_to = r.second;
     }
+    if (s.contains("failure")) st.failure = parse_failure(s.at("failure"), src, path + ".failure");
     if (s.contains("unload_reload")) {
       const json& loops = s.at("unload_reload");
       if (!loops.is_array())
@@ -374,8 +391,35 @@ ParsedSeries parse_series_json(const std::string& path) {
         seen[s.stages[k].data_stage] = static_cast<int>(k);
       }
     }
-    if (!o.contains("data")) throw InputError(src + ": " + sp + ".data: missing (the data file and its columns are required)");
-    s.data = parse_data(o.at("data"), src, sp + ".data", folder, allow_outside);
+    // Failure values: a specimen without a data file is known by the values at failure of its shear
+    // stages; each needs them, with the pore pressure at failure and the cell pressure for CU and CD.
+    // Beside a data file they are the lab's reported values, compared with the curves by interpret.
+    for (std::size_t k = 0; k < s.stages.size(); ++k) {
+      const SpecimenStage& st = s.stages[k];
+      if (!st.failure.given() || o.contains("data")) continue;  // beside curves, the values are only compared
+      const std::string kp = sp + ".stages[" + std::to_string(k) + "]";
+      if (st.shear != ShearType::uu) {
+        if (!given(st.cell_pressure))
+          throw InputError(src + ": " + kp + ".cell_pressure: missing (a " + to_string(st.shear) +
+                           " stage with failure values needs the total cell pressure during shear, kPa)");
+        if (!given(st.failure.pore_pressure))
+          throw InputError(src + ": " + kp + ".failure.pore_pressure: missing (a " + to_string(st.shear) +
+                           " stage needs the pore pressure at failure, kPa)");
+        if (!(st.cell_pressure - st.failure.pore_pressure > 0.0))
+          throw InputError(src + ": " + kp + ".failure.pore_pressure: " + fmt(st.failure.pore_pressure) +
+                           " kPa is not below the cell pressure " + fmt(st.cell_pressure) +
+                           " kPa (the effective radial stress at failure, cell - u_f, must be positive)");
+      }
+    }
+    if (!o.contains("data")) {
+      for (std::size_t k = 0; k < s.stages.size(); ++k)
+        if ((s.stages[k].type == SpecimenStageType::shear && !s.stages[k].failure.given()) ||
+            s.stages[k].type == SpecimenStageType::oedometer)
+          throw InputError(src + ": " + sp + ".data: missing (the data file and its columns are required; a specimen without " +
+                           "one needs \"failure\" values on every shear stage, stages[" + std::to_string(k) + "] has none)");
+    } else {
+      s.data = parse_data(o.at("data"), src, sp + ".data", folder, allow_outside);
+    }
     out.specimens.push_back({s, sp});
   }
   return out;

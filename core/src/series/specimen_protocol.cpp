@@ -57,6 +57,9 @@ MeasuredStart measured_start_after(const Specimen& s, int k) {
 SpecimenProtocol specimen_protocol_with_map(const Specimen& s, int steps_per_shear_stage) {
   if (steps_per_shear_stage < 1)
     throw InputError("specimen_protocol: steps_per_shear_stage = " + std::to_string(steps_per_shear_stage) + " must be at least 1");
+  if (s.failure_values_only())
+    throw InputError("specimen '" + s.id +
+                     "' is known by its reported failure values only (no data file): there are no curves to simulate or compare with");
   SpecimenProtocol out;
   TestProtocol& p = out.protocol;
   p.name = s.id;
