@@ -128,8 +128,8 @@ TEST_CASE("failure values stand for the lab's criterion only; an unrecognised cr
   CHECK(dev.points[1].used);
   CHECK(dev.points[2].used);
   const std::string text = interpretation_text(r);
-  CHECK(text.find("      R stages[2]: lab's criterion 'Maximum principal stress ratio'\n") != std::string::npos);
-  CHECK(text.find("      N stages[2]: lab's criterion not reported\n") != std::string::npos);
+  CHECK(text.find("      R stage 1: lab's criterion 'Maximum principal stress ratio'\n") != std::string::npos);
+  CHECK(text.find("      N stage 1: lab's criterion not reported\n") != std::string::npos);
   const json out = json::parse(interpretation_json(r));
   CHECK(out["stages"][0]["failure"]["max-deviator"].is_null());
   CHECK(out["stages"][0]["failure"]["max-stress-ratio"]["reported"] == true);
