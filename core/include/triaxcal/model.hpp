@@ -17,7 +17,7 @@
 namespace triaxcal {
 
 /// Most internal variables any model keeps; fixed so that a state never allocates.
-inline constexpr int kMaxStateVariables = 8;
+inline constexpr int kMaxStateVariables = 16;
 
 inline constexpr double kNotGiven = std::numeric_limits<double>::quiet_NaN();
 

@@ -1,0 +1,441 @@
+#include "sand_state_bounding/sand_state_bounding.hpp"
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <limits>
+
+#include "hyperbolic_hardening/dual.hpp"
+#include "triaxcal/error.hpp"
+#include "triaxcal/parameters.hpp"
+
+namespace triaxcal {
+
+namespace {
+
+using hyperbolic::Dual;
+using hyperbolic::value;
+using D6 = Dual<6>;
+
+constexpr double inf = std::numeric_limits<double>::infinity();
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+constexpr double kPat = SandStateBounding::kReferencePressure;
+constexpr double kSqrt23 = 0.81649658092772603;  // sqrt(2/3)
+constexpr double kSqrt6 = 2.4494897427831781;
+constexpr double kSqrt32 = 1.2247448713915890;   // sqrt(3/2)
+// Smallest (alpha - alpha_in):n in h = b0 / ((alpha - alpha_in):n): at the start of a loading process
+// (alpha = alpha_in) h is unbounded and the cone is dragged with the stress ratio without plastic
+// strain; the floor keeps the numbers finite (common practice in implementations, no source).
+constexpr double kReversalFloor = 1e-10;
+// A state whose cone function f/p' = ||r - alpha|| - sqrt(2/3) m is above -kOnCone counts as on the
+// cone (the drift correction puts it there to round-off; the driver's extrapolation may leave it
+// off by the order of its tolerance).
+constexpr double kOnCone = 1e-9;
+
+constexpr double kLiquefiedPressure = SandStateBounding::kLiquefiedPressure;
+
+const char* const kName = "sand_state_bounding";
+
+template <class T>
+using V6 = std::array<T, 6>;
+
+// Tensors in Voigt stress form [11, 22, 33, 12, 23, 31] (tensor components).
+template <class T>
+T ddot(const V6<T>& a, const V6<T>& b) {
+  return a[0] * b[0] + a[1] * b[1] + a[2] * b[2] + 2.0 * (a[3] * b[3] + a[4] * b[4] + a[5] * b[5]);
+}
+
+// n n of the symmetric tensor [[n0 n3 n5] [n3 n1 n4] [n5 n4 n2]].
+template <class T>
+V6<T> square(const V6<T>& n) {
+  return {n[0] * n[0] + n[3] * n[3] + n[5] * n[5], n[3] * n[3] + n[1] * n[1] + n[4] * n[4],
+          n[5] * n[5] + n[4] * n[4] + n[2] * n[2], n[0] * n[3] + n[3] * n[1] + n[5] * n[4],
+          n[3] * n[5] + n[1] * n[4] + n[4] * n[2], n[5] * n[0] + n[4] * n[3] + n[2] * n[5]};
+}
+
+template <class T>
+T sqrt_of(const T& x) {
+  using std::sqrt;
+  return sqrt(x);
+}
+
+// Deviatoric tensors of the state: components 11, 22, 12, 23, 31 from `base`.
+V6<double> unpack(const MaterialState& s, int base) {
+  const double a11 = s.internal[base], a22 = s.internal[base + 1];
+  return {a11, a22, -a11 - a22, s.internal[base + 2], s.internal[base + 3], s.internal[base + 4]};
+}
+void pack(const V6<double>& a, MaterialState& s, int base) {
+  s.internal[base] = a[0];
+  s.internal[base + 1] = a[1];
+  s.internal[base + 2] = a[3];
+  s.internal[base + 3] = a[4];
+  s.internal[base + 4] = a[5];
+}
+
+// The stress ratio r = s/p' (deviatoric) of a stress.
+template <class T>
+V6<T> stress_ratio(const V6<T>& sigma, const T& p) {
+  const T inv = 1.0 / p;
+  return {(sigma[0] - p) * inv, (sigma[1] - p) * inv, (sigma[2] - p) * inv, sigma[3] * inv, sigma[4] * inv,
+          sigma[5] * inv};
+}
+
+// Elastic increment of stress for an engineering strain increment de with moduli G, K.
+template <class T, class U>
+V6<T> elastic_increment(const T& shear, const T& bulk, const V6<U>& de) {
+  const U dev = de[0] + de[1] + de[2];
+  V6<T> ds;
+  for (int i = 0; i < 3; ++i) ds[i] = 2.0 * shear * (de[i] - dev / 3.0) + bulk * dev;
+  for (int i = 3; i < 6; ++i) ds[i] = shear * de[i];
+  return ds;
+}
+
+template <class T>
+struct PlasticStep {
+  V6<T> stress;   // stress at the end of the increment
+  V6<T> alpha;    // back-stress ratio at the end
+  V6<T> fabric;   // z at the end
+  V6<T> a;        // L = a . d eps / den (a acts on the engineering strain increment)
+  V6<T> b;        // d sigma = D^e d eps - L b
+  T den{};
+  bool loading = false;   // L > 0
+  bool reversed = false;  // (alpha - alpha_in):n < 0: alpha_in is reset to alpha (load reversal)
+};
+
+// One forward-Euler step of the elastoplastic rate equations from a stress on the cone with every
+// coefficient at that stress and the loading direction n given (the caller takes it from the
+// elastic trial state, see integrate) (Dafalias & Manzari 2004; equation numbers from memory).
+template <class T>
+Status plastic_step(const SandStateBounding::Constants& k, const V6<T>& sigma, const V6<T>& n,
+                    const V6<double>& alpha_d, const V6<double>& z_d, const V6<double>& alpha_in_d, double e,
+                    const V6<T>& de, PlasticStep<T>& o) {
+  using std::exp;
+  using std::pow;
+  V6<T> alpha, z, alpha_in;
+  for (int i = 0; i < 6; ++i) {
+    alpha[i] = alpha_d[i];
+    z[i] = z_d[i];
+    alpha_in[i] = alpha_in_d[i];
+  }
+  const T p = (sigma[0] + sigma[1] + sigma[2]) / 3.0;
+  if (!(value(p) > 0.0)) return Status::invalid_input;
+  const V6<T> r = stress_ratio(sigma, p);
+  // Elasticity (eq. 2, from memory): G = G0 p_at (2.97 - e)^2/(1 + e) (p'/p_at)^0.5, K from nu.
+  const T root = sqrt_of(p / kPat);
+  const double density = (2.97 - e) * (2.97 - e) / (1.0 + e);
+  const T shear = (k.g0 * kPat * density) * root;
+  const T bulk = k.bulk_factor * shear;
+  // State parameter psi = e - e_c with e_c = e_0 - lambda_c (p'/p_at)^xi (eq. 3, from memory).
+  const T psi = e - (k.e0 - k.lambda_c * pow(p / kPat, k.xi));
+  // Lode angle cos 3theta = sqrt 6 tr n^3 (1 in triaxial compression with compression positive) and
+  // g(theta, c) = 2c / ((1 + c) - (1 - c) cos 3theta) (eq. 9, from memory).
+  const V6<T> n2 = square(n);
+  const T tr3 = ddot(n, n2);
+  T cos3 = kSqrt6 * tr3;
+  if (value(cos3) > 1.0) cos3 = T(1.0);
+  if (value(cos3) < -1.0) cos3 = T(-1.0);
+  const T g = 2.0 * k.c / ((1.0 + k.c) - (1.0 - k.c) * cos3);
+  // Bounding and dilatancy back-stress ratios alpha_b,d = sqrt(2/3) (g M exp(-+n psi) - m) n
+  // (eqs. 18, 19, from memory); (alpha_b - alpha):n and (alpha_d - alpha):n.
+  const T an = ddot(alpha, n);
+  const T bounding = kSqrt23 * (g * k.m_c * exp(-k.n_b * psi) - k.m);
+  const T dilatancy = kSqrt23 * (g * k.m_c * exp(k.n_d * psi) - k.m);
+  const T bn = bounding - an;
+  const T dn = dilatancy - an;
+  // h = b0 / ((alpha - alpha_in):n), b0 = G0 h0 (1 - c_h e)(p'/p_at)^-0.5 (eqs. 21, 22, from memory);
+  // alpha_in = alpha where (alpha - alpha_in):n < 0 (a new loading process).
+  T x = an - ddot(alpha_in, n);
+  o.reversed = value(x) < 0.0;
+  if (value(x) < kReversalFloor) x = T(kReversalFloor);
+  const double density_factor = 1.0 - k.c_h * e;
+  if (!(density_factor > 0.0)) return Status::invalid_input;
+  const T b0 = (k.g0 * k.h0 * density_factor) / root;
+  const T h = b0 / x;
+  // Plastic modulus K_p = (2/3) p' h (alpha_b - alpha):n (eq. 20, from memory).
+  const T kp = (2.0 / 3.0) * p * h * bn;
+  // Dilatancy D = A_d (alpha_d - alpha):n, A_d = A0 (1 + <z:n>) (eqs. 24, 25, from memory).
+  T zn = ddot(z, n);
+  if (value(zn) < 0.0) zn = T(0.0);
+  const T dil = k.a0 * (1.0 + zn) * dn;
+  // Deviatoric flow R' = B n - C (n^2 - I/3), B = 1 + (3/2)(1 - c)/c g cos 3theta,
+  // C = 3 sqrt(3/2) (1 - c)/c g (eq. 13, from memory; R' = n in triaxial compression and extension).
+  const double lode = (1.0 - k.c) / k.c;
+  const T bb = 1.0 + 1.5 * lode * g * cos3;
+  const T cc = (3.0 * kSqrt32 * lode) * g;
+  V6<T> rdev;
+  for (int i = 0; i < 6; ++i) rdev[i] = bb * n[i] - cc * (n2[i] - (i < 3 ? 1.0 / 3.0 : 0.0));
+  // Loading index L = (2G n:de - K n:r d eps_v) / (K_p + 2G (B - C tr n^3) - K D n:r) (eq. 26,
+  // from memory; from the consistency condition n:ds - n:r dp - p' n:d alpha = 0).
+  const T nr = ddot(n, r);
+  o.den = kp + 2.0 * shear * (bb - cc * tr3) - bulk * dil * nr;
+  if (!(value(o.den) > 0.0)) return Status::numerical_issue;
+  T numerator = T(0.0);
+  for (int i = 0; i < 3; ++i) {
+    o.a[i] = 2.0 * shear * n[i] - bulk * nr;
+    o.b[i] = 2.0 * shear * rdev[i] + bulk * dil;
+  }
+  for (int i = 3; i < 6; ++i) {
+    o.a[i] = 2.0 * shear * n[i];
+    o.b[i] = 2.0 * shear * rdev[i];
+  }
+  for (int i = 0; i < 6; ++i) numerator = numerator + o.a[i] * de[i];
+  const T load = numerator / o.den;
+  o.loading = value(load) > 0.0;
+  if (!o.loading) return Status::ok;
+  // d sigma = D^e (d eps - L R), R = R' + D I/3; d alpha = L (2/3) h (alpha_b - alpha) (eq. 17);
+  // dz = -c_z <-d eps_v^p> (z_max n + z) with d eps_v^p = L D (eq. 27, from memory).
+  const V6<T> ds = elastic_increment(shear, bulk, de);
+  const T rate = load * (2.0 / 3.0) * h;
+  const T dvp = load * dil;
+  for (int i = 0; i < 6; ++i) {
+    o.stress[i] = sigma[i] + ds[i] - load * o.b[i];
+    o.alpha[i] = alpha[i] + rate * (bounding * n[i] - alpha[i]);
+    o.fabric[i] = z[i];
+    if (value(dvp) < 0.0) o.fabric[i] = z[i] + (k.c_z * dvp) * (k.z_max * n[i] + z[i]);
+  }
+  return Status::ok;
+}
+
+// Moves alpha radially in the deviatoric ratio plane so that the stress lies on the cone:
+// alpha = r - sqrt(2/3) m (r - alpha)/||r - alpha||.
+void onto_cone(const Vec6& stress, double radius, V6<double>& alpha) {
+  const double p = mean_stress(stress);
+  const V6<double> sigma{stress[0], stress[1], stress[2], stress[3], stress[4], stress[5]};
+  const V6<double> r = stress_ratio(sigma, p);
+  V6<double> d;
+  for (int i = 0; i < 6; ++i) d[i] = r[i] - alpha[i];
+  const double norm = std::sqrt(ddot(d, d));
+  if (!(norm > 0.0)) return;
+  for (int i = 0; i < 6; ++i) alpha[i] = r[i] - radius * d[i] / norm;
+}
+
+// f/p' = ||r - alpha|| - sqrt(2/3) m.
+double cone_function(const Vec6& stress, double radius, const V6<double>& alpha) {
+  const double p = mean_stress(stress);
+  const V6<double> sigma{stress[0], stress[1], stress[2], stress[3], stress[4], stress[5]};
+  const V6<double> r = stress_ratio(sigma, p);
+  V6<double> d;
+  for (int i = 0; i < 6; ++i) d[i] = r[i] - alpha[i];
+  return std::sqrt(ddot(d, d)) - radius;
+}
+
+}  // namespace
+
+const ModelInfo& SandStateBounding::model_info() {
+  static const ModelInfo info{
+      kName,
+      "State-dependent bounding-surface sand model with fabric (Dafalias & Manzari 2004, J. Eng. Mech. 130(6))",
+      {
+          {"critical_state_ratio", "-", kNaN, 0.0, 3.0, true, true,
+           "M = q/p' at critical state in triaxial compression (paper: M)"},
+          {"extension_ratio", "-", kNaN, 0.0, 1.0, true, false,
+           "critical state ratio in extension over that in compression (paper: c)"},
+          {"csl_void_ratio_ref", "-", kNaN, 0.0, inf, true, true,
+           "void ratio of the critical state line at p' = 0, e_c = e_0 - lambda_c (p'/p_at)^xi (paper: e_0)"},
+          {"csl_lambda", "-", kNaN, 0.0, inf, false, true,
+           "slope of the critical state line against (p'/p_at)^xi (paper: lambda_c)"},
+          {"csl_exponent", "-", kNaN, 0.0, 2.0, true, false, "exponent of the critical state line (paper: xi)"},
+          {"shear_modulus_constant", "-", kNaN, 0.0, inf, true, true,
+           "G = G0 p_at (2.97 - e)^2/(1 + e) (p'/p_at)^0.5, p_at = 101.325 kPa (paper: G0)"},
+          {"poissons_ratio", "-", kNaN, -1.0, 0.5, true, true, "Poisson's ratio of the elastic part (paper: nu)"},
+          {"yield_cone_size", "-", kNaN, 0.0, inf, true, true,
+           "opening of the yield cone, f = ||s - p' alpha|| - sqrt(2/3) m p'; smaller than c M (paper: m)"},
+          {"hardening_constant", "-", kNaN, 0.0, inf, true, true,
+           "plastic modulus constant, b0 = G0 h0 (1 - c_h e)(p'/p_at)^-0.5 (paper: h0)"},
+          {"hardening_density_factor", "-", kNaN, 0.0, inf, false, true,
+           "void ratio dependence of the plastic modulus through 1 - c_h e, c_h e < 1 (paper: c_h)"},
+          {"bounding_exponent", "-", kNaN, 0.0, inf, false, true,
+           "bounding stress ratio M exp(-n_b psi) (paper: n^b)"},
+          {"dilatancy_constant", "-", kNaN, 0.0, inf, false, true,
+           "dilatancy D = A0 (1 + <z:n>)(alpha_d - alpha):n (paper: A0)"},
+          {"dilatancy_exponent", "-", kNaN, 0.0, inf, false, true,
+           "dilatancy (phase transformation) stress ratio M exp(n_d psi) (paper: n^d)"},
+          {"fabric_max", "-", 0.0, 0.0, inf, false, true,
+           "largest fabric-dilatancy tensor norm; 0 = no fabric effect (paper: z_max)"},
+          {"fabric_rate", "-", 0.0, 0.0, inf, false, true,
+           "rate of fabric change during dilation, dz = -c_z <-d eps_v^p> (z_max n + z) (paper: c_z)"},
+      },
+      {"void_ratio", "back_stress_ratio_11", "back_stress_ratio_22", "back_stress_ratio_12", "back_stress_ratio_23",
+       "back_stress_ratio_31", "fabric_11", "fabric_22", "fabric_12", "fabric_23", "fabric_31",
+       "reversal_back_stress_ratio_11", "reversal_back_stress_ratio_22", "reversal_back_stress_ratio_12",
+       "reversal_back_stress_ratio_23", "reversal_back_stress_ratio_31"},
+  };
+  return info;
+}
+
+std::unique_ptr<Model> SandStateBounding::create(const ParameterValues& v, const std::string& where) {
+  const ModelInfo& info = model_info();
+  const std::string head = where + ": " + kName + ": ";
+  if (v.size() != info.parameters.size())
+    throw InputError(head + "expected " + std::to_string(info.parameters.size()) + " parameter values, found " +
+                     std::to_string(v.size()));
+  for (std::size_t i = 0; i < v.size(); ++i) check_bounds(info, info.parameters[i], v[i], where);
+  const double cm = v[extension_ratio] * v[critical_state_ratio];
+  if (!(v[yield_cone_size] < cm))
+    throw InputError(head + "yield_cone_size = " + format_number(v[yield_cone_size]) +
+                     " must be smaller than extension_ratio x critical_state_ratio = " + format_number(cm) +
+                     " (the critical state must lie outside the yield cone in extension too)");
+  return std::make_unique<SandStateBounding>(v);
+}
+
+SandStateBounding::SandStateBounding(const ParameterValues& v) {
+  k_.m_c = v[critical_state_ratio];
+  k_.c = v[extension_ratio];
+  k_.e0 = v[csl_void_ratio_ref];
+  k_.lambda_c = v[csl_lambda];
+  k_.xi = v[csl_exponent];
+  k_.g0 = v[shear_modulus_constant];
+  k_.nu = v[poissons_ratio];
+  k_.m = v[yield_cone_size];
+  k_.h0 = v[hardening_constant];
+  k_.c_h = v[hardening_density_factor];
+  k_.n_b = v[bounding_exponent];
+  k_.a0 = v[dilatancy_constant];
+  k_.n_d = v[dilatancy_exponent];
+  k_.z_max = v[fabric_max];
+  k_.c_z = v[fabric_rate];
+  k_.bulk_factor = 2.0 * (1.0 + k_.nu) / (3.0 * (1.0 - 2.0 * k_.nu));
+  k_.radius = kSqrt23 * k_.m;
+}
+
+double SandStateBounding::critical_void_ratio(double p) const {
+  return k_.e0 - k_.lambda_c * std::pow(p / kPat, k_.xi);
+}
+
+double SandStateBounding::shear_modulus(double e, double p) const {
+  return k_.g0 * kPat * (2.97 - e) * (2.97 - e) / (1.0 + e) * std::sqrt(p / kPat);
+}
+
+void SandStateBounding::initialise(const InitialConditions& c, MaterialState& state) const {
+  const std::string head = std::string(kName) + ": ";
+  if (std::isnan(c.void_ratio))
+    throw InputError(head + "initial.void_ratio is required (the void ratio e0 at the start of the protocol)");
+  if (!(c.void_ratio > 0.0) || !std::isfinite(c.void_ratio))
+    throw InputError(head + "initial.void_ratio = " + format_number(c.void_ratio) + " must be positive");
+  if (!(1.0 - k_.c_h * c.void_ratio > 0.0))
+    throw InputError(head + "initial.void_ratio = " + format_number(c.void_ratio) +
+                     " is too loose for hardening_density_factor = " + format_number(k_.c_h) +
+                     " (the plastic modulus needs c_h e < 1, e < " + format_number(1.0 / k_.c_h) + ")");
+  if (!c.stress.allFinite()) throw InputError(head + "the initial effective stress must be finite");
+  const double p = mean_stress(c.stress);
+  if (!(p >= kLiquefiedPressure))
+    throw InputError(head + "the initial mean effective stress p' = " + format_number(p) + " kPa must be at least " +
+                     format_number(kLiquefiedPressure) + " kPa (below it the model treats the sand as liquefied)");
+  // The cone is centred on the initial stress ratio (alpha = r), the last load reversal there, no fabric.
+  const V6<double> sigma{c.stress[0], c.stress[1], c.stress[2], c.stress[3], c.stress[4], c.stress[5]};
+  const V6<double> r = stress_ratio(sigma, p);
+  state = MaterialState{};
+  state.stress = c.stress;
+  state.internal[void_ratio] = c.void_ratio;
+  pack(r, state, back_stress_ratio);
+  pack(r, state, reversal_back_stress_ratio);
+}
+
+IntegrationResult SandStateBounding::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
+                                               Mat6& tangent) const {
+  out = in;
+  const double e = in.internal[void_ratio];
+  const double p = mean_stress(in.stress);
+  if (!(p >= kLiquefiedPressure) || !(e > 0.0) || !de.allFinite() || !in.stress.allFinite())
+    return {Status::invalid_input, 0};
+  // Void ratio after the increment of natural volumetric strain (the driver's measure).
+  const double dev = de[0] + de[1] + de[2];
+  const double e_new = (1.0 + e) * std::exp(-dev) - 1.0;
+  if (!(e_new > 0.0)) return {Status::invalid_input, 0};
+
+  V6<double> alpha = unpack(in, back_stress_ratio);
+  V6<double> z = unpack(in, fabric);
+  V6<double> alpha_in = unpack(in, reversal_back_stress_ratio);
+  const double shear = shear_modulus(e, p);
+  const double bulk = k_.bulk_factor * shear;
+  const Mat6 elastic = isotropic_elastic_stiffness(bulk, shear);
+  const Vec6 trial = in.stress + elastic * de;
+  const double p_trial = mean_stress(trial);
+  if (!(p_trial >= kLiquefiedPressure)) return {Status::invalid_input, 0};
+
+  // Plastic where the elastic trial stress lies outside the cone. The loading direction over the
+  // step is that of the trial state, n = (r_trial - alpha)/||r_trial - alpha|| (backward Euler in the
+  // direction, as the radial return of J2 plasticity): with the narrow cone, n turns towards the
+  // strain-rate direction within some m p'/(2G) of strain (1e-5 here), and an explicit n (from the
+  // start of the step) is unstable for larger steps (measured: the 22-33 asymmetry of a triaxial
+  // test grew tenfold a step at 3e-4 axial strain a step).
+  bool plastic = false;
+  V6<double> direction{};
+  if (cone_function(trial, k_.radius, alpha) > 0.0) {
+    V6<D6> d;
+    for (int i = 0; i < 6; ++i) d[i] = D6::variable(de[i], i);
+    const V6<D6> ds = elastic_increment(D6(shear), D6(bulk), d);
+    const V6<double> sigma{in.stress[0], in.stress[1], in.stress[2], in.stress[3], in.stress[4], in.stress[5]};
+    V6<D6> sigma_trial;
+    for (int i = 0; i < 6; ++i) sigma_trial[i] = sigma[i] + ds[i];
+    const D6 pt = (sigma_trial[0] + sigma_trial[1] + sigma_trial[2]) / 3.0;
+    const V6<D6> rt = stress_ratio(sigma_trial, pt);
+    V6<D6> n;
+    for (int i = 0; i < 6; ++i) n[i] = rt[i] - alpha[i];
+    const D6 norm = sqrt_of(ddot(n, n));
+    for (int i = 0; i < 6; ++i) n[i] = n[i] / norm;
+    // From inside the cone: elastic up to the crossing, at the fraction t of the increment where
+    // ||u + t w|| = k (p' + t dp), u = s - p' alpha, w = ds - dp alpha (a quadratic in t).
+    D6 t(0.0);
+    if (cone_function(in.stress, k_.radius, alpha) < -kOnCone) {
+      const D6 dp = (ds[0] + ds[1] + ds[2]) / 3.0;
+      V6<D6> u;
+      V6<D6> w;
+      for (int i = 0; i < 6; ++i) {
+        const double unit = i < 3 ? 1.0 : 0.0;
+        u[i] = sigma[i] - p * unit - p * alpha[i];
+        w[i] = ds[i] - dp * unit - dp * alpha[i];
+      }
+      const double k2 = k_.radius * k_.radius;
+      const D6 qa = ddot(w, w) - k2 * dp * dp;
+      const D6 qb = 2.0 * (ddot(u, w) - k2 * p * dp);
+      const double qc = value(ddot(u, u)) - k2 * p * p;  // < 0: inside
+      const D6 disc = qb * qb - 4.0 * qa * qc;
+      if (!(value(disc) >= 0.0)) return {Status::numerical_issue, 0};
+      t = 2.0 * qc / (-1.0 * qb - sqrt_of(disc));
+      if (!(value(t) >= 0.0 && value(t) <= 1.0)) return {Status::numerical_issue, 0};
+    }
+    V6<D6> start;
+    V6<D6> rest;
+    for (int i = 0; i < 6; ++i) {
+      start[i] = sigma[i] + t * ds[i];
+      rest[i] = (1.0 - t) * d[i];
+    }
+    PlasticStep<D6> o;
+    const Status s = plastic_step(k_, start, n, alpha, z, alpha_in, e, rest, o);
+    if (s != Status::ok) return {s, 0};
+    if (o.loading) {
+      plastic = true;
+      if (o.reversed) alpha_in = alpha;
+      for (int i = 0; i < 6; ++i) {
+        out.stress[i] = o.stress[i].v;
+        z[i] = o.fabric[i].v;
+        direction[i] = n[i].v;
+        for (int j = 0; j < 6; ++j) tangent(i, j) = o.stress[i].d[j];
+      }
+    }
+  }
+  if (!plastic) {
+    out.stress = trial;
+    tangent = elastic;
+  }
+  if (!(mean_stress(out.stress) >= kLiquefiedPressure) || !out.stress.allFinite())
+    return {Status::invalid_input, plastic ? 1 : 0};
+  // The back-stress ratio: after a plastic step alpha = r - k n with the step's n (the cone through
+  // the new stress; along n this is the hardening law's increment by the consistency condition);
+  // after an elastic step that ends outside the cone (L <= 0 there), moved radially onto it.
+  if (plastic) {
+    const V6<double> sigma{out.stress[0], out.stress[1], out.stress[2], out.stress[3], out.stress[4], out.stress[5]};
+    const V6<double> r = stress_ratio(sigma, mean_stress(out.stress));
+    for (int i = 0; i < 6; ++i) alpha[i] = r[i] - k_.radius * direction[i];
+  } else if (cone_function(out.stress, k_.radius, alpha) > 0.0) {
+    onto_cone(out.stress, k_.radius, alpha);
+  }
+  out.internal[void_ratio] = e_new;
+  pack(alpha, out, back_stress_ratio);
+  pack(z, out, fabric);
+  pack(alpha_in, out, reversal_back_stress_ratio);
+  return {Status::ok, plastic ? 1 : 0};
+}
+
+}  // namespace triaxcal
