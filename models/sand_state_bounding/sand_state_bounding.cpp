@@ -40,8 +40,8 @@ template <class T>
 using V6 = std::array<T, 6>;
 
 // Tensors in Voigt stress form [11, 22, 33, 12, 23, 31] (tensor components).
-template <class T>
-T ddot(const V6<T>& a, const V6<T>& b) {
+template <class A, class B>
+auto ddot(const V6<A>& a, const V6<B>& b) {
   return a[0] * b[0] + a[1] * b[1] + a[2] * b[2] + 2.0 * (a[3] * b[3] + a[4] * b[4] + a[5] * b[5]);
 }
 
@@ -105,28 +105,26 @@ struct PlasticStep {
 // One forward-Euler step of the elastoplastic rate equations from a stress on the cone with every
 // coefficient at that stress and the loading direction n given (the caller takes it from the
 // elastic trial state, see integrate) (Dafalias & Manzari 2004; equation numbers from memory).
-template <class T>
-Status plastic_step(const SandStateBounding::Constants& k, const V6<T>& sigma, const V6<T>& n,
-                    const V6<double>& alpha_d, const V6<double>& z_d, const V6<double>& alpha_in_d, double e,
+// S: the type of the start stress (double where the step starts on the cone, else differentiated
+// like T, the type of n and of the strain increment).
+template <class S, class T>
+Status plastic_step(const SandStateBounding::Constants& k, const V6<S>& sigma, const V6<T>& n,
+                    const V6<double>& alpha, const V6<double>& z, const V6<double>& alpha_in, double e,
                     const V6<T>& de, PlasticStep<T>& o) {
   using std::exp;
   using std::pow;
-  V6<T> alpha, z, alpha_in;
-  for (int i = 0; i < 6; ++i) {
-    alpha[i] = alpha_d[i];
-    z[i] = z_d[i];
-    alpha_in[i] = alpha_in_d[i];
-  }
-  const T p = (sigma[0] + sigma[1] + sigma[2]) / 3.0;
+  const S p = (sigma[0] + sigma[1] + sigma[2]) / 3.0;
   if (!(value(p) > 0.0)) return Status::invalid_input;
-  const V6<T> r = stress_ratio(sigma, p);
+  const V6<S> r = stress_ratio(sigma, p);
   // Elasticity (eq. 2, from memory): G = G0 p_at (2.97 - e)^2/(1 + e) (p'/p_at)^0.5, K from nu.
-  const T root = sqrt_of(p / kPat);
+  const S root = sqrt_of(p / kPat);
   const double density = (2.97 - e) * (2.97 - e) / (1.0 + e);
-  const T shear = (k.g0 * kPat * density) * root;
-  const T bulk = k.bulk_factor * shear;
+  const S shear = (k.g0 * kPat * density) * root;
+  const S bulk = k.bulk_factor * shear;
   // State parameter psi = e - e_c with e_c = e_0 - lambda_c (p'/p_at)^xi (eq. 3, from memory).
-  const T psi = e - (k.e0 - k.lambda_c * pow(p / kPat, k.xi));
+  const S psi = e - (k.e0 - k.lambda_c * pow(p / kPat, k.xi));
+  const S towards_bounding = exp(-k.n_b * psi);
+  const S towards_dilatancy = exp(k.n_d * psi);
   // Lode angle cos 3theta = sqrt 6 tr n^3 (1 in triaxial compression with compression positive) and
   // g(theta, c) = 2c / ((1 + c) - (1 - c) cos 3theta) (eq. 9, from memory).
   const V6<T> n2 = square(n);
@@ -138,8 +136,8 @@ Status plastic_step(const SandStateBounding::Constants& k, const V6<T>& sigma, c
   // Bounding and dilatancy back-stress ratios alpha_b,d = sqrt(2/3) (g M exp(-+n psi) - m) n
   // (eqs. 18, 19, from memory); (alpha_b - alpha):n and (alpha_d - alpha):n.
   const T an = ddot(alpha, n);
-  const T bounding = kSqrt23 * (g * k.m_c * exp(-k.n_b * psi) - k.m);
-  const T dilatancy = kSqrt23 * (g * k.m_c * exp(k.n_d * psi) - k.m);
+  const T bounding = kSqrt23 * (g * k.m_c * towards_bounding - k.m);
+  const T dilatancy = kSqrt23 * (g * k.m_c * towards_dilatancy - k.m);
   const T bn = bounding - an;
   const T dn = dilatancy - an;
   // h = b0 / ((alpha - alpha_in):n), b0 = G0 h0 (1 - c_h e)(p'/p_at)^-0.5 (eqs. 21, 22, from memory);
@@ -149,7 +147,7 @@ Status plastic_step(const SandStateBounding::Constants& k, const V6<T>& sigma, c
   if (value(x) < kReversalFloor) x = T(kReversalFloor);
   const double density_factor = 1.0 - k.c_h * e;
   if (!(density_factor > 0.0)) return Status::invalid_input;
-  const T b0 = (k.g0 * k.h0 * density_factor) / root;
+  const S b0 = (k.g0 * k.h0 * density_factor) / root;
   const T h = b0 / x;
   // Plastic modulus K_p = (2/3) p' h (alpha_b - alpha):n (eq. 20, from memory).
   const T kp = (2.0 / 3.0) * p * h * bn;
@@ -184,7 +182,10 @@ Status plastic_step(const SandStateBounding::Constants& k, const V6<T>& sigma, c
   if (!o.loading) return Status::ok;
   // d sigma = D^e (d eps - L R), R = R' + D I/3; d alpha = L (2/3) h (alpha_b - alpha) (eq. 17);
   // dz = -c_z <-d eps_v^p> (z_max n + z) with d eps_v^p = L D (eq. 27, from memory).
-  const V6<T> ds = elastic_increment(shear, bulk, de);
+  const T dev = de[0] + de[1] + de[2];
+  V6<T> ds;
+  for (int i = 0; i < 3; ++i) ds[i] = 2.0 * shear * (de[i] - dev / 3.0) + bulk * dev;
+  for (int i = 3; i < 6; ++i) ds[i] = shear * de[i];
   const T rate = load * (2.0 / 3.0) * h;
   const T dvp = load * dil;
   for (int i = 0; i < 6; ++i) {
@@ -377,7 +378,8 @@ IntegrationResult SandStateBounding::integrate(const MaterialState& in, const Ve
     // From inside the cone: elastic up to the crossing, at the fraction t of the increment where
     // ||u + t w|| = k (p' + t dp), u = s - p' alpha, w = ds - dp alpha (a quadratic in t).
     D6 t(0.0);
-    if (cone_function(in.stress, k_.radius, alpha) < -kOnCone) {
+    const bool from_inside = cone_function(in.stress, k_.radius, alpha) < -kOnCone;
+    if (from_inside) {
       const D6 dp = (ds[0] + ds[1] + ds[2]) / 3.0;
       V6<D6> u;
       V6<D6> w;
@@ -395,14 +397,19 @@ IntegrationResult SandStateBounding::integrate(const MaterialState& in, const Ve
       t = 2.0 * qc / (-1.0 * qb - sqrt_of(disc));
       if (!(value(t) >= 0.0 && value(t) <= 1.0)) return {Status::numerical_issue, 0};
     }
-    V6<D6> start;
-    V6<D6> rest;
-    for (int i = 0; i < 6; ++i) {
-      start[i] = sigma[i] + t * ds[i];
-      rest[i] = (1.0 - t) * d[i];
-    }
     PlasticStep<D6> o;
-    const Status s = plastic_step(k_, start, n, alpha, z, alpha_in, e, rest, o);
+    Status s;
+    if (from_inside) {
+      V6<D6> start;
+      V6<D6> rest;
+      for (int i = 0; i < 6; ++i) {
+        start[i] = sigma[i] + t * ds[i];
+        rest[i] = (1.0 - t) * d[i];
+      }
+      s = plastic_step(k_, start, n, alpha, z, alpha_in, e, rest, o);
+    } else {
+      s = plastic_step(k_, sigma, n, alpha, z, alpha_in, e, d, o);  // the start stress is not differentiated
+    }
     if (s != Status::ok) return {s, 0};
     if (o.loading) {
       plastic = true;
