@@ -228,7 +228,7 @@ const ModelInfo& SandStateBounding::model_info() {
       "State-dependent bounding-surface sand model with fabric (Dafalias & Manzari 2004, J. Eng. Mech. 130(6))",
       {
           {"critical_state_ratio", "-", kNaN, 0.0, 3.0, true, true,
-           "M = q/p' at critical state in triaxial compression (paper: M)"},
+           "M = q/p' at critical state in triaxial compression (paper: M)", ParameterRole::critical_state_ratio},
           {"extension_ratio", "-", kNaN, 0.0, 1.0, true, false,
            "critical state ratio in extension over that in compression (paper: c)"},
           {"csl_void_ratio_ref", "-", kNaN, 0.0, inf, true, true,
@@ -238,7 +238,8 @@ const ModelInfo& SandStateBounding::model_info() {
           {"csl_exponent", "-", kNaN, 0.0, 2.0, true, false, "exponent of the critical state line (paper: xi)"},
           {"shear_modulus_constant", "-", kNaN, 0.0, inf, true, true,
            "G = G0 p_at (2.97 - e)^2/(1 + e) (p'/p_at)^0.5, p_at = 101.325 kPa (paper: G0)"},
-          {"poissons_ratio", "-", kNaN, -1.0, 0.5, true, true, "Poisson's ratio of the elastic part (paper: nu)"},
+          {"poissons_ratio", "-", kNaN, -1.0, 0.5, true, true, "Poisson's ratio of the elastic part (paper: nu)",
+           ParameterRole::poissons_ratio},
           {"yield_cone_size", "-", kNaN, 0.0, inf, true, true,
            "opening of the yield cone, f = ||s - p' alpha|| - sqrt(2/3) m p'; smaller than c M (paper: m)"},
           {"hardening_constant", "-", kNaN, 0.0, inf, true, true,
