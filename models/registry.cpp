@@ -3,6 +3,7 @@
 #include "hyperbolic_hardening/hyperbolic_hardening.hpp"
 #include "modified_cam_clay/modified_cam_clay.hpp"
 #include "mohr_coulomb/mohr_coulomb.hpp"
+#include "sand_state_bounding/sand_state_bounding.hpp"
 #include "triaxcal/error.hpp"
 #include "undrained_tresca/undrained_tresca.hpp"
 
@@ -14,6 +15,7 @@ const std::vector<ModelEntry>& model_registry() {
       {&ModifiedCamClay::model_info, &ModifiedCamClay::create},
       {&HyperbolicHardening::model_info, &HyperbolicHardening::create},
       {&UndrainedTresca::model_info, &UndrainedTresca::create},
+      {&SandStateBounding::model_info, &SandStateBounding::create},
   };
   return entries;
 }
