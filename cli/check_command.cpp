@@ -3,6 +3,7 @@
 #include <memory>
 
 #include "commands.hpp"
+#include "triaxcal/interpret.hpp"
 #include "triaxcal/series.hpp"
 
 namespace triaxcal::cli {
@@ -26,7 +27,10 @@ int run_check(const std::string& path) {
   const TestSeries& s = check.series;
   if (!s.specimens.empty()) {
     std::printf("%s%s%s: %zu specimen(s) read\n", path.c_str(), s.name.empty() ? "" : " - ", s.name.c_str(), s.specimens.size());
-    std::printf("  %-10s %-5s %-4s %-4s %6s %10s %10s %10s %10s %10s %8s\n", "specimen", "stage", "test", "dir", "points",
+    // The id columns widen for long ids (AGS-style LOCA_ID/SAMP_TOP/SAMP_REF/SPEC_REF), 10 at least.
+    int id_width = 10;
+    for (const Specimen& sp : s.specimens) id_width = std::max(id_width, static_cast<int>(sp.id.size()));
+    std::printf("  %-*s %-5s %-4s %-4s %6s %10s %10s %10s %10s %10s %8s\n", id_width, "specimen", "stage", "test", "dir", "points",
                 "eps_a[-]", "p'[kPa]", "q[kPa]", "du[kPa]", "e_v[-]", "e[-]");
     for (const Specimen& sp : s.specimens) {
       for (int k : sp.shear_stages()) {
@@ -35,7 +39,7 @@ int run_check(const std::string& path) {
         if (first > last) continue;
         const std::size_t e = static_cast<std::size_t>(last);
         const ReducedCurves& c = sp.curves;
-        std::printf("  %-10s %-5d %-4s %-4s %6d %10s %10s %10s %10s %10s %8s\n", sp.id.c_str(), k, to_string(st.shear).c_str(),
+        std::printf("  %-*s %-5d %-4s %-4s %6d %10s %10s %10s %10s %10s %8s\n", id_width, sp.id.c_str(), k, to_string(st.shear).c_str(),
                     st.direction == ShearDirection::compression ? "comp" : "ext", last - first + 1,
                     num(c.axial_strain[e], 4).c_str(), num(c.mean_stress[e], 1).c_str(), num(c.deviator_stress[e], 1).c_str(),
                     num(c.excess_pore_pressure[e], 1).c_str(), num(c.volumetric_strain[e], 4).c_str(),
@@ -49,7 +53,7 @@ int run_check(const std::string& path) {
         const auto [first, last] = sp.stage_points(k);
         if (first > last) continue;
         if (!oedometer_header) {
-          std::printf("\n  %-10s %-5s %6s %10s %10s %10s %8s\n", "oedometer", "stage", "points", "eps_a[-]", "s_a'[kPa]",
+          std::printf("\n  %-*s %-5s %6s %10s %10s %10s %8s\n", id_width, "oedometer", "stage", "points", "eps_a[-]", "s_a'[kPa]",
                       "max s_a'", "e[-]");
           oedometer_header = true;
         }
@@ -57,7 +61,7 @@ int run_check(const std::string& path) {
         const std::size_t e = static_cast<std::size_t>(last);
         double largest = 0.0;
         for (int i = first; i <= last; ++i) largest = std::max(largest, c.axial_stress[static_cast<std::size_t>(i)]);
-        std::printf("  %-10s %-5d %6d %10s %10s %10s %8s\n", sp.id.c_str(), k, last - first + 1, num(c.axial_strain[e], 4).c_str(),
+        std::printf("  %-*s %-5d %6d %10s %10s %10s %8s\n", id_width, sp.id.c_str(), k, last - first + 1, num(c.axial_strain[e], 4).c_str(),
                     num(c.axial_stress[e], 1).c_str(), num(largest, 1).c_str(), num(c.void_ratio[e], 3).c_str());
       }
     if (oedometer_header) std::printf("  (end state of each oedometer stage: effective axial stress, largest reached)\n");
@@ -67,21 +71,29 @@ int run_check(const std::string& path) {
         const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
         if (!st.failure.given()) continue;
         if (!failure_header) {
-          std::printf("\n  %-10s %-5s %-4s %-6s %10s %10s %10s %10s %10s  %s\n", "reported", "stage", "test", "curves", "cell[kPa]",
+          std::printf("\n  %-*s %-5s %-4s %-6s %10s %10s %10s %10s %10s  %s\n", id_width, "reported", "stage", "test", "curves", "cell[kPa]",
                       "q_f[kPa]", "u_f[kPa]", "eps_a,f", "s3'_f", "criterion");
           failure_header = true;
         }
         const ReportedFailure& f = st.failure;
-        std::printf("  %-10s %-5d %-4s %-6s %10s %10s %10s %10s %10s  %s\n", sp.id.c_str(), k, to_string(st.shear).c_str(),
+        std::printf("  %-*s %-5d %-4s %-6s %10s %10s %10s %10s %10s  %s\n", id_width, sp.id.c_str(), k, to_string(st.shear).c_str(),
                     sp.failure_values_only() ? "no" : "yes", num(st.cell_pressure, 1).c_str(), num(f.deviator_stress, 1).c_str(),
                     num(f.pore_pressure, 1).c_str(), num(f.axial_strain, 4).c_str(),
                     num(st.cell_pressure - f.pore_pressure, 1).c_str(), f.criterion.empty() ? "-" : f.criterion.c_str());
       }
     if (failure_header) std::printf("  (values at failure as the lab reported them; s3'_f = cell - u_f)\n");
   }
-  if (!s.warnings.empty()) {
-    std::printf("\n%s:\n", count(s.warnings.size(), "warning").c_str());
-    for (const SeriesWarning& w : s.warnings) std::printf("  warning: %s\n", w.message.c_str());
+  // The lab's reported failure values against its curves, where a specimen has both.
+  std::vector<std::string> warnings;
+  for (const SeriesWarning& w : s.warnings) warnings.push_back(w.message);
+  if (check.errors.empty()) {
+    const std::vector<ReportedFailureCheck> reported = check_reported_failures(s);
+    if (!reported.empty()) std::printf("\n%s", reported_failure_table(reported).c_str());
+    for (const ReportedFailureCheck& c : reported) warnings.insert(warnings.end(), c.warnings.begin(), c.warnings.end());
+  }
+  if (!warnings.empty()) {
+    std::printf("\n%s:\n", count(warnings.size(), "warning").c_str());
+    for (const std::string& w : warnings) std::printf("  warning: %s\n", w.c_str());
   }
   if (!check.errors.empty()) {
     std::fprintf(stderr, "%s:\n", count(check.errors.size(), "error").c_str());

@@ -92,6 +92,29 @@ struct MaterialRule {
 /// Reads a material-map file; throws InputError naming file and key.
 TRIAXCAL_CORE_EXPORT std::vector<MaterialRule> read_material_map(const std::string& path);
 
+/// Which curve file (the lab's CSV export of a triaxial test) belongs to which imported specimen
+/// (format "triaxcal-curve-map", version 1, docs/ags4-import.md): `entries` name a specimen by the
+/// import's id (LOCA_ID/SAMP_TOP/SAMP_REF/SPEC_REF) and a file; `pattern` (optional) names a file by
+/// the specimen's AGS4 keys, "{LOCA_ID}_{SPEC_DPTH}.csv", used for the specimens no entry names and
+/// whose file exists. Files are relative to the map's folder; `layout` is the test series' `data`
+/// object without `file` (columns, units, delimiter, kind...), one for all files unless an entry has its own.
+struct CurveMap {
+  std::string source;  ///< the map file
+  std::string folder;  ///< where its files are looked up
+  std::string layout;  ///< JSON object text
+  std::string pattern;
+  struct Entry {
+    std::string specimen;
+    std::string file;    ///< as written
+    std::string layout;  ///< JSON object text: the entry's own, else the map's
+    std::string where;   ///< "curves[i]"
+  };
+  std::vector<Entry> entries;
+};
+
+/// Reads a curve map; throws InputError naming file and key.
+TRIAXCAL_CORE_EXPORT CurveMap read_curve_map(const std::string& path);
+
 /// A test series made from an AGS4 file (docs/ags4-import.md): failure-value specimens from TRIG/TRIT
 /// (UU) and TREG/TRET (CU, CD; stages by TESN), oedometer specimens from CONG/CONS with a data file each.
 struct Ags4Import {
@@ -100,15 +123,27 @@ struct Ags4Import {
   std::vector<std::pair<std::string, std::string>> data_files;
   std::vector<std::string> summary;   ///< what was found, one line each
   std::vector<std::string> specimens; ///< one line a specimen: id, location, depth, test, stages, material
+  int id_width = 18;                  ///< width of the id column of `specimens` and `checks` (the widest id, 18 at least)
   std::vector<std::string> checks;    ///< the lab's reported m_v against the one recomputed from the void ratios
+  /// Curve files attached (one line a specimen: id, the lab's file, its copy beside the series).
+  std::vector<std::string> curves;
+  struct CurveSource {
+    std::string copy;      ///< the copy's name beside the series
+    std::string source;    ///< the lab's file
+    std::string specimen;  ///< its id
+    int index = -1;        ///< its place in the series' specimens
+  };
+  std::vector<CurveSource> curve_sources;
   std::vector<std::string> warnings;
 };
 
 /// Builds the series. `series_name` names the series; `rules` assign materials (none: every specimen's
-/// material is empty). Throws InputError naming line, group and heading for a key that does not resolve
+/// material is empty); `curves` (optional) attaches the lab's curve files to triaxial specimens: the
+/// specimen keeps its reported failure values and gains `data` (a copy of the file, written beside the
+/// series as `data_files`), and `interpret` compares the two. Throws InputError naming line, group and heading for a key that does not resolve
 /// (a TRIT row without its TRIG specimen, a SAMP row whose LOCA_ID is not in LOCA, ...), a missing
 /// required group or heading, or a value out of range.
 TRIAXCAL_CORE_EXPORT Ags4Import import_ags4(const Ags4File& file, const std::string& series_name,
-                                            const std::vector<MaterialRule>& rules);
+                                            const std::vector<MaterialRule>& rules, const CurveMap* curves = nullptr);
 
 }  // namespace triaxcal

@@ -263,6 +263,29 @@ struct Interpretation {
 /// Interprets every shear stage of `series`. Throws InputError only for bad options.
 TRIAXCAL_CORE_EXPORT Interpretation interpret(const TestSeries& series, const InterpretOptions& options);
 
+/// A shear stage with curves and the lab's reported failure values (a series specimen with `data` and
+/// `failure`, e.g. an AGS4 import with curve files): the failure point recomputed from the curve by
+/// the lab's criterion (max-deviator when not recognised) against the reported one. Tolerance (our
+/// rule, no source): 2 % of the reported deviator stress, 2 kPa floor, on q_f and (CU) u_f.
+struct ReportedFailureCheck {
+  std::string specimen;
+  int stage = -1;        ///< index into the specimen's stages
+  int shear_stage = 0;   ///< 1, 2, 3
+  FailureCriterion criterion = FailureCriterion::max_deviator;
+  double q_reported = std::numeric_limits<double>::quiet_NaN();  ///< kPa
+  double q_curve = std::numeric_limits<double>::quiet_NaN();
+  double u_reported = std::numeric_limits<double>::quiet_NaN();  ///< kPa, absolute; CU only
+  double u_curve = std::numeric_limits<double>::quiet_NaN();
+  double tolerance = std::numeric_limits<double>::quiet_NaN();
+  std::vector<std::string> warnings;  ///< one a value over the tolerance (the texts interpret warns with)
+};
+
+/// Every stage of `series` with curves and reported failure values, compared (as interpret does).
+TRIAXCAL_CORE_EXPORT std::vector<ReportedFailureCheck> check_reported_failures(const TestSeries& series);
+
+/// A terminal table of `checks` (empty text for none); the id column as wide as the widest id.
+TRIAXCAL_CORE_EXPORT std::string reported_failure_table(const std::vector<ReportedFailureCheck>& checks);
+
 /// The JSON result file: every number with its unit, the criterion, the tests used and excluded.
 TRIAXCAL_CORE_EXPORT std::string interpretation_json(const Interpretation& result);
 

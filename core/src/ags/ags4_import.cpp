@@ -5,6 +5,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <filesystem>
 #include <map>
 #include <set>
 
@@ -276,8 +277,8 @@ json oedometer_specimen(const Ags4File& f, const Ags4Group& cong, const Ags4Grou
     const double mv = (es - e) / ((1.0 + es) * (sa - previous_stress)) * 1000.0;
     const double reported = cons.column("CONS_INMV") >= 0 ? number(f, cons, r, "CONS_INMV", Ags4Dimension::compressibility, false)
                                                           : std::nan("");
-    char line[256];
-    std::snprintf(line, sizeof line, "  %-18s %4s %9.1f %7.3f %9s %9.4f", s.id.c_str(), field(cons, r, "CONS_INCN").c_str(), sa, e,
+    char line[1024];
+    std::snprintf(line, sizeof line, "  %-*s %4s %9.1f %7.3f %9s %9.4f", out.id_width, s.id.c_str(), field(cons, r, "CONS_INCN").c_str(), sa, e,
                   given(reported) ? fmt(reported).c_str() : "-", mv);
     out.checks.push_back(line);
     // Our rule, no source: m_v reported to 3 decimals may differ by rounding; 5 % and 0.005 m2/MN both exceeded is a warning.
@@ -309,6 +310,89 @@ std::string depth_text(const Found& s) {
   const std::string d = field(*s.parent, *s.row, "SPEC_DPTH");
   const int c = s.parent->column(d.empty() ? "SAMP_TOP" : "SPEC_DPTH");
   return (d.empty() ? field(*s.parent, *s.row, "SAMP_TOP") : d) + " " + s.parent->units[static_cast<std::size_t>(c)];
+}
+
+/// A key's text as it may enter a file name: letters, digits, '.', '-' kept, anything else '_'; "." and ".." are "_".
+std::string file_part(const std::string& text) {
+  const std::string out = file_name_of(text);
+  return out == "." || out == ".." ? "_" : out;
+}
+
+/// The curve map's pattern with the specimen's keys put in.
+std::string pattern_file(const CurveMap& m, const Found& s) {
+  std::string out;
+  for (std::size_t i = 0; i < m.pattern.size(); ++i) {
+    if (m.pattern[i] != '{') {
+      out.push_back(m.pattern[i]);
+      continue;
+    }
+    const std::size_t close = m.pattern.find('}', i);
+    out += file_part(field(*s.parent, *s.row, m.pattern.substr(i + 1, close - i - 1)));
+    i = close;
+  }
+  return out;
+}
+
+/// Attaches the curve files of `m` to the triaxial specimens of `all`/`specimens` (same order):
+/// `data` is the map's layout with the copy's name; the copies go into `out.data_files`.
+void attach_curves(const CurveMap& m, const std::vector<Found>& all, json& specimens, Ags4Import& out) {
+  namespace fs = std::filesystem;
+  std::map<std::string, std::size_t> by_id;
+  for (std::size_t i = 0; i < all.size(); ++i) by_id[all[i].id] = i;
+  std::map<std::size_t, const CurveMap::Entry*> chosen;
+  for (const CurveMap::Entry& e : m.entries) {
+    const auto it = by_id.find(e.specimen);
+    if (it == by_id.end()) {
+      std::string list;
+      for (const Found& s : all)
+        if (s.test != "OED") list += (list.empty() ? "" : ", ") + s.id;
+      throw InputError(m.source + ": " + e.where + ".specimen: '" + e.specimen + "' is not a specimen of the AGS4 file (triaxial specimens: " +
+                       list + ")");
+    }
+    if (all[it->second].test == "OED")
+      throw InputError(m.source + ": " + e.where + ".specimen: '" + e.specimen +
+                       "' is an oedometer specimen (its data come from CONS); curve files attach to triaxial specimens");
+    if (!chosen.emplace(it->second, &e).second)
+      throw InputError(m.source + ": " + e.where + ".specimen: '" + e.specimen + "' is named twice (also " + chosen[it->second]->where + ")");
+  }
+  std::set<std::string> names;
+  for (const auto& d : out.data_files) names.insert(d.first);
+  for (std::size_t i = 0; i < all.size(); ++i) {
+    const Found& s = all[i];
+    if (s.test == "OED") continue;
+    std::string file, layout, where;
+    if (const auto it = chosen.find(i); it != chosen.end()) {
+      file = it->second->file;
+      layout = it->second->layout;
+      where = it->second->where + ".file";
+    } else if (!m.pattern.empty()) {
+      file = pattern_file(m, s);
+      if (!fs::is_regular_file(fs::path(m.folder) / file)) continue;  // no curve file for this specimen
+      layout = m.layout;
+      where = "pattern '" + m.pattern + "'";
+    } else {
+      continue;
+    }
+    const std::string path = (fs::path(m.folder) / file).string();
+    std::string text;
+    try {
+      text = detail::read_text_file(path);
+    } catch (const InputError& e) {
+      throw InputError(m.source + ": " + where + " (specimen " + s.id + "): " + e.what());
+    }
+    const std::string copy = file_name_of(s.id) + ".curves.csv";
+    if (!names.insert(copy).second)
+      throw InputError(m.source + ": " + where + " (specimen " + s.id + "): its copy " + copy + " would overwrite another file of the import");
+    json data = json::parse(layout);
+    data["file"] = copy;
+    specimens[i]["data"] = data;
+    specimens[i]["description"] = specimens[i]["description"].get<std::string>() + "; curves from " + path;
+    out.data_files.push_back({copy, text});
+    out.curve_sources.push_back({copy, path, s.id, static_cast<int>(i)});
+    char line[512];
+    std::snprintf(line, sizeof line, "%s  %s  ->  %s", s.id.c_str(), path.c_str(), copy.c_str());
+    out.curves.push_back(line);
+  }
 }
 
 std::string material_of(const std::vector<MaterialRule>& rules, const std::string& location, double depth) {
@@ -344,7 +428,65 @@ std::vector<MaterialRule> read_material_map(const std::string& path) {
   return out;
 }
 
-Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const std::vector<MaterialRule>& rules) {
+CurveMap read_curve_map(const std::string& path) {
+  const detail::json root = detail::parse_json(detail::read_text_file(path), path);
+  detail::check_format(root, "triaxcal-curve-map", 1, path);
+  detail::check_keys(root, {"format", "version", "description", "layout", "curves", "pattern"}, path, "");
+  CurveMap m;
+  m.source = path;
+  m.folder = std::filesystem::path(path).parent_path().string();
+  if (m.folder.empty()) m.folder = ".";
+  auto layout_of = [&](const detail::json& j, const std::string& where) {
+    if (!j.is_object() || j.empty())
+      throw InputError(path + ": " + where + ": expected the test series' data object without \"file\" (kind, delimiter, columns, ...), found " +
+                       std::string(j.type_name()));
+    if (j.contains("file"))
+      throw InputError(path + ": " + where + ".file: not allowed here (the file comes from curves[].file or pattern)");
+    return j.dump();
+  };
+  if (root.contains("layout")) m.layout = layout_of(root.at("layout"), "layout");
+  if (root.contains("pattern")) {
+    m.pattern = detail::get_string(root, "pattern", path, "");
+    const std::string expected = " (expected a file name with keys in braces, e.g. \"{LOCA_ID}_{SPEC_DPTH}.csv\"; keys: LOCA_ID, SAMP_TOP, "
+                                 "SAMP_REF, SAMP_TYPE, SAMP_ID, SPEC_REF, SPEC_DPTH)";
+    if (m.pattern.find('{') == std::string::npos) throw InputError(path + ": pattern: '" + m.pattern + "' names no key" + expected);
+    for (std::size_t i = 0; i < m.pattern.size(); ++i) {
+      if (m.pattern[i] == '}') throw InputError(path + ": pattern: '" + m.pattern + "': a '}' without its '{'" + expected);
+      if (m.pattern[i] != '{') continue;
+      const std::size_t close = m.pattern.find('}', i);
+      if (close == std::string::npos) throw InputError(path + ": pattern: '" + m.pattern + "': a '{' without its '}'" + expected);
+      const std::string key = m.pattern.substr(i + 1, close - i - 1);
+      bool known = false;
+      for (const char* k : kSpecimenKeys) known = known || key == k;
+      if (!known) throw InputError(path + ": pattern: '{" + key + "}' is not a specimen key" + expected);
+      i = close;
+    }
+    if (m.layout.empty()) throw InputError(path + ": layout: required with a pattern (the columns of the curve files)");
+  }
+  if (root.contains("curves")) {
+    const detail::json& list = root.at("curves");
+    if (!list.is_array()) throw InputError(path + ": curves: expected a list of {\"specimen\", \"file\"}");
+    for (std::size_t i = 0; i < list.size(); ++i) {
+      const std::string p = "curves[" + std::to_string(i) + "]";
+      detail::require_object(list[i], path, p);
+      detail::check_keys(list[i], {"specimen", "file", "layout"}, path, p);
+      CurveMap::Entry e;
+      e.where = p;
+      e.specimen = detail::get_string(list[i], "specimen", path, p);
+      e.file = detail::get_string(list[i], "file", path, p);
+      if (e.file.empty()) throw InputError(path + ": " + p + ".file: must not be empty");
+      e.layout = list[i].contains("layout") ? layout_of(list[i].at("layout"), p + ".layout") : m.layout;
+      if (e.layout.empty()) throw InputError(path + ": " + p + ": no layout (give the map's layout or the entry's own)");
+      m.entries.push_back(e);
+    }
+  }
+  if (m.entries.empty() && m.pattern.empty())
+    throw InputError(path + ": expected curves (a list of {\"specimen\", \"file\"}), a pattern, or both");
+  return m;
+}
+
+Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const std::vector<MaterialRule>& rules,
+                       const CurveMap* curves) {
   Ags4Import out;
   // Keys: every SAMP row's location is in LOCA, every specimen's sample in SAMP.
   const Ags4Group& samp = require_group(f, "SAMP", "the specimens' keys resolve through it");
@@ -355,6 +497,10 @@ Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const 
   }
   std::vector<Found> all;
   std::map<std::string, int> stage_counts;
+  // The id column fits the widest id of the specimens' parent rows (AGS-style ids are long).
+  for (const char* g : {"TRIG", "TREG", "CONG"})
+    if (const Ags4Group* pg = f.group(g))
+      for (const auto& r : pg->rows) out.id_width = std::max(out.id_width, static_cast<int>(specimen_id(*pg, r).size()));
   const Ags4Group* trig = f.group("TRIG");
   const Ags4Group* trit = f.group("TRIT");
   const Ags4Group* treg = f.group("TREG");
@@ -427,6 +573,7 @@ Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const 
       add(s, oedometer_specimen(f, *cong, *cons, s, out));
     }
   }
+  if (curves) attach_curves(*curves, all, specimens, out);
   if (specimens.empty())
     throw InputError(f.source + ": no test to import (groups TRIG/TRIT, TREG/TRET or CONG/CONS with DATA rows are read)");
   // What was found.
@@ -458,8 +605,8 @@ Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const 
   out.summary.push_back("depth range: " + fmt(zmin) + " to " + fmt(zmax) + " m");
   int unassigned = 0;
   for (const Found& s : all) {
-    char line[256];
-    std::snprintf(line, sizeof line, "  %-18s %-6s %8.2f  %-9s %3d  %s", s.id.c_str(), s.location.c_str(), s.depth,
+    char line[1024];
+    std::snprintf(line, sizeof line, "  %-*s %-6s %8.2f  %-9s %3d  %s", out.id_width, s.id.c_str(), s.location.c_str(), s.depth,
                   s.test == "OED" ? "oedometer" : s.test.c_str(), static_cast<int>(s.rows.size()),
                   s.material.empty() ? "(none)" : s.material.c_str());
     out.specimens.push_back(line);

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <cstdlib>
 #include <limits>
 #include <numeric>
@@ -368,27 +369,42 @@ void interpret_reported_stage(const Specimen& sp, int k, const InterpretOptions&
 /// A stage with curves and reported failure values: the lab's point recomputed from the curves by
 /// the lab's criterion (max-deviator when not recognised) against the reported deviator stress and pore
 /// pressure at failure; a difference over kReportedRel of q_f (kReportedAbs floor) is a warning.
-void check_reported_failure(const Specimen& sp, int k, const StageInterpretation& r, std::vector<std::string>& warnings) {
+ReportedFailureCheck compare_reported_failure(const Specimen& sp, int k, const StageInterpretation& r) {
   const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
   const ReportedFailure& rf = st.failure;
+  ReportedFailureCheck c;
+  c.specimen = sp.id;
+  c.stage = k;
   bool recognised = false;
   const FailureCriterion lab = lab_criterion(rf.criterion, FailureCriterion::max_deviator, recognised);
+  c.criterion = lab;
+  c.q_reported = rf.deviator_stress;
   const FailurePoint& f = lab == FailureCriterion::max_stress_ratio ? r.by_max_stress_ratio : r.by_max_deviator;
-  if (f.index < 0) return;
+  if (f.index < 0) return c;
   const double tol = std::max(kReportedAbs, kReportedRel * rf.deviator_stress);
+  c.tolerance = tol;
   const std::string at = "specimen '" + sp.id + "', stages[" + std::to_string(k) + "]: ";
   const double q = std::abs(f.q);
+  c.q_curve = q;
   if (std::abs(q - rf.deviator_stress) > tol)
-    warnings.push_back(at + "the deviator stress at failure (" + to_string(lab) + ") recomputed from the curve is " + fmt(q) +
-                       " kPa, the lab reported " + fmt(rf.deviator_stress) + " kPa (difference " + fmt(q - rf.deviator_stress) +
-                       " kPa, tolerance " + fmt(tol) + " kPa: 2 % of the reported value, 2 kPa floor)");
+    c.warnings.push_back(at + "the deviator stress at failure (" + to_string(lab) + ") recomputed from the curve is " + fmt(q) +
+                         " kPa, the lab reported " + fmt(rf.deviator_stress) + " kPa (difference " + fmt(q - rf.deviator_stress) +
+                         " kPa, tolerance " + fmt(tol) + " kPa: 2 % of the reported value, 2 kPa floor)");
   if (given(rf.pore_pressure) && given(f.excess_pore_pressure) && st.shear == ShearType::cu) {
     const double u = f.excess_pore_pressure + sp.back_pressure;
+    c.u_reported = rf.pore_pressure;
+    c.u_curve = u;
     if (std::abs(u - rf.pore_pressure) > tol)
-      warnings.push_back(at + "the pore pressure at failure (" + to_string(lab) + ") from the curve is " + fmt(u) +
-                         " kPa, the lab reported " + fmt(rf.pore_pressure) + " kPa (difference " + fmt(u - rf.pore_pressure) +
-                         " kPa, tolerance " + fmt(tol) + " kPa)");
+      c.warnings.push_back(at + "the pore pressure at failure (" + to_string(lab) + ") from the curve is " + fmt(u) +
+                           " kPa, the lab reported " + fmt(rf.pore_pressure) + " kPa (difference " + fmt(u - rf.pore_pressure) +
+                           " kPa, tolerance " + fmt(tol) + " kPa)");
   }
+  return c;
+}
+
+void check_reported_failure(const Specimen& sp, int k, const StageInterpretation& r, std::vector<std::string>& warnings) {
+  const ReportedFailureCheck c = compare_reported_failure(sp, k, r);
+  warnings.insert(warnings.end(), c.warnings.begin(), c.warnings.end());
 }
 
 void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, StageInterpretation& r,
@@ -918,6 +934,54 @@ std::string left_out_reason(const std::vector<LeftOut>& out, const std::string& 
 }
 
 }  // namespace
+
+std::vector<ReportedFailureCheck> check_reported_failures(const TestSeries& series) {
+  std::vector<ReportedFailureCheck> out;
+  const InterpretOptions o;
+  for (const Specimen& sp : series.specimens) {
+    if (sp.failure_values_only()) continue;
+    int number = 0;
+    for (int k : sp.shear_stages()) {
+      ++number;
+      const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
+      const auto [first, last] = sp.stage_points(k);
+      if (!st.failure.given() || last < first) continue;
+      StageInterpretation r;
+      std::vector<std::string> ignored;  // the stage's other findings belong to interpret
+      interpret_stage(sp, k, o, r, ignored);
+      out.push_back(compare_reported_failure(sp, k, r));
+      out.back().shear_stage = number;
+    }
+  }
+  return out;
+}
+
+std::string reported_failure_table(const std::vector<ReportedFailureCheck>& checks) {
+  if (checks.empty()) return {};
+  int w = 8;
+  for (const ReportedFailureCheck& c : checks) w = std::max(w, static_cast<int>(c.specimen.size()));
+  auto num = [](double v) {
+    if (!given(v)) return std::string("-");
+    char b[32];
+    std::snprintf(b, sizeof b, "%.1f", v);
+    return std::string(b);
+  };
+  std::string out;
+  char line[512];
+  std::snprintf(line, sizeof line, "  %-*s %5s  %-16s %10s %10s %10s %10s %8s  %s\n", w, "specimen", "stage", "criterion", "q_f rep.",
+                "q_f curve", "u_f rep.", "u_f curve", "tol.", "check");
+  out += line;
+  for (const ReportedFailureCheck& c : checks) {
+    std::snprintf(line, sizeof line, "  %-*s %5d  %-16s %10s %10s %10s %10s %8s  %s\n", w, c.specimen.c_str(), c.shear_stage,
+                  to_string(c.criterion).c_str(), num(c.q_reported).c_str(), num(c.q_curve).c_str(), num(c.u_reported).c_str(),
+                  num(c.u_curve).c_str(), num(c.tolerance).c_str(),
+                  !given(c.q_curve) ? "no failure point on the curve" : c.warnings.empty() ? "ok" : "DIFFERS (warning)");
+    out += line;
+  }
+  out += "  (kPa; the lab's values at failure against the point recomputed from its curve by the lab's criterion; tolerance 2 % of "
+         "the reported q_f, 2 kPa floor: our rule, no source)\n";
+  return out;
+}
 
 Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
   o.validate();

@@ -1,3 +1,4 @@
+#include <algorithm>
 #include <nlohmann/json.hpp>
 
 #include <cmath>
@@ -209,16 +210,19 @@ std::string interpretation_json(const Interpretation& r) {
 
 std::string interpretation_text(const Interpretation& r) {
   std::ostringstream o;
-  char line[512];
+  char line[1024];
+  // The id columns widen for long ids (AGS-style LOCA_ID/SAMP_TOP/SAMP_REF/SPEC_REF), 10 at least.
+  int id_width = 10;
+  for (const StageInterpretation& s : r.stages) id_width = std::max(id_width, static_cast<int>(s.specimen.size()));
   if (!r.options.material.empty()) o << "Material: " << r.options.material << "\n";
   o << "Failure points (criterion " << to_string(r.options.criterion) << "; both common criteria side by side)\n";
-  std::snprintf(line, sizeof line, "  %-10s %5s %-4s %-4s %9s | %9s %9s %9s | %9s %9s %9s | %8s %9s %9s\n", "specimen", "stage", "test",
+  std::snprintf(line, sizeof line, "  %-*s %5s %-4s %-4s %9s | %9s %9s %9s | %9s %9s %9s | %8s %9s %9s\n", id_width, "specimen", "stage", "test",
                 "dir", "s3'c[kPa]", "ea,st[-]", "s'[kPa]", "t[kPa]", "ea,st[-]", "s'[kPa]", "t[kPa]", "cu[kPa]", "E50[kPa]", "A_f[-]");
   o << line;
-  std::snprintf(line, sizeof line, "  %-10s %5s %-4s %-4s %9s | %29s | %29s |\n", "", "", "", "", "", "max-deviator", "max-stress-ratio");
+  std::snprintf(line, sizeof line, "  %-*s %5s %-4s %-4s %9s | %29s | %29s |\n", id_width, "", "", "", "", "", "max-deviator", "max-stress-ratio");
   o << line;
   for (const StageInterpretation& s : r.stages) {
-    std::snprintf(line, sizeof line, "  %-10s %5d %-4s %-4s %9s | %9s %9s %9s | %9s %9s %9s | %8s %9s %9s\n", s.specimen.c_str(), s.shear_stage,
+    std::snprintf(line, sizeof line, "  %-*s %5d %-4s %-4s %9s | %9s %9s %9s | %9s %9s %9s | %8s %9s %9s\n", id_width, s.specimen.c_str(), s.shear_stage,
                   to_string(s.test).c_str(), s.direction == ShearDirection::compression ? "comp" : "ext",
                   cell(s.consolidation_radial).c_str(), cell(s.by_max_deviator.axial_strain, 4).c_str(),
                   cell(s.by_max_deviator.s).c_str(), cell(s.by_max_deviator.t).c_str(),
@@ -246,7 +250,7 @@ std::string interpretation_text(const Interpretation& r) {
       o << "\n";
       for (const StageInterpretation& s : r.stages) {
         if (!given(s.normal_stress_on_failure_plane)) continue;
-        std::snprintf(line, sizeof line, "  %-10s %5d  sigma'_nf %9s kPa", s.specimen.c_str(), s.shear_stage,
+        std::snprintf(line, sizeof line, "  %-*s %5d  sigma'_nf %9s kPa", id_width, s.specimen.c_str(), s.shear_stage,
                       cell(s.normal_stress_on_failure_plane).c_str());
         o << line;
         if (s.design_stress_flag == DesignStressFlag::above) o << "  ABOVE the design stress";
@@ -317,7 +321,7 @@ std::string interpretation_text(const Interpretation& r) {
     if (s.failure_values_only) continue;  // no curve, no stiffness
     std::string ur;
     for (double e : s.unload_reload_stiffness) ur += (ur.empty() ? "" : ", ") + cell(e, 0);
-    std::snprintf(line, sizeof line, "  %-10s %5d %-4s E_i %9s kPa  E_50 %9s kPa  E_ur %s kPa\n", s.specimen.c_str(), s.shear_stage,
+    std::snprintf(line, sizeof line, "  %-*s %5d %-4s E_i %9s kPa  E_50 %9s kPa  E_ur %s kPa\n", id_width, s.specimen.c_str(), s.shear_stage,
                   to_string(s.test).c_str(), cell(s.initial_stiffness, 0).c_str(), cell(s.secant_stiffness_50, 0).c_str(),
                   ur.empty() ? "-" : ur.c_str());
     o << line;
@@ -340,9 +344,9 @@ std::string interpretation_text(const Interpretation& r) {
     if (s.test != ShearType::cd) continue;
     const DilationWindow& w = s.dilation_window;
     std::snprintf(line, sizeof line,
-                  "  %-10s %5d  d %7s (se %s; local windows %s wide; peak stretch %s to %s axial strain, %d points)  psi %6s deg  phi_cv %6s deg  "
+                  "  %-*s %5d  d %7s (se %s; local windows %s wide; peak stretch %s to %s axial strain, %d points)  psi %6s deg  phi_cv %6s deg  "
                   "I_R %5s  3 I_R %5s deg  measured %5s deg\n",
-                  s.specimen.c_str(), s.shear_stage, cell(s.max_dilation_rate, 3).c_str(), cell(s.max_dilation_rate_se, 3).c_str(),
+                  id_width, s.specimen.c_str(), s.shear_stage, cell(s.max_dilation_rate, 3).c_str(), cell(s.max_dilation_rate_se, 3).c_str(),
                   cell(w.width, 4).c_str(), cell(w.from, 4).c_str(), cell(w.to, 4).c_str(), w.points,
                   cell(s.dilation_angle, 2).c_str(), cell(s.phi_cv_rowe, 2).c_str(),
                   cell(s.bolton_index, 2).c_str(), cell(s.bolton_phi_difference, 1).c_str(), cell(s.measured_phi_difference, 1).c_str());

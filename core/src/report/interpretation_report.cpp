@@ -57,7 +57,10 @@ const Specimen* specimen_of(const TestSeries& series, const std::string& id) {
 }
 
 bool is_uu(const StageInterpretation& s) { return s.test == ShearType::uu; }
-bool effective(const StageInterpretation& s) { return !is_uu(s) && s.by_max_deviator.index >= 0 && given(s.by_max_deviator.s); }
+/// A failure point of a curve, or the lab's reported one (a stage known by its failure values only).
+bool has_point(const FailurePoint& f) { return (f.index >= 0 || f.reported) && given(f.s) && given(f.t); }
+/// An effective-stress stage with a failure point: a curve's, or (failure values only) the lab's by its criterion.
+bool effective(const StageInterpretation& s) { return !is_uu(s) && (has_point(s.by_max_deviator) || has_point(s.by_max_stress_ratio)); }
 
 /// What the page holds; plot and table ids follow from it.
 struct Plan {
@@ -433,8 +436,14 @@ class InterpretationRenderer {
     p.height = 460.0;
     double smax = 0.0, tmax = 0.0, tmin = 0.0;
     int style = 0;
+    bool any_reported = false;
     for (const StageInterpretation& s : in_.stages) {
       if (!effective(s)) continue;
+      if (s.failure_values_only) {  // the lab's failure point only: no path to draw
+        any_reported = true;
+        smax = std::max(smax, has_point(s.by_max_deviator) ? s.by_max_deviator.s : s.by_max_stress_ratio.s);
+        continue;
+      }
       const Specimen* spc = sp(s.specimen);
       if (!spc) continue;
       const auto [first, last] = spc->stage_points(s.stage);
@@ -472,17 +481,22 @@ class InterpretationRenderer {
       bool used = false;
       for (const UsedPoint& u : env.points)
         if (u.specimen == s.specimen && u.stage == s.stage) used = u.used;
-      if (!used) {
+      if (!used && has_point(s.by_criterion)) {
         ox.push_back(s.by_criterion.s);
         oy.push_back(s.by_criterion.t);
       }
-      dx.push_back(s.by_max_deviator.s);
-      dy.push_back(s.by_max_deviator.t);
-      if (s.by_max_stress_ratio.index >= 0) {
+      if (has_point(s.by_max_deviator)) {
+        dx.push_back(s.by_max_deviator.s);
+        dy.push_back(s.by_max_deviator.t);
+        tmax = std::max(tmax, s.by_max_deviator.t);
+      }
+      if (has_point(s.by_max_stress_ratio)) {
         rx.push_back(s.by_max_stress_ratio.s);
         ry.push_back(s.by_max_stress_ratio.t);
+        tmax = std::max(tmax, s.by_max_stress_ratio.t);
       }
-      if (o.criterion != FailureCriterion::max_deviator && o.criterion != FailureCriterion::max_stress_ratio) {
+      if (o.criterion != FailureCriterion::max_deviator && o.criterion != FailureCriterion::max_stress_ratio &&
+          has_point(s.by_criterion)) {
         cx.push_back(s.by_criterion.s);
         cy.push_back(s.by_criterion.t);
       }
@@ -544,7 +558,9 @@ class InterpretationRenderer {
     if (!(tmin < -0.02 * tmax)) p.y.min = 0.0;
     o_ << figure(p, "Stress path of every test (dotted: left out), failure points by maximum deviator stress (circles) and by "
                     "maximum stress ratio (triangles), the regression and design lines drawn only over the s' range used (shaded), "
-                    "and the design stress as the locus of s'-t points whose failure plane carries it.");
+                    "and the design stress as the locus of s'-t points whose failure plane carries it." +
+                    std::string(any_reported ? " Failure points without a path are the lab's values at failure (no curve), each "
+                                               "drawn for the criterion the lab reported only." : ""));
   }
 
   void mohr_plot(const StrengthEnvelope& env) {
