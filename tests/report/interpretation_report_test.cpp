@@ -285,3 +285,55 @@ TEST_CASE("the effective Mohr circles read back within a pixel, each labelled, a
     CHECK(declared->get("data-name").find("(declared)") != std::string::npos);
   }
 }
+
+TEST_CASE("failure-value stages are drawn in the s'-t and Mohr plots as points without a path, read back within a pixel",
+          "[report][interpret][readback]") {
+  // The invented Hollowmere Reach site typed in as a series (tests/ags/data): CU specimens known by the lab's values at
+  // failure only, on t = 10 + 0.5 s' (hand calculation in tests/ags/import_test.cpp).
+  const TestSeries series = read_test_series(source_path("tests/ags/data/hollowmere_reach_series.json"));
+  InterpretOptions o;
+  o.material = "clay A";
+  const Interpretation in = interpret(series, o);
+  const auto dom = parse_xml(report::render_interpretation_report(in, series));
+  CHECK(dom->by_id("no-strength") == nullptr);
+  const Element* svg = dom->by_id("plot-s-t");
+  REQUIRE(svg != nullptr);
+  const AxisMap mx = read_axis(*svg, "x"), my = read_axis(*svg, "y");
+  std::vector<const StageInterpretation*> reported;
+  for (const StageInterpretation& s : in.stages)
+    if (s.test == ShearType::cu) reported.push_back(&s);
+  REQUIRE(reported.size() == 5);
+  const Element* g = series_of_class(*svg, "failure-max-deviator");
+  REQUIRE(g != nullptr);
+  const auto uses = g->by_name("use");
+  REQUIRE(uses.size() == reported.size());
+  for (std::size_t i = 0; i < uses.size(); ++i) {
+    INFO(reported[i]->specimen << " stage " << reported[i]->shear_stage);
+    // s' = cell - u_f + q_f / 2, t = q_f / 2 from the lab's values (the hand calculation's points).
+    CHECK(pixel_error(mx, reported[i]->by_max_deviator.s, std::stod(uses[i]->get("x"))) < 1.0);
+    CHECK(pixel_error(my, reported[i]->by_max_deviator.t, std::stod(uses[i]->get("y"))) < 1.0);
+    CHECK(pixel_error(my, 0.5 * reported[i]->by_max_deviator.q, std::stod(uses[i]->get("y"))) < 1.0);
+  }
+  CHECK(svg->by_class("stress-path").empty());  // no curve, no path
+  const Element* fig = dom->by_id("fig-plot-s-t");
+  REQUIRE(fig != nullptr);
+  CHECK(fig->by_name("figcaption").front()->text.find("Failure points without a path are the lab's values at failure") !=
+        std::string::npos);
+  // Mohr circles: centre s', radius t of each reported point.
+  const Element* mohr = dom->by_id("plot-mohr");
+  REQUIRE(mohr != nullptr);
+  const AxisMap cx = read_axis(*mohr, "x"), cy = read_axis(*mohr, "y");
+  const auto arcs = mohr->by_class("mohr-circle");
+  REQUIRE(arcs.size() == reported.size());
+  for (std::size_t i = 0; i < arcs.size(); ++i) {
+    std::istringstream d(arcs[i]->get("d"));
+    std::string M, A;
+    double x0, y0, rx, ry, rot, large, sweep, x1, y1;
+    d >> M >> x0 >> y0 >> A >> rx >> ry >> rot >> large >> sweep >> x1 >> y1;
+    const double c = reported[i]->by_max_deviator.s, r = reported[i]->by_max_deviator.t;
+    CHECK(pixel_error(cx, c - r, x0) < 1.0);
+    CHECK(pixel_error(cx, c + r, x1) < 1.0);
+    CHECK(pixel_error(cy, 0.0, y0) < 1.0);
+    CHECK(arcs[i]->get("data-name").rfind(reported[i]->specimen, 0) == 0);
+  }
+}
