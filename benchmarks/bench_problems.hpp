@@ -1,11 +1,13 @@
 #pragma once
-// The three calibration problems of the benchmarks (synthetic tests, invented parameters,
-// generated with simulate()): Mohr-Coulomb 5 free on 3 CD tests, MCC 4 free on 3 CU tests at
-// OCR 1, 2, 6, hyperbolic_hardening 6 free on 3 CD + 1 oedometer test.
+// The calibration problems of the benchmarks (synthetic tests, invented parameters, generated with
+// simulate()): Mohr-Coulomb 5 free on 3 CD tests, MCC 4 free on 3 CU tests at OCR 1, 2, 6,
+// hyperbolic_hardening 6 free on 3 CD + 1 oedometer test, sand_state_bounding 10 free on 6 CD and CU
+// tests, dense and loose (the round trip's problem, tests/calibrate/sand_problem.hpp).
 
 #include <cmath>
 #include <string>
 
+#include "../tests/calibrate/sand_problem.hpp"
 #include "../tests/calibrate/synthetic.hpp"
 
 namespace triaxcal::bench {
@@ -70,5 +72,7 @@ inline CalibrationProblem hyperbolic() {
   p.constraints = {"critical_state_friction_angle <= friction_angle", "unloading_stiffness_ref >= 2 * secant_stiffness_ref"};
   return p;
 }
+
+inline CalibrationProblem sand() { return sand_problem(); }
 
 }  // namespace triaxcal::bench

@@ -1,5 +1,5 @@
 // One calibration a process, for whole-process timings (start-up, problem set-up, the fit,
-// intervals): fit_process_bench <mohr_coulomb|cam_clay|hyperbolic> <new|old> [threads]
+// intervals): fit_process_bench <mohr_coulomb|cam_clay|hyperbolic|sand> <new|old> [threads]
 //   new: the default (least-squares multi-start, intervals); old: CRS2 4000 + BOBYQA, the demo's
 //   former default. Prints evaluations (objective + Jacobian simulations), objective, local runs,
 //   runs at the best objective and the in-process wall time. Time it from outside, interleaved
@@ -15,7 +15,7 @@ using namespace triaxcal::bench;
 
 int main(int argc, char** argv) {
   if (argc < 3) {
-    std::fprintf(stderr, "usage: fit_process_bench <mohr_coulomb|cam_clay|hyperbolic> <new|old> [threads]\n");
+    std::fprintf(stderr, "usage: fit_process_bench <mohr_coulomb|cam_clay|hyperbolic|sand> <new|old> [threads]\n");
     return 2;
   }
   const std::string which = argv[1], mode = argv[2];
@@ -26,6 +26,8 @@ int main(int argc, char** argv) {
     problem = cam_clay();
   else if (which == "hyperbolic")
     problem = hyperbolic();
+  else if (which == "sand")
+    problem = sand();
   else
     return 2;
   CalibrationOptions o;
