@@ -38,7 +38,7 @@ std::string message_of(const std::string& text) {
 TEST_CASE("the invented AGS4 file is read: groups, rows and units converted once") {
   const Ags4File f = read_ags4(test::source_path("tests/ags/data/hollowmere_reach.ags"));
   CHECK_FALSE(f.latin1);
-  REQUIRE(f.groups.size() == 9);
+  REQUIRE(f.groups.size() == 10);  // PROJ, LOCA, SAMP, TRIG, TRIT, TREG, TRET, CONG, CONS, GEOL
   const Ags4Group* trit = f.group("TRIT");
   REQUIRE(trit != nullptr);
   REQUIRE(trit->rows.size() == 4);

@@ -198,3 +198,29 @@ TEST_CASE("import writes the series and its data files together: a second import
   for (const Specimen& sp : s.specimens)
     if (!sp.is_oedometer()) CHECK(sp.failure_values_only());
 }
+
+TEST_CASE("check and interpret tables widen for AGS-style ids: every row's columns line up", "[ags][curves]") {
+  const fs::path dir = scratch("wide");
+  REQUIRE(import(data("hollowmere_reach.ags"), dir / "series.json", data("hollowmere_reach_curves.json"), "wide").exit_code == 0);
+  // The widest id, BH02/12.00/3/1, is 14 characters: the id column is 14 wide, shorter ids padded to it.
+  const test::CliResult c = test::run_cli("check " + (dir / "series.json").string(), "ags_curves_wide_check");
+  REQUIRE(c.exit_code == 0);
+  CHECK(c.out.find("\n  specimen       stage test dir  points ") != std::string::npos);
+  CHECK(c.out.find("\n  BH01/5.00/3/1  2     CU   comp     16 ") != std::string::npos);
+  CHECK(c.out.find("\n  oedometer      stage points ") != std::string::npos);
+  CHECK(c.out.find("\n  BH03/3.00/1/1  0          8 ") != std::string::npos);
+  CHECK(c.out.find("\n  reported       stage test curves ") != std::string::npos);
+  CHECK(c.out.find("\n  BH01/5.00/3/3  2     CU   no          400.0 ") != std::string::npos);
+  CHECK(c.out.find("\n  BH02/12.00/3/1 2     CD   no          350.0 ") != std::string::npos);
+  const test::CliResult i =
+      test::run_cli("interpret " + (dir / "series.json").string() + " --material \"sand B\"", "ags_curves_wide_interpret");
+  REQUIRE(i.exit_code == 0);
+  CHECK(i.out.find("\n  specimen       stage test dir  s3'c[kPa] |") != std::string::npos);
+  CHECK(i.out.find("\n                                           |                  max-deviator |") != std::string::npos);
+  CHECK(i.out.find("\n  BH02/12.00/3/1     1 CD   comp      50.0 |") != std::string::npos);
+  const test::CliResult k =
+      test::run_cli("interpret " + (dir / "series.json").string() + " --material \"clay A\"", "ags_curves_wide_interpret_clay");
+  REQUIRE(k.exit_code == 0);
+  CHECK(k.out.find("\n  specimen      stage test dir  s3'c[kPa] |") != std::string::npos);  // 13 wide
+  CHECK(k.out.find("\n  BH01/5.00/3/3     3 CU   comp     300.0 |") != std::string::npos);
+}

@@ -105,8 +105,14 @@ TEST_CASE("the Kestrel Bay series' failure values written as AGS4 and imported a
     out << text;
   }
   const Ags4File file = read_ags4((dir / "kestrel_bay.ags").string());
-  const Ags4Import imported = import_ags4(file, "kestrel bay again",
-                                          {{"sand S", "KB-S", 0.0, 100.0}, {"clay C", "KB-C", 0.0, 100.0}});
+  std::vector<MaterialRule> rules(2);
+  for (std::size_t i = 0; i < 2; ++i) {
+    rules[i].material = i == 0 ? "sand S" : "clay C";
+    rules[i].location = i == 0 ? "KB-S" : "KB-C";
+    rules[i].from = 0.0;
+    rules[i].to = 100.0;
+  }
+  const Ags4Import imported = import_ags4(file, "kestrel bay again", rules);
   {
     std::ofstream out(dir / "series.json", std::ios::binary);
     out << imported.series_json;

@@ -79,14 +79,24 @@ TRIAXCAL_CORE_EXPORT std::string to_string(Ags4Dimension d);
 
 namespace triaxcal {
 
-/// Which material a specimen belongs to: the first rule whose location (empty: any) and depth range
-/// [from, to) (m below ground, the specimen's SPEC_DPTH, else its SAMP_TOP) hold it. A material-map
-/// file (format "triaxcal-material-map", version 1, docs/ags4-import.md) lists them.
+/// Which material a specimen belongs to: the first rule that holds it (docs/ags4-import.md "Material map").
+/// A rule holds a specimen when its location (empty: any) is the specimen's LOCA_ID, its depth range
+/// [from, to) (m below ground, the specimen's SPEC_DPTH, else its SAMP_TOP; absent: any depth) holds
+/// the depth, and the GEOL stratum that holds the specimen (same LOCA_ID, GEOL_TOP <= depth < GEOL_BASE)
+/// has every heading value of `geol`. The material is `material`, or the stratum's value of the GEOL
+/// heading `material_from_geol`. A material-map file (format "triaxcal-material-map", version 1) lists them.
 struct MaterialRule {
-  std::string material;
-  std::string location;  ///< LOCA_ID, empty for any
-  double from = 0.0;     ///< m
-  double to = 0.0;       ///< m
+  std::string material;            ///< empty when `material_from_geol` names it
+  std::string location;            ///< LOCA_ID, empty for any
+  double from = 0.0;               ///< m
+  double to = 0.0;                 ///< m
+  std::string material_from_geol;  ///< a GEOL heading, e.g. GEOL_GEOL
+  bool depth_range = true;         ///< from/to given
+  std::vector<std::pair<std::string, std::string>> geol;  ///< GEOL heading, value as written
+  std::string where;               ///< "materials[i]" of its file
+  std::string source;              ///< the map file
+  /// Whether it needs the GEOL group.
+  bool uses_geol() const { return !geol.empty() || !material_from_geol.empty(); }
 };
 
 /// Reads a material-map file; throws InputError naming file and key.

@@ -110,6 +110,7 @@ struct Found {
   std::string test;  // UU, CU, CD, OED
   std::vector<const Ags4Group::Row*> rows;
   std::string material;
+  const Ags4Group::Row* stratum = nullptr;  ///< the GEOL row that holds it (when the material map uses GEOL)
 };
 
 std::string depth_text(const Found& s);
@@ -395,9 +396,76 @@ void attach_curves(const CurveMap& m, const std::vector<Found>& all, json& speci
   }
 }
 
-std::string material_of(const std::vector<MaterialRule>& rules, const std::string& location, double depth) {
+/// GEOL strata for the material map: checked rows (LOCA_ID, GEOL_TOP < GEOL_BASE in m) and the
+/// headings the rules name.
+struct Strata {
+  const Ags4Group* geol = nullptr;
+  struct Row {
+    const Ags4Group::Row* row;
+    std::string location;
+    double top, base;
+  };
+  std::vector<Row> rows;
+};
+
+Strata read_strata(const Ags4File& f, const std::vector<MaterialRule>& rules) {
+  Strata st;
+  const MaterialRule* user = nullptr;
   for (const MaterialRule& m : rules)
-    if ((m.location.empty() || m.location == location) && depth >= m.from && depth < m.to) return m.material;
+    if (!user && m.uses_geol()) user = &m;
+  if (!user) return st;
+  st.geol = f.group("GEOL");
+  if (!st.geol)
+    throw InputError(user->source + ": " + user->where + ": the rule uses GEOL strata, but " + f.source + " has no GEOL group");
+  for (const char* h : {"LOCA_ID", "GEOL_TOP", "GEOL_BASE"}) require_heading(f, *st.geol, h);
+  for (const MaterialRule& m : rules) {
+    std::vector<std::string> named;
+    for (const auto& [h, v] : m.geol) named.push_back(h);
+    if (!m.material_from_geol.empty()) named.push_back(m.material_from_geol);
+    for (const std::string& h : named)
+      if (st.geol->column(h) < 0)
+        throw InputError(m.source + ": " + m.where + ": heading " + h + " is not in the GEOL group of " + f.source + " (line " +
+                         std::to_string(st.geol->line) + ")");
+  }
+  for (const auto& r : st.geol->rows) {
+    const double top = ags4_number(f, *st.geol, r, "GEOL_TOP", Ags4Dimension::length, true);
+    const double base = ags4_number(f, *st.geol, r, "GEOL_BASE", Ags4Dimension::length, true);
+    if (!(base > top))
+      throw InputError(ags4_where(f, *st.geol, r.line, "GEOL_BASE") + ": " + fmt(base) + " m is not below GEOL_TOP " + fmt(top) + " m");
+    st.rows.push_back({&r, field(*st.geol, r, "LOCA_ID"), top, base});
+  }
+  return st;
+}
+
+/// The stratum that holds a specimen (GEOL_TOP <= depth < GEOL_BASE at its location), or nullptr;
+/// two strata that both hold it are an error.
+const Ags4Group::Row* stratum_of(const Ags4File& f, const Strata& st, const Found& s) {
+  const Strata::Row* found = nullptr;
+  for (const Strata::Row& r : st.rows) {
+    if (r.location != s.location || !(s.depth >= r.top && s.depth < r.base)) continue;
+    if (found)
+      throw InputError(ags4_where(f, *st.geol, r.row->line, "GEOL_TOP") + ": specimen " + s.id + " at " + fmt(s.depth) +
+                       " m lies in two strata (also line " + std::to_string(found->row->line) + ")");
+    found = &r;
+  }
+  return found ? found->row : nullptr;
+}
+
+std::string material_of(const std::vector<MaterialRule>& rules, const Strata& st, const Found& s) {
+  for (const MaterialRule& m : rules) {
+    if (!m.location.empty() && m.location != s.location) continue;
+    if (m.depth_range && !(s.depth >= m.from && s.depth < m.to)) continue;
+    if (m.uses_geol() && !s.stratum) continue;
+    bool held = true;
+    for (const auto& [h, v] : m.geol) held = held && field(*st.geol, *s.stratum, h) == v;
+    if (!held) continue;
+    if (!m.material_from_geol.empty()) {
+      const std::string name = field(*st.geol, *s.stratum, m.material_from_geol);
+      if (!name.empty()) return name;
+      continue;  // an empty GEOL value names no material: the next rule may
+    }
+    return m.material;
+  }
   return {};
 }
 
@@ -406,23 +474,48 @@ std::string material_of(const std::vector<MaterialRule>& rules, const std::strin
 std::vector<MaterialRule> read_material_map(const std::string& path) {
   const detail::json root = detail::parse_json(detail::read_text_file(path), path);
   detail::check_format(root, "triaxcal-material-map", 1, path);
-  detail::check_keys(root, {"format", "version", "materials"}, path, "");
+  detail::check_keys(root, {"format", "version", "description", "materials"}, path, "");
   if (!root.contains("materials") || !root.at("materials").is_array() || root.at("materials").empty())
-    throw InputError(path + ": materials: expected a non-empty list of {\"material\", \"location\", \"from\", \"to\"}");
+    throw InputError(path + ": materials: expected a non-empty list of {\"material\", \"location\", \"from\", \"to\", \"geol\"}");
   std::vector<MaterialRule> out;
   const detail::json& list = root.at("materials");
   for (std::size_t i = 0; i < list.size(); ++i) {
     const std::string p = "materials[" + std::to_string(i) + "]";
     detail::require_object(list[i], path, p);
-    detail::check_keys(list[i], {"material", "location", "from", "to"}, path, p);
+    detail::check_keys(list[i], {"material", "material_from_geol", "location", "from", "to", "geol"}, path, p);
     MaterialRule m;
-    m.material = detail::get_string(list[i], "material", path, p);
-    if (m.material.empty()) throw InputError(path + ": " + p + ".material: must not be empty");
+    m.where = p;
+    m.source = path;
+    if (list[i].contains("material") == list[i].contains("material_from_geol"))
+      throw InputError(path + ": " + p + ": expected one of material (a name) or material_from_geol (a GEOL heading that names it)");
+    if (list[i].contains("material")) {
+      m.material = detail::get_string(list[i], "material", path, p);
+      if (m.material.empty()) throw InputError(path + ": " + p + ".material: must not be empty");
+    } else {
+      m.material_from_geol = detail::get_string(list[i], "material_from_geol", path, p);
+      if (m.material_from_geol.rfind("GEOL_", 0) != 0)
+        throw InputError(path + ": " + p + ".material_from_geol: '" + m.material_from_geol + "' is not a GEOL heading (e.g. GEOL_GEOL, GEOL_DESC)");
+    }
     m.location = detail::get_string_or(list[i], "location", "", path, p);
-    m.from = detail::get_number(list[i], "from", path, p);
-    m.to = detail::get_number(list[i], "to", path, p);
-    if (!(m.to > m.from))
-      throw InputError(path + ": " + p + ": the depth range [" + fmt(m.from) + ", " + fmt(m.to) + ") m is empty (expected from < to)");
+    if (list[i].contains("from") != list[i].contains("to"))
+      throw InputError(path + ": " + p + ": from and to go together (a depth range [from, to) m), or neither (any depth)");
+    m.depth_range = list[i].contains("from");
+    if (m.depth_range) {
+      m.from = detail::get_number(list[i], "from", path, p);
+      m.to = detail::get_number(list[i], "to", path, p);
+      if (!(m.to > m.from))
+        throw InputError(path + ": " + p + ": the depth range [" + fmt(m.from) + ", " + fmt(m.to) + ") m is empty (expected from < to)");
+    }
+    if (list[i].contains("geol")) {
+      const detail::json& g = list[i].at("geol");
+      if (!g.is_object() || g.empty())
+        throw InputError(path + ": " + p + ".geol: expected GEOL headings and their values, e.g. {\"GEOL_GEOL\": \"ALV\"}");
+      for (const auto& [h, v] : g.items()) {
+        if (h.rfind("GEOL_", 0) != 0) throw InputError(path + ": " + p + ".geol: '" + h + "' is not a GEOL heading (e.g. GEOL_GEOL)");
+        if (!v.is_string()) throw InputError(path + ": " + p + ".geol." + h + ": expected the value as text, found " + v.dump());
+        m.geol.emplace_back(h, v.get<std::string>());
+      }
+    }
     out.push_back(m);
   }
   return out;
@@ -497,6 +590,11 @@ Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const 
   }
   std::vector<Found> all;
   std::map<std::string, int> stage_counts;
+  const Strata strata = read_strata(f, rules);
+  auto assign = [&](Found& s) {
+    if (strata.geol) s.stratum = stratum_of(f, strata, s);
+    s.material = material_of(rules, strata, s);
+  };
   // The id column fits the widest id of the specimens' parent rows (AGS-style ids are long).
   for (const char* g : {"TRIG", "TREG", "CONG"})
     if (const Ags4Group* pg = f.group(g))
@@ -536,7 +634,7 @@ Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const 
         continue;
       }
       s.test = "UU";
-      s.material = material_of(rules, s.location, s.depth);
+      assign(s);
       stage_counts["UU"] += static_cast<int>(s.rows.size());
       add(s, uu_specimen(f, *trit, s));
     }
@@ -554,7 +652,7 @@ Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const 
       if (type != "CU" && type != "CD")
         throw InputError(ags4_where(f, *treg, s.row->line, "TREG_TYPE") + ": '" + type + "' is not a test type read here (expected CU or CD)");
       s.test = type;
-      s.material = material_of(rules, s.location, s.depth);
+      assign(s);
       stage_counts[type] += static_cast<int>(s.rows.size());
       add(s, effective_specimen(f, *treg, *tret, s));
     }
@@ -568,7 +666,7 @@ Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const 
         continue;
       }
       s.test = "OED";
-      s.material = material_of(rules, s.location, s.depth);
+      assign(s);
       stage_counts["OED"] += static_cast<int>(s.rows.size());
       add(s, oedometer_specimen(f, *cong, *cons, s, out));
     }
@@ -603,13 +701,39 @@ Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const 
                " (" + std::to_string(stage_counts[t]) + (t == std::string("OED") ? " increments" : " stages") + ")";
   out.summary.push_back("specimens: " + std::to_string(all.size()) + ": " + tests);
   out.summary.push_back("depth range: " + fmt(zmin) + " to " + fmt(zmax) + " m");
+  std::vector<std::string> geol_headings;  // the GEOL headings the rules name, in order
+  for (const MaterialRule& m : rules) {
+    std::vector<std::string> named;
+    for (const auto& [h, v] : m.geol) named.push_back(h);
+    if (!m.material_from_geol.empty()) named.push_back(m.material_from_geol);
+    for (const std::string& h : named)
+      if (std::find(geol_headings.begin(), geol_headings.end(), h) == geol_headings.end()) geol_headings.push_back(h);
+  }
+  if (strata.geol) {
+    std::set<std::string> at;
+    for (const Strata::Row& r : strata.rows) at.insert(r.location);
+    out.summary.push_back("strata (GEOL, for the material map): " + std::to_string(strata.rows.size()) + " at " + std::to_string(at.size()) +
+                          " location(s)");
+  }
   int unassigned = 0;
   for (const Found& s : all) {
     char line[1024];
     std::snprintf(line, sizeof line, "  %-*s %-6s %8.2f  %-9s %3d  %s", out.id_width, s.id.c_str(), s.location.c_str(), s.depth,
                   s.test == "OED" ? "oedometer" : s.test.c_str(), static_cast<int>(s.rows.size()),
                   s.material.empty() ? "(none)" : s.material.c_str());
-    out.specimens.push_back(line);
+    std::string text = line;
+    if (strata.geol) {
+      // The stratum that gave the material, so that the user can check it.
+      if (!s.stratum) {
+        text += "  (in no GEOL stratum of " + s.location + ")";
+      } else {
+        text += "  (GEOL line " + std::to_string(s.stratum->line) + ": " + field(*strata.geol, *s.stratum, "GEOL_TOP") + " to " +
+                field(*strata.geol, *s.stratum, "GEOL_BASE") + " m";
+        for (const std::string& h : geol_headings) text += ", " + h + " '" + field(*strata.geol, *s.stratum, h) + "'";
+        text += ")";
+      }
+    }
+    out.specimens.push_back(text);
     if (s.material.empty()) ++unassigned;
   }
   if (!rules.empty() && unassigned > 0)
