@@ -74,21 +74,22 @@ TEST_CASE("curve files attach to the imported specimens by id and by a key patte
   const std::string no_volume = ": the consolidation before the data declares no end_volumetric_strain; the area correction uses the "
                                 "set-up dimensions and void ratios are not reported";
   const std::string series = (dir / "series.json").string();
-  CHECK(r.err == "triaxcal: warning: " + series + ": specimens[4]" + no_volume +
-                     " (specimen BH01/5.00/3/1: its curves are BH01_5.00_3_1.curves.csv, the import's copy of " +
-                     data("curves/bh01_5.10_cu.csv") + ")\ntriaxcal: warning: " + series + ": specimens[5]" + no_volume +
-                     " (specimen BH01/5.00/3/2: its curves are BH01_5.00_3_2.curves.csv, the import's copy of " +
-                     data("curves/bh01_5.30_cu.csv") + ")\n");
-  CHECK(r.out.find("  curve files (" + data("hollowmere_reach_curves.json") + "): 3 attached\n") != std::string::npos);
+  CHECK(r.err.find("triaxcal: warning: " + series + ": specimens[4]" + no_volume +
+                   " (specimen BH01/5.00/3/1: its curves are BH01_5.00_3_1.curves.csv, the import's copy of " +
+                   data("curves/bh01_5.10_cu.csv") + ")\ntriaxcal: warning: " + series + ": specimens[5]" + no_volume +
+                   " (specimen BH01/5.00/3/2: its curves are BH01_5.00_3_2.curves.csv, the import's copy of " +
+                   data("curves/bh01_5.30_cu.csv") + ")\ntriaxcal: warning: " + series + ": specimens[6]" + no_volume) == 0);
+  CHECK(r.err.find("recomputed from the curve") == std::string::npos);
+  CHECK(r.out.find("  curve files (" + data("hollowmere_reach_curves.json") + "): 4 attached\n") != std::string::npos);
   CHECK(r.out.find("  BH01/2.00/1/1  " + (fs::path(data("")) / "curves/BH01_2.10.csv").string() + "  ->  BH01_2.00_1_1.curves.csv\n") !=
         std::string::npos);  // by the pattern curves/{LOCA_ID}_{SPEC_DPTH}.csv
   CHECK(r.out.find("data file written: " + (dir / "BH01_5.00_3_2.curves.csv").string() + "\n") != std::string::npos);
   CHECK(names_in(dir) == std::vector<std::string>{"BH01_2.00_1_1.curves.csv", "BH01_5.00_3_1.curves.csv", "BH01_5.00_3_2.curves.csv",
-                                                  "BH03_3.00_1_1.csv", "series.json"});
+                                                  "BH01_5.00_3_3.curves.csv", "BH03_3.00_1_1.csv", "series.json"});
   // The copy is the lab's file as it was.
   CHECK(read(dir / "BH01_5.00_3_1.curves.csv") == read(data("curves/bh01_5.10_cu.csv")));
   const TestSeries s = read_test_series((dir / "series.json").string());
-  CHECK(s.warnings.size() == 2);
+  CHECK(s.warnings.size() == 3);
   const Specimen& cu = s.specimens[4];
   REQUIRE(cu.id == "BH01/5.00/3/1");
   CHECK_FALSE(cu.failure_values_only());  // both: curves and the reported values
@@ -96,7 +97,7 @@ TEST_CASE("curve files attach to the imported specimens by id and by a key patte
   CHECK(cu.curves.size() == 16);
   CHECK(s.specimens[1].failure_values_only());  // BH01/4.00/2/1: no file matches the pattern
   const std::vector<ReportedFailureCheck> checks = check_reported_failures(s);
-  REQUIRE(checks.size() == 3);
+  REQUIRE(checks.size() == 6);
   // The invented curves' peaks (their first lines say so): 60.0, 160.0 and 303.0 kPa; u there 340.0 and 371.0 kPa.
   CHECK(checks[0].specimen == "BH01/2.00/1/1");
   CHECK(checks[0].q_curve == Approx(60.0).margin(1e-9));
@@ -107,6 +108,20 @@ TEST_CASE("curve files attach to the imported specimens by id and by a key patte
   CHECK(checks[2].q_reported == 300.0);
   CHECK(checks[2].u_curve == Approx(371.0).margin(1e-9));
   CHECK(checks[2].tolerance == Approx(6.0).margin(1e-12));  // 2 % of 300 kPa
+  // The multi-stage specimen's three files of one stage each, merged: peaks 190.0, 320.0, 460.0 kPa, u 325.0, 360.0,
+  // 390.0 kPa there (the files' first lines).
+  for (int k = 0; k < 3; ++k) {
+    CHECK(checks[3 + k].specimen == "BH01/5.00/3/3");
+    CHECK(checks[3 + k].shear_stage == k + 1);
+    CHECK(checks[3 + k].q_curve == Approx(std::vector<double>{190.0, 320.0, 460.0}[k]).margin(1e-9));
+    CHECK(checks[3 + k].u_curve == Approx(std::vector<double>{325.0, 360.0, 390.0}[k]).margin(1e-9));
+  }
+  const Specimen& ms = s.specimens[6];
+  REQUIRE(ms.shear_stages().size() == 3);
+  for (int k : ms.shear_stages()) {
+    const auto [first, last] = ms.stage_points(k);
+    CHECK(last - first + 1 == 9);
+  }
   for (const ReportedFailureCheck& c : checks) CHECK(c.warnings.empty());
   CHECK(r.out.find("  BH01/5.00/3/2     1  max-deviator          300.0      303.0      370.0      371.0      6.0  ok\n") !=
         std::string::npos);
@@ -155,15 +170,23 @@ TEST_CASE("a curve map that does not fit the AGS4 file is exit 2 with its exact 
       {"oedometer specimen", head + R"("curves": [{"specimen": "BH03/3.00/1/1", "file": "lab.csv"}]})",
        map + ": curves[0].specimen: 'BH03/3.00/1/1' is an oedometer specimen (its data come from CONS); curve files attach to triaxial "
              "specimens"},
-      {"named twice", head + R"("curves": [{"specimen": "BH01/5.00/3/1", "file": "lab.csv"}, {"specimen": "BH01/5.00/3/1", "file": "lab.csv"}]})",
-       map + ": curves[1].specimen: 'BH01/5.00/3/1' is named twice (also curves[0])"},
+      {"a specimen named twice", head + R"("curves": [{"specimen": "BH01/5.00/3/1", "file": "lab.csv"}, {"specimen": "BH01/5.00/3/1", "file": "lab.csv"}]})",
+       map + ": curves[1]: the whole specimen of 'BH01/5.00/3/1' already has a file (curves[0], the whole specimen)"},
       {"unknown pattern key", head + R"("pattern": "{LOCA_ID}_{DEPTH}.csv"})",
        map + ": pattern: '{DEPTH}' is not a specimen key (expected a file name with keys in braces, e.g. \"{LOCA_ID}_{SPEC_DPTH}.csv\"; "
-             "keys: LOCA_ID, SAMP_TOP, SAMP_REF, SAMP_TYPE, SAMP_ID, SPEC_REF, SPEC_DPTH)"},
+             "keys: LOCA_ID, SAMP_TOP, SAMP_REF, SAMP_TYPE, SAMP_ID, SPEC_REF, SPEC_DPTH; TESN for one file a stage)"},
       {"layout with a file", R"({"format": "triaxcal-curve-map", "version": 1, "layout": {"file": "x.csv"}, "pattern": "{LOCA_ID}.csv"})",
        map + ": layout.file: not allowed here (the file comes from curves[].file or pattern)"},
       {"missing file", head + R"("curves": [{"specimen": "BH01/5.00/3/1", "file": "none.csv"}]})",
        map + ": curves[0].file (specimen BH01/5.00/3/1): " + (dir / "none.csv").string() + ": cannot open the file"},
+      {"stage that is not a TESN", head + R"("curves": [{"specimen": "BH01/5.00/3/3", "stage": 4, "file": "lab.csv"}]})",
+       map + ": curves[0].stage: 4 is not a TRET_TESN of 'BH01/5.00/3/3' (found: 1, 2, 3)"},
+      {"a whole file and a stage file", head + R"("curves": [{"specimen": "BH01/5.00/3/3", "file": "lab.csv"}, )"
+                                              R"({"specimen": "BH01/5.00/3/3", "stage": 2, "file": "lab.csv"}]})",
+       map + ": curves[1]: stage 2 of 'BH01/5.00/3/3' already has a file (curves[0], the whole specimen)"},
+      {"stage files without a delimiter", head + R"("curves": [{"specimen": "BH01/5.00/3/3", "stage": 1, "file": "lab.csv"}]})",
+       map + ": curves[0].file (specimen BH01/5.00/3/3): files of one stage each are merged with a stage column: the layout must give "
+             "its delimiter (comma, semicolon or tab), found none"},
       // The CU curve file has no pore-pressure column: the series read back from the import fails; the message names the
       // copy where it would have been and the lab's file it copies.
       {"curves that do not read", head + R"("curves": [{"specimen": "BH01/5.00/3/1", "file": "lab.csv"}]})",
@@ -189,7 +212,7 @@ TEST_CASE("a curve map that does not fit the AGS4 file is exit 2 with its exact 
 TEST_CASE("import writes the series and its data files together: a second import replaces the whole set", "[ags][curves]") {
   const fs::path dir = scratch("whole");
   REQUIRE(import(data("hollowmere_reach.ags"), dir / "series.json", data("hollowmere_reach_curves.json"), "whole1").exit_code == 0);
-  CHECK(names_in(dir).size() == 5);
+  CHECK(names_in(dir).size() == 6);
   // Without the curve map the copies are not part of the run: they are removed with the run's other names only when
   // the run writes them, so the folder keeps them; the series no longer names them.
   const test::CliResult r = import(data("hollowmere_reach.ags"), dir / "series.json", "", "whole2");
@@ -210,7 +233,8 @@ TEST_CASE("check and interpret tables widen for AGS-style ids: every row's colum
   CHECK(c.out.find("\n  oedometer      stage points ") != std::string::npos);
   CHECK(c.out.find("\n  BH03/3.00/1/1  0          8 ") != std::string::npos);
   CHECK(c.out.find("\n  reported       stage test curves ") != std::string::npos);
-  CHECK(c.out.find("\n  BH01/5.00/3/3  2     CU   no          400.0 ") != std::string::npos);
+  CHECK(c.out.find("\n  BH01/5.00/3/3  2     CU   yes         400.0 ") != std::string::npos);
+  CHECK(c.out.find("\n  BH01/4.00/2/1  0     UU   no           80.0 ") != std::string::npos);
   CHECK(c.out.find("\n  BH02/12.00/3/1 2     CD   no          350.0 ") != std::string::npos);
   const test::CliResult i =
       test::run_cli("interpret " + (dir / "series.json").string() + " --material \"sand B\"", "ags_curves_wide_interpret");

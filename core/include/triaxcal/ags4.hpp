@@ -106,7 +106,9 @@ TRIAXCAL_CORE_EXPORT std::vector<MaterialRule> read_material_map(const std::stri
 /// (format "triaxcal-curve-map", version 1, docs/ags4-import.md): `entries` name a specimen by the
 /// import's id (LOCA_ID/SAMP_TOP/SAMP_REF/SPEC_REF) and a file; `pattern` (optional) names a file by
 /// the specimen's AGS4 keys, "{LOCA_ID}_{SPEC_DPTH}.csv", used for the specimens no entry names and
-/// whose file exists. Files are relative to the map's folder; `layout` is the test series' `data`
+/// whose file exists; with "{TESN}" in it, one file a stage. Files of one stage each (entries with
+/// `stage`, or a pattern with {TESN}) are merged into one file with a stage column (1, 2, 3: the
+/// specimen's shear stages in TESN order). Files are relative to the map's folder; `layout` is the test series' `data`
 /// object without `file` (columns, units, delimiter, kind...), one for all files unless an entry has its own.
 struct CurveMap {
   std::string source;  ///< the map file
@@ -115,6 +117,7 @@ struct CurveMap {
   std::string pattern;
   struct Entry {
     std::string specimen;
+    int stage = 0;       ///< the stage's TESN for a file of one stage (merged with the specimen's others), 0 for a whole specimen
     std::string file;    ///< as written
     std::string layout;  ///< JSON object text: the entry's own, else the map's
     std::string where;   ///< "curves[i]"

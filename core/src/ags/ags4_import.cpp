@@ -319,8 +319,8 @@ std::string file_part(const std::string& text) {
   return out == "." || out == ".." ? "_" : out;
 }
 
-/// The curve map's pattern with the specimen's keys put in.
-std::string pattern_file(const CurveMap& m, const Found& s) {
+/// The curve map's pattern with the specimen's keys (and `tesn`, a stage's TESN as written) put in.
+std::string pattern_file(const CurveMap& m, const Found& s, const std::string& tesn) {
   std::string out;
   for (std::size_t i = 0; i < m.pattern.size(); ++i) {
     if (m.pattern[i] != '{') {
@@ -328,19 +328,67 @@ std::string pattern_file(const CurveMap& m, const Found& s) {
       continue;
     }
     const std::size_t close = m.pattern.find('}', i);
-    out += file_part(field(*s.parent, *s.row, m.pattern.substr(i + 1, close - i - 1)));
+    const std::string key = m.pattern.substr(i + 1, close - i - 1);
+    out += file_part(key == "TESN" ? tesn : field(*s.parent, *s.row, key));
     i = close;
   }
   return out;
 }
 
+/// A layout's non-negative integer (0 when absent).
+int layout_count(const json& layout, const char* key, const std::string& where) {
+  if (!layout.contains(key)) return 0;
+  const json& v = layout.at(key);
+  if (!v.is_number_integer() || v.get<long long>() < 0 || v.get<long long>() > 1000)
+    throw InputError(where + "." + key + ": expected a whole number from 0 to 1000, found " + v.dump());
+  return static_cast<int>(v.get<long long>());
+}
+
+/// Files of one stage each merged into one text with a stage column (`numbers`, 1, 2, 3, appended
+/// to each data row): the first file's lines before the data, then every file's data rows. The
+/// layout gains the column `stage`; its delimiter must be given (not detected).
+std::string merge_stage_files(const std::vector<std::pair<int, std::string>>& files, json& layout, const std::string& where) {
+  const std::string d = layout.contains("delimiter") && layout.at("delimiter").is_string() ? layout.at("delimiter").get<std::string>() : "";
+  const std::string sep = d == "comma" ? "," : d == "semicolon" ? ";" : d == "tab" ? "\t" : "";
+  if (sep.empty())
+    throw InputError(where + ": files of one stage each are merged with a stage column: the layout must give its delimiter "
+                     "(comma, semicolon or tab), found " + (layout.contains("delimiter") ? layout.at("delimiter").dump() : std::string("none")));
+  if (layout.contains("columns") && layout.at("columns").is_object() && layout.at("columns").contains("stage"))
+    throw InputError(where + ": files of one stage each get their stage column from the import: the layout must not declare one");
+  if (layout.contains("strain_origin") && layout.at("strain_origin") != "stage_start")
+    throw InputError(where + ": files of one stage each hold strains from their stage's start: strain_origin must be stage_start");
+  const int head = layout_count(layout, "skip_rows", where) + 1 + layout_count(layout, "skip_after_header", where);
+  std::string out;
+  for (std::size_t k = 0; k < files.size(); ++k) {
+    std::string text = files[k].second;
+    if (text.rfind("\xEF\xBB\xBF", 0) == 0) text.erase(0, 3);  // a UTF-8 byte-order mark
+    std::size_t at = 0;
+    for (int line = 0; at < text.size(); ++line) {
+      std::size_t end = text.find('\n', at);
+      if (end == std::string::npos) end = text.size();
+      std::string row = text.substr(at, end - at);
+      at = end + 1;
+      if (!row.empty() && row.back() == '\r') row.pop_back();
+      if (line < head) {
+        if (k == 0) out += row + (line == head - 1 - layout_count(layout, "skip_after_header", where) ? sep + "stage" : "") + "\n";
+        continue;
+      }
+      if (row.empty()) continue;
+      out += row + sep + std::to_string(files[k].first) + "\n";
+    }
+  }
+  if (layout.contains("columns") && layout.at("columns").is_object()) layout["columns"]["stage"] = {{"header", "stage"}, {"unit", "-"}};
+  return out;
+}
+
 /// Attaches the curve files of `m` to the triaxial specimens of `all`/`specimens` (same order):
 /// `data` is the map's layout with the copy's name; the copies go into `out.data_files`.
-void attach_curves(const CurveMap& m, const std::vector<Found>& all, json& specimens, Ags4Import& out) {
+void attach_curves(const Ags4File& f, const CurveMap& m, const std::vector<Found>& all, json& specimens, Ags4Import& out) {
   namespace fs = std::filesystem;
   std::map<std::string, std::size_t> by_id;
   for (std::size_t i = 0; i < all.size(); ++i) by_id[all[i].id] = i;
-  std::map<std::size_t, const CurveMap::Entry*> chosen;
+  std::map<std::size_t, std::vector<const CurveMap::Entry*>> chosen;
+  auto stage_name = [](int n) { return n == 0 ? std::string("the whole specimen") : "stage " + std::to_string(n); };
   for (const CurveMap::Entry& e : m.entries) {
     const auto it = by_id.find(e.specimen);
     if (it == by_id.end()) {
@@ -350,49 +398,91 @@ void attach_curves(const CurveMap& m, const std::vector<Found>& all, json& speci
       throw InputError(m.source + ": " + e.where + ".specimen: '" + e.specimen + "' is not a specimen of the AGS4 file (triaxial specimens: " +
                        list + ")");
     }
-    if (all[it->second].test == "OED")
+    const Found& s = all[it->second];
+    if (s.test == "OED")
       throw InputError(m.source + ": " + e.where + ".specimen: '" + e.specimen +
                        "' is an oedometer specimen (its data come from CONS); curve files attach to triaxial specimens");
-    if (!chosen.emplace(it->second, &e).second)
-      throw InputError(m.source + ": " + e.where + ".specimen: '" + e.specimen + "' is named twice (also " + chosen[it->second]->where + ")");
+    auto& list = chosen[it->second];
+    for (const CurveMap::Entry* other : list)
+      if (other->stage == e.stage || other->stage == 0 || e.stage == 0)
+        throw InputError(m.source + ": " + e.where + ": " + stage_name(e.stage) + " of '" + e.specimen + "' already has a file (" +
+                         other->where + ", " + stage_name(other->stage) + ")");
+    if (e.stage != 0) {
+      const char* tesn = s.test == "UU" ? "TRIT_TESN" : "TRET_TESN";
+      const Ags4Group& child = *f.group(s.test == "UU" ? "TRIT" : "TRET");
+      bool found = false;
+      for (const auto* r : s.rows) found = found || ags4_number(f, child, *r, tesn, Ags4Dimension::none, true) == e.stage;
+      if (!found) {
+        std::string stages;
+        for (const auto* r : s.rows) stages += (stages.empty() ? "" : ", ") + field(child, *r, tesn);
+        throw InputError(m.source + ": " + e.where + ".stage: " + std::to_string(e.stage) + " is not a " + tesn + " of '" + e.specimen +
+                         "' (found: " + stages + ")");
+      }
+    }
+    list.push_back(&e);
   }
   std::set<std::string> names;
   for (const auto& d : out.data_files) names.insert(d.first);
   for (std::size_t i = 0; i < all.size(); ++i) {
     const Found& s = all[i];
     if (s.test == "OED") continue;
-    std::string file, layout, where;
+    const char* tesn_heading = s.test == "UU" ? "TRIT_TESN" : "TRET_TESN";
+    const Ags4Group* child = f.group(s.test == "UU" ? "TRIT" : "TRET");
+    // (stage number 1, 2, 3 in TESN order or 0 for the whole specimen, file, where) and the layout.
+    struct Part {
+      int stage;
+      std::string file, where;
+    };
+    std::vector<Part> parts;
+    std::string layout;
     if (const auto it = chosen.find(i); it != chosen.end()) {
-      file = it->second->file;
-      layout = it->second->layout;
-      where = it->second->where + ".file";
+      layout = it->second.front()->layout;
+      for (const CurveMap::Entry* e : it->second) {
+        int number = 0;
+        for (std::size_t k = 0; k < s.rows.size() && e->stage != 0; ++k)
+          if (ags4_number(f, *child, *s.rows[k], tesn_heading, Ags4Dimension::none, true) == e->stage) number = static_cast<int>(k) + 1;
+        parts.push_back({number, e->file, e->where + ".file"});
+        if (e->layout != layout)
+          throw InputError(m.source + ": " + e->where + ".layout: the files of one specimen are merged: they need one layout (as " +
+                           it->second.front()->where + ")");
+      }
+      std::sort(parts.begin(), parts.end(), [](const Part& a, const Part& b) { return a.stage < b.stage; });
     } else if (!m.pattern.empty()) {
-      file = pattern_file(m, s);
-      if (!fs::is_regular_file(fs::path(m.folder) / file)) continue;  // no curve file for this specimen
       layout = m.layout;
-      where = "pattern '" + m.pattern + "'";
-    } else {
-      continue;
+      if (m.pattern.find("{TESN}") == std::string::npos) {
+        const std::string file = pattern_file(m, s, "");
+        if (fs::is_regular_file(fs::path(m.folder) / file)) parts.push_back({0, file, "pattern '" + m.pattern + "'"});
+      } else {
+        for (std::size_t k = 0; k < s.rows.size(); ++k) {
+          const std::string file = pattern_file(m, s, field(*child, *s.rows[k], tesn_heading));
+          if (fs::is_regular_file(fs::path(m.folder) / file)) parts.push_back({static_cast<int>(k) + 1, file, "pattern '" + m.pattern + "'"});
+        }
+      }
     }
-    const std::string path = (fs::path(m.folder) / file).string();
-    std::string text;
-    try {
-      text = detail::read_text_file(path);
-    } catch (const InputError& e) {
-      throw InputError(m.source + ": " + where + " (specimen " + s.id + "): " + e.what());
+    if (parts.empty()) continue;
+    std::vector<std::pair<int, std::string>> texts;
+    std::string sources;
+    for (const Part& part : parts) {
+      const std::string path = (fs::path(m.folder) / part.file).string();
+      try {
+        texts.emplace_back(part.stage, detail::read_text_file(path));
+      } catch (const InputError& e) {
+        throw InputError(m.source + ": " + part.where + " (specimen " + s.id + "): " + e.what());
+      }
+      sources += (sources.empty() ? "" : ", ") + path + (part.stage > 0 ? " (stage " + std::to_string(part.stage) + ")" : "");
     }
     const std::string copy = file_name_of(s.id) + ".curves.csv";
     if (!names.insert(copy).second)
-      throw InputError(m.source + ": " + where + " (specimen " + s.id + "): its copy " + copy + " would overwrite another file of the import");
+      throw InputError(m.source + ": specimen " + s.id + ": its copy " + copy + " would overwrite another file of the import");
     json data = json::parse(layout);
+    std::string text = texts.front().second;
+    if (parts.front().stage > 0) text = merge_stage_files(texts, data, m.source + ": " + parts.front().where + " (specimen " + s.id + ")");
     data["file"] = copy;
     specimens[i]["data"] = data;
-    specimens[i]["description"] = specimens[i]["description"].get<std::string>() + "; curves from " + path;
+    specimens[i]["description"] = specimens[i]["description"].get<std::string>() + "; curves from " + sources;
     out.data_files.push_back({copy, text});
-    out.curve_sources.push_back({copy, path, s.id, static_cast<int>(i)});
-    char line[512];
-    std::snprintf(line, sizeof line, "%s  %s  ->  %s", s.id.c_str(), path.c_str(), copy.c_str());
-    out.curves.push_back(line);
+    out.curve_sources.push_back({copy, sources, s.id, static_cast<int>(i)});
+    out.curves.push_back(s.id + "  " + sources + "  ->  " + copy + (parts.front().stage > 0 ? " (merged, stage column added)" : ""));
   }
 }
 
@@ -541,7 +631,7 @@ CurveMap read_curve_map(const std::string& path) {
   if (root.contains("pattern")) {
     m.pattern = detail::get_string(root, "pattern", path, "");
     const std::string expected = " (expected a file name with keys in braces, e.g. \"{LOCA_ID}_{SPEC_DPTH}.csv\"; keys: LOCA_ID, SAMP_TOP, "
-                                 "SAMP_REF, SAMP_TYPE, SAMP_ID, SPEC_REF, SPEC_DPTH)";
+                                 "SAMP_REF, SAMP_TYPE, SAMP_ID, SPEC_REF, SPEC_DPTH; TESN for one file a stage)";
     if (m.pattern.find('{') == std::string::npos) throw InputError(path + ": pattern: '" + m.pattern + "' names no key" + expected);
     for (std::size_t i = 0; i < m.pattern.size(); ++i) {
       if (m.pattern[i] == '}') throw InputError(path + ": pattern: '" + m.pattern + "': a '}' without its '{'" + expected);
@@ -551,7 +641,7 @@ CurveMap read_curve_map(const std::string& path) {
       const std::string key = m.pattern.substr(i + 1, close - i - 1);
       bool known = false;
       for (const char* k : kSpecimenKeys) known = known || key == k;
-      if (!known) throw InputError(path + ": pattern: '{" + key + "}' is not a specimen key" + expected);
+      if (!known && key != "TESN") throw InputError(path + ": pattern: '{" + key + "}' is not a specimen key" + expected);
       i = close;
     }
     if (m.layout.empty()) throw InputError(path + ": layout: required with a pattern (the columns of the curve files)");
@@ -562,10 +652,11 @@ CurveMap read_curve_map(const std::string& path) {
     for (std::size_t i = 0; i < list.size(); ++i) {
       const std::string p = "curves[" + std::to_string(i) + "]";
       detail::require_object(list[i], path, p);
-      detail::check_keys(list[i], {"specimen", "file", "layout"}, path, p);
+      detail::check_keys(list[i], {"specimen", "stage", "file", "layout"}, path, p);
       CurveMap::Entry e;
       e.where = p;
       e.specimen = detail::get_string(list[i], "specimen", path, p);
+      if (list[i].contains("stage")) e.stage = static_cast<int>(detail::get_integer_in(list[i].at("stage"), 1, 1000, path, p + ".stage"));
       e.file = detail::get_string(list[i], "file", path, p);
       if (e.file.empty()) throw InputError(path + ": " + p + ".file: must not be empty");
       e.layout = list[i].contains("layout") ? layout_of(list[i].at("layout"), p + ".layout") : m.layout;
@@ -671,7 +762,7 @@ Ags4Import import_ags4(const Ags4File& f, const std::string& series_name, const 
       add(s, oedometer_specimen(f, *cong, *cons, s, out));
     }
   }
-  if (curves) attach_curves(*curves, all, specimens, out);
+  if (curves) attach_curves(f, *curves, all, specimens, out);
   if (specimens.empty())
     throw InputError(f.source + ": no test to import (groups TRIG/TRIT, TREG/TRET or CONG/CONS with DATA rows are read)");
   // What was found.
