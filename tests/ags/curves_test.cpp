@@ -181,10 +181,14 @@ TEST_CASE("a curve map that does not fit the AGS4 file is exit 2 with its exact 
        map + ": curves[0].file (specimen BH01/5.00/3/1): " + (dir / "none.csv").string() + ": cannot open the file"},
       {"stage that is not a TESN", head + R"("curves": [{"specimen": "BH01/5.00/3/3", "stage": 4, "file": "lab.csv"}]})",
        map + ": curves[0].stage: 4 is not a TRET_TESN of 'BH01/5.00/3/3' (found: 1, 2, 3)"},
+      {"stages without their files", head + R"("curves": [{"specimen": "BH01/5.00/3/3", "stage": 2, "file": "lab.csv"}]})",
+       map + ": curves[0].file (specimen BH01/5.00/3/3): files of one stage each need a file for every stage: TRET_TESN 1, 3 have none"},
       {"a whole file and a stage file", head + R"("curves": [{"specimen": "BH01/5.00/3/3", "file": "lab.csv"}, )"
                                               R"({"specimen": "BH01/5.00/3/3", "stage": 2, "file": "lab.csv"}]})",
        map + ": curves[1]: stage 2 of 'BH01/5.00/3/3' already has a file (curves[0], the whole specimen)"},
-      {"stage files without a delimiter", head + R"("curves": [{"specimen": "BH01/5.00/3/3", "stage": 1, "file": "lab.csv"}]})",
+      {"stage files without a delimiter", head + R"("curves": [{"specimen": "BH01/5.00/3/3", "stage": 1, "file": "lab.csv"}, )"
+                                                 R"({"specimen": "BH01/5.00/3/3", "stage": 2, "file": "lab.csv"}, )"
+                                                 R"({"specimen": "BH01/5.00/3/3", "stage": 3, "file": "lab.csv"}]})",
        map + ": curves[0].file (specimen BH01/5.00/3/3): files of one stage each are merged with a stage column: the layout must give "
              "its delimiter (comma, semicolon or tab), found none"},
       // The CU curve file has no pore-pressure column: the series read back from the import fails; the message names the
@@ -247,4 +251,37 @@ TEST_CASE("check and interpret tables widen for AGS-style ids: every row's colum
   REQUIRE(k.exit_code == 0);
   CHECK(k.out.find("\n  specimen      stage test dir  s3'c[kPa] |") != std::string::npos);  // 13 wide
   CHECK(k.out.find("\n  BH01/5.00/3/3     3 CU   comp     300.0 |") != std::string::npos);
+}
+
+TEST_CASE("a pattern with {TESN} finds one file a stage and merges them with a stage column; a stage without its file is an error",
+          "[ags][curves]") {
+  const fs::path dir = scratch("tesn");
+  for (int k : {1, 3})
+    write(dir / ("BH01_5.50_" + std::to_string(k) + ".csv"), read(data("curves/bh01_5.50_cu_stage" + std::to_string(k) + ".csv")));
+  write(dir / "map.json", R"({"format": "triaxcal-curve-map", "version": 1, "pattern": "{LOCA_ID}_{SPEC_DPTH}_{TESN}.csv",
+    "layout": {"kind": "reduced", "delimiter": "comma", "skip_rows": 1, "columns": {
+      "axial_strain": {"header": "Axial strain", "unit": "%"}, "deviator_stress": {"header": "Deviator stress", "unit": "kPa"},
+      "pore_pressure": {"header": "Pore pressure", "unit": "kPa"}}}})");
+  fs::create_directories(dir / "out");
+  // Stage 2 has no file yet.
+  const test::CliResult bad = import(data("hollowmere_reach.ags"), dir / "out" / "series.json", (dir / "map.json").string(), "tesn_bad");
+  CHECK(bad.exit_code == 2);
+  CHECK(bad.err == "triaxcal: error: " + (dir / "map.json").string() + ": pattern '{LOCA_ID}_{SPEC_DPTH}_{TESN}.csv' (specimen BH01/5.00/3/3): "
+                   "files of one stage each need a file for every stage: TRET_TESN 2 has none\n");
+  CHECK(fs::is_empty(dir / "out"));
+  write(dir / "BH01_5.50_2.csv", read(data("curves/bh01_5.50_cu_stage2.csv")));
+  const test::CliResult r = import(data("hollowmere_reach.ags"), dir / "out" / "series.json", (dir / "map.json").string(), "tesn");
+  INFO(r.out << r.err);
+  REQUIRE(r.exit_code == 0);
+  CHECK(r.out.find("): 1 attached\n") != std::string::npos);
+  const std::string merged = read(dir / "out" / "BH01_5.00_3_3.curves.csv");
+  CHECK(merged.find("Axial strain,Deviator stress,Pore pressure,stage\n0.00,0.0,300.0,1\n") != std::string::npos);
+  CHECK(merged.find("5.00,187.0,325.5,1\n0.00,0.0,300.0,2\n") != std::string::npos);  // stage 1's last row, then stage 2's first
+  const TestSeries s = read_test_series((dir / "out" / "series.json").string());
+  const std::vector<ReportedFailureCheck> checks = check_reported_failures(s);
+  REQUIRE(checks.size() == 3);
+  CHECK(checks[0].q_curve == Approx(190.0).margin(1e-9));
+  CHECK(checks[2].shear_stage == 3);
+  CHECK(checks[2].q_curve == Approx(460.0).margin(1e-9));
+  CHECK(checks[2].u_curve == Approx(390.0).margin(1e-9));
 }

@@ -460,6 +460,17 @@ void attach_curves(const Ags4File& f, const CurveMap& m, const std::vector<Found
       }
     }
     if (parts.empty()) continue;
+    if (parts.front().stage > 0 && parts.size() != s.rows.size()) {
+      // The series needs the curves of every shear stage of a specimen with data.
+      std::string missing;
+      for (std::size_t k = 0; k < s.rows.size(); ++k) {
+        bool has = false;
+        for (const Part& part : parts) has = has || part.stage == static_cast<int>(k) + 1;
+        if (!has) missing += (missing.empty() ? "" : ", ") + field(*child, *s.rows[k], tesn_heading);
+      }
+      throw InputError(m.source + ": " + parts.front().where + " (specimen " + s.id + "): files of one stage each need a file for every stage: " +
+                       tesn_heading + " " + missing + (missing.find(',') == std::string::npos ? " has none" : " have none"));
+    }
     std::vector<std::pair<int, std::string>> texts;
     std::string sources;
     for (const Part& part : parts) {
