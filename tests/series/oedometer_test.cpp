@@ -98,7 +98,7 @@ TEST_CASE("a file whose largest stress is off the largest declared step by more 
 
 TEST_CASE("oedometer stages and data are strict: each bad input names file, path, value and expectation", "[series][oedometer]") {
   const std::string dir = scratch_dir("oed_bad_probe").string();
-  const auto series = [](const std::string& tag) { return (std::filesystem::temp_directory_path() / ("triaxcal_series_" + tag) / "series.json").string(); };
+  const auto series = [](const std::string& tag) { return (scratch_path(tag) / "series.json").string(); };
   {
     json sp = oed_specimen();
     sp["stages"][0]["stress_steps"] = {20, 40, 40};
@@ -148,7 +148,7 @@ TEST_CASE("oedometer stages and data are strict: each bad input names file, path
     std::string csv = oed_csv();
     csv.replace(csv.find("\n3,80\n"), 6, "\n3,-80\n");
     CHECK(read_error(oed_specimen(), csv, "oed_b8") ==
-          (std::filesystem::temp_directory_path() / "triaxcal_series_oed_b8" / "data.csv").string() +
+          (scratch_path("oed_b8") / "data.csv").string() +
               ": line 5 (axial_stress): -80 kPa, the effective axial stress must be positive");
   }
   {
@@ -160,7 +160,7 @@ TEST_CASE("oedometer stages and data are strict: each bad input names file, path
   }
   {
     CHECK(read_error(oed_specimen(), "ea,sv\n0,10\n1,20\n2,40\n", "oed_b10") ==
-          (std::filesystem::temp_directory_path() / "triaxcal_series_oed_b10" / "data.csv").string() +
+          (scratch_path("oed_b10") / "data.csv").string() +
               ": specimen 'OED-1', stages[0] (oedometer): 3 data points, at least 5 are needed");
   }
   (void)dir;

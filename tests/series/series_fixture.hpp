@@ -6,13 +6,40 @@
 #include <filesystem>
 #include <fstream>
 #include <string>
+#include <system_error>
+#include <vector>
+
+#include <unistd.h>
 
 namespace triaxcal::test {
 
+/// The scratch folders this process made, removed when it exits normally.
+inline std::vector<std::filesystem::path>& scratch_dirs_made() {
+  static struct Made {
+    std::vector<std::filesystem::path> dirs;
+    ~Made() {
+      for (const auto& d : dirs) {
+        std::error_code ec;
+        std::filesystem::remove_all(d, ec);
+      }
+    }
+  } made;
+  return made.dirs;
+}
+
+/// The scratch folder of `tag` in this process (per process: two builds testing at once on one
+/// machine must not share a folder).
+inline std::filesystem::path scratch_path(const std::string& tag) {
+  return std::filesystem::temp_directory_path() /
+         ("triaxcal_series_" + tag + "_" + std::to_string(static_cast<long>(::getpid())));
+}
+
+/// The scratch folder of `tag`, made empty.
 inline std::filesystem::path scratch_dir(const std::string& tag) {
-  const auto dir = std::filesystem::temp_directory_path() / ("triaxcal_series_" + tag);
+  const auto dir = scratch_path(tag);
   std::filesystem::remove_all(dir);
   std::filesystem::create_directories(dir);
+  scratch_dirs_made().push_back(dir);
   return dir;
 }
 
