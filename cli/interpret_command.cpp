@@ -1,8 +1,10 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <filesystem>
 #include <limits>
 #include <memory>
+#include <system_error>
 
 #include "commands.hpp"
 #include "triaxcal/atomic_file.hpp"
@@ -129,16 +131,29 @@ int run_interpret(const InterpretCliOptions& c) {
   const Interpretation result = interpret(series, options);
   std::printf("%s: %zu specimen(s), %zu shear stage(s)\n\n", c.series.c_str(), series.specimens.size(), result.stages.size());
   std::fputs(interpretation_text(result).c_str(), stdout);
-  if (!c.out.empty()) {
-    write_file_atomically(c.out, interpretation_json(result));
-    std::printf("\nresults written to %s\n", c.out.c_str());
-  }
+  // Both outputs are made before either is written, and a failed second write removes the first:
+  // the files of one run are written together or not at all (issue 13).
+  const std::string json_text = c.out.empty() ? std::string() : interpretation_json(result);
+  std::string html;
   if (!c.report.empty()) {
     report::InterpretationReportOptions ro;
     ro.site = c.site;
-    write_file_atomically(c.report, report::render_interpretation_report(result, series, ro));
-    std::printf("%sreport written to %s\n", c.out.empty() ? "\n" : "", c.report.c_str());
+    html = report::render_interpretation_report(result, series, ro);
   }
+  if (!c.out.empty()) write_file_atomically(c.out, json_text);
+  if (!c.report.empty()) {
+    try {
+      write_file_atomically(c.report, html);
+    } catch (...) {
+      if (!c.out.empty()) {
+        std::error_code ec;
+        std::filesystem::remove(c.out, ec);
+      }
+      throw;
+    }
+  }
+  if (!c.out.empty()) std::printf("\nresults written to %s\n", c.out.c_str());
+  if (!c.report.empty()) std::printf("%sreport written to %s\n", c.out.empty() ? "\n" : "", c.report.c_str());
   std::printf("\n%s\n", kCaution);
   return exit_ok;
 }

@@ -251,3 +251,28 @@ TEST_CASE("c_u against depth: the depth text read as metres and the trend c_u0 +
   CHECK(j["undrained"]["depth_trend"]["k"]["unit"] == "kPa/m");
   CHECK(j["stages"][0]["depth"]["value"].get<double>() == Approx(2.5).epsilon(kExact));
 }
+
+TEST_CASE("interpret writes its results and its report together or not at all", "[interpret][cli][outputs]") {
+  // The report cannot be written (its folder does not exist): the results file is not left behind
+  // alone, and an earlier results file of that name does not survive either (no mixed set).
+  const std::string out = "interpret_together.json";
+  {
+    std::ofstream earlier(out);
+    earlier << "{}";
+  }
+  const CliResult r = run_cli("interpret " + source_path("examples/kestrel_bay/kestrel_bay_series.json") +
+                                  " --material 'sand S' --out " + out + " --report no_such_folder_for_it/report.html",
+                              "interpret_together");
+  CHECK(r.exit_code != 0);
+  CHECK(r.err.find("no_such_folder_for_it/report.html") != std::string::npos);
+  CHECK_FALSE(std::ifstream(out).good());
+  // Both written when both can be.
+  const CliResult ok = run_cli("interpret " + source_path("examples/kestrel_bay/kestrel_bay_series.json") +
+                                   " --material 'sand S' --out " + out + " --report interpret_together.html",
+                               "interpret_together_ok");
+  CHECK(ok.exit_code == 0);
+  CHECK(std::ifstream(out).good());
+  CHECK(std::ifstream("interpret_together.html").good());
+  std::remove(out.c_str());
+  std::remove("interpret_together.html");
+}
