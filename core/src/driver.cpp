@@ -4,6 +4,7 @@
 #include <cmath>
 #include <sstream>
 
+#include "key_path.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/parameters.hpp"
 
@@ -74,7 +75,7 @@ namespace {
 bool given(double v) { return !std::isnan(v); }
 
 void require(bool ok, int stage, const std::string& key, const std::string& what) {
-  if (!ok) throw InputError("stages[" + std::to_string(stage) + "]: " + key + " " + what);
+  if (!ok) throw InputError(detail::KeyPath("stages")[static_cast<std::size_t>(stage)].str() + ": " + key + " " + what);
 }
 
 /// The records a run of `protocol` holds: the initial state and every record step.
@@ -136,7 +137,7 @@ void validate_protocol(const TestProtocol& protocol) {
                   " are allowed");
       for (std::size_t j = 0; j < s.record_at.size(); ++j) {
         const double f = s.record_at[j];
-        const std::string key = "record_at[" + std::to_string(j) + "]";
+        const std::string key = detail::KeyPath("record_at")[j];
         require(f > 0.0 && f <= 1.0, i, key, "= " + format_number(f) + " must be in (0, 1] (a fraction of the stage's path)");
         if (j > 0)
           require(f > s.record_at[j - 1], i, key, "= " + format_number(f) + " must be larger than record_at[" +

@@ -154,22 +154,20 @@ std::string read_text_file(const std::string& path, std::uintmax_t limit) {
   return content;
 }
 
-std::string where(const std::string& source, const std::string& path) {
-  return path.empty() ? source : source + ": " + path;
+std::string where(const std::string& source, const KeyPath& path) { return path.in(source); }
+
+void fail_at(const std::string& source, const KeyPath& path, const std::string& what) {
+  throw InputError(path.in(source) + ": " + what);
 }
 
-static std::string child(const std::string& path, const std::string& key) {
-  return path.empty() ? key : path + "." + key;
-}
-
-void require_object(const json& value, const std::string& source, const std::string& path) {
+void require_object(const json& value, const std::string& source, const KeyPath& path) {
   if (!value.is_object())
-    throw InputError(where(source, path.empty() ? "top level" : path) + ": expected an object, found " +
+    throw InputError(where(source, path.top() ? KeyPath("top level") : path) + ": expected an object, found " +
                      value.type_name());
 }
 
 void check_keys(const json& object, std::initializer_list<const char*> allowed, const std::string& source,
-                const std::string& path) {
+                const KeyPath& path) {
   require_object(object, source, path);
   for (const auto& item : object.items()) {
     bool ok = false;
@@ -177,28 +175,28 @@ void check_keys(const json& object, std::initializer_list<const char*> allowed, 
     if (!ok) {
       std::string list;
       for (const char* a : allowed) list += (list.empty() ? "" : ", ") + std::string(a);
-      throw InputError(where(source, child(path, item.key())) + ": unknown key '" + item.key() +
+      throw InputError(where(source, path / item.key()) + ": unknown key '" + item.key() +
                        "' (expected one of: " + list + ")");
     }
   }
 }
 
-double get_number(const json& object, const char* key, const std::string& source, const std::string& path) {
+double get_number(const json& object, const char* key, const std::string& source, const KeyPath& path) {
   const auto it = object.find(key);
-  if (it == object.end()) throw InputError(where(source, child(path, key)) + ": missing (a number is required)");
+  if (it == object.end()) throw InputError(where(source, path / key) + ": missing (a number is required)");
   if (!it->is_number())
-    throw InputError(where(source, child(path, key)) + ": expected a number, found " + it->dump());
+    throw InputError(where(source, path / key) + ": expected a number, found " + it->dump());
   return it->get<double>();
 }
 
 double get_number_or(const json& object, const char* key, double fallback, const std::string& source,
-                     const std::string& path) {
+                     const KeyPath& path) {
   if (!object.contains(key) || object.at(key).is_null()) return fallback;
   return get_number(object, key, source, path);
 }
 
 long long get_integer_in(const json& value, long long low, long long high, const std::string& source,
-                         const std::string& path) {
+                         const KeyPath& path) {
   if (!value.is_number_integer()) throw InputError(where(source, path) + ": expected an integer, found " + value.dump());
   // nlohmann keeps integers as int64 or uint64; get<int>() would wrap 4294967297 to 1.
   const bool fits = value.is_number_unsigned()
@@ -211,21 +209,21 @@ long long get_integer_in(const json& value, long long low, long long high, const
   return value.is_number_unsigned() ? static_cast<long long>(value.get<std::uint64_t>()) : value.get<std::int64_t>();
 }
 
-int get_int_or(const json& object, const char* key, int fallback, const std::string& source, const std::string& path) {
+int get_int_or(const json& object, const char* key, int fallback, const std::string& source, const KeyPath& path) {
   const auto it = object.find(key);
   if (it == object.end()) return fallback;
-  return static_cast<int>(get_integer_in(*it, INT_MIN, INT_MAX, source, child(path, key)));
+  return static_cast<int>(get_integer_in(*it, INT_MIN, INT_MAX, source, path / key));
 }
 
-std::string get_string(const json& object, const char* key, const std::string& source, const std::string& path) {
+std::string get_string(const json& object, const char* key, const std::string& source, const KeyPath& path) {
   const auto it = object.find(key);
-  if (it == object.end()) throw InputError(where(source, child(path, key)) + ": missing (a string is required)");
-  if (!it->is_string()) throw InputError(where(source, child(path, key)) + ": expected a string, found " + it->dump());
+  if (it == object.end()) throw InputError(where(source, path / key) + ": missing (a string is required)");
+  if (!it->is_string()) throw InputError(where(source, path / key) + ": expected a string, found " + it->dump());
   return it->get<std::string>();
 }
 
 std::string get_string_or(const json& object, const char* key, const std::string& fallback,
-                          const std::string& source, const std::string& path) {
+                          const std::string& source, const KeyPath& path) {
   if (!object.contains(key)) return fallback;
   return get_string(object, key, source, path);
 }

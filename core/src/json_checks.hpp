@@ -8,6 +8,8 @@
 #include <initializer_list>
 #include <string>
 
+#include "key_path.hpp"
+
 namespace triaxcal::detail {
 
 using nlohmann::json;
@@ -32,30 +34,33 @@ json parse_json(const std::string& text, const std::string& source);
 std::string read_text_file(const std::string& path, std::uintmax_t limit = kMaxInputFileBytes);
 
 /// "<source>: <path>" or "<source>" for the root.
-std::string where(const std::string& source, const std::string& path);
+std::string where(const std::string& source, const KeyPath& path);
+
+/// Throws InputError "<source>: <path>: <what>" ("<source>: <what>" at the top).
+[[noreturn]] void fail_at(const std::string& source, const KeyPath& path, const std::string& what);
 
 /// Rejects keys not in `allowed`: "<source>: <path>: unknown key 'k' (expected one of: a, b)".
 void check_keys(const json& object, std::initializer_list<const char*> allowed, const std::string& source,
-                const std::string& path);
+                const KeyPath& path);
 
-void require_object(const json& value, const std::string& source, const std::string& path);
+void require_object(const json& value, const std::string& source, const KeyPath& path);
 
 /// Number at object[key]; missing or not a number throws with the path.
-double get_number(const json& object, const char* key, const std::string& source, const std::string& path);
+double get_number(const json& object, const char* key, const std::string& source, const KeyPath& path);
 /// Number or `fallback` when absent; present but not a number throws.
 double get_number_or(const json& object, const char* key, double fallback, const std::string& source,
-                     const std::string& path);
+                     const KeyPath& path);
 /// Integer or `fallback` when absent; not an integer, or outside the range of an int, throws
 /// "<source>: <path>.<key>: expected an integer from -2147483648 to 2147483647, found 4294967297".
-int get_int_or(const json& object, const char* key, int fallback, const std::string& source, const std::string& path);
+int get_int_or(const json& object, const char* key, int fallback, const std::string& source, const KeyPath& path);
 /// The integer `value` (at `path`, for the message) within [low, high]: not an integer throws
 /// "<source>: <path>: expected an integer, found 1.5", out of range "...: expected an integer from
 /// <low> to <high>, found 18446744073709551615" (never wrapped, as get<long>() would).
 long long get_integer_in(const json& value, long long low, long long high, const std::string& source,
-                         const std::string& path);
-std::string get_string(const json& object, const char* key, const std::string& source, const std::string& path);
+                         const KeyPath& path);
+std::string get_string(const json& object, const char* key, const std::string& source, const KeyPath& path);
 std::string get_string_or(const json& object, const char* key, const std::string& fallback,
-                          const std::string& source, const std::string& path);
+                          const std::string& source, const KeyPath& path);
 
 /// Checks "format" and "version" of a file of ours.
 void check_format(const json& root, const char* format, int version, const std::string& source);

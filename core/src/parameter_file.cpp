@@ -20,7 +20,7 @@ ParameterFile parse_parameter_file(const std::string& text, const std::string& s
   const json& params = root.at("parameters");
   detail::require_object(params, source, "parameters");
   for (const auto& item : params.items()) {
-    const std::string path = "parameters." + item.key();
+    const detail::KeyPath path = detail::KeyPath("parameters") / item.key();
     if (item.value().is_number()) {
       file.values[item.key()] = item.value().get<double>();
     } else if (item.value().is_string()) {
@@ -36,7 +36,7 @@ ParameterFile parse_parameter_file(const std::string& text, const std::string& s
         file.values[item.key()] = detail::get_number(item.value(), "value", source, path);
       if (item.value().contains("unit")) file.units[item.key()] = detail::get_string(item.value(), "unit", source, path);
     } else {
-      throw InputError(source + ": " + path + ": expected a number, a word or an object with \"value\", found " +
+      throw InputError(path.in(source) + ": expected a number, a word or an object with \"value\", found " +
                        item.value().dump());
     }
   }
@@ -53,7 +53,7 @@ ParameterValues resolve_parameter_file(const ModelInfo& info, const ParameterFil
   for (const auto& [name, unit] : file.units) {
     const int i = parameter_index(info, name);
     if (i >= 0 && info.parameters[i].unit != unit)
-      throw InputError(file.source + ": parameters." + name + ".unit: expected \"" + info.parameters[i].unit +
+      throw InputError((detail::KeyPath("parameters") / name / "unit").in(file.source) + ": expected \"" + info.parameters[i].unit +
                        "\", found \"" + unit + "\"");
   }
   // Word parameters take their word (ParameterInfo::words), never a number; the word becomes its index.

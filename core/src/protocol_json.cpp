@@ -12,15 +12,15 @@ using detail::json;
 
 namespace {
 
-Drainage parse_drainage(const json& s, const std::string& src, const std::string& path, Drainage fallback) {
+Drainage parse_drainage(const json& s, const std::string& src, const detail::KeyPath& path, Drainage fallback) {
   const std::string d = detail::get_string_or(s, "drainage", "", src, path);
   if (d.empty()) return fallback;
   if (d == "drained") return Drainage::drained;
   if (d == "undrained") return Drainage::undrained;
-  throw InputError(detail::where(src, path + ".drainage") + ": expected \"drained\" or \"undrained\", found \"" + d + "\"");
+  throw InputError(detail::where(src, path / "drainage") + ": expected \"drained\" or \"undrained\", found \"" + d + "\"");
 }
 
-Stage parse_stage(const json& s, const std::string& src, const std::string& path) {
+Stage parse_stage(const json& s, const std::string& src, const detail::KeyPath& path) {
   detail::require_object(s, src, path);
   const std::string type = detail::get_string(s, "type", src, path);
   Stage st;
@@ -52,24 +52,24 @@ Stage parse_stage(const json& s, const std::string& src, const std::string& path
     const std::string direction = detail::get_string_or(s, "direction", "", src, path);
     if (!direction.empty()) {
       if (direction != "compression" && direction != "extension")
-        throw InputError(detail::where(src, path + ".direction") +
+        throw InputError(detail::where(src, path / "direction") +
                          ": expected \"compression\" or \"extension\", found \"" + direction + "\"");
       if (!(st.axial_strain > 0.0))
-        throw InputError(detail::where(src, path + ".axial_strain") +
+        throw InputError(detail::where(src, path / "axial_strain") +
                          ": with a direction, give the magnitude (a positive decimal), found " +
                          (s.contains("axial_strain") ? s.at("axial_strain").dump() : std::string("nothing")));
       if (direction == "extension") st.axial_strain = -st.axial_strain;
     }
     if (s.contains("stop")) {
       const json& stop = s.at("stop");
-      const std::string sp = path + ".stop";
+      const detail::KeyPath sp = path / "stop";
       detail::check_keys(stop, {"criterion", "value"}, src, sp);
       const std::string c = detail::get_string(stop, "criterion", src, sp);
       if (c == "peak_deviator") st.stop = StopCriterion::peak_deviator;
       else if (c == "peak_stress_ratio") st.stop = StopCriterion::peak_stress_ratio;
       else if (c == "axial_strain") st.stop = StopCriterion::axial_strain;
       else
-        throw InputError(detail::where(src, sp + ".criterion") +
+        throw InputError(detail::where(src, sp / "criterion") +
                          ": expected \"peak_deviator\", \"peak_stress_ratio\" or \"axial_strain\", found \"" + c + "\"");
       st.stop_value = detail::get_number_or(stop, "value", kNotGiven, src, sp);
     }
@@ -78,7 +78,7 @@ Stage parse_stage(const json& s, const std::string& src, const std::string& path
     st.type = StageType::unload_reload;
     st.target_deviator = num("deviator_stress");
   } else {
-    throw InputError(detail::where(src, path + ".type") + ": unknown stage type \"" + type +
+    throw InputError(detail::where(src, path / "type") + ": unknown stage type \"" + type +
                      "\" (expected isotropic_consolidation, anisotropic_consolidation, k0_consolidation, "
                      "oedometer, shear, constant_p_shear or unload_reload)");
   }
@@ -126,7 +126,7 @@ TestProtocol parse_protocol(const std::string& text, const std::string& source) 
   const json& stages = root.at("stages");
   if (!stages.is_array()) throw InputError(source + ": stages: expected a list, found " + std::string(stages.type_name()));
   for (std::size_t i = 0; i < stages.size(); ++i)
-    p.stages.push_back(parse_stage(stages[i], source, "stages[" + std::to_string(i) + "]"));
+    p.stages.push_back(parse_stage(stages[i], source, detail::KeyPath("stages")[i]));
   try {
     validate_protocol(p);
   } catch (const InputError& e) {

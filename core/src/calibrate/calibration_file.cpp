@@ -16,11 +16,11 @@ using detail::json;
 
 namespace {
 
-std::pair<double, double> range_of(const json& v, const std::string& src, const std::string& path) {
+std::pair<double, double> range_of(const json& v, const std::string& src, const detail::KeyPath& path) {
   if (!v.is_array() || v.size() != 2 || !v[0].is_number() || !v[1].is_number())
-    throw InputError(src + ": " + path + ": expected [from, to] (two axial strains, decimal), found " + v.dump());
+    throw InputError(path.in(src) + ": expected [from, to] (two axial strains, decimal), found " + v.dump());
   const double a = v[0].get<double>(), b = v[1].get<double>();
-  if (!(a < b)) throw InputError(src + ": " + path + ": expected from < to, found " + v.dump());
+  if (!(a < b)) throw InputError(path.in(src) + ": expected from < to, found " + v.dump());
   return {a, b};
 }
 
@@ -35,7 +35,7 @@ E choose(const std::string& found, std::initializer_list<std::pair<const char*, 
 }
 
 ParameterSpec parse_parameter(const std::string& name, const json& v, const std::string& src) {
-  const std::string path = "parameters." + name;
+  const detail::KeyPath path = detail::KeyPath("parameters") / name;
   ParameterSpec s;
   s.name = name;
   if (v.is_number()) {
@@ -52,7 +52,7 @@ ParameterSpec parse_parameter(const std::string& name, const json& v, const std:
   const std::string status = detail::get_string(v, "status", src, path);
   s.status = choose<ParameterStatus>(
       status, {{"free", ParameterStatus::free}, {"fixed", ParameterStatus::fixed}, {"tied", ParameterStatus::tied}},
-      src + ": " + path + ".status");
+      (path / "status").in(src));
   switch (s.status) {
     case ParameterStatus::fixed:
       detail::check_keys(v, {"status", "value", "note"}, src, path);
@@ -73,7 +73,7 @@ ParameterSpec parse_parameter(const std::string& name, const json& v, const std:
       s.start = detail::get_number_or(v, "start", kNotGiven, src, path);
       const std::string scale = detail::get_string_or(v, "scale", "linear", src, path);
       s.scale = choose<ParameterScale>(scale, {{"linear", ParameterScale::linear}, {"log", ParameterScale::log}},
-                                       src + ": " + path + ".scale");
+                                       (path / "scale").in(src));
       break;
     }
   }
@@ -81,7 +81,7 @@ ParameterSpec parse_parameter(const std::string& name, const json& v, const std:
 }
 
 CalibrationOptions parse_options(const json& o, const std::string& src) {
-  const std::string path = "options";
+  const detail::KeyPath path = "options";
   detail::check_keys(o,
                      {"global", "global_evaluations", "global_runs", "local", "local_evaluations", "starts", "design_points",
                       "relative_tolerance", "x_tolerance", "max_seconds", "seed", "threads", "loss", "loss_scale",
@@ -148,7 +148,7 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
 /// The "interpretation" object: which failure criterion, over which stress range, for which design
 /// stress the classical interpretation beside the fit is made (docs/calibration-format.md).
 InterpretOptions parse_interpretation(const json& o, const std::string& src) {
-  const std::string path = "interpretation";
+  const detail::KeyPath path = "interpretation";
   detail::require_object(o, src, path);
   detail::check_keys(o, {"criterion", "limiting_strain", "stress_range", "design_stress"}, src, path);
   InterpretOptions i;
@@ -219,36 +219,36 @@ CalibrationFile parse_calibration_file(const std::string& text, const std::strin
   if (!tests.is_array() || tests.empty())
     throw InputError(source + ": tests: expected a non-empty list, found " + tests.dump().substr(0, 40));
   for (std::size_t i = 0; i < tests.size(); ++i) {
-    const std::string path = "tests[" + std::to_string(i) + "]";
+    const detail::KeyPath path = detail::KeyPath("tests")[i];
     const json& t = tests[i];
     detail::check_keys(t, {"specimen", "weight", "axial_strain_range", "curves"}, source, path);
     CalibrationTestSpec spec;
     spec.specimen = detail::get_string(t, "specimen", source, path);
     spec.weight = detail::get_number_or(t, "weight", 1.0, source, path);
-    if (!(spec.weight >= 0.0)) throw InputError(source + ": " + path + ".weight: must be 0 or more, found " + t.at("weight").dump());
+    if (!(spec.weight >= 0.0)) throw InputError((path / "weight").in(source) + ": must be 0 or more, found " + t.at("weight").dump());
     if (t.contains("axial_strain_range")) {
-      const auto r = range_of(t.at("axial_strain_range"), source, path + ".axial_strain_range");
+      const auto r = range_of(t.at("axial_strain_range"), source, path / "axial_strain_range");
       spec.strain_min = r.first;
       spec.strain_max = r.second;
     }
-    if (!t.contains("curves")) throw InputError(source + ": " + path + ".curves: missing (a list of quantities to compare)");
+    if (!t.contains("curves")) throw InputError((path / "curves").in(source) + ": missing (a list of quantities to compare)");
     const json& curves = t.at("curves");
     if (!curves.is_array() || curves.empty())
-      throw InputError(source + ": " + path + ".curves: expected a non-empty list, found " + curves.dump().substr(0, 40));
+      throw InputError((path / "curves").in(source) + ": expected a non-empty list, found " + curves.dump().substr(0, 40));
     for (std::size_t c = 0; c < curves.size(); ++c) {
-      const std::string cp = path + ".curves[" + std::to_string(c) + "]";
+      const detail::KeyPath cp = (path / "curves")[c];
       CalibrationCurveSpec cs;
       if (curves[c].is_string()) {
-        cs.y = parse_quantity(curves[c].get<std::string>(), source + ": " + cp);
+        cs.y = parse_quantity(curves[c].get<std::string>(), cp.in(source));
       } else {
         detail::check_keys(curves[c], {"quantity", "weight"}, source, cp);
-        cs.y = parse_quantity(detail::get_string(curves[c], "quantity", source, cp), source + ": " + cp + ".quantity");
+        cs.y = parse_quantity(detail::get_string(curves[c], "quantity", source, cp), (cp / "quantity").in(source));
         cs.weight = detail::get_number_or(curves[c], "weight", 1.0, source, cp);
         if (!(cs.weight >= 0.0))
-          throw InputError(source + ": " + cp + ".weight: must be 0 or more, found " + curves[c].at("weight").dump());
+          throw InputError((cp / "weight").in(source) + ": must be 0 or more, found " + curves[c].at("weight").dump());
       }
       if (cs.y == Quantity::axial_strain)
-        throw InputError(source + ": " + cp + ": axial_strain is the x of every curve; compare another quantity");
+        throw InputError(cp.in(source) + ": axial_strain is the x of every curve; compare another quantity");
       spec.curves.push_back(cs);
     }
     f.tests.push_back(std::move(spec));
@@ -264,7 +264,7 @@ CalibrationFile parse_calibration_file(const std::string& text, const std::strin
     if (!c.is_array()) throw InputError(source + ": constraints: expected a list of strings such as \"dilation_angle <= friction_angle\"");
     for (std::size_t i = 0; i < c.size(); ++i) {
       if (!c[i].is_string())
-        throw InputError(source + ": constraints[" + std::to_string(i) + "]: expected a string, found " + c[i].dump());
+        throw InputError(detail::KeyPath("constraints")[i].in(source) + ": expected a string, found " + c[i].dump());
       f.constraints.push_back(c[i].get<std::string>());
     }
   }
@@ -358,7 +358,7 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
   p.driver.fixed_steps = file.fixed_steps;
   for (std::size_t i = 0; i < file.tests.size(); ++i) {
     const CalibrationTestSpec& spec = file.tests[i];
-    const std::string path = "tests[" + std::to_string(i) + "]";
+    const detail::KeyPath path = detail::KeyPath("tests")[i];
     const Specimen* specimen = nullptr;
     std::string known;
     for (const Specimen& s : series.specimens) {
@@ -366,7 +366,7 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
       known += (known.empty() ? "" : ", ") + s.id;
     }
     if (specimen == nullptr)
-      throw InputError(src + ": " + path + ".specimen: \"" + spec.specimen + "\" is not in the test series " + series.source +
+      throw InputError((path / "specimen").in(src) + ": \"" + spec.specimen + "\" is not in the test series " + series.source +
                        " (known: " + known + ")");
     CalibrationTest test;
     test.id = specimen->id;
@@ -375,15 +375,15 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
     try {
       sp = specimen_protocol_with_map(*specimen, file.steps_per_shear_stage);
     } catch (const InputError& e) {
-      throw InputError(src + ": " + path + ": " + e.what());
+      throw InputError(path.in(src) + ": " + e.what());
     }
     test.protocol = sp.protocol;
-    const std::vector<StageWindow> windows = compared_stages(*specimen, sp, src + ": " + path);
+    const std::vector<StageWindow> windows = compared_stages(*specimen, sp, path.in(src));
     for (std::size_t c = 0; c < spec.curves.size(); ++c) {
       const CalibrationCurveSpec& cs = spec.curves[c];
       const std::vector<double>* ys = column(specimen->curves, cs.y);
       if (ys == nullptr || ys->size() != specimen->curves.size())
-        throw InputError(src + ": " + path + ".curves[" + std::to_string(c) + "]: specimen '" + specimen->id + "' has no " +
+        throw InputError((path / "curves")[c].in(src) + ": specimen '" + specimen->id + "' has no " +
                          to_string(cs.y) + " data");
       const std::size_t before = test.curves.size();
       for (const StageWindow& w : windows) {
@@ -410,7 +410,7 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
         if (!m.xs.empty()) test.curves.push_back(std::move(m));
       }
       if (test.curves.size() == before)
-        throw InputError(src + ": " + path + ".curves[" + std::to_string(c) + "]: specimen '" + specimen->id + "' has no " +
+        throw InputError((path / "curves")[c].in(src) + ": specimen '" + specimen->id + "' has no " +
                          to_string(cs.y) + " values (every one is unknown)");
     }
     p.tests.push_back(std::move(test));

@@ -4,6 +4,7 @@
 #include <cmath>
 #include <set>
 
+#include "../key_path.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/parameters.hpp"
 
@@ -273,7 +274,7 @@ double Prepared::violation(const ParameterValues& v) const {
 namespace {
 
 std::string test_where(std::size_t i, const CalibrationTest& t) {
-  return "tests[" + std::to_string(i) + "]" + (t.id.empty() ? "" : " (" + t.id + ")");
+  return detail::KeyPath("tests")[i].str() + (t.id.empty() ? "" : " (" + t.id + ")");
 }
 
 // Normalisation floor where a curve is nearly flat (e.g. excess pore pressure in a drained test):
@@ -298,7 +299,7 @@ Prepared prepare(const CalibrationProblem& problem) {
   p.fixed.assign(n, kNotGiven);
   std::vector<const ParameterSpec*> spec(n, nullptr);
   for (const ParameterSpec& s : problem.parameters) {
-    const std::string where = "parameters." + s.name;
+    const std::string where = detail::KeyPath("parameters") / s.name;
     const int i = parameter_index(info, s.name);
     if (i < 0) {
       std::string known;
@@ -312,7 +313,7 @@ Prepared prepare(const CalibrationProblem& problem) {
   std::vector<std::pair<int, const ParameterSpec*>> tied;
   for (std::size_t i = 0; i < n; ++i) {
     const ParameterInfo& pi = info.parameters[i];
-    const std::string where = "parameters." + pi.name;
+    const std::string where = detail::KeyPath("parameters") / pi.name;
     const ParameterSpec* s = spec[i];
     if (s == nullptr || s->status == ParameterStatus::fixed) {
       const double v = (s != nullptr && !std::isnan(s->value)) ? s->value : pi.default_value;
@@ -358,7 +359,7 @@ Prepared prepare(const CalibrationProblem& problem) {
   // Ties in dependency order; a tie may read fixed, free or other tied parameters.
   std::vector<std::pair<int, Expression>> pending;
   for (const auto& [i, s] : tied)
-    pending.emplace_back(i, Expression(s->expression, p.names, "parameters." + p.names[static_cast<std::size_t>(i)] + ".expression"));
+    pending.emplace_back(i, Expression(s->expression, p.names, (detail::KeyPath("parameters") / p.names[static_cast<std::size_t>(i)] / "expression").str()));
   std::vector<bool> known(n, true);
   for (const auto& [i, e] : pending) known[static_cast<std::size_t>(i)] = false;
   while (!pending.empty()) {
@@ -378,12 +379,12 @@ Prepared prepare(const CalibrationProblem& problem) {
     if (!progress) {
       std::string cycle;
       for (const auto& [i, e] : pending) cycle += (cycle.empty() ? "" : ", ") + p.names[static_cast<std::size_t>(i)];
-      throw InputError("parameters." + p.names[static_cast<std::size_t>(pending.front().first)] +
-                       ".expression: tied parameters refer to each other in a cycle (" + cycle + ")");
+      throw InputError((detail::KeyPath("parameters") / p.names[static_cast<std::size_t>(pending.front().first)] / "expression").str() +
+                       ": tied parameters refer to each other in a cycle (" + cycle + ")");
     }
   }
   for (std::size_t c = 0; c < problem.constraints.size(); ++c)
-    p.constraints.push_back(parse_inequality(problem.constraints[c], p.names, "constraints[" + std::to_string(c) + "]"));
+    p.constraints.push_back(parse_inequality(problem.constraints[c], p.names, detail::KeyPath("constraints")[c]));
   // Ties and constraints at the start point must make sense.
   {
     std::vector<double> unit(p.free.size());
@@ -391,7 +392,7 @@ Prepared prepare(const CalibrationProblem& problem) {
     const ParameterValues v = p.values(unit);
     for (const auto& [i, e] : p.ties)
       if (!std::isfinite(v[static_cast<std::size_t>(i)]))
-        throw InputError("parameters." + p.names[static_cast<std::size_t>(i)] + ".expression: \"" + e.text() +
+        throw InputError((detail::KeyPath("parameters") / p.names[static_cast<std::size_t>(i)] / "expression").str() + ": \"" + e.text() +
                          "\" is not a finite number at the start values");
   }
 

@@ -57,58 +57,54 @@ const char* drainage_name(Drainage d) {
 struct Reader {
   std::string source;
 
-  static std::string sub(const std::string& path, const char* key) {
-    return path.empty() ? std::string(key) : path + "." + key;
-  }
-
-  [[noreturn]] void fail(const std::string& path, const std::string& what) const {
+  [[noreturn]] void fail(const detail::KeyPath& path, const std::string& what) const {
     throw InputError(detail::where(source, path) + ": " + what);
   }
-  void object(const json& j, const std::string& path, std::initializer_list<const char*> keys) const {
+  void object(const json& j, const detail::KeyPath& path, std::initializer_list<const char*> keys) const {
     detail::require_object(j, source, path);
     detail::check_keys(j, keys, source, path);
   }
-  double num(const json& j, const char* key, const std::string& path, double fallback = kUnknown) const {
+  double num(const json& j, const char* key, const detail::KeyPath& path, double fallback = kUnknown) const {
     if (!j.contains(key) || j[key].is_null()) return fallback;
-    if (!j[key].is_number()) fail(sub(path, key), "expected a number or null, found " + j[key].dump());
+    if (!j[key].is_number()) fail(path / key, "expected a number or null, found " + j[key].dump());
     return j[key].get<double>();
   }
   /// A count: an integer from 0 to `high` (never wrapped).
-  long integer(const json& j, const char* key, const std::string& path, long fallback = 0,
+  long integer(const json& j, const char* key, const detail::KeyPath& path, long fallback = 0,
                long high = std::numeric_limits<long>::max()) const {
     if (!j.contains(key)) return fallback;
-    return static_cast<long>(detail::get_integer_in(j[key], 0, high, source, sub(path, key)));
+    return static_cast<long>(detail::get_integer_in(j[key], 0, high, source, path / key));
   }
-  bool boolean(const json& j, const char* key, const std::string& path, bool fallback) const {
+  bool boolean(const json& j, const char* key, const detail::KeyPath& path, bool fallback) const {
     if (!j.contains(key)) return fallback;
-    if (!j[key].is_boolean()) fail(sub(path, key), "expected true or false, found " + j[key].dump());
+    if (!j[key].is_boolean()) fail(path / key, "expected true or false, found " + j[key].dump());
     return j[key].get<bool>();
   }
-  std::string str(const json& j, const char* key, const std::string& path, const std::string& fallback = "") const {
+  std::string str(const json& j, const char* key, const detail::KeyPath& path, const std::string& fallback = "") const {
     if (!j.contains(key)) return fallback;
-    if (!j[key].is_string()) fail(sub(path, key), "expected a string, found " + j[key].dump());
+    if (!j[key].is_string()) fail(path / key, "expected a string, found " + j[key].dump());
     return j[key].get<std::string>();
   }
-  const json* array(const json& j, const char* key, const std::string& path) const {
+  const json* array(const json& j, const char* key, const detail::KeyPath& path) const {
     if (!j.contains(key)) return nullptr;
-    if (!j[key].is_array()) fail(sub(path, key), "expected an array, found " + j[key].dump());
+    if (!j[key].is_array()) fail(path / key, "expected an array, found " + j[key].dump());
     return &j[key];
   }
-  std::vector<double> nums(const json& j, const char* key, const std::string& path) const {
+  std::vector<double> nums(const json& j, const char* key, const detail::KeyPath& path) const {
     std::vector<double> out;
     if (const json* a = array(j, key, path))
       for (std::size_t i = 0; i < a->size(); ++i) {
         const json& v = (*a)[i];
         if (v.is_null()) out.push_back(kUnknown);
         else if (v.is_number()) out.push_back(v.get<double>());
-        else fail(sub(path, key) + "[" + std::to_string(i) + "]", "expected a number or null, found " + v.dump());
+        else fail((path / key)[i], "expected a number or null, found " + v.dump());
       }
     return out;
   }
-  XY xy(const json& j, const char* key, const std::string& path) const {
+  XY xy(const json& j, const char* key, const detail::KeyPath& path) const {
     XY c;
     if (!j.contains(key)) return c;
-    const std::string p = sub(path, key);
+    const detail::KeyPath p = path / key;
     object(j[key], p, {"x", "y"});
     c.x = nums(j[key], "x", p);
     c.y = nums(j[key], "y", p);
@@ -117,27 +113,27 @@ struct Reader {
                   " (expected equal lengths)");
     return c;
   }
-  CurvePair pair(const json& j, const char* key, const std::string& path) const {
+  CurvePair pair(const json& j, const char* key, const detail::KeyPath& path) const {
     CurvePair c;
     if (!j.contains(key)) return c;
-    const std::string p = sub(path, key);
+    const detail::KeyPath p = path / key;
     object(j[key], p, {"measured", "simulated"});
     c.measured = xy(j[key], "measured", p);
     c.simulated = xy(j[key], "simulated", p);
     return c;
   }
-  Line line(const json& j, const std::string& p) const {
+  Line line(const json& j, const detail::KeyPath& p) const {
     object(j, p, {"name", "intercept", "slope", "x_from", "x_to"});
     return {str(j, "name", p), num(j, "intercept", p), num(j, "slope", p), num(j, "x_from", p), num(j, "x_to", p)};
   }
   template <class F>
-  void each(const json& j, const char* key, const std::string& path, F f) const {
+  void each(const json& j, const char* key, const detail::KeyPath& path, F f) const {
     if (const json* a = array(j, key, path))
-      for (std::size_t i = 0; i < a->size(); ++i) f((*a)[i], sub(path, key) + "[" + std::to_string(i) + "]");
+      for (std::size_t i = 0; i < a->size(); ++i) f((*a)[i], (path / key)[i]);
   }
-  std::vector<std::string> strings(const json& j, const char* key, const std::string& path) const {
+  std::vector<std::string> strings(const json& j, const char* key, const detail::KeyPath& path) const {
     std::vector<std::string> out;
-    each(j, key, path, [&](const json& v, const std::string& p) {
+    each(j, key, path, [&](const json& v, const detail::KeyPath& p) {
       if (!v.is_string()) fail(p, "expected a string, found " + v.dump());
       out.push_back(v.get<std::string>());
     });
@@ -145,7 +141,7 @@ struct Reader {
   }
 };
 
-Drainage parse_drainage(const std::string& s, const Reader& r, const std::string& path) {
+Drainage parse_drainage(const std::string& s, const Reader& r, const detail::KeyPath& path) {
   if (s == "drained") return Drainage::drained;
   if (s == "undrained") return Drainage::undrained;
   if (s == "oedometer") return Drainage::oedometer;
@@ -216,7 +212,7 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
       ParameterRow row;
       row.name = name;
       if (!p.is_object()) continue;
-      const std::string pp = "parameters." + name;
+      const detail::KeyPath pp = detail::KeyPath("parameters") / name;
       row.unit = reader.str(p, "unit", pp);
       row.status = reader.str(p, "status", pp, "fixed");
       auto n = [&](const char* k) { return p.contains(k) && p[k].is_number() ? p[k].get<double>() : kUnknown; };
@@ -257,7 +253,7 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
     if (fit.contains("tests") && fit["tests"].is_array())
       for (std::size_t i = 0; i < fit["tests"].size(); ++i) {
         const json& t = fit["tests"][i];
-        const std::string tp = "fit.tests[" + std::to_string(i) + "]";
+        const detail::KeyPath tp = (detail::KeyPath("fit") / "tests")[i];
         TestReport tr;
         tr.id = reader.str(t, "id", tp);
         tr.simulated = reader.boolean(t, "simulated", tp, true);
@@ -265,7 +261,7 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
         if (t.contains("curves") && t["curves"].is_array())
           for (std::size_t k = 0; k < t["curves"].size(); ++k) {
             const json& c = t["curves"][k];
-            const std::string cp = tp + ".curves[" + std::to_string(k) + "]";
+            const detail::KeyPath cp = (tp / "curves")[k];
             CurveQuality q;
             q.name = reader.str(c, "quantity", cp) + " vs axial strain";
             q.unit = reader.str(c, "unit", cp);
@@ -284,7 +280,7 @@ ReportData from_fit_files(const std::filesystem::path& params_path, const std::f
     if (p.contains("created") && p["created"].is_string()) d.provenance.emplace_back("created", p["created"].get<std::string>());
     if (p.contains("inputs") && p["inputs"].is_array())
       for (std::size_t i = 0; i < p["inputs"].size(); ++i) {
-        const std::string ip = "provenance.inputs[" + std::to_string(i) + "]";
+        const detail::KeyPath ip = (detail::KeyPath("provenance") / "inputs")[i];
         const json& in = p["inputs"][i];
         if (in.is_object()) d.provenance.emplace_back("input " + reader.str(in, "path", ip), "sha256 " + reader.str(in, "sha256", ip));
       }
@@ -506,7 +502,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
   d.start_objective = r.num(root, "start_objective", "");
   d.evaluations = r.integer(root, "evaluations", "");
   d.wall_time = r.num(root, "wall_time", "");
-  r.each(root, "tests", "", [&](const json& j, const std::string& p) {
+  r.each(root, "tests", "", [&](const json& j, const detail::KeyPath& p) {
     if (version1 || version2)
       r.object(j, p, {"id", "description", "drainage", "used", "simulated", "message", "objective", "weight", "deviator",
                       "pore_pressure", "volumetric", "stress_path", "compression", "quality"});
@@ -516,7 +512,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
     TestReport t;
     t.id = detail::get_string(j, "id", source, p);
     t.description = r.str(j, "description", p);
-    t.drainage = parse_drainage(r.str(j, "drainage", p, "other"), r, p + ".drainage");
+    t.drainage = parse_drainage(r.str(j, "drainage", p, "other"), r, p / "drainage");
     t.used = r.boolean(j, "used", p, true);
     t.simulated = r.boolean(j, "simulated", p, true);
     t.message = r.str(j, "message", p);
@@ -536,7 +532,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
         t.curves.push_back(tc);
       }
     }
-    r.each(j, "curves", p, [&](const json& c, const std::string& cp) {
+    r.each(j, "curves", p, [&](const json& c, const detail::KeyPath& cp) {
       r.object(c, cp, {"quantity", "unit", "stage", "measured", "simulated", "fitted_from", "fitted_to"});
       TestCurve tc;
       tc.quantity = detail::get_string(c, "quantity", source, cp);
@@ -567,7 +563,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
     });
     d.tests.push_back(t);
   });
-  r.each(root, "parameters", "", [&](const json& j, const std::string& p) {
+  r.each(root, "parameters", "", [&](const json& j, const detail::KeyPath& p) {
     r.object(j, p, {"name", "unit", "status", "expression", "value", "start", "lower", "upper", "standard_error",
                     "interval_low", "interval_high", "at_bound", "description"});
     ParameterRow row;
@@ -575,7 +571,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
     row.unit = r.str(j, "unit", p);
     row.status = r.str(j, "status", p, "fixed");
     if (row.status != "free" && row.status != "fixed" && row.status != "tied")
-      r.fail(p + ".status", "expected free, fixed or tied, found \"" + row.status + "\"");
+      r.fail(p / "status", "expected free, fixed or tied, found \"" + row.status + "\"");
     row.expression = r.str(j, "expression", p);
     row.value = r.num(j, "value", p);
     row.start = r.num(j, "start", p);
@@ -593,7 +589,7 @@ ReportData parse_report_input(const std::string& text, const std::string& source
     r.object(c, "correlation", {"names", "matrix", "strong"});
     d.correlation.names = r.strings(c, "names", "correlation");
     d.correlation.strong = r.num(c, "strong", "correlation", 0.9);
-    r.each(c, "matrix", "correlation", [&](const json& row, const std::string& p) {
+    r.each(c, "matrix", "correlation", [&](const json& row, const detail::KeyPath& p) {
       if (!row.is_array()) r.fail(p, "expected an array of numbers, found " + row.dump());
       std::vector<double> v;
       for (const auto& x : row) v.push_back(x.is_number() ? x.get<double>() : kUnknown);
@@ -606,44 +602,44 @@ ReportData parse_report_input(const std::string& text, const std::string& source
       r.fail("correlation.matrix", "has " + std::to_string(d.correlation.matrix.size()) + " rows (expected " +
                                        std::to_string(d.correlation.names.size()) + ", one a name)");
   }
-  r.each(root, "comparisons", "", [&](const json& j, const std::string& p) {
+  r.each(root, "comparisons", "", [&](const json& j, const detail::KeyPath& p) {
     r.object(j, p, {"quantity", "unit", "classical", "model", "basis"});
     d.comparisons.push_back(
         {r.str(j, "quantity", p), r.str(j, "unit", p), r.num(j, "classical", p), r.num(j, "model", p), r.str(j, "basis", p)});
   });
   if (root.contains("strength")) {
     const json& s = root["strength"];
-    const std::string p = "strength";
+    const detail::KeyPath p = "strength";
     r.object(s, p, {"points", "regression", "design", "model", "range_low", "range_high", "design_stress", "pq_lines", "criterion"});
     r.each(s, "points", p, [&](const json& j, const std::string& pp) {
       r.object(j, pp, {"label", "s", "t", "used"});
       d.strength.points.push_back({r.str(j, "label", pp), r.num(j, "s", pp), r.num(j, "t", pp), r.boolean(j, "used", pp, true)});
     });
-    if (s.contains("regression")) d.strength.regression = r.line(s["regression"], p + ".regression");
-    if (s.contains("design")) d.strength.design = r.line(s["design"], p + ".design");
-    if (s.contains("model")) d.strength.model = r.line(s["model"], p + ".model");
+    if (s.contains("regression")) d.strength.regression = r.line(s["regression"], p / "regression");
+    if (s.contains("design")) d.strength.design = r.line(s["design"], p / "design");
+    if (s.contains("model")) d.strength.model = r.line(s["model"], p / "model");
     d.strength.range_low = r.num(s, "range_low", p);
     d.strength.range_high = r.num(s, "range_high", p);
     d.strength.design_stress = r.num(s, "design_stress", p);
     r.each(s, "pq_lines", p, [&](const json& j, const std::string& pp) { d.strength.pq_lines.push_back(r.line(j, pp)); });
     d.strength.criterion = r.str(s, "criterion", p);
   }
-  r.each(root, "history", "", [&](const json& j, const std::string& p) {
+  r.each(root, "history", "", [&](const json& j, const detail::KeyPath& p) {
     if (!j.is_array() || j.size() != 4 || !j[0].is_number_integer() || !j[3].is_number_integer())
       r.fail(p, "expected [evaluation, objective, best, stage], found " + j.dump());
     HistoryPoint h;
-    h.evaluation = static_cast<long>(detail::get_integer_in(j[0], 0, std::numeric_limits<long>::max(), r.source, p + "[0]"));
+    h.evaluation = static_cast<long>(detail::get_integer_in(j[0], 0, std::numeric_limits<long>::max(), r.source, p[0]));
     h.objective = j[1].is_number() ? j[1].get<double>() : kUnknown;
     h.best = j[2].is_number() ? j[2].get<double>() : kUnknown;
-    h.stage = static_cast<int>(detail::get_integer_in(j[3], 0, std::numeric_limits<int>::max(), r.source, p + "[3]"));
+    h.stage = static_cast<int>(detail::get_integer_in(j[3], 0, std::numeric_limits<int>::max(), r.source, p[3]));
     d.history.push_back(h);
   });
   d.warnings = r.strings(root, "warnings", "");
-  r.each(root, "excluded", "", [&](const json& j, const std::string& p) {
+  r.each(root, "excluded", "", [&](const json& j, const detail::KeyPath& p) {
     r.object(j, p, {"id", "reason"});
     d.excluded.push_back({r.str(j, "id", p), r.str(j, "reason", p)});
   });
-  r.each(root, "provenance", "", [&](const json& j, const std::string& p) {
+  r.each(root, "provenance", "", [&](const json& j, const detail::KeyPath& p) {
     if (!j.is_array() || j.size() != 2 || !j[0].is_string() || !j[1].is_string())
       r.fail(p, "expected [key, value] strings, found " + j.dump());
     d.provenance.emplace_back(j[0].get<std::string>(), j[1].get<std::string>());

@@ -100,12 +100,12 @@ bool drained_stage(const SpecimenStage& st) {
 /// Oedometer data: axial strain and effective axial stress (and optionally the void ratio), zero radial
 /// strain so e_v = e_a. A largest stress in the file off the largest declared step by more than 5 %
 /// (2 kPa floor, as for consolidation) is reported.
-void read_oedometer_data(Specimen& s, const std::string& series_src, const std::string& sp, std::vector<SeriesWarning>& warnings) {
+void read_oedometer_data(Specimen& s, const std::string& series_src, const detail::KeyPath& sp, std::vector<SeriesWarning>& warnings) {
   const DataFileSpec& spec = s.data;
   const std::string src = spec.path;
-  const std::string cols_path = series_src + ": " + sp + ".data.columns";
+  const std::string cols_path = (sp / "data" / "columns").in(series_src);
   if (spec.raw)
-    throw InputError(series_src + ": " + sp + ".data.kind: oedometer data must be \"reduced\" (axial strain and effective axial stress)");
+    throw InputError((sp / "data" / "kind").in(series_src) + ": oedometer data must be \"reduced\" (axial strain and effective axial stress)");
   std::vector<CsvColumnRequest> req;
   std::map<std::string, int> col;
   for (const DataFileSpec::Column& c : spec.columns) {
@@ -165,8 +165,7 @@ void read_oedometer_data(Specimen& s, const std::string& series_src, const std::
   const double declared = *std::max_element(st.stress_steps.begin(), st.stress_steps.end());
   if (std::abs(largest - declared) > std::max(kConsolidationAbs, kConsolidationRel * declared))
     warnings.push_back({s.id, src + ": the largest effective axial stress in the file is " + fmt(largest) +
-                                  " kPa, the largest declared step " + fmt(declared) + " kPa (" + sp + ".stages[" +
-                                  std::to_string(k) + "].stress_steps)"});
+                                  " kPa, the largest declared step " + fmt(declared) + " kPa (" + ((sp / "stages")[k] / "stress_steps").str() + ")"});
 }
 
 /// A triaxial specimen's data as read: the declared columns, their values and where they are.
@@ -175,7 +174,7 @@ struct TriaxialData {
   const DataFileSpec& spec;
   std::string src;       ///< the data file, for messages
   std::string series_src;
-  std::string sp;        ///< JSON path of the specimen
+  detail::KeyPath sp;    ///< JSON path of the specimen
   std::map<std::string, int> col;  ///< quantity -> column request
   CsvTable t;
   std::size_t n = 0;
@@ -192,7 +191,7 @@ std::vector<CsvColumnRequest> required_columns(TriaxialData& d) {
   const Specimen& s = d.s;
   const DataFileSpec& spec = d.spec;
   const std::string& series_src = d.series_src;
-  const std::string& sp = d.sp;
+  const detail::KeyPath& sp = d.sp;
   std::vector<CsvColumnRequest> req;
   std::map<std::string, int>& col = d.col;
   for (const DataFileSpec::Column& c : spec.columns) {
@@ -200,7 +199,7 @@ std::vector<CsvColumnRequest> required_columns(TriaxialData& d) {
     req.push_back({c.quantity, c.header, unit_factor(kind_of(c.quantity), c.unit, series_src), c.unit});
   }
   const auto has = [&](const char* q) { return col.count(q) > 0; };
-  const std::string cols_path = series_src + ": " + sp + ".data.columns";
+  const std::string cols_path = (sp / "data" / "columns").in(series_src);
   const auto need = [&](bool ok, const std::string& what) {
     if (!ok) throw InputError(cols_path + ": " + what);
   };
@@ -229,15 +228,13 @@ std::vector<CsvColumnRequest> required_columns(TriaxialData& d) {
   }
   const bool continuous = spec.strain_origin == StrainOrigin::data_start;  // raw data are continuous too
   if (s.shear_stages().size() > 1 && !has("stage") && !continuous)
-    throw InputError(series_src + ": " + sp +
-                     ".data: several shear stages and no stage column: rows are assigned to stages by their continuous "
+    throw InputError((sp / "data").in(series_src) + ": several shear stages and no stage column: rows are assigned to stages by their continuous "
                      "axial strain, so declare \"strain_origin\": \"data_start\" (and each shear stage's strain_range), or add "
                      "a stage column");
   if (s.shear_stages().size() > 1 && !has("stage")) {
     for (int k : s.shear_stages())
       if (!given(s.stages[static_cast<std::size_t>(k)].strain_from))
-        throw InputError(series_src + ": " + sp + ".stages[" + std::to_string(k) +
-                         "]: with several shear stages and no stage column, each shear stage needs its strain_range");
+        throw InputError((sp / "stages")[static_cast<std::size_t>(k)].in(series_src) + ": with several shear stages and no stage column, each shear stage needs its strain_range");
   }
   d.continuous = continuous;
   return req;
@@ -248,7 +245,7 @@ std::vector<CsvColumnRequest> required_columns(TriaxialData& d) {
 std::vector<int> stages_from_column(const TriaxialData& d) {
   const Specimen& s = d.s;
   const std::string& src = d.src;
-  const std::string& sp = d.sp;
+  const detail::KeyPath& sp = d.sp;
   const std::size_t n = d.n;
   const CsvTable& t = d.t;
   std::vector<int> stage(n, -1);
@@ -267,7 +264,7 @@ std::vector<int> stages_from_column(const TriaxialData& d) {
       if (i > 0 && stage[i] < stage[i - 1])
         throw InputError(src + ": line " + std::to_string(t.line[i]) + " (stage): stage " + fmt(v) + " after rows of stage " +
                          std::to_string(s.stages[static_cast<std::size_t>(stage[i - 1])].data_stage) +
-                         " (the rows of each stage must be together, the stages in the order of " + sp + ".stages)");
+                         " (the rows of each stage must be together, the stages in the order of " + (sp / "stages").str() + ")");
     }
   }
   return stage;
@@ -275,7 +272,7 @@ std::vector<int> stages_from_column(const TriaxialData& d) {
 
 /// Step 2b: reference height, area and void ratio at the data zero, from the set-up dimensions and
 /// the consolidation strains declared before the first stage with rows.
-void set_reference_state(Specimen& s, int first_stage, const std::string& series_src, const std::string& sp,
+void set_reference_state(Specimen& s, int first_stage, const std::string& series_src, const detail::KeyPath& sp,
                          std::vector<SeriesWarning>& warnings) {
   const double a0 = 0.25 * std::numbers::pi * s.diameter * s.diameter;
   s.reference_height = s.height;
@@ -304,7 +301,7 @@ void set_reference_state(Specimen& s, int first_stage, const std::string& series
     }
     if (unknown) {
       s.reference_void_ratio = kNotGiven;
-      warnings.push_back({s.id, series_src + ": " + sp +
+      warnings.push_back({s.id, sp.in(series_src) +
                                     ": the consolidation before the data declares no end_volumetric_strain; the area "
                                     "correction uses the set-up dimensions and void ratios are not reported"});
     }
@@ -343,15 +340,15 @@ void stages_from_strain_ranges(const TriaxialData& d, const std::vector<double>&
 /// near zero strain; a larger start means the file's strains run on.
 void check_stage_starts(const TriaxialData& d, const std::vector<double>& ea_file, const std::vector<int>& stage) {
   const std::string& src = d.src;
-  const std::string& sp = d.sp;
+  const detail::KeyPath& sp = d.sp;
   const std::size_t n = d.n;
   const CsvTable& t = d.t;
   if (!d.continuous)
     for (std::size_t i = 1; i < n; ++i)
       if (stage[i] != stage[i - 1] && std::abs(ea_file[i]) > kStageStartStrain)
         throw InputError(src + ": line " + std::to_string(t.line[i]) + " (axial_strain): stages[" + std::to_string(stage[i]) +
-                         "] starts at axial strain " + fmt(ea_file[i]) + ", but with strains relative to each stage's start (" + sp +
-                         ".data.strain_origin \"stage_start\", the default) a stage starts within " + fmt(kStageStartStrain) +
+                         "] starts at axial strain " + fmt(ea_file[i]) + ", but with strains relative to each stage's start (" + (sp / "data" / "strain_origin").str() +
+                         " \"stage_start\", the default) a stage starts within " + fmt(kStageStartStrain) +
                          " of zero; if the file's strains run on from the first stage with rows, declare \"strain_origin\": "
                          "\"data_start\"");
 }
@@ -464,7 +461,7 @@ void reduce_rows(Specimen& s, const TriaxialData& d, const std::vector<double>& 
                  const RowStrains& r) {
   const DataFileSpec& spec = d.spec;
   const std::string& series_src = d.series_src;
-  const std::string& sp = d.sp;
+  const detail::KeyPath& sp = d.sp;
   const std::size_t n = d.n;
   const CsvTable& t = d.t;
   const std::string& src = d.src;
@@ -504,8 +501,7 @@ void reduce_rows(Specimen& s, const TriaxialData& d, const std::vector<double>& 
     double sr = kNotGiven;
     if (given(u) && given(cell)) sr = cell - u;
     if (given(u) && !given(cell) && st.shear != ShearType::uu)
-      throw InputError(series_src + ": " + sp + ".stages[" + std::to_string(k) +
-                       "]: the cell pressure is unknown (give a cell_pressure column or the consolidation radial_stress)");
+      throw InputError((sp / "stages")[static_cast<std::size_t>(k)].in(series_src) + ": the cell pressure is unknown (give a cell_pressure column or the consolidation radial_stress)");
     const double sa = given(sr) ? sr + q : kNotGiven;
     if (given(sr) && (sr < 0.0 || sa < 0.0))
       throw InputError(at + ": negative effective stress (s_r' = " + fmt(sr) + " kPa, s_a' = " + fmt(sa) +
@@ -529,7 +525,7 @@ void reduce_rows(Specimen& s, const TriaxialData& d, const std::vector<double>& 
 void check_stages(const Specimen& s, const TriaxialData& d, std::vector<SeriesWarning>& warnings) {
   const std::string& src = d.src;
   const std::string& series_src = d.series_src;
-  const std::string& sp = d.sp;
+  const detail::KeyPath& sp = d.sp;
   const auto column = [&d](const char* q) { return d.column(q); };
   const ReducedCurves& c = s.curves;
   const bool any_cu = d.any_cu;
@@ -551,8 +547,7 @@ void check_stages(const Specimen& s, const TriaxialData& d, std::vector<SeriesWa
         in_loop = in_loop || (std::min(now, prev) >= l.from_strain - kStrainRoundOff && std::max(now, prev) <= l.to_strain + kStrainRoundOff);
       if (!in_loop)
         throw InputError(src + ": line " + std::to_string(c.line[static_cast<std::size_t>(i)]) + " (axial_strain): the axial strain goes back from " +
-                         fmt(prev) + " to " + fmt(now) + " outside a declared unload-reload loop (declare it in " + sp + ".stages[" +
-                         std::to_string(k) + "].unload_reload)");
+                         fmt(prev) + " to " + fmt(now) + " outside a declared unload-reload loop (declare it in " + ((sp / "stages")[k] / "unload_reload").str() + ")");
     }
     // Consolidation stress in the file against the declared one.
     const bool measured = column("cell_pressure") || column("pore_pressure") || column("excess_pore_pressure");
@@ -567,22 +562,22 @@ void check_stages(const Specimen& s, const TriaxialData& d, std::vector<SeriesWa
           warnings.push_back({s.id, src + ": line " + std::to_string(c.line[static_cast<std::size_t>(first)]) +
                                         ": effective radial stress at the start of shear is " + fmt(found) +
                                         " kPa in the file, declared consolidation radial stress " + fmt(cs.radial_stress) +
-                                        " kPa (" + sp + ".stages[" + std::to_string(j) + "])"});
+                                        " kPa (" + (sp / "stages")[static_cast<std::size_t>(j)].str() + ")"});
         break;
       }
     }
   }
   if (any_cu) {
     if (!given(s.b_value))
-      warnings.push_back({s.id, series_src + ": " + sp + ": CU test without a declared B-value (saturation stage b_value)"});
+      warnings.push_back({s.id, sp.in(series_src) + ": CU test without a declared B-value (saturation stage b_value)"});
     else if (s.b_value < kMinimumB)
-      warnings.push_back({s.id, series_src + ": " + sp + ": B-value " + fmt(s.b_value) + " is below " + fmt(kMinimumB) +
+      warnings.push_back({s.id, sp.in(series_src) + ": B-value " + fmt(s.b_value) + " is below " + fmt(kMinimumB) +
                                     " for a CU test; pore pressures may be underestimated"});
   }
 }
 
 /// A triaxial specimen's data file: read, assigned to stages, reduced and checked, as named steps.
-void read_data(Specimen& s, const std::string& series_src, const std::string& sp, std::vector<SeriesWarning>& warnings) {
+void read_data(Specimen& s, const std::string& series_src, const detail::KeyPath& sp, std::vector<SeriesWarning>& warnings) {
   if (s.failure_values_only()) return;  // known by its reported failure values only
   if (s.is_oedometer()) {
     read_oedometer_data(s, series_src, sp, warnings);
