@@ -54,6 +54,8 @@ int run_import(const ImportCliOptions& o) {
       throw InputError("--out: '" + o.out + "': the series would have the name of one of its data files (" + d.first + ")");
     names.push_back(d.first);
   }
+  if (!std::filesystem::is_directory(folder))
+    throw InputError("--out: '" + o.out + "': the folder " + folder.string() + " does not exist (create it first)");
   StagedOutputs staged(folder, out_path.stem().string(), names);
   // Messages name the files' places beside the series, and the lab's file a copy came from.
   const auto in_place = [&](const std::string& message) {

@@ -224,6 +224,12 @@ TEST_CASE("import writes the series and its data files together: a second import
   const TestSeries s = read_test_series((dir / "series.json").string());
   for (const Specimen& sp : s.specimens)
     if (!sp.is_oedometer()) CHECK(sp.failure_values_only());
+  // An output folder that does not exist is named, and nothing is made.
+  const test::CliResult m = import(data("hollowmere_reach.ags"), dir / "none" / "series.json", "", "whole3");
+  CHECK(m.exit_code == 2);
+  CHECK(m.err == "triaxcal: error: --out: '" + (dir / "none" / "series.json").string() + "': the folder " + (dir / "none").string() +
+                     " does not exist (create it first)\n");
+  CHECK_FALSE(fs::exists(dir / "none"));
 }
 
 TEST_CASE("check and interpret tables widen for AGS-style ids: every row's columns line up", "[ags][curves]") {
