@@ -194,6 +194,29 @@ double shear_locus(const HyperbolicHardening::Constants& k, double q, double s3)
 
 }  // namespace
 
+namespace {
+
+// Where the model's definitions differ from the classical quantities of the same role (Schanz,
+// Vermeer & Bonnier 1999, eqs. 1-3 and 14-16; the algebra in the header).
+ImpliedValue hyperbolic_implied(ParameterRole role, const std::vector<double>&) {
+  switch (role) {
+    case ParameterRole::secant_stiffness_ref:
+      return {kNotGiven, "",
+              "secant_stiffness_ref is an input of the hardening law, not the E_50 of the model's curves: the hyperbola is "
+              "written in the plastic shear strain gamma_p = eps_1^p - 2 eps_3^p, so a curve at s3' = reference_pressure has "
+              "E_50 = secant_stiffness_ref only without plastic volume change; dilatancy (Rowe) and the cap's compaction "
+              "change its axial strain, and the power law is in s3' + c' cot phi'. The E_50 rows per test compare curves by "
+              "one rule"};
+    case ParameterRole::critical_state_friction_angle:
+      return {kNotGiven, "",
+              "the model's phi_cv is the mobilised friction angle of zero dilation in Rowe's relation; at large strain the "
+              "model stays at phi' (no softening to a critical state)"};
+    default: return {};
+  }
+}
+
+}  // namespace
+
 const ModelInfo& HyperbolicHardening::model_info() {
   static const ModelInfo info{
       kName,
@@ -244,6 +267,7 @@ const ModelInfo& HyperbolicHardening::model_info() {
       {"shear_hardening", "cap_pressure", "cap_volumetric_strain", "mobilised_friction_angle",
        "mobilised_dilation_angle", "active_surfaces", "shear_multiplier_rate", "cap_multiplier_rate"},
       {{"k0_nc", "k0_normally_consolidated"}},
+      hyperbolic_implied,
   };
   return info;
 }

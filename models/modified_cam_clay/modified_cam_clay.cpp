@@ -107,6 +107,41 @@ double sin3theta_and_gradient(const Vec6& s, Vec6& gradient) {
 
 }  // namespace
 
+namespace {
+
+// M and phi_cs are one quantity given in either form, M = 6 sin phi_cs/(3 - sin phi_cs) in triaxial
+// compression (Wood 1990); the model's strength is its critical state, c' = 0 and phi' = phi_cs.
+ImpliedValue cam_clay_implied(ParameterRole role, const std::vector<double>& v) {
+  using P = ModifiedCamClay::Parameter;
+  if (v.size() <= static_cast<std::size_t>(P::critical_state_friction_angle)) return {};
+  const double m_given = v[P::critical_state_ratio], phi_given = v[P::critical_state_friction_angle];
+  double phi = kNaN, m = kNaN;
+  if (m_given > 0.0) {
+    m = m_given;
+    phi = radians_to_degrees(std::asin(3.0 * m / (6.0 + m)));
+  } else if (phi_given > 0.0) {
+    phi = phi_given;
+    const double s = std::sin(degrees_to_radians(phi));
+    m = 6.0 * s / (3.0 - s);
+  }
+  const char* strength_note =
+      "the model's strength is its critical state (c' = 0, phi' = phi_cs); a peak envelope of overconsolidated "
+      "specimens lies above it by definition";
+  switch (role) {
+    case ParameterRole::critical_state_friction_angle:
+      if (m_given > 0.0) return {phi, "critical_state_ratio M: sin phi_cs = 3 M/(6 + M)", ""};
+      return {};
+    case ParameterRole::critical_state_ratio:
+      if (!(m_given > 0.0) && phi_given > 0.0) return {m, "critical_state_friction_angle: M = 6 sin phi_cs/(3 - sin phi_cs)", ""};
+      return {};
+    case ParameterRole::friction_angle: return {phi, "critical state: phi' = phi_cs", strength_note};
+    case ParameterRole::cohesion: return {std::isfinite(phi) ? 0.0 : kNaN, "critical state: c' = 0", strength_note};
+    default: return {};
+  }
+}
+
+}  // namespace
+
 const ModelInfo& ModifiedCamClay::model_info() {
   static const ModelInfo info{
       "modified_cam_clay",
@@ -135,6 +170,7 @@ const ModelInfo& ModifiedCamClay::model_info() {
       },
       {"preconsolidation_pressure", "void_ratio", "plastic_rate", "multiplier_rate"},
       {{"critical_friction_angle", "critical_state_friction_angle"}},
+      cam_clay_implied,
   };
   return info;
 }

@@ -222,6 +222,29 @@ double cone_function(const Vec6& stress, double radius, const V6<double>& alpha)
 
 }  // namespace
 
+namespace {
+
+// phi_cs from M in triaxial compression, sin phi_cs = 3 M/(6 + M); the model's only constant
+// strength is its critical state (c' = 0, phi' = phi_cs): the peak ratio M exp(-n_b psi) depends on
+// the state parameter psi (Dafalias & Manzari 2004, eq. for the bounding ratio).
+ImpliedValue sand_implied(ParameterRole role, const std::vector<double>& v) {
+  using P = SandStateBounding::Parameter;
+  if (v.size() <= static_cast<std::size_t>(P::critical_state_ratio) || !(v[P::critical_state_ratio] > 0.0)) return {};
+  const double m = v[P::critical_state_ratio];
+  const double phi = radians_to_degrees(std::asin(3.0 * m / (6.0 + m)));
+  const char* note =
+      "the model's peak stress ratio M exp(-n_b psi) depends on the density and pressure (state parameter psi); "
+      "its one constant strength is the critical state (c' = 0, phi' = phi_cs)";
+  switch (role) {
+    case ParameterRole::critical_state_friction_angle: return {phi, "critical_state_ratio M: sin phi_cs = 3 M/(6 + M)", ""};
+    case ParameterRole::friction_angle: return {phi, "critical state: phi' = phi_cs", note};
+    case ParameterRole::cohesion: return {0.0, "critical state: c' = 0", note};
+    default: return {};
+  }
+}
+
+}  // namespace
+
 const ModelInfo& SandStateBounding::model_info() {
   static const ModelInfo info{
       kName,
@@ -261,6 +284,8 @@ const ModelInfo& SandStateBounding::model_info() {
        "back_stress_ratio_31", "fabric_11", "fabric_22", "fabric_12", "fabric_23", "fabric_31",
        "reversal_back_stress_ratio_11", "reversal_back_stress_ratio_22", "reversal_back_stress_ratio_12",
        "reversal_back_stress_ratio_23", "reversal_back_stress_ratio_31"},
+      {},
+      sand_implied,
   };
   return info;
 }

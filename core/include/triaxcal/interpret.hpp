@@ -148,6 +148,20 @@ struct LineFit {
 /// Ordinary least squares y = a + b x with standard errors (n >= 3 for errors).
 TRIAXCAL_CORE_EXPORT LineFit fit_line(const std::vector<double>& x, const std::vector<double>& y);
 
+/// E_50 of one shear stage's deviator curve, the rule of StageInterpretation::secant_stiffness_50
+/// (common practice, no source): q_0 the first point's deviator stress, q_peak the curve's first
+/// largest one, q_50 = q_0 + (q_peak - q_0)/2; the secant (q_50 - q_0)/e_50 with e_50 the axial
+/// strain where the curve first crosses q_50 before the peak, linearly interpolated. Strains are the
+/// stage's own (zero at the stage start); q signed so that the stage loads it upwards (-q in
+/// extension). NaN with the reason when not determined. The report applies the same rule to the
+/// model's simulated curves, so that both E_50 mean one thing.
+struct SecantModulus {
+  double value = kNotGiven;
+  std::string reason;  ///< empty when determined
+};
+TRIAXCAL_CORE_EXPORT SecantModulus secant_modulus_50(const std::vector<double>& axial_strain,
+                                                      const std::vector<double>& deviator_stress);
+
 /// One-sided 95 % Student t quantile with `dof` degrees of freedom.
 TRIAXCAL_CORE_EXPORT double student_t95(int dof);
 

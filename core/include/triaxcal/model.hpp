@@ -68,6 +68,20 @@ struct ParameterInfo {
   std::vector<std::string> words{};
 };
 
+/// What a model implies for the classical quantity of a role, for the report's comparison of the
+/// interpretation with the fitted model: a value the model carries in another form (phi_cs from its
+/// M when only M is given), and a note where the model's definition of the quantity differs from
+/// the classical one (e.g. a hardening law that the curve's own E_50 follows only without plastic
+/// volume change). The report asks ModelInfo::implied and never matches a model or parameter name.
+struct ImpliedValue {
+  double value = std::numeric_limits<double>::quiet_NaN();  ///< NaN: the parameter that declares the role, if any
+  std::string how;   ///< how value follows from the parameters (shown as the model's basis)
+  std::string note;  ///< where the model's definition differs from the classical one; empty when it does not
+};
+
+/// `values` in the order of ModelInfo::parameters.
+using ImpliedFunction = ImpliedValue (*)(ParameterRole role, const std::vector<double>& values);
+
 struct ModelInfo {
   std::string name;                      ///< registry key, e.g. "mohr_coulomb"
   std::string title;                     ///< one line with the published source
@@ -76,6 +90,8 @@ struct ModelInfo {
   /// Former parameter names and the names that replaced them: an old name is an error that names
   /// the new one (no silent alias).
   std::vector<std::pair<std::string, std::string>> renamed{};
+  /// Values and notes for the comparison table (ImpliedValue); nullptr: every role is its parameter's value.
+  ImpliedFunction implied = nullptr;
 };
 
 /// Index of the parameter that declares `role` in `info`, -1 when none does.

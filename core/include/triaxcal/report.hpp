@@ -112,6 +112,7 @@ struct Comparison {
   double classical = kUnknown;
   double model = kUnknown;
   std::string basis;      ///< where each number comes from
+  std::string note{};     ///< where the model's definition differs from the classical one (ModelInfo::implied); empty if not
 };
 
 /// A straight line y = intercept + slope x drawn over [x_from, x_to].

@@ -480,20 +480,14 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
         r.initial_stiffness_reason = "the slope of q against e_a up to 20 % of the peak is " + fmt(f.slope) + " kPa, not positive";
       else
         r.initial_stiffness = f.slope;
-      const double q50 = q0 + 0.5 * (qpk - q0);
-      r.secant_stiffness_reason = "no point below 50 % of the peak deviator stress before the peak";
-      for (int i = first + 1; i <= imax_q; ++i)
-        if (v.qd(i) >= q50 && v.qd(i - 1) < q50) {
-          const double w = (q50 - v.qd(i - 1)) / (v.qd(i) - v.qd(i - 1));
-          const double e50 = v.ea(i - 1) + w * (v.ea(i) - v.ea(i - 1));
-          if (e50 > 0.0) {
-            r.secant_stiffness_50 = (q50 - q0) / e50;
-            r.secant_stiffness_reason.clear();
-          } else {
-            r.secant_stiffness_reason = "50 % of the peak deviator stress is reached at axial strain " + fmt(e50) + ", not positive";
-          }
-          break;
-        }
+      std::vector<double> ea, qd;
+      for (int i = first; i <= last; ++i) {
+        ea.push_back(v.ea(i));
+        qd.push_back(v.qd(i));
+      }
+      const SecantModulus e50 = secant_modulus_50(ea, qd);
+      r.secant_stiffness_50 = e50.value;
+      r.secant_stiffness_reason = e50.reason;
     }
   }
   for (const UnloadReloadLoop& l : st.loops) {
@@ -981,6 +975,38 @@ std::string reported_failure_table(const std::vector<ReportedFailureCheck>& chec
   out += "  (kPa; the lab's values at failure against the point recomputed from its curve by the lab's criterion; tolerance 2 % of "
          "the reported q_f, 2 kPa floor: our rule, no source)\n";
   return out;
+}
+
+SecantModulus secant_modulus_50(const std::vector<double>& ea, const std::vector<double>& qd) {
+  SecantModulus r;
+  const std::size_t n = std::min(ea.size(), qd.size());
+  if (n == 0) {
+    r.reason = "no points";
+    return r;
+  }
+  std::size_t peak = 0;
+  for (std::size_t i = 1; i < n; ++i)
+    if (qd[i] > qd[peak]) peak = i;
+  const double q0 = qd[0];
+  if (!(qd[peak] > q0)) {
+    r.reason = "the deviator stress never rises above its value at the stage start";
+    return r;
+  }
+  const double q50 = q0 + 0.5 * (qd[peak] - q0);
+  r.reason = "no point below 50 % of the peak deviator stress before the peak";
+  for (std::size_t i = 1; i <= peak; ++i)
+    if (qd[i] >= q50 && qd[i - 1] < q50) {
+      const double w = (q50 - qd[i - 1]) / (qd[i] - qd[i - 1]);
+      const double e50 = ea[i - 1] + w * (ea[i] - ea[i - 1]);
+      if (e50 > 0.0) {
+        r.value = (q50 - q0) / e50;
+        r.reason.clear();
+      } else {
+        r.reason = "50 % of the peak deviator stress is reached at axial strain " + fmt(e50) + ", not positive";
+      }
+      break;
+    }
+  return r;
 }
 
 Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {

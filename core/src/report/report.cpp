@@ -127,6 +127,7 @@ table { border-collapse: collapse; margin: 6px 0 12px 0; font-size: 13px; }
 th, td { border: 1px solid var(--rule); padding: 3px 7px; text-align: left; vertical-align: top; }
 th { background: #eee; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+tr.comparison-note td { font-size: 0.9em; font-style: italic; color: #444; background: #f6f6f2; }
 td.strong { font-weight: bold; background: #ffd9b3; outline: 2px solid #000; outline-offset: -3px; }
 td.diag { color: var(--muted); }
 tr.failed td { background: var(--bad); }
@@ -809,11 +810,17 @@ class Renderer {
       o_ << "<table class=\"report-table\" id=\"table-comparison\">\n<thead><tr><th>quantity</th><th>unit</th>"
             "<th>classical interpretation</th><th>fitted model</th><th>difference</th><th>basis</th></tr></thead>\n"
             "<tbody>\n";
-      for (const Comparison& c : d_.comparisons) {
+      // A note on the model's definition follows the last of the consecutive rows it belongs to.
+      for (std::size_t i = 0; i < d_.comparisons.size(); ++i) {
+        const Comparison& c = d_.comparisons[i];
         o_ << "<tr><td>" << esc(c.quantity) << "</td><td>" << unit_cell(c.unit) << "</td><td class=\"num\">"
            << (std::isnan(c.classical) ? std::string("not determined") : fmt(c.classical)) << "</td><td class=\"num\">"
            << fmt(c.model) << "</td><td class=\"num\">"
            << fmt(c.model - c.classical) << "</td><td>" << esc(c.basis) << "</td></tr>\n";
+        const bool last_of_note = i + 1 == d_.comparisons.size() || d_.comparisons[i + 1].note != c.note;
+        if (!c.note.empty() && last_of_note)
+          o_ << "<tr class=\"comparison-note\"><td colspan=\"6\">Why the model differs by definition: " << esc(c.note)
+             << "</td></tr>\n";
       }
       o_ << "</tbody>\n</table>\n";
     }

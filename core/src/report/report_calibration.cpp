@@ -5,6 +5,7 @@
 #include <sstream>
 
 #include "triaxcal/conventions.hpp"
+#include "triaxcal/interpret.hpp"
 #include "triaxcal/report_input.hpp"
 #include "triaxcal/series.hpp"
 
@@ -85,6 +86,45 @@ const FittedParameter* find_parameter(const CalibrationSummary& s, const ModelIn
   for (const FittedParameter& p : s.parameters)
     if (p.name == name) return &p;
   return nullptr;
+}
+
+/// The fitted model's value of a classical quantity: what the model implies for the role
+/// (ModelInfo::implied: phi_cs from M, a critical-state strength), else the parameter that declares
+/// the role; `basis` names where it comes from, `note` where the model's definition differs.
+struct ModelValue {
+  bool present = false;  ///< the model has a value or a note for the role
+  double value = kUnknown;
+  std::string basis;
+  std::string note;
+};
+
+ModelValue model_value(const CalibrationSummary& s, const ModelInfo* model, ParameterRole role) {
+  ModelValue out;
+  if (!model) return out;
+  ImpliedValue implied;
+  if (model->implied) {
+    std::vector<double> values;
+    for (const ParameterInfo& info : model->parameters) {
+      double v = info.default_value;
+      for (const FittedParameter& p : s.parameters)
+        if (p.name == info.name) v = p.value;
+      values.push_back(v);
+    }
+    implied = model->implied(role, values);
+  }
+  out.note = implied.note;
+  if (std::isfinite(implied.value)) {
+    out.present = true;
+    out.value = implied.value;
+    out.basis = "model " + implied.how;
+    return out;
+  }
+  if (const FittedParameter* p = find_parameter(s, model, role)) {
+    out.present = true;
+    out.value = p->value;
+    out.basis = "model " + p->name;
+  }
+  return out;
 }
 
 }  // namespace
@@ -234,14 +274,15 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
     if (eq != std::string::npos) d.provenance.emplace_back("option " + line.substr(0, eq), line.substr(eq + 3));
   }
 
-  // Model envelope in s'-t where the model has c' and phi': t = c' cos phi' + s' sin phi'.
-  const FittedParameter* phi = find_parameter(s, problem.model, ParameterRole::friction_angle);
-  const FittedParameter* coh = find_parameter(s, problem.model, ParameterRole::cohesion);
-  if (phi && std::isfinite(phi->value)) {
-    const double c = coh && std::isfinite(coh->value) ? coh->value : 0.0;
+  // Model envelope in s'-t where the model has c' and phi' (or implies them: a critical-state
+  // strength): t = c' cos phi' + s' sin phi'.
+  const ModelValue phi = model_value(s, problem.model, ParameterRole::friction_angle);
+  const ModelValue coh = model_value(s, problem.model, ParameterRole::cohesion);
+  if (phi.present && std::isfinite(phi.value)) {
+    const double c = coh.present && std::isfinite(coh.value) ? coh.value : 0.0;
     d.strength.model = {"model envelope (c' = " + std::to_string(static_cast<int>(std::lround(c))) + " kPa, phi' = " +
-                            std::to_string(static_cast<int>(std::lround(phi->value))) + " deg)",
-                        c * std::cos(phi->value * kDeg), std::sin(phi->value * kDeg), kUnknown, kUnknown};
+                            std::to_string(static_cast<int>(std::lround(phi.value))) + " deg)",
+                        c * std::cos(phi.value * kDeg), std::sin(phi.value * kDeg), kUnknown, kUnknown};
   }
   if (interpretation) {
     const Interpretation& in = *interpretation;
@@ -273,11 +314,12 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
         d.strength.pq_lines.push_back({"envelope q = d + M p' (interpretation)", e.pq.intercept, e.pq.slope, kUnknown, kUnknown});
       // A classical value the data cannot determine is shown as "not determined" with the reason.
       const std::string why = e.note.empty() ? std::string() : "; not determined: " + e.note;
-      d.comparisons.push_back({"friction angle phi'", "deg", e.phi, phi ? phi->value : kUnknown,
-                               "s'-t regression (" + criterion_words(e.criterion, in.options.limiting_strain) + ") vs model " +
-                                   (phi ? phi->name : std::string("friction angle")) + why});
-      d.comparisons.push_back({"cohesion c'", "kPa", e.cohesion, coh ? coh->value : kUnknown,
-                               "s'-t regression vs model " + (coh ? coh->name : std::string("cohesion")) + why});
+      d.comparisons.push_back({"friction angle phi'", "deg", e.phi, phi.value,
+                               "s'-t regression (" + criterion_words(e.criterion, in.options.limiting_strain) + ") vs " +
+                                   (phi.present ? phi.basis : std::string("model: none")) + why,
+                               phi.note});
+      d.comparisons.push_back({"cohesion c'", "kPa", e.cohesion, coh.value,
+                               "s'-t regression vs " + (coh.present ? coh.basis : std::string("model: none")) + why, coh.note});
     }
     if (std::isfinite(in.options.stress_low) && in.options.stress_low > 0) d.strength.range_low = in.options.stress_low;
     if (std::isfinite(in.options.stress_high)) d.strength.range_high = in.options.stress_high;
@@ -288,18 +330,57 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
     // A classical value the data cannot determine is shown as "not determined" with the reason,
     // never as a number; one with neither a value nor a reason (no such tests) is left out.
     // Matched by the parameter's declared role; the basis names the model's parameter.
+    // The model's value is what it implies for the role (ModelInfo::implied), else its parameter.
     auto compare = [&](const char* quantity, const char* unit, double classical, const std::string& reason, ParameterRole role,
                        const std::string& classical_basis) {
-      const FittedParameter* p = find_parameter(s, problem.model, role);
-      if (!p) return;
-      const std::string basis = classical_basis + " vs model " + p->name;
-      if (std::isfinite(classical)) d.comparisons.push_back({quantity, unit, classical, p->value, basis});
-      else if (!reason.empty()) d.comparisons.push_back({quantity, unit, kUnknown, p->value, basis + "; not determined: " + reason});
+      const ModelValue m = model_value(s, problem.model, role);
+      if (!m.present) return;
+      const std::string basis = classical_basis + " vs " + m.basis;
+      if (std::isfinite(classical)) d.comparisons.push_back({quantity, unit, classical, m.value, basis, m.note});
+      else if (!reason.empty())
+        d.comparisons.push_back({quantity, unit, kUnknown, m.value, basis + "; not determined: " + reason, m.note});
     };
     compare("critical-state friction angle phi_cs", "deg", in.phi_cs, in.critical_m_reason,
             ParameterRole::critical_state_friction_angle, "large-strain states");
+    compare("critical-state ratio M", "-", in.critical_m, in.critical_m_reason, ParameterRole::critical_state_ratio,
+            "large-strain states");
     compare("secant stiffness at p_ref", "kPa", in.secant_law.reference, in.secant_law.reason,
             ParameterRole::secant_stiffness_ref, "E_50 power law");
+    // E_50 like with like: the classical value of each drained (CD) shear stage against the E_50 of
+    // the model's own simulated curve of that stage, both by one rule (secant_modulus_50). A
+    // parameter of the secant-stiffness role may be an input of a hardening law whose curves have
+    // another E_50 by definition: the model's note says so (ModelInfo::implied).
+    if (series) {
+      const std::string note = model_value(s, problem.model, ParameterRole::secant_stiffness_ref).note;
+      for (const TestReport& t : d.tests) {
+        if (t.drainage != Drainage::drained || !t.simulated) continue;
+        const Specimen* sp = nullptr;
+        for (const Specimen& x : series->specimens)
+          if (x.id == t.id) sp = &x;
+        if (!sp) continue;
+        const std::vector<int> shear = sp->shear_stages();
+        for (const TestCurve& c : t.curves) {
+          if (c.quantity != to_string(Quantity::deviator_stress) || c.simulated.empty()) continue;
+          const std::size_t k = c.stage > 0 ? static_cast<std::size_t>(c.stage - 1) : 0;
+          if (k >= shear.size()) continue;
+          for (const StageInterpretation& st : in.stages) {
+            if (st.specimen != t.id || st.stage != shear[k] || st.test != ShearType::cd) continue;
+            // Upwards for the stage as the interpretation counts it (-q in extension).
+            const double sign = st.direction == ShearDirection::extension ? -1.0 : 1.0;
+            std::vector<double> q;
+            for (double y : c.simulated.y) q.push_back(sign * y);
+            const SecantModulus model = secant_modulus_50(c.simulated.x, q);
+            std::string quantity = "secant stiffness E_50 of " + t.id + (c.stage > 0 ? " stage " + std::to_string(c.stage) : "");
+            if (std::isfinite(st.consolidation_radial))
+              quantity += " (s3' = " + std::to_string(std::lround(st.consolidation_radial)) + " kPa)";
+            std::string basis = "secant to half the peak deviator stress of the measured curve vs of the model's curve (one rule)";
+            if (!std::isfinite(st.secant_stiffness_50)) basis += "; measured not determined: " + st.secant_stiffness_reason;
+            if (!std::isfinite(model.value)) basis += "; model not determined: " + model.reason;
+            d.comparisons.push_back({quantity, "kPa", st.secant_stiffness_50, model.value, basis, note});
+          }
+        }
+      }
+    }
     compare("unload-reload stiffness at p_ref", "kPa", in.unload_reload_law.reference, in.unload_reload_law.reason,
             ParameterRole::unload_reload_stiffness_ref, "E_ur power law");
     compare("stiffness exponent m", "-", in.secant_law.exponent, in.secant_law.reason, ParameterRole::stiffness_exponent,

@@ -436,9 +436,11 @@ std::string report_input_json(const ReportData& d) {
   for (const auto& r : d.correlation.matrix) matrix.push_back(numbers(r));
   root["correlation"] = {{"names", d.correlation.names}, {"matrix", matrix}, {"strong", d.correlation.strong}};
   ordered_json comps = ordered_json::array();
-  for (const Comparison& c : d.comparisons)
+  for (const Comparison& c : d.comparisons) {
     comps.push_back({{"quantity", c.quantity}, {"unit", c.unit}, {"classical", number(c.classical)},
                      {"model", number(c.model)}, {"basis", c.basis}});
+    if (!c.note.empty()) comps.back()["note"] = c.note;
+  }
   root["comparisons"] = comps;
   ordered_json pts = ordered_json::array();
   for (const StressPoint& p : d.strength.points)
@@ -603,9 +605,9 @@ ReportData parse_report_input(const std::string& text, const std::string& source
                                        std::to_string(d.correlation.names.size()) + ", one a name)");
   }
   r.each(root, "comparisons", "", [&](const json& j, const detail::KeyPath& p) {
-    r.object(j, p, {"quantity", "unit", "classical", "model", "basis"});
-    d.comparisons.push_back(
-        {r.str(j, "quantity", p), r.str(j, "unit", p), r.num(j, "classical", p), r.num(j, "model", p), r.str(j, "basis", p)});
+    r.object(j, p, {"quantity", "unit", "classical", "model", "basis", "note"});
+    d.comparisons.push_back({r.str(j, "quantity", p), r.str(j, "unit", p), r.num(j, "classical", p), r.num(j, "model", p),
+                             r.str(j, "basis", p), r.str(j, "note", p)});
   });
   if (root.contains("strength")) {
     const json& s = root["strength"];
