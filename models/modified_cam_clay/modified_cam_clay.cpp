@@ -140,6 +140,20 @@ ImpliedValue cam_clay_implied(ParameterRole role, const std::vector<double>& v) 
   }
 }
 
+// M and phi_cs: the one given (> 0) is used, the other is 0; a constant shear modulus (> 0)
+// replaces the Poisson's ratio.
+bool cam_clay_unused(std::size_t index, const std::vector<double>& v) {
+  using P = ModifiedCamClay::Parameter;
+  if (v.size() <= static_cast<std::size_t>(P::shear_modulus)) return false;
+  switch (index) {
+    case P::critical_state_ratio: return !(v[P::critical_state_ratio] > 0.0);
+    case P::critical_state_friction_angle: return !(v[P::critical_state_friction_angle] > 0.0);
+    case P::poissons_ratio: return v[P::shear_modulus] > 0.0;
+    case P::shear_modulus: return !(v[P::shear_modulus] > 0.0);
+    default: return false;
+  }
+}
+
 }  // namespace
 
 const ModelInfo& ModifiedCamClay::model_info() {
@@ -171,6 +185,7 @@ const ModelInfo& ModifiedCamClay::model_info() {
       {"preconsolidation_pressure", "void_ratio", "plastic_rate", "multiplier_rate"},
       {{"critical_friction_angle", "critical_state_friction_angle"}},
       cam_clay_implied,
+      cam_clay_unused,
   };
   return info;
 }

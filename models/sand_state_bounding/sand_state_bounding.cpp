@@ -243,6 +243,13 @@ ImpliedValue sand_implied(ParameterRole role, const std::vector<double>& v) {
   }
 }
 
+// Without a fabric effect (fabric_max = 0) its rate takes no part.
+bool sand_unused(std::size_t index, const std::vector<double>& v) {
+  using P = SandStateBounding::Parameter;
+  return index == static_cast<std::size_t>(P::fabric_rate) && v.size() > static_cast<std::size_t>(P::fabric_rate) &&
+         v[P::fabric_max] == 0.0;
+}
+
 }  // namespace
 
 const ModelInfo& SandStateBounding::model_info() {
@@ -286,6 +293,7 @@ const ModelInfo& SandStateBounding::model_info() {
        "reversal_back_stress_ratio_23", "reversal_back_stress_ratio_31"},
       {},
       sand_implied,
+      sand_unused,
   };
   return info;
 }

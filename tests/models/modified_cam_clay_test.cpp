@@ -791,3 +791,23 @@ TEST_CASE("MCC returns invalid_input for an increment that would bring the void 
   CHECK(mcc->integrate(in, vec(0.1, 0.1, 0.1), out, t).status == Status::ok);
   CHECK(close(out.internal[kE], (1.0 + kE0) * std::exp(-0.3) - 1.0, 1e-14, 0.0));
 }
+
+TEST_CASE("Modified Cam-Clay declares the alternative it does not use: M or phi_cs, shear_modulus or poissons_ratio",
+          "[models][modified_cam_clay][unused]") {
+  const ModelInfo& info = ModifiedCamClay::model_info();
+  REQUIRE(info.unused != nullptr);
+  auto unused = [&](const std::map<std::string, double>& given) {
+    const ParameterValues v = resolve_parameters(info, given, "test");
+    std::vector<std::string> names;
+    for (std::size_t i = 0; i < v.size(); ++i)
+      if (info.unused(i, v)) names.push_back(info.parameters[i].name);
+    return names;
+  };
+  CHECK(unused({{"lambda", 0.2}, {"kappa", 0.04}, {"critical_state_ratio", 1.2}}) ==
+        std::vector<std::string>{"critical_state_friction_angle", "shear_modulus"});
+  CHECK(unused({{"lambda", 0.2}, {"kappa", 0.04}, {"critical_state_friction_angle", 30.0}, {"shear_modulus", 5000.0}}) ==
+        std::vector<std::string>{"critical_state_ratio", "poissons_ratio"});
+  // M = 1.2 is phi_cs = 30 deg for the report's comparison (sin phi_cs = 3 M/(6 + M), Wood 1990).
+  const ParameterValues v = resolve_parameters(info, {{"lambda", 0.2}, {"kappa", 0.04}, {"critical_state_ratio", 1.2}}, "test");
+  CHECK(info.implied(ParameterRole::critical_state_friction_angle, v).value == Approx(30.0).epsilon(1e-12));
+}

@@ -82,6 +82,12 @@ struct ImpliedValue {
 /// `values` in the order of ModelInfo::parameters.
 using ImpliedFunction = ImpliedValue (*)(ParameterRole role, const std::vector<double>& values);
 
+/// Whether parameter `index` takes no part in the response at `values`: an alternative left at its
+/// "not given" value (Modified Cam-Clay's critical_state_friction_angle = 0 when M is given) or a
+/// parameter switched off by another. Displays of the parameters a model uses (the Gmsh results)
+/// leave it out; parameter sets keep every parameter.
+using UnusedFunction = bool (*)(std::size_t index, const std::vector<double>& values);
+
 struct ModelInfo {
   std::string name;                      ///< registry key, e.g. "mohr_coulomb"
   std::string title;                     ///< one line with the published source
@@ -92,6 +98,8 @@ struct ModelInfo {
   std::vector<std::pair<std::string, std::string>> renamed{};
   /// Values and notes for the comparison table (ImpliedValue); nullptr: every role is its parameter's value.
   ImpliedFunction implied = nullptr;
+  /// Parameters not used at given values (UnusedFunction); nullptr: every parameter is used.
+  UnusedFunction unused = nullptr;
 };
 
 /// Index of the parameter that declares `role` in `info`, -1 when none does.
