@@ -2,7 +2,9 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <memory>
+#include <regex>
 
 #include "../../core/src/json_checks.hpp"
 #include "calibration_run.hpp"
@@ -37,9 +39,24 @@ std::vector<ParameterOutput> parameter_outputs(const ModelInfo& info, const Para
         p.high = j.at("interval_95")[1].get<double>();
       }
     }
+    p.used = !(info.unused && info.unused(i, values));
     out.push_back(p);
   }
   return out;
+}
+
+/// The graph label of a compared quantity: its y axis with its unit (strains in %), and its scale.
+std::string graph_quantity(Quantity y, double& scale) {
+  scale = 1.0;
+  switch (y) {
+    case Quantity::deviator_stress: return "q [kPa]";
+    case Quantity::volumetric_strain: scale = 100.0; return "e_v [%]";
+    case Quantity::excess_pore_pressure: return "du [kPa]";
+    case Quantity::radial_strain: scale = 100.0; return "e_r [%]";
+    default: break;
+  }
+  const std::string unit = unit_of(y);
+  return to_string(y) + (unit.empty() || unit == "-" ? "" : " [" + unit + "]");
 }
 
 TestProtocol check_test(const UnitSettings& s) {
@@ -78,15 +95,22 @@ void from_parameter_set(const Project& project, const UnitSettings& s, UnitResul
   // statuses and intervals of a fitted set are kept in `parameters`.
   r.parameters = parameter_outputs(entry->info(), values, detail::parse_json(text, path));
   r.parameter_set = plugin::parameter_set_json(entry->info(), values, "resolved from " + path);
-  Curve c;
-  c.label = "check test (" + s.check_drainage + ", p' = " + std::to_string(static_cast<int>(std::lround(s.check_p))) +
-            " kPa)";
+  // The check test's graphs: q, and the excess pore pressure (undrained) or the volumetric strain.
+  const bool undrained = protocol.stages.front().drainage == Drainage::undrained;
+  Curve c, second;
+  c.test = second.test = "check test (" + s.check_drainage + ", p' = " +
+                         std::to_string(static_cast<int>(std::lround(s.check_p))) + " kPa)";  // model only
+  c.quantity = "q [kPa]";
+  second.quantity = undrained ? "du [kPa]" : "e_v [%]";
   for (const StepRecord& step : sim.steps) {
     c.axial_strain.push_back(step.stage_axial_strain);  // engineering, since the shear stage start
-    c.q.push_back(step.q);
+    c.y.push_back(step.q);
+    second.axial_strain.push_back(step.stage_axial_strain);
+    second.y.push_back(undrained ? step.excess_pore_pressure : 100.0 * step.stage_volumetric_strain);
     r.check_peak_q = std::max(r.check_peak_q, step.q);
   }
   r.curves.push_back(c);
+  r.curves.push_back(second);
   r.ok = true;
   r.message = "parameter set " + s.parameter_set + " (" + r.model + ") loaded";
   if (!sim.ok()) r.message += "; the check test stopped early: " + sim.message;
@@ -111,15 +135,17 @@ void from_calibration(const Project& project, const UnitSettings& s, UnitResult&
                         {"rmse", plugin::number_or_null(c.rmse)},
                         {"r_squared", plugin::number_or_null(c.r_squared)},
                         {"poor_fit", c.poor}});
-      if (c.y != Quantity::deviator_stress || c.x != Quantity::axial_strain) continue;
+      if (c.x != Quantity::axial_strain) continue;
+      // One graph a test and quantity (a multi-stage specimen: a test and stage).
+      double scale = 1.0;
       Curve m, f;
-      m.label = t.id + " measured";
+      m.test = f.test = t.id + (c.shear_stage > 0 ? " stage " + std::to_string(c.shear_stage) : "");
+      m.quantity = f.quantity = graph_quantity(c.y, scale);
       m.measured = true;
-      f.label = t.id + " fitted";
       m.axial_strain = c.xs;
       f.axial_strain = c.xs;
-      m.q = c.measured;
-      f.q = c.simulated;
+      for (double v : c.measured) m.y.push_back(scale * v);
+      for (double v : c.simulated) f.y.push_back(scale * v);
       r.curves.push_back(m);
       r.curves.push_back(f);
     }
@@ -139,6 +165,51 @@ void from_calibration(const Project& project, const UnitSettings& s, UnitResult&
 
 }  // namespace
 
+std::string rounded(double value, bool has_interval, double low, double high) {
+  if (!std::isfinite(value)) return "not a number";
+  char b[64];
+  // The unit of the last digit shown: the second significant digit of the interval's half-width,
+  // else the fourth significant digit of the value.
+  int exponent = 0;
+  if (has_interval && std::isfinite(low) && std::isfinite(high) && high > low)
+    exponent = static_cast<int>(std::floor(std::log10(0.5 * (high - low)))) - 1;
+  else if (value != 0.0)
+    exponent = static_cast<int>(std::floor(std::log10(std::abs(value)))) - 3;
+  if (exponent < -12) {
+    std::snprintf(b, sizeof b, "%.4g", value);
+  } else if (exponent < 0) {
+    std::snprintf(b, sizeof b, "%.*f", -exponent, value);
+  } else {
+    const double unit = std::pow(10.0, exponent);
+    std::snprintf(b, sizeof b, "%.0f", std::round(value / unit) * unit);
+  }
+  std::string out = b;
+  const bool interval = has_interval && std::isfinite(low) && std::isfinite(high) && high > low;
+  if (!interval && out.find('.') != std::string::npos && out.find('e') == std::string::npos) {
+    // Without an interval trailing zeros claim nothing: 0.18, not 0.1800.
+    out.erase(out.find_last_not_of('0') + 1);
+    if (out.back() == '.') out.pop_back();
+  }
+  if (out.find_first_not_of("-0.") == std::string::npos && out[0] == '-') out.erase(0, 1);  // no "-0"
+  return out;
+}
+
+std::string reason_first(const std::string& message) {
+  // Leading "<part>: " components without a space (a path, a key path, a model name) are the place.
+  std::size_t start = 0, cut = std::string::npos;
+  while (true) {
+    const std::size_t colon = message.find(": ", start);
+    if (colon == std::string::npos) break;
+    const std::string part = message.substr(start, colon - start);
+    static const std::regex line_column(R"(line [0-9]+(, column [0-9]+)?)");
+    if (part.empty() || (part.find(' ') != std::string::npos && !std::regex_match(part, line_column))) break;
+    cut = colon;
+    start = colon + 2;
+  }
+  if (cut == std::string::npos || start >= message.size()) return message;
+  return message.substr(start) + " (" + message.substr(0, cut) + ")";
+}
+
 json UnitResult::to_json(const std::string& computed) const {
   json j = {{"status", ok ? "ok" : "error"}, {"message", message}, {"computed", computed}};
   if (!model.empty()) j["model"] = model;
@@ -147,6 +218,7 @@ json UnitResult::to_json(const std::string& computed) const {
     for (const ParameterOutput& p : parameters) {
       json o = {{"name", p.name}, {"unit", p.unit}, {"value", plugin::number_or_null(p.value)}};
       if (!p.status.empty()) o["status"] = p.status;
+      if (!p.used) o["used"] = false;
       if (p.has_interval) o["interval_95"] = {p.low, p.high};
       params.push_back(o);
     }

@@ -12,12 +12,14 @@
 
 namespace triaxcal::gmsh {
 
-/// q against axial strain, measured (points) or simulated (line).
+/// One quantity of one test against axial strain, measured (points) or simulated (line). A graph
+/// is one test and quantity: its measured and model curves share it.
 struct Curve {
-  std::string label;        ///< e.g. "CD-50 measured", "check test"
-  bool measured = false;
+  std::string test;         ///< e.g. "CD-50", "check test (undrained, p' = 80 kPa)"
+  std::string quantity;     ///< the graph's y axis with its unit: "q [kPa]", "e_v [%]" (volumetric strain), "du [kPa]" (excess pore pressure)
+  bool measured = false;    ///< measured points; false: the model's line
   std::vector<double> axial_strain;  ///< decimal
-  std::vector<double> q;             ///< kPa
+  std::vector<double> y;             ///< in the unit of `quantity` (strains in %)
 };
 
 struct ParameterOutput {
@@ -27,7 +29,16 @@ struct ParameterOutput {
   std::string status;       ///< "free", "fixed", "tied" or "" (a plain parameter set)
   bool has_interval = false;
   double low = 0.0, high = 0.0;  ///< 95 % interval where the set has one
+  bool used = true;         ///< false: the model does not use it at these values (ModelInfo::unused)
 };
+
+/// `value` rounded to meaningful digits: to the 95 % interval's precision (its half-width to two
+/// significant digits) where there is one, else four significant digits; never "-0".
+std::string rounded(double value, bool has_interval = false, double low = 0.0, double high = 0.0);
+
+/// An error message with its reason first: "<reason> (<file and key path>)" from the usual
+/// "<file>: <key path>: <reason>" (leading parts without a space are taken as the place).
+std::string reason_first(const std::string& message);
 
 struct UnitResult {
   bool ok = false;

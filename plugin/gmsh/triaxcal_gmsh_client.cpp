@@ -11,6 +11,7 @@
 
 #include <onelab.h>
 
+#include <algorithm>
 #include <chrono>
 #include <cmath>
 #include <cstdio>
@@ -25,6 +26,7 @@
 #include "project_file.hpp"
 #include "soil_unit.hpp"
 #include "triaxcal/atomic_file.hpp"
+#include "triaxcal/calibration_file.hpp"
 #include "triaxcal/calibration_output.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/parameters.hpp"
@@ -59,21 +61,32 @@ class Session {
   int run() {
     const std::string action = get_string(root_ + "/Action");
     const fs::path project_path = locate_project();
+    std::error_code missing;
+    const bool exists = fs::exists(project_path, missing);
     try {
-      project_ = read_project(project_path);
+      if (exists) {
+        project_ = read_project(project_path);
+      } else {
+        // A missing project file starts a new project, as an empty one does (saved below).
+        project_ = Project{};
+        project_.path = project_path;
+        c_.sendInfo("triaxcal: " + project_path.string() + " does not exist: a new project is started there");
+      }
     } catch (const InputError& e) {
       // Never overwrite a project file we cannot read: the user's settings are in it.
       c_.sendError(std::string("triaxcal: ") + e.what() + " (the project file is left as it is)");
       return 1;
     }
-    const std::string before = project_json(project_).dump();
+    const std::string before = exists ? project_json(project_).dump() : std::string();
     declare_project();
     const std::vector<Group> groups = soil_groups();
     sync_units(groups);
     if (action == "compute") {
       compute(groups);
     } else {
-      publish_saved_results(groups);
+      const std::vector<std::string> flagged = check_files(groups);
+      publish_saved_results(groups, flagged);
+      merge_views(groups, false);
     }
     if (project_json(project_).dump() != before) {
       try {
@@ -268,20 +281,13 @@ class Session {
     if (highlight) p.setAttribute("Highlight", kHighlight);
     c_.set(p);
   }
-  void out_number(const std::string& name, double value, const std::string& help) {
-    onelab::number p(name, value);
-    p.setReadOnly(true);
-    p.setAttribute("Highlight", kHighlight);
-    p.setHelp(help);
-    c_.set(p);
-  }
 
   /// The outputs of one unit from a result object of the project file (as UnitResult::to_json).
   void publish(const std::string& unit, const json& result) {
     clear_outputs(unit);
     const std::string status = result.value("status", "");
     if (status != "ok") {
-      out_string(output(unit, "0Status"), "error: " + result.value("message", ""), true);
+      out_string(output(unit, "0Status"), "error: " + reason_first(result.value("message", "")), true);
       return;
     }
     // A calibrated unit's status is its outcome in plain words (docs/calibration-format.md, "Outcome"):
@@ -297,57 +303,142 @@ class Session {
                  "warning: " + what + ": " + result.at("fit").value("outcome_reason", ""), true);
     }
     out_string(output(unit, "1Model"), result.value("model", ""));
-    // Model order, as UnitResult::to_json keeps them.
-    int k = 0;
+    // Model order, as UnitResult::to_json keeps them; only the parameters the model uses at these
+    // values (ModelInfo::unused); each value rounded to meaningful digits with its interval beside it.
+    int k = -1;  // the model's order, so that a name keeps its place whichever are shown
     for (const json& p : result.value("parameters", json::array())) {
+      ++k;
       if (!p.contains("value") || !p.at("value").is_number()) continue;
+      if (p.contains("used") && p.at("used").is_boolean() && !p.at("used").get<bool>()) continue;
       const std::string name = p.value("name", "");
       const std::string unit_text = p.value("unit", "");
       const std::string status_text = p.value("status", "");
+      const bool interval = p.contains("interval_95") && p.at("interval_95").is_array() && p.at("interval_95").size() == 2 &&
+                            p.at("interval_95")[0].is_number() && p.at("interval_95")[1].is_number();
+      const double value = p.at("value").get<double>();
+      const double low = interval ? p.at("interval_95")[0].get<double>() : 0.0;
+      const double high = interval ? p.at("interval_95")[1].get<double>() : 0.0;
+      std::string text = rounded(value, interval, low, high);
+      if (interval) text += "   (95 % interval " + rounded(low, true, low, high) + " to " + rounded(high, true, low, high) + ")";
+      else if (status_text == "fixed" || status_text == "tied") text += "   (" + status_text + ")";
       char order[16];
       std::snprintf(order, sizeof order, "2%02d", k);
-      out_number(output(unit, std::string(order) + name + (unit_text.empty() || unit_text == "-" ? "" : " [" + unit_text + "]")),
-                 p.at("value").get<double>(), status_text.empty() ? "value of the parameter set" : status_text);
-      if (p.contains("interval_95") && p.at("interval_95").is_array() && p.at("interval_95").size() == 2 &&
-          p.at("interval_95")[0].is_number() && p.at("interval_95")[1].is_number()) {
-        std::snprintf(order, sizeof order, "3%02d", k);
-        out_string(output(unit, std::string(order) + name + " 95 % interval"),
-                   "[" + format_number(p.at("interval_95")[0].get<double>()) + ", " +
-                       format_number(p.at("interval_95")[1].get<double>()) + "]" +
-                       (unit_text.empty() || unit_text == "-" ? "" : " " + unit_text),
-                   true);
-      }
-      ++k;
+      onelab::string o(output(unit, std::string(order) + name + (unit_text.empty() || unit_text == "-" ? "" : " [" + unit_text + "]")),
+                       text);
+      o.setReadOnly(true);
+      o.setAttribute("Highlight", kHighlight);
+      o.setHelp(status_text.empty() ? "value of the parameter set" : status_text + " parameter of the calibration");
+      c_.set(o);
     }
     if (result.contains("fit")) {
       const json& fit = result.at("fit");
       out_string(output(unit, "4Fit outcome"), fit.value("outcome", ""), true);
       out_string(output(unit, "4Fit termination"), fit.value("termination", ""), true);
       if (fit.contains("objective") && fit.at("objective").is_number())
-        out_number(output(unit, "5Fit objective"), fit.at("objective").get<double>(),
-                   "normalised least squares, docs/calibration-format.md");
+        out_string(output(unit, "5Fit objective"), rounded(fit.at("objective").get<double>()), true);
+      // R^2 in test order (the calibration file's), numbered so that the tree keeps that order.
+      int n = 0;
       if (fit.contains("curves"))
         for (const json& c : fit.at("curves"))
-          if (c.contains("r_squared") && c.at("r_squared").is_number())
-            out_number(output(unit, "6Fit R2 " + c.value("test", "") + " " + c.value("quantity", "")),
-                       c.at("r_squared").get<double>(), "coefficient of determination of the fitted curve");
+          if (c.contains("r_squared") && c.at("r_squared").is_number()) {
+            char order[16];
+            std::snprintf(order, sizeof order, "6%02d", n++);
+            char r2[32];
+            std::snprintf(r2, sizeof r2, "%.4f", c.at("r_squared").get<double>());
+            out_string(output(unit, std::string(order) + "Fit R2 " + c.value("test", "") + " " + c.value("quantity", "")), r2, true);
+          }
     } else if (result.contains("check_peak_q") && result.at("check_peak_q").is_number()) {
-      out_number(output(unit, "7Check test peak q [kPa]"), result.at("check_peak_q").get<double>(),
-                 "largest deviator stress of the check test");
+      out_string(output(unit, "7Check test peak q [kPa]"), rounded(result.at("check_peak_q").get<double>()), true);
     }
   }
 
-  /// At initialize and check: show what the last compute stored, unless the tree already shows it.
-  void publish_saved_results(const std::vector<Group>& groups) {
+  /// At initialize and check: show what the last compute stored, unless the tree already shows it
+  /// or the unit's file is flagged.
+  void publish_saved_results(const std::vector<Group>& groups, const std::vector<std::string>& flagged) {
     for (const Group& g : groups) {
+      if (std::find(flagged.begin(), flagged.end(), g.name) != flagged.end()) continue;
       const ProjectUnit& u = project_.units[g.name];
       std::string shown;
       if (u.result.is_object() && !find_string(output(g.name, "0Status"), shown)) publish(g.name, u.result);
     }
   }
 
+  /// At initialize and check (when the tree is filled and after each edit): a unit's file that is
+  /// missing or unreadable, or a calibration whose test series is missing, is flagged in its status
+  /// and in Gmsh's console before any Run. Returns the flagged units.
+  std::vector<std::string> check_files(const std::vector<Group>& groups) {
+    std::vector<std::string> flagged;
+    for (const Group& g : groups) {
+      const UnitSettings& s = project_.units[g.name].settings;
+      if (s.source == Source::none) continue;
+      std::string problem;
+      const std::string& file = s.source == Source::calibration ? s.calibration : s.parameter_set;
+      const char* what = s.source == Source::calibration ? "calibration file" : "parameter set file";
+      std::error_code ec;
+      if (file.empty()) {
+        problem = std::string(what) + " not given (choose one)";
+      } else if (!fs::is_regular_file(project_.resolve(file), ec)) {
+        problem = std::string(what) + " not found: " + project_.resolve(file).string();
+      } else if (s.source == Source::calibration) {
+        try {
+          const CalibrationFile cf = read_calibration_file(project_.resolve(file).string());
+          const fs::path series = fs::path(cf.series).is_absolute()
+                                      ? fs::path(cf.series)
+                                      : (project_.resolve(file).parent_path() / cf.series).lexically_normal();
+          if (!fs::is_regular_file(series, ec)) problem = "test series not found: " + series.string() + " (" + file + ": series)";
+        } catch (const InputError& e) {
+          problem = reason_first(e.what());
+        }
+      }
+      if (problem.empty()) continue;
+      flagged.push_back(g.name);
+      clear_outputs(g.name);
+      out_string(output(g.name, "0Status"), "error: " + problem, true);
+      c_.sendError("triaxcal: soil unit '" + g.name + "': " + problem);
+    }
+    return flagged;
+  }
+
+  /// The legend line of a unit: its source, model and status.
+  std::string legend_of(const ProjectUnit& u) const {
+    if (u.settings.source == Source::none) return "no source chosen";
+    std::string text = label_of(u.settings.source);
+    if (!u.result.is_object()) return text + ": not computed yet";
+    const std::string model = u.result.value("model", "");
+    if (!model.empty()) text += " (" + model + ")";
+    if (u.result.value("status", "") != "ok") return text + ": error";
+    std::string outcome;
+    if (u.result.contains("fit") && u.result.at("fit").is_object()) outcome = u.result.at("fit").value("outcome", "");
+    return text + ": " + (outcome.empty() ? std::string("ok") : outcome);
+  }
+
+  /// Colours and legend of every unit, and on compute the graphs of `curves` (by unit), merged
+  /// into Gmsh from <project>.triaxcal-views.pos (a check: <project>.triaxcal-legend.pos).
+  void merge_views(const std::vector<Group>& groups, bool graphs, const std::map<std::string, std::vector<Curve>>& curves = {}) {
+    std::vector<UnitView> views;
+    for (const Group& g : groups) {
+      UnitView v;
+      v.unit = g.name;
+      v.dimension = g.dimension;
+      v.tag = g.tag;
+      v.legend = legend_of(project_.units[g.name]);
+      const auto it = curves.find(g.name);
+      if (it != curves.end()) v.curves = it->second;
+      views.push_back(std::move(v));
+    }
+    // A check writes the legend alone to a file of its own: the views file keeps the last compute's graphs.
+    const fs::path pos =
+        project_.folder() / (project_.path.stem().string() + (graphs ? ".triaxcal-views.pos" : ".triaxcal-legend.pos"));
+    try {
+      write_file_atomically(pos, views_pos(views, graphs));
+      c_.sendMergeFileRequest(pos.string());
+    } catch (const InputError& e) {
+      c_.sendError(std::string("triaxcal: ") + e.what());
+    }
+  }
+
   void compute(const std::vector<Group>& groups) {
-    std::vector<UnitCurves> views;
+    std::map<std::string, std::vector<Curve>> views;
     int computed = 0, failed = 0;
     const std::string now = utc_now();
     for (const Group& g : groups) {
@@ -378,20 +469,14 @@ class Session {
           c_.sendInfo("triaxcal: soil unit '" + g.name + "': " + r.message);
         else
           c_.sendWarning("triaxcal: soil unit '" + g.name + "': " + r.message);
-        views.push_back({g.name, r.curves});
+        views[g.name] = r.curves;
       } else {
         ++failed;
-        c_.sendError("triaxcal: soil unit '" + g.name + "': " + r.message);
+        c_.sendError("triaxcal: soil unit '" + g.name + "': " + reason_first(r.message));
       }
     }
-    // Graph views (replacing the previous ones).
-    const fs::path pos = project_.folder() / (project_.path.stem().string() + ".triaxcal-views.pos");
-    try {
-      write_file_atomically(pos, views_pos(views));
-      c_.sendMergeFileRequest(pos.string());
-    } catch (const InputError& e) {
-      c_.sendError(std::string("triaxcal: ") + e.what());
-    }
+    // Colours, legend and graph views (replacing the previous ones).
+    merge_views(groups, true, views);
     write_export(groups);
     c_.sendInfo("triaxcal: " + std::to_string(computed - failed) + " of " + std::to_string(computed) +
                 " soil unit(s) computed" + (failed ? ", " + std::to_string(failed) + " failed (see the errors above)" : ""));
@@ -403,13 +488,21 @@ class Session {
     json units = json::object();
     for (const Group& g : groups) {
       const ProjectUnit& u = project_.units[g.name];
-      if (!u.result.is_object() || u.result.value("status", "") != "ok") continue;
+      if (u.settings.source == Source::none || !u.result.is_object()) continue;
+      // Every unit with a source, with its status: a failed one says why and has no parameter set,
+      // so a solver input writer sees it instead of missing it.
+      const bool ok = u.result.value("status", "") == "ok";
       units[g.name] = {{"dimension", g.dimension},
                        {"tag", g.tag},
                        {"source", to_string(u.settings.source)},
                        {"file", u.settings.source == Source::calibration ? u.settings.calibration : u.settings.parameter_set},
-                       {"model", u.result.value("model", "")},
-                       {"parameter_set", u.result.at("parameter_set")}};
+                       {"status", ok ? "ok" : "error"}};
+      if (!u.result.value("model", "").empty()) units[g.name]["model"] = u.result.value("model", "");
+      if (!ok) {
+        units[g.name]["message"] = u.result.value("message", "");
+        continue;
+      }
+      units[g.name]["parameter_set"] = u.result.at("parameter_set");
       // A calibrated unit carries its outcome, so a solver input writer can refuse a stopped or poor fit.
       if (u.result.contains("fit") && u.result.at("fit").is_object())
         units[g.name]["outcome"] = u.result.at("fit").value("outcome", "");
@@ -424,7 +517,7 @@ class Session {
                       {"units", units}};
     try {
       write_file_atomically(project_.export_path(), plugin::dump(doc) + "\n");
-      c_.sendInfo("triaxcal: parameter sets of " + std::to_string(units.size()) + " soil unit(s) written to " +
+      c_.sendInfo("triaxcal: " + std::to_string(units.size()) + " soil unit(s) with their status written to " +
                   project_.export_path().string());
     } catch (const InputError& e) {
       c_.sendError(std::string("triaxcal: ") + e.what());
