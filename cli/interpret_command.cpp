@@ -23,6 +23,7 @@ struct InterpretCliOptions {
   std::string stress_range;
   double design_stress = std::nan("");
   double reference_pressure = 100.0;
+  double csl_exponent = 0.7;
   std::string out;
   std::string material;
   std::string report;
@@ -103,6 +104,7 @@ InterpretOptions to_options(const InterpretCliOptions& c) {
     throw InputError("--stress-range: " + stress_range_error(c.stress_range));
   o.design_stress = c.design_stress;
   o.reference_pressure = c.reference_pressure;
+  o.csl_exponent = c.csl_exponent;
   o.material = c.material;
   o.only = c.only;
   for (const std::string& l : c.leave_out) o.left_out.push_back(parse_leave_out(l));
@@ -174,6 +176,10 @@ void add_interpret_command(CLI::App& app, Action& action) {
       ->check(number_check(0.0, kUnbounded, true, "kPa"));
   cmd->add_option("--reference-pressure", o->reference_pressure, "p_ref of the stiffness law E = E_ref (s3'/p_ref)^m (kPa, default 100)")
       ->check(number_check(0.0, kUnbounded, true, "kPa"));
+  cmd->add_option("--csl-exponent", o->csl_exponent,
+                  "xi of the power-law critical-state line e_c = e_Gamma - lambda_c (p'/p_at)^xi used for the state parameter "
+                  "(default 0.7, the value commonly used for sands)")
+      ->check(number_check(0.0, 2.0, true));
   cmd->add_option("--material", o->material, "Interpret only the specimens of this material (the series' material labels); required when the series "
                   "holds several");
   cmd->add_option("--out", o->out, "JSON result file (written atomically; every number with its unit)");

@@ -42,6 +42,9 @@ struct InterpretOptions {
   std::vector<LeftOut> left_out;     ///< specimens or shear stages left out, each with its reason
   bool origin_regression = false;    ///< also fit t = s' tan(alpha_0) through the origin (kOriginRegressionRule)
   bool cu_depth_trend = false;       ///< fit c_u = c_u0 + k z on the UU tests with a depth
+  /// xi of the power-law critical-state line e_c = e_Gamma - lambda_c (p'/p_at)^xi, p_at = 101.325 kPa
+  /// (xi fixed; 0.7 is the value commonly used for sands, from memory of Li & Wang 1998).
+  double csl_exponent = 0.7;
 
   /// Throws InputError naming the field, its value and the rule.
   void validate() const;
@@ -131,6 +134,18 @@ struct StageInterpretation {
   bool steady_state = false;                ///< the end of the test is a steady (critical) state
   double end_p = kNotGiven, end_q = kNotGiven, end_void_ratio = kNotGiven;
   double skempton_a = kNotGiven;            ///< A_f = du_f / dq_f (undrained)
+  // Sand state (issue 17): the state at the start of shear and the state parameter psi = e - e_c(p')
+  // against the critical-state line of the whole set (Been & Jefferies 1985).
+  double start_p = kNotGiven, start_void_ratio = kNotGiven;  ///< p' (kPa) and e at the first point
+  double state_parameter = kNotGiven;       ///< psi at the start of shear, against Interpretation::psi_line
+  double peak_friction_angle = kNotGiven;   ///< phi'_peak (deg) from the largest s1'/s3' (c' = 0), CD
+  /// Undrained (CU): phase transformation, the point of least p' followed by a rise of p' (the
+  /// dilatancy changes sign: the excess pore pressure stops rising), and instability, the first peak
+  /// of q followed by a fall of more than 5 % of it while p' falls (a loose specimen's strength loss).
+  FailurePoint phase_transformation;
+  double phase_transformation_ratio = kNotGiven;  ///< q/p' there
+  FailurePoint instability;
+  double instability_ratio = kNotGiven;           ///< q/p' there
   std::vector<double> dilatancy_d, dilatancy_ratio;  ///< stress-dilatancy plot: D = 1 - de_v/de_a, R = s1'/s3'
 };
 
@@ -250,6 +265,18 @@ struct Interpretation {
   /// NaN when the line is not determined (n, x_min, x_max still say what the data were).
   LineFit csl;
   std::string csl_reason;          ///< why the critical-state line is not determined (empty when it is)
+  /// e = e_Gamma - lambda_c (p'/p_at)^xi, fitted as a line of e against x = (p'/p_at)^xi (intercept
+  /// e_Gamma, slope -lambda_c), xi = csl_exponent; NaN when not determined.
+  LineFit csl_power;
+  double csl_exponent = kNotGiven;
+  std::string csl_power_reason;
+  /// Which line the state parameters use: "power" (csl_power), "log" (csl) or "" (none: psi not given).
+  std::string psi_line;
+  std::string psi_reason;  ///< why psi is not given (empty when it is)
+  /// phi'_peak = a + b psi and the peak dilation rate -d_max = a + b psi over the CD compression stages:
+  /// roughly linear trends (Been & Jefferies 1985, from memory).
+  LineFit peak_angle_vs_psi, dilation_vs_psi;
+  std::string peak_angle_vs_psi_reason, dilation_vs_psi_reason;
   double phi_cv_rowe = kNotGiven;  ///< mean over drained stages
   std::string phi_cv_rowe_reason;  ///< why the mean is not determined (empty when it is)
   // compressibility

@@ -149,6 +149,13 @@ constexpr double kSteadyWindow = 0.2, kSteadyQ = 0.03, kSteadyRate = 0.05, kStea
 /// A power law or a semi-log line needs stresses that span at least this factor (largest / smallest)
 /// to determine its slope (common practice, no source).
 constexpr double kMinStressSpan = 1.25;
+/// Atmospheric pressure of the power-law critical-state line, kPa (the sand model's p_at).
+constexpr double kAtmosphericPressure = 101.325;
+/// Phase transformation: p' rises after its least value by at least 2 % of it (and 1 kPa); instability:
+/// q falls after a peak by more than 5 % of it. Thresholds against noise, common practice, no source.
+constexpr double kPhaseRise = 0.02, kInstabilityDrop = 0.05;
+/// A trend against the state parameter needs states that span at least 0.05 (common practice, no source).
+constexpr double kMinPsiSpan = 0.05;
 
 /// The curves of one stage in the shear direction. The series gives every point's strains as
 /// engineering strains relative to the specimen at the start of the point's own stage (series.hpp).
@@ -543,6 +550,51 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
       rate_steady = std::abs(du) <= kSteadyQ * std::max(1.0, r.end_p);
     }
     r.steady_state = q_steady && rate_steady && last > w;
+  }
+  // Sand state (issue 17): the start of shear, for the state parameter found once the set's
+  // critical-state line is known (interpret(), below).
+  r.start_p = c.mean_stress[static_cast<std::size_t>(first)];
+  r.start_void_ratio = c.void_ratio[static_cast<std::size_t>(first)];
+  if (st.shear == ShearType::cd && effective && r.by_max_stress_ratio.index >= 0 && r.by_max_stress_ratio.s3 > 0.0 &&
+      r.direction == ShearDirection::compression) {
+    const double rr = r.by_max_stress_ratio.s1 / r.by_max_stress_ratio.s3;
+    r.peak_friction_angle = radians_to_degrees(std::asin((rr - 1.0) / (rr + 1.0)));
+  }
+  if (st.shear == ShearType::cu && effective && last > first) {
+    // Phase transformation: the least p' with a rise of p' after it of kPhaseRise of it (and 1 kPa).
+    int imin = first;
+    for (int i = first; i <= last; ++i)
+      if (c.mean_stress[static_cast<std::size_t>(i)] < c.mean_stress[static_cast<std::size_t>(imin)]) imin = i;
+    double after = c.mean_stress[static_cast<std::size_t>(imin)];
+    for (int i = imin; i <= last; ++i) after = std::max(after, c.mean_stress[static_cast<std::size_t>(i)]);
+    const double pmin = c.mean_stress[static_cast<std::size_t>(imin)];
+    if (imin > first && pmin > 0.0 && after - pmin >= std::max(kPhaseRise * pmin, 1.0)) {
+      r.phase_transformation = make_point(v, imin);
+      r.phase_transformation_ratio = std::abs(c.deviator_stress[static_cast<std::size_t>(imin)]) / pmin;
+    }
+    // Instability: the first peak of |q| followed by a fall of more than kInstabilityDrop of it, with
+    // p' lower at the end of the fall than at the peak.
+    for (int i = first + 1; i < last; ++i) {
+      const double qi = v.qd(i);
+      if (!(qi > 0.0) || v.qd(i - 1) > qi || v.qd(i + 1) > qi) continue;
+      int j = i + 1;
+      double lowest = qi;
+      int at = i;
+      for (; j <= last && v.qd(j) <= qi; ++j)
+        if (v.qd(j) < lowest) {
+          lowest = v.qd(j);
+          at = j;
+        }
+      if (lowest < (1.0 - kInstabilityDrop) * qi &&
+          c.mean_stress[static_cast<std::size_t>(at)] < c.mean_stress[static_cast<std::size_t>(i)]) {
+        r.instability = make_point(v, i);
+        if (c.mean_stress[static_cast<std::size_t>(i)] > 0.0)
+          r.instability_ratio = qi / c.mean_stress[static_cast<std::size_t>(i)];
+        break;
+      }
+      if (j > last) break;  // q never rose above this peak again and did not fall enough
+      i = j - 1;
+    }
   }
   // Skempton (1954), "The pore-pressure coefficients A and B", Geotechnique 4(4):
   // du = B [d s3 + A (d s1 - d s3)]; constant cell pressure, B = 1 taken: A_f = du_f / dq_f.
@@ -1247,6 +1299,62 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
     if (!res.csl_reason.empty()) res.csl.intercept = res.csl.slope = kNotGiven;
     if (!cv.empty()) res.phi_cv_rowe = std::accumulate(cv.begin(), cv.end(), 0.0) / static_cast<double>(cv.size());
     else res.phi_cv_rowe_reason = "no drained compression stage gives phi_cv";
+  }
+  // Sand state (issue 17). The power-law critical-state line e_c = e_Gamma - lambda_c (p'/p_at)^xi
+  // (Li & Wang 1998, the form of Dafalias & Manzari 2004; xi fixed) over the same steady end states,
+  // then psi = e - e_c(p') at the start of each shear stage (Been & Jefferies 1985), from the power
+  // line when determined, else from the e - ln p' line.
+  {
+    res.csl_exponent = o.csl_exponent;
+    std::vector<double> x, e;
+    double pmin = std::numeric_limits<double>::infinity(), pmax = 0.0;
+    for (const StageInterpretation& r : res.stages) {
+      if (!r.left_out.empty() || !r.steady_state || r.direction != ShearDirection::compression) continue;
+      if (!given(r.end_void_ratio) || !(r.end_p > 0.0)) continue;
+      x.push_back(std::pow(r.end_p / kAtmosphericPressure, o.csl_exponent));
+      e.push_back(r.end_void_ratio);
+      pmin = std::min(pmin, r.end_p);
+      pmax = std::max(pmax, r.end_p);
+    }
+    res.csl_power = fit_line(x, e);
+    if (x.size() < 2)
+      res.csl_power_reason = "2 or more steady end states with a void ratio are needed, found " + std::to_string(x.size());
+    else if (!(pmax / pmin >= kMinStressSpan))
+      res.csl_power_reason = "p' at the steady end states spans a factor " + fmt(pmax / pmin) + ", below " + fmt(kMinStressSpan) +
+                             ": the slope is not determined";
+    else if (!(res.csl_power.slope < 0.0))
+      res.csl_power_reason = "lambda_c = " + fmt(-res.csl_power.slope) + " is not positive (e must fall as p' rises)";
+    if (!res.csl_power_reason.empty()) res.csl_power.intercept = res.csl_power.slope = kNotGiven;
+    if (res.csl_power_reason.empty()) res.psi_line = "power";
+    else if (res.csl_reason.empty()) res.psi_line = "log";
+    else res.psi_reason = "no critical-state line (" + res.csl_power_reason + ")";
+    std::vector<double> psi_a, phi_a, psi_d, d_d;
+    for (StageInterpretation& r : res.stages) {
+      if (res.psi_line.empty() || !given(r.start_void_ratio) || !(r.start_p > 0.0)) continue;
+      const double ec = res.psi_line == "power"
+                            ? res.csl_power.intercept + res.csl_power.slope * std::pow(r.start_p / kAtmosphericPressure, o.csl_exponent)
+                            : res.csl.intercept + res.csl.slope * std::log(r.start_p);
+      r.state_parameter = r.start_void_ratio - ec;
+      if (!r.left_out.empty()) continue;
+      if (given(r.peak_friction_angle)) {
+        psi_a.push_back(r.state_parameter);
+        phi_a.push_back(r.peak_friction_angle);
+      }
+      if (r.test == ShearType::cd && r.direction == ShearDirection::compression && given(r.max_dilation_rate)) {
+        psi_d.push_back(r.state_parameter);
+        d_d.push_back(-r.max_dilation_rate);
+      }
+    }
+    const auto trend = [&](const std::vector<double>& px, const std::vector<double>& py, LineFit& f, std::string& why) {
+      f = fit_line(px, py);
+      if (!res.psi_reason.empty()) why = res.psi_reason;
+      else if (f.n < 2) why = "2 or more CD compression stages with a state parameter are needed, found " + std::to_string(f.n);
+      else if (!(f.x_max - f.x_min >= kMinPsiSpan))
+        why = "the state parameters span " + fmt(f.x_max - f.x_min) + ", below " + fmt(kMinPsiSpan) + ": the slope is not determined";
+      if (!why.empty()) f.intercept = f.slope = kNotGiven;
+    };
+    trend(psi_a, phi_a, res.peak_angle_vs_psi, res.peak_angle_vs_psi_reason);
+    trend(psi_d, d_d, res.dilation_vs_psi, res.dilation_vs_psi_reason);
   }
   return res;
 }

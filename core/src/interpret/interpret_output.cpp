@@ -128,6 +128,15 @@ std::string interpretation_json(const Interpretation& r) {
     j["steady_state"] = s.steady_state;
     j["end_state"] = {{"p", q(s.end_p, "kPa")}, {"q", q(s.end_q, "kPa")}, {"void_ratio", q(s.end_void_ratio, "-")}};
     j["skempton_a"] = q(s.skempton_a, "-");
+    auto point = [](const FailurePoint& f, double ratio) {
+      return json{{"axial_strain", q(f.axial_strain, "-")}, {"p", q(f.p, "kPa")}, {"q", q(f.q, "kPa")}, {"stress_ratio", q(ratio, "-")}};
+    };
+    j["sand_state"] = {{"start_p", q(s.start_p, "kPa")},
+                       {"start_void_ratio", q(s.start_void_ratio, "-")},
+                       {"state_parameter", q(s.state_parameter, "-", r.psi_reason)},
+                       {"peak_friction_angle", q(s.peak_friction_angle, "deg")},
+                       {"phase_transformation", point(s.phase_transformation, s.phase_transformation_ratio)},
+                       {"instability", point(s.instability, s.instability_ratio)}};
     j["stress_dilatancy"] = {{"D", s.dilatancy_d}, {"R", s.dilatancy_ratio}, {"unit", "-"}};
     stages.push_back(j);
   }
@@ -192,6 +201,22 @@ std::string interpretation_json(const Interpretation& r) {
                             {"lambda", q(given(r.csl.slope) ? -r.csl.slope : std::nan(""), "-", r.csl_reason)},
                             {"csl_points", r.csl.n},
                             {"phi_cv_stress_dilatancy_mean", q(r.phi_cv_rowe, "deg", r.phi_cv_rowe_reason)}};
+  auto trend = [](const LineFit& f, const std::string& reason, const char* unit) {
+    return json{{"intercept", q(f.intercept, unit, reason)}, {"slope", q(f.slope, unit, reason)}, {"n", f.n}};
+  };
+  root["sand_state"] = {
+      {"csl_power", {{"form", "e_c = e_Gamma - lambda_c (p'/p_at)^xi, p_at = 101.325 kPa, xi fixed"},
+                     {"e_Gamma", q(r.csl_power.intercept, "-", r.csl_power_reason)},
+                     {"lambda_c", q(given(r.csl_power.slope) ? -r.csl_power.slope : std::nan(""), "-", r.csl_power_reason)},
+                     {"xi", q(r.csl_exponent, "-")},
+                     {"points", r.csl_power.n}}},
+      {"state_parameter_line", r.psi_line.empty() ? json(nullptr) : json(r.psi_line)},
+      {"state_parameter_reason", r.psi_reason},
+      {"peak_friction_angle_vs_psi", trend(r.peak_angle_vs_psi, r.peak_angle_vs_psi_reason, "deg")},
+      {"peak_dilation_rate_vs_psi", trend(r.dilation_vs_psi, r.dilation_vs_psi_reason, "-")},
+      {"rules", "psi = e - e_c(p') at the start of shear (Been & Jefferies 1985); phase transformation: least p' followed by a "
+                "rise of 2 % (and 1 kPa); instability: first peak of q followed by a fall of more than 5 % while p' falls "
+                "(common practice, no source)"}};
   json comp = json::array();
   for (const auto& c : r.compressibility)
     comp.push_back({{"specimen", c.specimen}, {"stage", c.stage}, {"basis", c.basis}, {"lambda", q(c.lambda, "-", c.lambda_reason)},
@@ -358,6 +383,10 @@ std::string interpretation_text(const Interpretation& r) {
   o << "\n  critical-state line e = Gamma - lambda ln p':";
   if (r.csl_reason.empty()) o << " Gamma " << cell(r.csl.intercept, 3) << ", lambda " << cell(-r.csl.slope, 4) << " (" << r.csl.n << " points)";
   else o << " not determined: " << r.csl_reason;
+  o << "\n  critical-state line e = e_Gamma - lambda_c (p'/p_at)^xi, xi " << cell(r.csl_exponent, 2) << " fixed:";
+  if (r.csl_power_reason.empty())
+    o << " e_Gamma " << cell(r.csl_power.intercept, 4) << ", lambda_c " << cell(-r.csl_power.slope, 4) << " (" << r.csl_power.n << " points)";
+  else o << " not determined: " << r.csl_power_reason;
   o << "\n  phi_cv (Rowe, mean): " << (r.phi_cv_rowe_reason.empty() ? cell(r.phi_cv_rowe, 2) + " deg" : "not determined: " + r.phi_cv_rowe_reason)
     << "\n";
   auto value = [](double v, int decimals) { return given(v) ? cell(v, decimals) : std::string("not determined"); };
@@ -372,6 +401,39 @@ std::string interpretation_text(const Interpretation& r) {
         << value(c.kappa, 4) << "\n";
     o << not_determined("      ", "lambda", c.lambda_reason) << not_determined("      ", "kappa", c.kappa_reason)
       << not_determined("      ", "E_oed", c.constrained_modulus_reason);
+  }
+  if (!r.psi_line.empty()) {
+    o << "\nState parameter psi = e - e_c(p') at the start of shear (Been & Jefferies 1985), from the "
+      << (r.psi_line == "power" ? "power-law" : "e - ln p'") << " critical-state line:\n";
+    int w = 10;
+    for (const StageInterpretation& s : r.stages) w = std::max(w, static_cast<int>(s.specimen.size()));
+    char row[512];
+    std::snprintf(row, sizeof row, "  %-*s %5s %-4s %9s %7s %8s %9s %9s %9s\n", w, "specimen", "stage", "test", "p'_0 kPa", "e_0", "psi",
+                  "phi'_pk", "PT q/p'", "inst q/p'");
+    o << row;
+    for (const StageInterpretation& s : r.stages) {
+      if (!given(s.state_parameter)) continue;
+      std::snprintf(row, sizeof row, "  %-*s %5d %-4s %9s %7s %8s %9s %9s %9s%s\n", w, s.specimen.c_str(), s.shear_stage,
+                    to_string(s.test).c_str(), cell(s.start_p, 1).c_str(), cell(s.start_void_ratio, 3).c_str(),
+                    cell(s.state_parameter, 3).c_str(), cell(s.peak_friction_angle, 2).c_str(), cell(s.phase_transformation_ratio, 3).c_str(),
+                    cell(s.instability_ratio, 3).c_str(), s.left_out.empty() ? "" : "  (left out)");
+      o << row;
+    }
+    o << "  phi'_pk: from the largest s1'/s3' with c' = 0 (CD, deg); PT: phase transformation, least p' then rising; inst: first\n"
+         "  peak of q then falling more than 5 % (CU); thresholds common practice, no source\n";
+    o << "  trend phi'_pk = a + b psi: "
+      << (r.peak_angle_vs_psi_reason.empty()
+              ? "a " + cell(r.peak_angle_vs_psi.intercept, 2) + " deg, b " + cell(r.peak_angle_vs_psi.slope, 1) + " deg (" +
+                    std::to_string(r.peak_angle_vs_psi.n) + " stages)"
+              : "not determined: " + r.peak_angle_vs_psi_reason)
+      << "\n  trend -d_max = a + b psi: "
+      << (r.dilation_vs_psi_reason.empty()
+              ? "a " + cell(r.dilation_vs_psi.intercept, 3) + ", b " + cell(r.dilation_vs_psi.slope, 3) + " (" +
+                    std::to_string(r.dilation_vs_psi.n) + " stages)"
+              : "not determined: " + r.dilation_vs_psi_reason)
+      << "\n  (roughly linear trends against psi: Been & Jefferies 1985, from memory)\n";
+  } else if (!r.psi_reason.empty()) {
+    o << "\nState parameter psi: not determined: " << r.psi_reason << "\n";
   }
   if (!r.b_values.empty()) {
     o << "\nSkempton's B from saturation:";
