@@ -157,6 +157,9 @@ constexpr double kPhaseRise = 0.02, kInstabilityDrop = 0.05;
 /// A trend against the state parameter needs states that span at least 0.05 (common practice, no source).
 constexpr double kMinPsiSpan = 0.05;
 
+/// phi' (deg) of a cohesionless soil from the stress ratio R = s1'/s3': sin phi' = (R - 1)/(R + 1) (Mohr-Coulomb).
+double friction_angle_from_ratio(double rr) { return radians_to_degrees(std::asin((rr - 1.0) / (rr + 1.0))); }
+
 /// The curves of one stage in the shear direction. The series gives every point's strains as
 /// engineering strains relative to the specimen at the start of the point's own stage (series.hpp).
 struct StageView {
@@ -524,7 +527,7 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
   if (given(r.phi_cv_rowe) && r.by_max_stress_ratio.index >= 0 && r.by_max_stress_ratio.s3 > 0.0) {
     // phi'_max from the peak stress ratio R: sin phi' = (R - 1)/(R + 1) (Mohr-Coulomb, cohesionless).
     const double rr = r.by_max_stress_ratio.s1 / r.by_max_stress_ratio.s3;
-    r.measured_phi_difference = radians_to_degrees(std::asin((rr - 1.0) / (rr + 1.0))) - r.phi_cv_rowe;
+    r.measured_phi_difference = friction_angle_from_ratio(rr) - r.phi_cv_rowe;
   }
   // End state and steady state.
   r.end_p = c.mean_stress[static_cast<std::size_t>(last)];
@@ -558,7 +561,7 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
   if (st.shear == ShearType::cd && effective && r.by_max_stress_ratio.index >= 0 && r.by_max_stress_ratio.s3 > 0.0 &&
       r.direction == ShearDirection::compression) {
     const double rr = r.by_max_stress_ratio.s1 / r.by_max_stress_ratio.s3;
-    r.peak_friction_angle = radians_to_degrees(std::asin((rr - 1.0) / (rr + 1.0)));
+    r.peak_friction_angle = friction_angle_from_ratio(rr);
   }
   if (st.shear == ShearType::cu && effective && last > first) {
     // Phase transformation: the least p' with a rise of p' after it of kPhaseRise of it (and 1 kPa).
@@ -1297,6 +1300,20 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
     if (res.csl_reason.empty() && !(res.csl.slope < 0.0))
       res.csl_reason = "lambda = " + fmt(-res.csl.slope) + " is not positive (e must fall as p' rises)";
     if (!res.csl_reason.empty()) res.csl.intercept = res.csl.slope = kNotGiven;
+    // The power-law line over the same end states (ln p' in lp, e in ee).
+    res.csl_exponent = o.csl_exponent;
+    std::vector<double> x;
+    for (double l : lp) x.push_back(std::pow(std::exp(l) / kAtmosphericPressure, o.csl_exponent));
+    res.csl_power = fit_line(x, ee);
+    const double span = lp.empty() ? 1.0 : std::exp(*std::max_element(lp.begin(), lp.end()) - *std::min_element(lp.begin(), lp.end()));
+    if (x.size() < 2)
+      res.csl_power_reason = "2 or more steady end states with a void ratio are needed, found " + std::to_string(x.size());
+    else if (!(span >= kMinStressSpan))
+      res.csl_power_reason = "p' at the steady end states spans a factor " + fmt(span) + ", below " + fmt(kMinStressSpan) +
+                             ": the slope is not determined";
+    else if (!(res.csl_power.slope < 0.0))
+      res.csl_power_reason = "lambda_c = " + fmt(-res.csl_power.slope) + " is not positive (e must fall as p' rises)";
+    if (!res.csl_power_reason.empty()) res.csl_power.intercept = res.csl_power.slope = kNotGiven;
     if (!cv.empty()) res.phi_cv_rowe = std::accumulate(cv.begin(), cv.end(), 0.0) / static_cast<double>(cv.size());
     else res.phi_cv_rowe_reason = "no drained compression stage gives phi_cv";
   }
@@ -1305,26 +1322,6 @@ Interpretation interpret(const TestSeries& series, const InterpretOptions& o) {
   // then psi = e - e_c(p') at the start of each shear stage (Been & Jefferies 1985), from the power
   // line when determined, else from the e - ln p' line.
   {
-    res.csl_exponent = o.csl_exponent;
-    std::vector<double> x, e;
-    double pmin = std::numeric_limits<double>::infinity(), pmax = 0.0;
-    for (const StageInterpretation& r : res.stages) {
-      if (!r.left_out.empty() || !r.steady_state || r.direction != ShearDirection::compression) continue;
-      if (!given(r.end_void_ratio) || !(r.end_p > 0.0)) continue;
-      x.push_back(std::pow(r.end_p / kAtmosphericPressure, o.csl_exponent));
-      e.push_back(r.end_void_ratio);
-      pmin = std::min(pmin, r.end_p);
-      pmax = std::max(pmax, r.end_p);
-    }
-    res.csl_power = fit_line(x, e);
-    if (x.size() < 2)
-      res.csl_power_reason = "2 or more steady end states with a void ratio are needed, found " + std::to_string(x.size());
-    else if (!(pmax / pmin >= kMinStressSpan))
-      res.csl_power_reason = "p' at the steady end states spans a factor " + fmt(pmax / pmin) + ", below " + fmt(kMinStressSpan) +
-                             ": the slope is not determined";
-    else if (!(res.csl_power.slope < 0.0))
-      res.csl_power_reason = "lambda_c = " + fmt(-res.csl_power.slope) + " is not positive (e must fall as p' rises)";
-    if (!res.csl_power_reason.empty()) res.csl_power.intercept = res.csl_power.slope = kNotGiven;
     if (res.csl_power_reason.empty()) res.psi_line = "power";
     else if (res.csl_reason.empty()) res.psi_line = "log";
     else res.psi_reason = "no critical-state line (" + res.csl_power_reason + ")";
