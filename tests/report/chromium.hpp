@@ -8,6 +8,7 @@
 #include <cstdlib>
 #include <filesystem>
 #include <string>
+#include <vector>
 
 #include "cli_run.hpp"
 
@@ -63,6 +64,41 @@ inline BrowserRun run_chromium(const std::string& browser, const std::string& ht
   }
   fs::remove_all(profile);
   return r;
+}
+
+inline const char* kPdftotextMissing =
+    "pdftotext not found: the printed-layout tests read the PDF Chromium prints with it; install Debian's "
+    "poppler-utils (apt-get install -y poppler-utils; scripts/test installs it)";
+
+/// Prints `html` (a file path) to PDF headless, as a reader would from the browser (A4 from the
+/// page's @page rule, Chromium's own header and footer off: the page's margin boxes are what
+/// prints), and returns the text of each page (pdftotext -layout, pages split at form feeds).
+/// Empty when either program fails; `log` gets what they said.
+inline std::vector<std::string> printed_pages(const std::string& browser, const std::string& html, const std::string& tag,
+                                              std::string& log) {
+  namespace fs = std::filesystem;
+  const fs::path profile = fs::absolute("chromium_profile_" + tag);
+  fs::remove_all(profile);
+  fs::create_directories(profile);
+  const std::string pdf = fs::absolute("printed_" + tag + ".pdf").string(), text = "printed_" + tag + ".txt",
+                    err = "printed_" + tag + ".log";
+  fs::remove(pdf);
+  const std::string print = "timeout 60 " + browser +
+                            " --headless --no-sandbox --disable-gpu --no-first-run --disable-extensions"
+                            " --no-pdf-header-footer --user-data-dir=" +
+                            profile.string() + " --print-to-pdf=" + pdf + " 'file://" + fs::absolute(html).string() +
+                            "' >" + err + " 2>&1";
+  const int printed = std::system(print.c_str());
+  fs::remove_all(profile);
+  const int converted = printed == 0 ? std::system(("pdftotext -layout " + pdf + " " + text + " >>" + err + " 2>&1").c_str()) : -1;
+  log = slurp(err);
+  std::vector<std::string> pages;
+  if (converted != 0) return pages;
+  const std::string all = slurp(text);
+  std::size_t start = 0;
+  for (std::size_t ff; (ff = all.find('\f', start)) != std::string::npos; start = ff + 1) pages.push_back(all.substr(start, ff - start));
+  if (start < all.size() && all.find_first_not_of(" \n", start) != std::string::npos) pages.push_back(all.substr(start));
+  return pages;
 }
 
 /// Console lines of a Chromium log ("...:INFO:CONSOLE(12)] "message", source: ...").

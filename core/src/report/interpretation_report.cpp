@@ -136,12 +136,18 @@ std::string figure(const svg::Plot& plot, const std::string& caption) {
 }
 
 const char* kExtraStyle = R"CSS(
-.signoff td { height: 34px; min-width: 150px; }
+.signoff { width: 100%; }
+.signoff td { height: 40px; }
+.signoff th:first-child { width: 90px; }
 .flag-above { background: var(--warn); }
 .flag-above_twice { background: var(--bad); font-weight: bold; }
 p.rule { color: var(--muted); font-size: 12px; margin: 2px 0 10px 0; }
 ol.rules li { margin-bottom: 4px; font-size: 13px; }
-h2, h3, figcaption { break-after: avoid; page-break-after: avoid; }
+/* A heading stays with what follows it. Not figcaption: the last element of a section, its
+   break-after propagates to the section's end, so the page could break nowhere between two sections
+   but after the next heading (seen printed: a heading alone at the foot of a page). A figure is
+   already kept whole. */
+h2, h3 { break-after: avoid; page-break-after: avoid; }
 h3 + table, h3 + p, h2 + p, h2 + table { break-before: avoid; page-break-before: avoid; }
 tr { break-inside: avoid; page-break-inside: avoid; }
 @media print {
@@ -162,9 +168,8 @@ class InterpretationRenderer {
        << "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n"
        << "<title>" << esc(opt_.title) << (site.empty() ? "" : " - " + esc(site)) << "</title>\n"
        << "<style>" << detail::report_style() << kExtraStyle << "@page { @top-left { content: " << css_string(opt_.title)
-       << "; font-size: 8pt; color: #555; } @top-right { content: " << css_string(site)
-       << "; font-size: 8pt; color: #555; } @bottom-right { content: \"page \" counter(page) \" of \" counter(pages); "
-          "font-size: 8pt; color: #555; } }\n</style>\n</head>\n<body>\n";
+       << "; font-size: 8pt; color: #555; } @top-right { content: " << css_string(site.empty() ? std::string() : site + "  \u00b7  ")
+       << " \"page \" counter(page) \" of \" counter(pages); font-size: 8pt; color: #555; } }\n</style>\n</head>\n<body>\n";
     header(site);
     tests();
     if (plan_.uu) undrained();
