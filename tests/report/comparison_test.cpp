@@ -211,3 +211,21 @@ TEST_CASE("Modified Cam-Clay: phi_cs from its M, M from its phi_cs, and its crit
   CHECK(cs2->model == 30.0);
   CHECK(cs2->basis.find("vs model critical_state_friction_angle") != std::string::npos);
 }
+
+TEST_CASE("a comparison row prints its classical value, model value and difference (model - classical) with one number of "
+          "decimals", "[report][comparison]") {
+  // Invented rows shaped like the ones a reviewer tripped on: M 1.299 against 1.300 printed a
+  // difference of "6.141e-04"; E_50 of 21423 against 21387 kPa a difference of "-35.70".
+  report::ReportData d;
+  d.comparisons.push_back({"critical-state ratio M", "", 1.2994, 1.3000, "large-strain states vs model critical_state_ratio"});
+  d.comparisons.push_back({"secant stiffness E_50 of T-1 (s3' = 50 kPa)", "kPa", 21423.2, 21387.5, "secant rule"});
+  d.comparisons.push_back({"cohesion c'", "kPa", -0.47204, 0.0, "s'-t regression vs model critical state: c' = 0"});
+  d.comparisons.push_back({"friction angle phi'", "deg", 32.654, 32.3, "s'-t regression"});
+  const std::string html = report::render_report(d);
+  CHECK(html.find("<th>difference (model &#8722; classical)</th>") != std::string::npos);
+  CHECK(html.find("<td class=\"num\">1.299</td><td class=\"num\">1.300</td><td class=\"num\">0.001</td>") != std::string::npos);
+  CHECK(html.find("<td class=\"num\">21423</td><td class=\"num\">21388</td><td class=\"num\">-36</td>") != std::string::npos);
+  CHECK(html.find("<td class=\"num\">-0.4720</td><td class=\"num\">0</td><td class=\"num\">0.4720</td>") != std::string::npos);
+  CHECK(html.find("<td class=\"num\">32.65</td><td class=\"num\">32.30</td><td class=\"num\">-0.35</td>") != std::string::npos);
+  CHECK(html.find("e-04") == std::string::npos);
+}

@@ -43,6 +43,24 @@ std::string fmt_fixed(double v, int decimals) {
   return s;
 }
 
+/// The decimals `fmt` gives the larger of |a| and |b| (four significant digits), so that two values
+/// and their difference print alike; -1 where `fmt` would use an exponent.
+int shared_decimals(double a, double b) {
+  double m = 0.0;
+  for (double v : {a, b})
+    if (std::isfinite(v)) m = std::max(m, std::abs(v));
+  if (m == 0.0) return 0;
+  if (m < 1e-3 || m >= 1e7) return -1;
+  return std::max(0, 3 - static_cast<int>(std::floor(std::log10(m))));
+}
+
+/// A value of a comparison row with the row's decimals (exact zeros stay "0").
+std::string fmt_row(double v, int decimals) {
+  if (decimals < 0 || !std::isfinite(v)) return fmt(v);
+  if (v == 0.0) return "0";
+  return fmt_fixed(v, decimals);
+}
+
 /// Every k-th point (and the last) so that at most `limit` remain.
 XY thin(const XY& in, std::size_t limit, double x_scale = 1.0, double y_scale = 1.0) {
   XY out;
@@ -808,15 +826,20 @@ class Renderer {
       o_ << "<p id=\"no-comparison\">No classical results to compare.</p>\n";
     } else {
       o_ << "<table class=\"report-table\" id=\"table-comparison\">\n<thead><tr><th>quantity</th><th>unit</th>"
-            "<th>classical interpretation</th><th>fitted model</th><th>difference</th><th>basis</th></tr></thead>\n"
+            "<th>classical interpretation</th><th>fitted model</th><th>difference (model &#8722; classical)</th><th>basis</th></tr>"
+            "</thead>\n"
             "<tbody>\n";
       // A note on the model's definition follows the last of the consecutive rows it belongs to.
       for (std::size_t i = 0; i < d_.comparisons.size(); ++i) {
         const Comparison& c = d_.comparisons[i];
+        // The row's three numbers with one number of decimals (four significant digits of the
+        // larger value): a difference printed finer than the values it comes from reads as precision
+        // the values do not have (seen: 1.299 against 1.300, "difference 6.141e-04").
+        const int decimals = shared_decimals(c.classical, c.model);
         o_ << "<tr><td>" << esc(c.quantity) << "</td><td>" << unit_cell(c.unit) << "</td><td class=\"num\">"
-           << (std::isnan(c.classical) ? std::string("not determined") : fmt(c.classical)) << "</td><td class=\"num\">"
-           << fmt(c.model) << "</td><td class=\"num\">"
-           << fmt(c.model - c.classical) << "</td><td>" << esc(c.basis) << "</td></tr>\n";
+           << (std::isnan(c.classical) ? std::string("not determined") : fmt_row(c.classical, decimals))
+           << "</td><td class=\"num\">" << fmt_row(c.model, decimals) << "</td><td class=\"num\">"
+           << fmt_row(c.model - c.classical, decimals) << "</td><td>" << esc(c.basis) << "</td></tr>\n";
         const bool last_of_note = i + 1 == d_.comparisons.size() || d_.comparisons[i + 1].note != c.note;
         if (!c.note.empty() && last_of_note)
           o_ << "<tr class=\"comparison-note\"><td colspan=\"6\">Why the model differs by definition: " << esc(c.note)
