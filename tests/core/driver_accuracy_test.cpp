@@ -210,6 +210,35 @@ TEST_CASE("Mohr-Coulomb drained and undrained shear at the default tolerance fol
   CHECK(cd.stages[0].peak_q == Approx(mc_drained_hand(0.1)[0]).epsilon(test::kExact));
 }
 
+TEST_CASE("records closer than the tolerance needs are integrated in groups: Mohr-Coulomb exact at under 1.2 model calls a record, MCC and the hyperbolic model within 0.1 % of range of a tighter run") {
+  // 400 records, about the density of a logged lab curve. A group is one substep over up to 16
+  // records against the chain of substeps ending on each (DEVELOPERS.md "The driver"). Groups are
+  // taken only where the last error allows 10x the record spacing, and a turn of the response inside
+  // a group (yield onset) rejects it through the chain's linearisation gap: without both, the MCC
+  // OCR 6 record after yield at 30 records was 0.3 % of the q range off (found while building this).
+  // No failing case is known with the margin alone; the gap check is kept as a guard (it costs
+  // Mohr-Coulomb about 5 % more calls).
+  const SimulationResult cd = run(*mohr_coulomb(kMcPsi), shear(kMcS3, Drainage::drained, 0.1, 400), DriverOptions{}.tolerance);
+  const SimulationResult cu = run(*mohr_coulomb(0.0), shear(kMcS3, Drainage::undrained, 0.05, 400), DriverOptions{}.tolerance);
+  CHECK(compare(cd, [&](std::size_t j) { return mc_drained_hand(cd.steps[j].axial_strain); }).worst() <= test::kExact);
+  CHECK(compare(cu, [&](std::size_t j) { return mc_undrained_hand(cu.steps[j].axial_strain); }).worst() <= test::kExact);
+  INFO("model calls: drained " << cd.model_calls << ", undrained " << cu.model_calls);
+  CHECK(cd.model_calls <= 1.2 * 400);
+  CHECK(cu.model_calls <= 1.2 * 400);
+  TestProtocol oc = shear(50.0, Drainage::undrained, 0.15, 400, 0.9242, 300.0);
+  oc.name = "MCC undrained OCR 6, 400 records";
+  check_against_tight(*cam_clay(), oc);
+  TestProtocol nc = shear(200, Drainage::drained, 0.2, 400, 0.9, 200.0);
+  nc.name = "MCC drained NC, 400 records";
+  check_against_tight(*cam_clay(), nc);
+  TestProtocol hcd = shear(200, Drainage::drained, 0.15, 400);
+  hcd.name = "hyperbolic CD, 400 records";
+  check_against_tight(*hyperbolic(), hcd);
+  TestProtocol hoc = shear(100, Drainage::drained, 0.15, 400, 0.9, 400.0);
+  hoc.name = "hyperbolic CD OCR 4, 400 records";
+  check_against_tight(*hyperbolic(), hoc);
+}
+
 TEST_CASE("Modified Cam-Clay undrained shear at OCR 1 and 2 at the default tolerance is within 0.1 % of each curve's range of the closed form, at OCR 6 of a 1000x tighter run") {
   // At OCR 6 the converged model and closed_form.hpp differ by 0.25 % of the p' range just after
   // yield (with or without error control), so the closed form is no 0.1 % reference there.
