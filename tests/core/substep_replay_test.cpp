@@ -1,7 +1,8 @@
 // The calibration's Jacobian is finite differences on a frozen substep sequence: the driver records
 // the accepted substeps of the run at the parameters and replays exactly those substeps with each
 // perturbed parameter (SubstepPlan). Checked here for every model at elastic, hardening, failure
-// and cap (volumetric hardening) states: the replayed central differences against central
+// and cap (volumetric hardening) states (the sand model also at its dense peak and undrained
+// through phase transformation): the replayed central differences against central
 // differences of a fine fixed-step run (4000 increments a stage, the same step), which is smooth in
 // the parameters; and a replay at the same parameters reproduces the recorded run bit for bit.
 // These are finite differences on a frozen sequence, not exact derivatives (common practice, no
@@ -118,6 +119,7 @@ void compare(const Case& c) {
     for (std::size_t i = 0; i < a.size(); ++i)
       worst = std::max(worst, std::abs((a[i] - b[i]) - (fa[i] - fb[i])) / (2.0 * h));
     INFO("largest sensitivity " << scale << ", largest difference " << worst);
+    CHECK(scale > 0.0);  // the parameter moves the curves
     // The two discretisations differ by the driver's accuracy (0.1 % of a curve's range at the
     // default tolerance; the fine fixed-step run by about as much): their sensitivities agree
     // within 2 % of the column's largest entry.
@@ -164,6 +166,37 @@ TEST_CASE("replayed substeps give the Jacobian of a fine fixed-step run: hyperbo
   // Oedometer loading: the cap (volumetric hardening).
   compare({"oedometer cap", "hyperbolic_hardening", hh, oedometer(50.0, 400.0, 20, 0.6),
            {"oedometer_stiffness_ref", "stress_exponent"}});
+}
+
+TEST_CASE("replayed substeps give the Jacobian of a fine fixed-step run: sand model elastic, hardening, dense peak, undrained",
+          "[driver][replay][jacobian]") {
+  // Toyoura sand, Dafalias & Manzari (2004) Table 1 values as the model test uses them (from memory
+  // of the paper's table, tests/models/sand_state_bounding_test.cpp).
+  const Values sand{{"critical_state_ratio", 1.25}, {"extension_ratio", 0.712}, {"csl_void_ratio_ref", 0.934},
+                    {"csl_lambda", 0.019}, {"csl_exponent", 0.7}, {"shear_modulus_constant", 125.0},
+                    {"poissons_ratio", 0.05}, {"yield_cone_size", 0.01}, {"hardening_constant", 7.05},
+                    {"hardening_density_factor", 0.968}, {"bounding_exponent", 1.1}, {"dilatancy_constant", 0.704},
+                    {"dilatancy_exponent", 3.5}, {"fabric_max", 4.0}, {"fabric_rate", 600.0}};
+  // Elastic: 0.002 % axial strain inside the yield cone.
+  compare({"sand elastic", "sand_state_bounding", sand, shear(100.0, Drainage::drained, 0.00002, 10, 1.0, 0.83),
+           {"shear_modulus_constant", "poissons_ratio"}});
+  // Dense drained to 10 %: hardening, the peak and softening with dilation.
+  compare({"sand dense drained peak", "sand_state_bounding", sand, shear(100.0, Drainage::drained, 0.1, 30, 1.0, 0.83),
+           {"critical_state_ratio", "csl_void_ratio_ref", "shear_modulus_constant", "hardening_constant",
+            "bounding_exponent", "dilatancy_constant", "dilatancy_exponent"}});
+  // Dense undrained to 5 %: contraction, phase transformation, dilation.
+  compare({"sand dense undrained", "sand_state_bounding", sand, shear(100.0, Drainage::undrained, 0.05, 30, 1.0, 0.735),
+           {"critical_state_ratio", "csl_void_ratio_ref", "hardening_constant", "dilatancy_constant",
+            "dilatancy_exponent"}});
+}
+
+TEST_CASE("replayed substeps give the Jacobian of a fine fixed-step run: undrained Tresca elastic and failure",
+          "[driver][replay][jacobian]") {
+  const Values tresca{{"undrained_shear_strength", 60.0}, {"undrained_youngs_modulus", 20000.0}};
+  compare({"Tresca elastic", "undrained_tresca", tresca, shear(100.0, Drainage::undrained, 0.004, 10, 1.0, 0.8),
+           {"undrained_youngs_modulus"}});
+  compare({"Tresca failure", "undrained_tresca", tresca, shear(100.0, Drainage::undrained, 0.05, 30, 1.0, 0.8),
+           {"undrained_shear_strength", "undrained_youngs_modulus"}});
 }
 
 TEST_CASE("a substep plan that does not fit the protocol fails the run with a message", "[driver][replay]") {
