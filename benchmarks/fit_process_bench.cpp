@@ -1,8 +1,9 @@
 // One calibration a process, for whole-process timings (start-up, problem set-up, the fit,
 // intervals): fit_process_bench <mohr_coulomb|cam_clay|hyperbolic|sand> <new|old> [threads]
 //   new: the default (least-squares multi-start, intervals); old: CRS2 4000 + BOBYQA, the demo's
-//   former default. Prints evaluations (objective + Jacobian simulations), objective, local runs,
-//   runs at the best objective and the in-process wall time. Time it from outside, interleaved
+//   former default. Prints evaluations (objective + Jacobian simulations), objective, failed
+//   simulations (those at the search's work limit), local runs (those whose start failed), runs at
+//   the best objective and the in-process wall time. Time it from outside, interleaved
 //   (benchmarks/time_fits.sh). The problems are synthetic (bench_problems.hpp, invented values).
 #include <cstdio>
 #include <cstdlib>
@@ -38,8 +39,10 @@ int main(int argc, char** argv) {
     o.local = LocalAlgorithm::bobyqa;
   }
   const CalibrationSummary s = calibrate(o, problem);
-  std::printf("%s %s: %s, objective %.9g, evaluations %ld + %ld Jacobian, local runs %d, at best %d, %.4f s\n",
+  std::printf("%s %s: %s, objective %.9g, evaluations %ld + %ld Jacobian, failed simulations %ld (%ld at the work "
+              "limit), local runs %d (%d failed at the start), at best %d, %.4f s\n",
               which.c_str(), mode.c_str(), to_string(s.outcome).c_str(), s.objective, s.evaluations,
-              s.jacobian_evaluations, s.local_runs, s.starts_at_best, s.wall_time);
+              s.jacobian_evaluations, s.failed_simulations, s.work_limited_simulations, s.local_runs, s.failed_starts,
+              s.starts_at_best, s.wall_time);
   return 0;
 }

@@ -154,6 +154,14 @@ struct CalibrationOptions {
   double failure_penalty = 10.0;       ///< per failed test, times its weights
   bool uncertainty = true;             ///< Jacobian, covariance and intervals at the optimum
   double jacobian_step = 1e-4;         ///< difference step of the Jacobian, fraction of each box width
+  /// Work limit of the search: a simulation of an evaluation that takes more accepted + rejected
+  /// substeps than this many a record (at least 5000 in all; scaled by sqrt(1e-4 / tolerance) for a
+  /// driver tolerance tighter than the default, never above DriverOptions::max_substeps) fails like
+  /// any other failed simulation (penalised, counted in work_limited_simulations). Runaway responses
+  /// far from the data take thousands of substeps a record where a usable one takes a few dozen
+  /// (docs/calibration-format.md "Work limit"). The fitted set's own simulation has no such limit.
+  /// 0 = none (the driver's max_substeps only).
+  int max_substeps_per_record = 200;
   /// Starts whose objective is within this relative distance of the best (or 1e-12 absolute: data
   /// reproduced) count as reaching it (CalibrationSummary::starts_at_best).
   double same_optimum_tolerance = 1e-6;
@@ -245,6 +253,10 @@ struct CalibrationSummary {
   double start_objective = std::numeric_limits<double>::infinity();
   long evaluations = 0;
   long failed_simulations = 0;     ///< test simulations that failed (or models that could not be built)
+  /// Of those, simulations ended by the search's work limit (CalibrationOptions::max_substeps_per_record).
+  long work_limited_simulations = 0;
+  /// Local runs whose start could not be simulated (their first evaluation failed): they end there.
+  int failed_starts = 0;
   long design_evaluations = 0, global_evaluations = 0, local_evaluations = 0, jacobian_evaluations = 0;
   int local_runs = 0;
   /// Local runs that ended within same_optimum_tolerance of the best objective: all of them (or

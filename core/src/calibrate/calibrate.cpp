@@ -92,6 +92,8 @@ void CalibrationOptions::validate() const {
   if (!(loss_scale > 0.0 && std::isfinite(loss_scale))) fail("loss_scale", loss_scale, "must be positive");
   if (!(failure_penalty > 0.0 && std::isfinite(failure_penalty))) fail("failure_penalty", failure_penalty, "must be positive");
   if (!(jacobian_step > 0.0 && jacobian_step <= 0.1)) fail("jacobian_step", jacobian_step, "must be in (0, 0.1]");
+  if (max_substeps_per_record < 0 || max_substeps_per_record > 1000000)
+    fail("max_substeps_per_record", max_substeps_per_record, "must be in [0, 1000000] (0 = no work limit)");
   if (!(same_optimum_tolerance >= 0.0 && same_optimum_tolerance < 1.0))
     fail("same_optimum_tolerance", same_optimum_tolerance, "must be in [0, 1)");
   if (!(correlation_warning > 0.0 && correlation_warning <= 1.0))
@@ -144,6 +146,8 @@ using NloptHandle = std::unique_ptr<nlopt_opt_s, decltype(&nlopt_destroy)>;
 struct Lane {
   detail::Evaluator evaluator;
   long evaluations = 0, failed = 0, design = 0, global = 0, local = 0, jacobian = 0;
+  long work_limited = 0;  // failed simulations ended by the work limit
+  int failed_starts = 0;  // least-squares runs whose start could not be simulated
   bool record_plans = false;    // evaluations keep their substeps (the least-squares Jacobian replays them)
   bool last_penalised = false;  // the latest evaluation holds a failure or constraint penalty
   // The least-squares stage's latest Jacobian and where it was taken.
@@ -218,6 +222,7 @@ struct Run {
       const bool built = lane.evaluator.simulate(values, lane.record_plans ? detail::PlanMode::record : detail::PlanMode::none);
       f = lane.evaluator.objective(built);
       lane.failed += built ? lane.evaluator.failed_tests() : static_cast<long>(prepared.tests.size());
+      if (built) lane.work_limited += lane.evaluator.work_limited_tests();
       penalised = !built || !std::isfinite(f);
       for (std::size_t t = 0; t < prepared.tests.size() && !penalised; ++t)
         penalised = !lane.evaluator.outcome(static_cast<int>(t)).ok && prepared.tests[t].total_weight > 0.0;
@@ -273,6 +278,8 @@ struct Run {
     summary.global_evaluations += lane.global;
     summary.local_evaluations += lane.local;
     summary.jacobian_evaluations += lane.jacobian;
+    summary.work_limited_simulations += lane.work_limited;
+    summary.failed_starts += lane.failed_starts;
     for (HistoryEntry h : lane.history) {
       h.evaluation = static_cast<long>(summary.history.size()) + 1;
       h.best = summary.history.empty() ? h.objective : std::min(summary.history.back().best, h.objective);
@@ -283,7 +290,8 @@ struct Run {
       best_unit = lane.best_unit;
       best_penalised = lane.best_penalised;
     }
-    lane.evaluations = lane.failed = lane.design = lane.global = lane.local = lane.jacobian = 0;
+    lane.evaluations = lane.failed = lane.design = lane.global = lane.local = lane.jacobian = lane.work_limited = 0;
+    lane.failed_starts = 0;
     lane.history.clear();
     lane.best = std::numeric_limits<double>::infinity();
     lane.best_unit.clear();
@@ -378,6 +386,8 @@ detail::LocalResult solve_least_squares(Run& run, Lane& lane, std::vector<double
   calls.stop = [&] { return run.halted() || lane.local - used_before >= o.local_evaluations; };
   const detail::LocalResult r = detail::least_squares(run.prepared, o, x, calls);
   lane.record_plans = false;
+  // Ceres ends a run whose first point cannot be evaluated at once (no Jacobian is taken there).
+  if (lane.local - used_before == 1 && lane.last_penalised) ++lane.failed_starts;
   return r;
 }
 
@@ -412,6 +422,7 @@ std::string options_text(const CalibrationOptions& o) {
     << "\nseed = " << o.seed << "\nthreads = " << o.threads << "\nloss = " << to_string(o.loss)
     << "\nloss_scale = " << format_number(o.loss_scale) << "\nfailure_penalty = " << format_number(o.failure_penalty)
     << "\nuncertainty = " << (o.uncertainty ? "true" : "false") << "\njacobian_step = " << format_number(o.jacobian_step)
+    << "\nmax_substeps_per_record = " << o.max_substeps_per_record
     << "\nsame_optimum_tolerance = " << format_number(o.same_optimum_tolerance)
     << "\ncorrelation_warning = " << format_number(o.correlation_warning)
     << "\nmin_r_squared = " << format_number(o.min_r_squared) << "\nstress_precision = " << format_number(o.stress_precision)
@@ -786,6 +797,9 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
     fp.upper = prepared.upper[k];
     fp.at_bound = run.best_unit[k] < 1e-6 || run.best_unit[k] > 1.0 - 1e-6;
   }
+  // The fitted set's own simulation runs without the search's work limit: its messages are the
+  // driver's own.
+  run.main.evaluator.limit_work(false);
   const bool built = run.main.evaluator.simulate(best_values, detail::PlanMode::record);
   std::vector<double> shares;
   run.main.evaluator.objective(built, &shares);
@@ -855,6 +869,7 @@ double calibration_objective(const CalibrationOptions& options, const Calibratio
                              const ParameterValues& values) {
   const detail::Prepared prepared = detail::prepare(problem);
   detail::Evaluator ev(prepared, options, resolve_threads(options.threads, prepared.tests.size()));
+  ev.limit_work(false);
   const bool built = ev.simulate(values);
   return built ? ev.objective(true) : std::numeric_limits<double>::infinity();
 }

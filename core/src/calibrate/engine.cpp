@@ -604,9 +604,23 @@ void place_records(TestProtocol& protocol, const std::vector<PreparedCurve>& cur
 
 Evaluator::Evaluator(const Prepared& prepared, const CalibrationOptions& options, int threads)
     : prepared_(prepared), options_(options), pool_(threads), outcomes_(prepared.tests.size()),
-      plans_(prepared.tests.size()) {
+      plans_(prepared.tests.size()), limited_(prepared.tests.size(), prepared.problem->driver) {
   for (std::size_t t = 0; t < prepared.tests.size(); ++t)
     outcomes_[t].simulated.assign(static_cast<std::size_t>(prepared.tests[t].points), 0.0);
+  if (options.max_substeps_per_record > 0) {
+    // Substeps ~ tolerance^-1/2 under the driver's step doubling (the first-order error estimate
+    // ~ h^2 sets the step), so a tighter tolerance widens the limit by that factor.
+    const DriverOptions& d = prepared.problem->driver;
+    const double widen = std::max(1.0, std::sqrt(1e-4 / d.tolerance));
+    for (std::size_t t = 0; t < prepared.tests.size(); ++t) {
+      double records = 1.0;
+      for (const Stage& st : prepared.tests[t].protocol.stages)
+        records += static_cast<double>(st.record_at.empty() ? st.steps : static_cast<int>(st.record_at.size())) *
+                   (st.type == StageType::unload_reload ? 2.0 : 1.0);
+      const double limit = std::max(kWorkLimitFloor, options.max_substeps_per_record * records) * widen;
+      limited_[t].max_substeps = std::min(d.max_substeps, static_cast<long>(std::min(limit, 1e15)));
+    }
+  }
   task_ = [this](int t) { run_test(t); };
 }
 
@@ -614,14 +628,18 @@ void Evaluator::run_test(int t) {
   const PreparedTest& pt = prepared_.tests[static_cast<std::size_t>(t)];
   TestOutcome& o = outcomes_[static_cast<std::size_t>(t)];
   o.ok = false;
+  o.work_limited = false;
   try {
     // Into the test's own result: its vectors keep their capacity from one evaluation to the next.
     // The driver options and the protocol were checked when the problem was prepared.
     SimulationResult& r = o.result;
     const auto i = static_cast<std::size_t>(t);
-    triaxcal::simulate(prepared_.problem->driver, *model_, pt.protocol, r, true,
-                       mode_ == PlanMode::record ? &plans_[i] : nullptr,
+    // A replay takes exactly its plan's substeps: it needs no work limit.
+    const DriverOptions& driver = limit_work_ && mode_ != PlanMode::replay ? limited_[i] : prepared_.problem->driver;
+    triaxcal::simulate(driver, *model_, pt.protocol, r, true, mode_ == PlanMode::record ? &plans_[i] : nullptr,
                        mode_ == PlanMode::replay ? &(*replay_)[i] : nullptr);
+    o.work_limited = !r.ok() && driver.max_substeps < prepared_.problem->driver.max_substeps &&
+                     r.substeps + r.rejected_substeps >= driver.max_substeps;
     if (r.ok()) {
       double* out = o.simulated.data();
       for (const PreparedCurve& c : pt.curves) {
@@ -648,6 +666,7 @@ bool Evaluator::simulate(const ParameterValues& values, PlanMode mode, const std
   } catch (const std::exception& e) {
     for (TestOutcome& o : outcomes_) {
       o.ok = false;
+      o.work_limited = false;
       o.result.clear();
       o.result.termination = Termination::failed;
       o.result.message.append("the model rejected the parameters: ").append(e.what());
@@ -663,6 +682,12 @@ bool Evaluator::simulate(const ParameterValues& values, PlanMode mode, const std
 int Evaluator::failed_tests() const {
   int n = 0;
   for (const TestOutcome& o : outcomes_) n += o.ok ? 0 : 1;
+  return n;
+}
+
+int Evaluator::work_limited_tests() const {
+  int n = 0;
+  for (const TestOutcome& o : outcomes_) n += o.work_limited ? 1 : 0;
   return n;
 }
 

@@ -65,6 +65,11 @@ struct PreparedTest {
   double total_weight = 0.0;  ///< w_test * sum of curve weights (penalty scale)
 };
 
+/// The search's work limit in all (substeps of one simulation) is at least this many, so that a
+/// protocol with few records keeps room for its consolidation stages (CalibrationOptions::
+/// max_substeps_per_record; about 0.1 s of a sand model simulation on this machine).
+inline constexpr double kWorkLimitFloor = 5000.0;
+
 /// How an evaluation treats the driver's substeps (SubstepPlan): as usual, recording them, or
 /// replaying recorded ones.
 enum class PlanMode { none, record, replay };
@@ -72,6 +77,7 @@ enum class PlanMode { none, record, replay };
 /// Outcome of simulating one test at one parameter set.
 struct TestOutcome {
   bool ok = false;
+  bool work_limited = false;      ///< failed at the search's work limit (CalibrationOptions::max_substeps_per_record)
   std::vector<double> simulated;  ///< at the compared points, curves in order
   SimulationResult result;        ///< of the last simulate(); reused, so its vectors keep their capacity
 };
@@ -118,6 +124,11 @@ class Evaluator {
   double objective(bool model_built, std::vector<double>* per_test = nullptr) const;
   const TestOutcome& outcome(int t) const { return outcomes_[static_cast<std::size_t>(t)]; }
   int failed_tests() const;
+  /// Of those, the ones ended by the search's work limit.
+  int work_limited_tests() const;
+  /// false: the simulations run with the problem's driver options alone (the fitted set's own
+  /// simulation); true (the default): with the search's work limit as well.
+  void limit_work(bool on) { limit_work_ = on; }
   int threads() const { return pool_.threads(); }
   /// Runs n independent tasks on this evaluator's threads (none of them may use this evaluator).
   void run_tasks(int n, const std::function<void(int)>& task) { pool_.run(n, task); }
@@ -130,6 +141,8 @@ class Evaluator {
   TaskPool pool_;
   std::vector<TestOutcome> outcomes_;
   std::vector<SubstepPlan> plans_;
+  std::vector<DriverOptions> limited_;  ///< per test: the problem's driver options with the work limit
+  bool limit_work_ = true;
   PlanMode mode_ = PlanMode::none;
   const std::vector<SubstepPlan>* replay_ = nullptr;
   const Model* model_ = nullptr;

@@ -78,6 +78,15 @@ std::string CalibrationSummary::outcome_line() const {
   return to_string(outcome) + (outcome_reason.empty() ? std::string() : ": " + outcome_reason);
 }
 
+namespace {
+// "; 2 of them could not simulate their start" (nothing when none failed).
+std::string starts_text(int failed) {
+  if (failed == 0) return std::string();
+  return "; " + std::to_string(failed) + (failed == 1 ? " of them could not simulate its start" : " of them could not simulate their start") +
+         " and ended there";
+}
+}  // namespace
+
 std::string CalibrationSummary::brief() const {
   std::ostringstream s;
   s << "calibration of " << model << ": " << to_string(outcome) << ", objective " << format_number(objective)
@@ -86,7 +95,7 @@ std::string CalibrationSummary::brief() const {
   if (!outcome_reason.empty()) s << "  " << outcome_reason << "\n";
   if (local_runs > 1)
     s << "  " << starts_at_best << " of " << local_runs << " local runs reached the best objective (within "
-      << "same_optimum_tolerance)\n";
+      << "same_optimum_tolerance)" << starts_text(failed_starts) << "\n";
   for (const FittedParameter& p : parameters)
     if (p.status != ParameterStatus::fixed) s << parameter_line(p) << "\n";
   double worst = 0.0;
@@ -113,9 +122,13 @@ std::string CalibrationSummary::full() const {
   s << "  objective: " << format_number(objective) << " (start " << format_number(start_objective) << ")\n";
   s << "  evaluations: " << evaluations << " (design " << design_evaluations << ", global " << global_evaluations
     << ", local " << local_evaluations << " in " << local_runs << (local_runs == 1 ? " run" : " runs") << "), "
-    << jacobian_evaluations << " for the Jacobian; " << failed_simulations << " failed test simulations\n";
+    << jacobian_evaluations << " for the Jacobian; " << failed_simulations << " failed test simulations";
+  if (work_limited_simulations > 0)
+    s << " (" << work_limited_simulations << " ended by the work limit, max_substeps_per_record)";
+  s << "\n";
   if (local_runs > 1)
-    s << "  local runs reaching the best objective: " << starts_at_best << " of " << local_runs << "\n";
+    s << "  local runs reaching the best objective: " << starts_at_best << " of " << local_runs << starts_text(failed_starts)
+      << "\n";
   s << "  wall time: " << fmt("%.3f", wall_time) << " s on " << threads << " threads ("
     << fmt("%.0f", wall_time > 0.0 ? static_cast<double>(evaluations + jacobian_evaluations) / wall_time : 0.0)
     << " evaluations/s)\n";
