@@ -10,6 +10,8 @@
 
 #include <sys/wait.h>
 
+#include <algorithm>
+#include <cmath>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
@@ -177,9 +179,9 @@ TEST_CASE("batch gmsh runs the client through initialize, check and compute, and
   // The graph views file was written and merged.
   CHECK(r.log.find("two_layers.triaxcal-views.pos") != std::string::npos);
   const std::string pos = slurp((dir / "gmsh" / "two_layers.triaxcal-views.pos").string());
-  CHECK(pos.find("View \"triaxcal: upper_sand CD-50: q [kPa]\"") != std::string::npos);
-  CHECK(pos.find("View \"triaxcal: upper_sand CD-50: q [kPa] model\"") != std::string::npos);
-  CHECK(pos.find("View \"triaxcal: lower_clay check test (undrained, p' = 80 kPa): q [kPa]\"") != std::string::npos);
+  CHECK(pos.find("View \"CD-50: q [kPa]\"") != std::string::npos);
+  CHECK(pos.find("View \"CD-50: q [kPa] model\"") != std::string::npos);
+  CHECK(pos.find("View \"check test: q [kPa]\"") != std::string::npos);
 }
 
 TEST_CASE("the project file keeps each soil unit's settings and parameter set keyed by physical group name, and the "
@@ -397,23 +399,102 @@ TEST_CASE("merging the views file again replaces the triaxcal views instead of a
   INFO(r.log);
   REQUIRE(r.exit_code == 0);
   const std::string pos = slurp((dir / "gmsh" / "two_layers.triaxcal-views.pos").string());
-  const std::size_t views = count(pos, "\nView \"triaxcal: ");
   // Graphs: the sand's 3 tests x (q, volumetric strain) x (measured, model) and the clay's check
-  // test (q, excess pore pressure; model only); legend: 2 units, the 2 graph styles, the quantities.
-  CHECK(views == 12 + 2 + 5);
+  // test (q, excess pore pressure; model only); legend: 2 units, the graph styles, the x axis and
+  // the quantities on two lines.
+  CHECK(count(pos, "View[v].Attributes = \"triaxcal graph AlwaysVisible\";") == 14);
+  CHECK(count(pos, "View[v].Attributes = \"triaxcal legend AlwaysVisible\";") == 6);
   write(dir / "gmsh" / "count.geo",
         "View \"someone else's view\" { SP(0,0,0){1}; };\n"
         "Merge \"two_layers.triaxcal-views.pos\";\n"
+        "Printf(\"views once %g\", PostProcessing.NbViews);\n"
         "Merge \"two_layers.triaxcal-views.pos\";\n"
         "Merge \"two_layers.triaxcal-views.pos\";\n"
-        "Printf(\"views now %g\", PostProcessing.NbViews);\n");
+        "Printf(\"views thrice %g\", PostProcessing.NbViews);\n"
+        "kept = 0;\n"
+        "For i In {0:PostProcessing.NbViews-1}\n"
+        "  If(!StrCmp(View[i].Name, \"someone else's view\"))\n"
+        "    kept = 1;\n"
+        "  EndIf\n"
+        "EndFor\n"
+        "Printf(\"kept %g\", kept);\n");
   const GmshRun c = run_gmsh(dir, "count.geo -0");
   INFO(c.log);
-  CHECK(c.log.find("views now " + std::to_string(views + 1)) != std::string::npos);
+  const std::size_t once = c.log.find("views once "), thrice = c.log.find("views thrice ");
+  REQUIRE(once != std::string::npos);
+  REQUIRE(thrice != std::string::npos);
+  const int n_once = std::stoi(c.log.substr(once + 11)), n_thrice = std::stoi(c.log.substr(thrice + 13));
+  CHECK(n_once >= 1 + 14 + 6);  // and "graphs not shown" where they do not all fit
+  CHECK(n_thrice == n_once);
+  CHECK(c.log.find("kept 1") != std::string::npos);
 }
 
-TEST_CASE("the views colour each soil unit with a legend and put one graph a test and quantity beside the geometry; "
-          "Gmsh reads them back",
+namespace {
+
+/// One graph view as Gmsh reads it back from the views file.
+struct GraphBack {
+  std::string name;
+  bool axes = false, visible = false;
+  double x = 0, y = 0, w = 0, h = 0;    ///< box in window pixels (x negative: from the right border)
+  double min_x = 0, max_x = 0;          ///< the view's x range (what its axis spans)
+  double y_min = 0, y_max = 0;          ///< its custom y range
+};
+
+/// Merges the views file into a `-0` Gmsh with the given window size and reads back every graph
+/// view and the layout's margins (what the .pos computed from Gmsh's font sizes).
+struct ReadBack {
+  std::vector<GraphBack> graphs;
+  std::map<std::string, double> layout;
+  std::string log;
+};
+
+ReadBack read_back(const fs::path& dir, int width, int height, const std::string& tag) {
+  const std::string geo = "read_back_" + tag + ".geo";
+  write(dir / "gmsh" / geo,
+        "General.GraphicsWidth = " + std::to_string(width) + ";\nGeneral.GraphicsHeight = " + std::to_string(height) +
+            ";\nGeneral.MenuWidth = 300;\n"
+            "Merge \"two_layers.geo\";\n"
+            "Merge \"two_layers.triaxcal-views.pos\";\n"
+            "Printf(\"layout W %g H %g A0 %g Bw %g xlw %g hd %g T %g B %g two %g shown %g nr %g sx %g tx %g L0 %g L1 %g L %g h0 "
+            "%g h1 %g hall %g\", W, H, A0, Bw, xlw, hd, T, B, two, shown, nr, General.ScaleX, General.TranslationX, L0, L1, L, "
+            "h0, h1, hall);\n"
+            "For i In {0:PostProcessing.NbViews-1}\n"
+            "  If(!StrCmp(View[i].Attributes, \"triaxcal graph AlwaysVisible\"))\n"
+            "    Printf(\"graph %g %g %g %g %g %g %g %g %g %g\", View[i].Axes, View[i].Visible, View[i].PositionX, "
+            "View[i].PositionY, View[i].Width, View[i].Height, View[i].MinX, View[i].MaxX, View[i].CustomMin, "
+            "View[i].CustomMax);\n"
+            "    Printf(View[i].Name);\n"
+            "  EndIf\n"
+            "EndFor\n");
+  const GmshRun b = run_gmsh(dir, geo + " -0");
+  ReadBack r;
+  r.log = b.log;
+  std::istringstream in(b.log);
+  std::string line;
+  while (std::getline(in, line)) {
+    if (line.rfind("layout ", 0) == 0) {
+      std::istringstream f(line.substr(7));
+      std::string key;
+      double v;
+      while (f >> key >> v) r.layout[key] = v;
+    } else if (line.rfind("graph ", 0) == 0) {
+      std::istringstream f(line.substr(6));
+      GraphBack g;
+      double axes, visible;
+      f >> axes >> visible >> g.x >> g.y >> g.w >> g.h >> g.min_x >> g.max_x >> g.y_min >> g.y_max;
+      g.axes = axes > 0;
+      g.visible = visible > 0;
+      std::getline(in, g.name);
+      r.graphs.push_back(g);
+    }
+  }
+  return r;
+}
+
+}  // namespace
+
+TEST_CASE("the views colour each soil unit with a legend and put one graph a test and quantity beside the geometry, and "
+          "Gmsh reads them back: strain axes from 0, no two graphs overlap at two window sizes",
           "[plugin][gmsh][views]") {
   const fs::path dir = fresh_case("views_read_back");
   const GmshRun r = run_gmsh(dir, "two_layers.geo two_layers.txproj -");
@@ -426,34 +507,101 @@ TEST_CASE("the views colour each soil unit with a legend and put one graph a tes
   CHECK(pos.find(" { Surface{ Physical Surface{22} }; }") != std::string::npos);
   CHECK(pos.find("{\"upper_sand: calibration (mohr_coulomb): converged\"}") != std::string::npos);
   CHECK(pos.find("{\"lower_clay: parameter set (modified_cam_clay): ok\"}") != std::string::npos);
-  CHECK(pos.find("{\"graphs: measured = black points\"}") != std::string::npos);
-  // One graph a test and quantity: measured points (black) and the model's line (red) on one axis.
-  CHECK(pos.find("View \"triaxcal: upper_sand CD-200: e_v [%]\"") != std::string::npos);
-  CHECK(pos.find("View \"triaxcal: upper_sand CD-200: e_v [%] model\"") != std::string::npos);
-  CHECK(pos.find("View \"triaxcal: lower_clay check test (undrained, p' = 80 kPa): du [kPa]\"") != std::string::npos);
-  CHECK(count(pos, "View[v].AutoPosition = 12;") == 14);  // in model coordinates, beside the geometry
+  CHECK(pos.find("{\"graphs: measured = black points, model = red line\"}") != std::string::npos);
+  // One graph a test and quantity: measured points (black) and the model's line (red) on one axis;
+  // short titles, the unit's name (and the whole test name) above the row.
+  CHECK(pos.find("View \"CD-200: e_v [%]\"") != std::string::npos);
+  CHECK(pos.find("View \"CD-200: e_v [%] model\"") != std::string::npos);
+  CHECK(pos.find("View \"check test: du [kPa]\"") != std::string::npos);
+  CHECK(pos.find("{\"lower_clay: check test (undrained, p' = 80 kPa)\"}") != std::string::npos);
+  CHECK(count(pos, "{\"upper_sand\"}") == 6);
   CHECK(count(pos, "View[v].ColorTable = {Black};") == 6);
   CHECK(count(pos, "View[v].ColorTable = {Red};") == 8);
-  // Read back by Gmsh: the views are there, every graph lies right of the geometry, and the view
-  // is zoomed out so that both fit (scale below 1).
-  write(dir / "gmsh" / "read_back.geo",
+
+  for (const auto& [width, height] : {std::pair{1400, 900}, std::pair{1000, 700}}) {
+    const std::string tag = std::to_string(width) + "x" + std::to_string(height);
+    INFO("window " << tag);
+    const ReadBack b = read_back(dir, width, height, tag);
+    INFO(b.log);
+    REQUIRE(b.graphs.size() == 14);
+    REQUIRE(b.layout.count("Bw") == 1);
+    const double W = b.layout.at("W"), H = b.layout.at("H");
+    CHECK(W == width - 300);
+    // Graphs in window pixels from the right border, the model's view moved left of them (first merge).
+    CHECK(b.layout.at("tx") < 0.0);
+    int visible_axes = 0;
+    for (const GraphBack& g : b.graphs) {
+      INFO(g.name);
+      // Every strain axis starts at 0 and the measured points and the model's line of a graph share it.
+      CHECK(g.min_x == 0.0);
+      CHECK(g.max_x > 0.0);
+      CHECK(g.y_min <= 0.0);
+      CHECK(g.y_max > g.y_min);
+      for (const GraphBack& o : b.graphs)
+        if (o.name == g.name + " model") {
+          CHECK(o.min_x == g.min_x);
+          CHECK(o.max_x == g.max_x);
+          CHECK(o.x == g.x);
+          CHECK(o.y == g.y);
+        }
+      CHECK(g.x < 0.0);
+      CHECK(W + g.x >= 0.0);  // inside the window
+      if (g.visible) CHECK(g.y + g.h <= H);
+      visible_axes += g.axes && g.visible;
+    }
+    CHECK(visible_axes >= 2);
+    // No two visible graphs overlap, each with everything Gmsh and the .pos write around its box:
+    // the unit's line and the title above, the tick labels below, the y tick labels left of the
+    // axis, the x label right of the box; and no two titles (centred over the left axis, half their
+    // width each side) in one row meet.
+    const bool two = b.layout.at("two") > 0;
+    double x_first = 0.0;
+    for (const GraphBack& g : b.graphs) x_first = std::min(x_first, g.x);
+    auto column = [&](const GraphBack& g) { return g.x == x_first ? 0 : 1; };
+    auto ticks_left = [&](const GraphBack& g) { return !two ? b.layout.at("L") : b.layout.at(column(g) ? "L1" : "L0"); };
+    auto half_title = [&](const GraphBack& g) { return !two ? b.layout.at("hall") : b.layout.at(column(g) ? "h1" : "h0"); };
+    const double right = b.layout.at("xlw"), above = b.layout.at("hd") + b.layout.at("T"), below = b.layout.at("B");
+    for (std::size_t i = 0; i < b.graphs.size(); ++i)
+      for (std::size_t j = i + 1; j < b.graphs.size(); ++j) {
+        const GraphBack &p = b.graphs[i], &q = b.graphs[j];
+        if (!p.axes || !q.axes || !p.visible || !q.visible) continue;
+        INFO(p.name << " and " << q.name);
+        const bool apart_x = p.x + p.w + right <= q.x - ticks_left(q) || q.x + q.w + right <= p.x - ticks_left(p);
+        const bool apart_y = p.y + p.h + below <= q.y - above || q.y + q.h + below <= p.y - above;
+        CHECK((apart_x || apart_y));
+        if (p.y == q.y) CHECK(std::abs(p.x - q.x) >= half_title(p) + half_title(q));
+      }
+    // The leftmost title stays in the window.
+    for (const GraphBack& g : b.graphs)
+      if (g.axes && g.visible) CHECK(W + g.x - half_title(g) >= 0.0);
+  }
+}
+
+TEST_CASE("a second compute keeps the user's zoom, pan and rotation, the first one moves the model beside the graphs",
+          "[plugin][gmsh][views]") {
+  const fs::path dir = fresh_case("views_keep_zoom");
+  const GmshRun r = run_gmsh(dir, "two_layers.geo two_layers.txproj -");
+  INFO(r.log);
+  REQUIRE(r.exit_code == 0);
+  write(dir / "gmsh" / "zoom.geo",
+        "General.GraphicsWidth = 1400;\nGeneral.GraphicsHeight = 900;\nGeneral.MenuWidth = 300;\n"
         "Merge \"two_layers.geo\";\n"
         "Merge \"two_layers.triaxcal-views.pos\";\n"
-        "right = 1;\n"
-        "graphs = 0;\n"
-        "For i In {0:PostProcessing.NbViews-1}\n"
-        "  If(View[i].AutoPosition == 12)\n"
-        "    graphs += 1;\n"
-        "    If(View[i].PositionX <= 40)\n"
-        "      right = 0;\n"
-        "    EndIf\n"
-        "  EndIf\n"
-        "EndFor\n"
-        "Printf(\"read back: views %g graphs %g right %g scale %g\", PostProcessing.NbViews, graphs, right, General.ScaleX);\n");
-  const GmshRun b = run_gmsh(dir, "read_back.geo -0");
-  INFO(b.log);
-  const std::size_t at = b.log.find("read back: views 19 graphs 14 right 1 scale 0.");
-  CHECK(at != std::string::npos);
+        "Printf(\"first %g %g %g\", General.ScaleX, General.TranslationX, General.TranslationY);\n"
+        // The user zooms, pans and turns the model, then computes again (the client merges the file).
+        "General.ScaleX = 2.5; General.ScaleY = 2.5; General.ScaleZ = 2.5;\n"
+        "General.TranslationX = 3; General.TranslationY = -1.5; General.RotationZ = 30;\n"
+        "Merge \"two_layers.triaxcal-views.pos\";\n"
+        "Printf(\"second %g %g %g %g %g %g\", General.ScaleX, General.ScaleY, General.ScaleZ, General.TranslationX, "
+        "General.TranslationY, General.RotationZ);\n"
+        // A check merges the legend alone: it keeps the view too.
+        "Merge \"two_layers.triaxcal-legend.pos\";\n"
+        "Printf(\"check %g %g\", General.ScaleX, General.TranslationX);\n");
+  const GmshRun z = run_gmsh(dir, "zoom.geo -0");
+  INFO(z.log);
+  CHECK(z.log.find("first 1 0 0") == std::string::npos);  // the first merge placed the model
+  CHECK(z.log.find("second 2.5 2.5 2.5 3 -1.5 30") != std::string::npos);
+  CHECK(z.log.find("check 2.5 3") != std::string::npos);
 }
 
 TEST_CASE("an empty project file starts a new project: every physical surface gets a soil unit without a source",
