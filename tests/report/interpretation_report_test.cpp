@@ -11,6 +11,7 @@
 #include <regex>
 #include <sstream>
 
+#include "../interpret/synthetic_specimen.hpp"
 #include "chromium.hpp"
 #include "svg_reader.hpp"
 #include "triaxcal/interpret.hpp"
@@ -102,17 +103,17 @@ std::vector<std::pair<double, double>> polyline(const Element& g) {
   return pts;
 }
 
-std::string write(const std::string& tag, const Interpretation& in) {
+std::string write(const std::string& tag, const Interpretation& in, const TestSeries& series) {
   const std::string html = "interpretation_" + tag + ".html";
-  std::ofstream(html) << report::render_interpretation_report(in, demo());
+  std::ofstream(html) << report::render_interpretation_report(in, series);
   return html;
 }
 
-void check_in_browser(const Interpretation& in, const std::string& tag, bool screenshot) {
+void check_in_browser(const Interpretation& in, const std::string& tag, bool screenshot, const TestSeries& series = demo()) {
   const std::string browser = find_chromium();
   INFO(kChromiumMissing);
   REQUIRE_FALSE(browser.empty());
-  const std::string html = write(tag, in);
+  const std::string html = write(tag, in, series);
   const std::string png = screenshot ? "report_interpretation_" + tag + ".png" : std::string();
   const BrowserRun run = run_chromium(browser, html, "interp_" + tag, png, 6000);
   INFO("chromium log:\n" << run.log);
@@ -123,8 +124,8 @@ void check_in_browser(const Interpretation& in, const std::string& tag, bool scr
   const Element* check = dom->by_id("render-check");
   REQUIRE(check != nullptr);
   CHECK(check->get("data-status") == "ok");
-  const auto plots = report::interpretation_plot_ids(in, demo());
-  const auto tables = report::interpretation_table_ids(in, demo());
+  const auto plots = report::interpretation_plot_ids(in, series);
+  const auto tables = report::interpretation_table_ids(in, series);
   CHECK(check->get("data-plots") == std::to_string(plots.size()));
   CHECK(check->get("data-tables") == std::to_string(tables.size()));
   for (const std::string& id : plots) {
@@ -413,4 +414,229 @@ TEST_CASE("failure-value stages are drawn in the s'-t and Mohr plots as points w
     CHECK(pixel_error(cy, 0.0, y0) < 1.0);
     CHECK(arcs[i]->get("data-name").rfind(reported[i]->specimen, 0) == 0);
   }
+}
+
+// Sand state (issue 17): the section of the power-law critical-state line, the state parameter, the
+// trends against it and the CU phase transformation and instability. Data: the invented Gannet Reach
+// series (examples/gannet_reach) and invented specimens whose expected values are hand calculations.
+namespace {
+
+const TestSeries& gannet() {
+  static const TestSeries series = read_test_series(source_path("examples/gannet_reach/gannet_reach_series.json"));
+  return series;
+}
+
+Interpretation gannet_interpretation() { return interpret(gannet(), InterpretOptions{}); }
+
+std::vector<std::pair<double, double>> markers(const Element& g) {
+  std::vector<std::pair<double, double>> pts;
+  for (const Element* u : g.by_name("use")) pts.emplace_back(std::stod(u->get("x")), std::stod(u->get("y")));
+  return pts;
+}
+
+const Element* row_with(const Element& table, const std::string& attribute, const std::string& value) {
+  for (const Element* tr : table.by_name("tr"))
+    if (tr->get(attribute) == value) return tr;
+  return nullptr;
+}
+
+std::string cells(const Element& tr) {
+  std::string out;
+  for (const Element* td : tr.by_name("td")) out += td->text + "|";
+  return out;
+}
+
+// Hand values (the specimens of tests/interpret/sand_state_test.cpp): CD compression specimens whose
+// steady end states lie on e_c = 0.90 - 0.03 (p'/p_at)^0.7 and whose start states have psi_0 = -0.10,
+// -0.05, -0.02, with phi'_peak = 33 - 40 psi_0 (37, 35, 33.8 deg), M = 1.2.
+constexpr double kPat = 101.325, kEg = 0.90, kLc = 0.03, kXi = 0.7, kM = 1.2;
+double csl(double p) { return kEg - kLc * std::pow(p / kPat, kXi); }
+
+Specimen hand_cd(const std::string& id, double s3, double e0, double phi_pk) {
+  const double sn = std::sin(phi_pk * M_PI / 180.0), r = (1.0 + sn) / (1.0 - sn);
+  const double qpk = s3 * (r - 1.0), pend = s3 / (1.0 - kM / 3.0), qend = kM * pend, eend = csl(pend);
+  std::vector<double> ea, q, ev, e;
+  for (int i = 0; i <= 40; ++i) {
+    const double x = 0.005 * i;
+    ea.push_back(x);
+    q.push_back(x <= 0.04 ? qpk * x / 0.04 : x <= 0.12 ? qpk + (qend - qpk) * (x - 0.04) / 0.08 : qend);
+    ev.push_back(x <= 0.02 ? 0.5 * x : x <= 0.12 ? 0.01 - 0.2 * (x - 0.02) : 0.01 - 0.02);
+    e.push_back(x <= 0.12 ? e0 + (eend - e0) * x / 0.12 : eend);
+  }
+  return make_specimen(id, ShearType::cd, s3, ea, q, ev, {}, e);
+}
+
+/// A dense CU specimen: p' falls from 100 to 70 kPa at 2 % axial strain, then rises to 190 kPa at 15 %;
+/// q = 2000 e_a to 2 %, then 40 + 900 (e_a - 0.02): phase transformation at 2 %, q/p' = 40/70.
+Specimen hand_cu(double e0) {
+  std::vector<double> ea, q, du, e;
+  for (int i = 0; i <= 75; ++i) {
+    const double x = 0.002 * i;
+    const double p = x <= 0.02 ? 100.0 - 1500.0 * x : 70.0 + 120.0 * (x - 0.02) / 0.13;
+    ea.push_back(x);
+    q.push_back(x <= 0.02 ? 2000.0 * x : 40.0 + 900.0 * (x - 0.02));
+    du.push_back(100.0 + q.back() / 3.0 - p);
+    e.push_back(e0);
+  }
+  return make_specimen("CU-dense", ShearType::cu, 100.0, ea, q, {}, du, e);
+}
+
+TestSeries hand_series() {
+  TestSeries series;
+  series.source = "invented_sand.json";
+  const double s3[] = {60.0, 120.0, 240.0}, psi[] = {-0.10, -0.05, -0.02};
+  for (int k = 0; k < 3; ++k) series.specimens.push_back(hand_cd("D" + std::to_string(k), s3[k], csl(s3[k]) + psi[k], 33.0 - 40.0 * psi[k]));
+  series.specimens.push_back(hand_cu(0.70));
+  return series;
+}
+
+}  // namespace
+
+TEST_CASE("the sand section renders in headless Chromium: critical-state line, state parameter, trends, CU paths",
+          "[report][interpret][browser][sand]") {
+  const Interpretation in = gannet_interpretation();
+  const auto plots = report::interpretation_plot_ids(in, gannet());
+  for (const char* id : {"plot-critical-state", "plot-sand-csl", "plot-sand-peak-angle", "plot-sand-dilation", "plot-sand-cu-paths"})
+    CHECK(std::find(plots.begin(), plots.end(), id) != plots.end());
+  const auto tables = report::interpretation_table_ids(in, gannet());
+  for (const char* id : {"table-sand-csl", "table-sand-state", "table-sand-cu"})
+    CHECK(std::find(tables.begin(), tables.end(), id) != tables.end());
+  check_in_browser(in, "gannet", true, gannet());
+}
+
+TEST_CASE("the sand plots read back within a pixel: critical states, the power-law line, phi'_peak against psi, "
+          "phase transformation and instability",
+          "[report][interpret][readback][sand]") {
+  const Interpretation in = gannet_interpretation();
+  REQUIRE(in.csl_power_reason.empty());
+  const auto dom = parse_xml(report::render_interpretation_report(in, gannet()));
+  {
+    const Element* svg = dom->by_id("plot-sand-csl");
+    REQUIRE(svg != nullptr);
+    const AxisMap mx = read_axis(*svg, "x"), my = read_axis(*svg, "y");
+    const Element* g = series_of_class(*svg, "csl-point");
+    REQUIRE(g != nullptr);
+    std::vector<std::pair<double, double>> expected;
+    for (const StageInterpretation& s : in.stages)
+      if (s.steady_state && s.direction == ShearDirection::compression) expected.emplace_back(s.end_p, s.end_void_ratio);
+    const auto pts = markers(*g);
+    REQUIRE(pts.size() == expected.size());
+    REQUIRE(pts.size() == static_cast<std::size_t>(in.csl_power.n));
+    for (std::size_t i = 0; i < pts.size(); ++i) {
+      CHECK(pixel_error(mx, expected[i].first, pts[i].first) < 1.0);
+      CHECK(pixel_error(my, expected[i].second, pts[i].second) < 1.0);
+    }
+    // The line's first vertex: the smallest p' of the end states, on e_c = e_Gamma - lambda_c (p'/p_at)^xi.
+    const Element* l = series_of_class(*svg, "csl-power");
+    REQUIRE(l != nullptr);
+    const auto v = polyline(*l);
+    REQUIRE(v.size() == 41);
+    const double p0 = 101.325 * std::pow(in.csl_power.x_min, 1.0 / in.csl_exponent);
+    CHECK(pixel_error(mx, p0, v[0].first) < 1.0);
+    CHECK(pixel_error(my, in.csl_power.intercept + in.csl_power.slope * in.csl_power.x_min, v[0].second) < 1.0);
+  }
+  {
+    const Element* svg = dom->by_id("plot-sand-peak-angle");
+    REQUIRE(svg != nullptr);
+    const AxisMap mx = read_axis(*svg, "x"), my = read_axis(*svg, "y");
+    const Element* g = series_of_class(*svg, "peak-angle");
+    REQUIRE(g != nullptr);
+    std::vector<std::pair<double, double>> expected;
+    for (const StageInterpretation& s : in.stages)
+      if (std::isfinite(s.state_parameter) && std::isfinite(s.peak_friction_angle)) expected.emplace_back(s.state_parameter, s.peak_friction_angle);
+    const auto pts = markers(*g);
+    REQUIRE(pts.size() == expected.size());
+    REQUIRE(pts.size() == 6);  // the six CD tests of Gannet Reach
+    for (std::size_t i = 0; i < pts.size(); ++i) {
+      CHECK(pixel_error(mx, expected[i].first, pts[i].first) < 1.0);
+      CHECK(pixel_error(my, expected[i].second, pts[i].second) < 1.0);
+    }
+    REQUIRE(in.peak_angle_vs_psi_reason.empty());
+    const Element* reg = series_of_class(*svg, "regression");
+    REQUIRE(reg != nullptr);
+    const auto r = polyline(*reg);
+    REQUIRE(r.size() == 2);
+    const LineFit& f = in.peak_angle_vs_psi;
+    CHECK(pixel_error(mx, f.x_max, r[1].first) < 1.0);
+    CHECK(pixel_error(my, f.intercept + f.slope * f.x_max, r[1].second) < 1.0);
+    CHECK(f.slope < 0.0);  // denser (psi more negative) is stronger
+  }
+  {
+    const Element* svg = dom->by_id("plot-sand-cu-paths");
+    REQUIRE(svg != nullptr);
+    const AxisMap mx = read_axis(*svg, "x"), my = read_axis(*svg, "y");
+    for (const char* cls : {"phase-transformation", "instability"}) {
+      INFO(cls);
+      const Element* g = series_of_class(*svg, cls);
+      REQUIRE(g != nullptr);
+      std::vector<const FailurePoint*> expected;
+      for (const StageInterpretation& s : in.stages)
+        if (std::string(cls) == "instability" ? std::isfinite(s.instability_ratio) : std::isfinite(s.phase_transformation_ratio))
+          expected.push_back(std::string(cls) == "instability" ? &s.instability : &s.phase_transformation);
+      const auto pts = markers(*g);
+      REQUIRE(pts.size() == expected.size());
+      for (std::size_t i = 0; i < pts.size(); ++i) {
+        CHECK(pixel_error(mx, expected[i]->p, pts[i].first) < 1.0);
+        CHECK(pixel_error(my, expected[i]->q, pts[i].second) < 1.0);
+      }
+    }
+    // Gannet Reach's dense CU tests pass phase transformation (generate_data.py, invented).
+    CHECK(markers(*series_of_class(*svg, "phase-transformation")).size() >= 3);
+  }
+}
+
+TEST_CASE("the sand tables give the hand values: e_Gamma, lambda_c, psi at the start of shear, the trend, the phase "
+          "transformation ratio",
+          "[report][interpret][sand]") {
+  const TestSeries series = hand_series();
+  const Interpretation in = interpret(series, InterpretOptions{});
+  const auto dom = parse_xml(report::render_interpretation_report(in, series));
+  const Element* csl_table = dom->by_id("table-sand-csl");
+  REQUIRE(csl_table != nullptr);
+  CHECK(cells(*row_with(*csl_table, "data-key", "e_gamma")).rfind("0.9000|-|3 steady end state(s), p", 0) == 0);
+  CHECK(cells(*row_with(*csl_table, "data-key", "lambda_c")).rfind("0.0300|-|", 0) == 0);
+  CHECK(cells(*row_with(*csl_table, "data-key", "xi")).rfind("0.70|-|fixed", 0) == 0);
+  // phi'_peak = 33 - 40 psi_0 exactly.
+  CHECK(cells(*row_with(*csl_table, "data-key", "peak_angle_trend")).rfind("a 33.000, b -40.000|deg|3 CD compression stage(s)", 0) == 0);
+  const Element* state = dom->by_id("table-sand-state");
+  REQUIRE(state != nullptr);
+  const double psi[] = {-0.10, -0.05, -0.02};
+  for (int k = 0; k < 3; ++k) {
+    const Element* tr = row_with(*state, "data-test", "D" + std::to_string(k));
+    REQUIRE(tr != nullptr);
+    CHECK(std::stod(tr->get("data-psi")) == Approx(psi[k]).margin(1e-6));
+    CHECK(cells(*tr).find("|yes|") != std::string::npos);  // steady from 12 % to 20 %
+  }
+  // The CU specimen ends at 15 % with p' still rising: not critical, with the reason; its psi_0 against the line.
+  const Element* cu = row_with(*state, "data-test", "CU-dense");
+  REQUIRE(cu != nullptr);
+  CHECK(std::stod(cu->get("data-psi")) == Approx(0.70 - csl(100.0)).margin(1e-6));
+  CHECK(cells(*cu).find("|no: q changes by ") != std::string::npos);
+  const Element* cu_table = dom->by_id("table-sand-cu");
+  REQUIRE(cu_table != nullptr);
+  const Element* pt = row_with(*cu_table, "data-test", "CU-dense");
+  REQUIRE(pt != nullptr);
+  CHECK(cells(*pt).find("|2.00|70.0|40.0|0.571|none: no peak of q") != std::string::npos);
+}
+
+TEST_CASE("the sand section says 'not determined' with the reason where one steady state cannot give a line",
+          "[report][interpret][sand]") {
+  TestSeries series;
+  series.source = "invented_sand.json";
+  series.specimens.push_back(hand_cd("D0", 100.0, 0.80, 36.0));
+  series.specimens.push_back(hand_cu(0.70));
+  const Interpretation in = interpret(series, InterpretOptions{});
+  const auto tables = report::interpretation_table_ids(in, series);
+  REQUIRE(std::find(tables.begin(), tables.end(), "table-sand-csl") != tables.end());  // the CU phase transformation
+  const auto dom = parse_xml(report::render_interpretation_report(in, series));
+  const Element* csl_table = dom->by_id("table-sand-csl");
+  REQUIRE(csl_table != nullptr);
+  CHECK(cells(*row_with(*csl_table, "data-key", "e_gamma")) ==
+        "&#8212;|-|not determined: 2 or more steady end states with a void ratio are needed, found 1|");
+  CHECK(cells(*row_with(*csl_table, "data-key", "psi_line")).find("|not determined: no critical-state line (") != std::string::npos);
+  const Element* d0 = row_with(*dom->by_id("table-sand-state"), "data-test", "D0");
+  REQUIRE(d0 != nullptr);
+  CHECK(cells(*d0).find("psi not determined: no critical-state line") != std::string::npos);
+  const auto plots = report::interpretation_plot_ids(in, series);
+  CHECK(std::find(plots.begin(), plots.end(), "plot-sand-peak-angle") == plots.end());
 }

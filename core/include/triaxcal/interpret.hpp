@@ -90,6 +90,9 @@ TRIAXCAL_CORE_EXPORT std::string to_string(DesignStressFlag flag);
 TRIAXCAL_CORE_EXPORT extern const char* const kDesignStressRule;
 TRIAXCAL_CORE_EXPORT extern const char* const kSecantAtDesignRule;
 TRIAXCAL_CORE_EXPORT extern const char* const kOriginRegressionRule;
+/// Which end states count as critical (StageInterpretation::steady_state), and the sand-state rules.
+TRIAXCAL_CORE_EXPORT extern const char* const kSteadyStateRule;
+TRIAXCAL_CORE_EXPORT extern const char* const kSandStateRule;
 
 /// Results of one shear stage.
 struct StageInterpretation {
@@ -131,7 +134,8 @@ struct StageInterpretation {
   double bolton_index = kNotGiven;          ///< Bolton's I_R where the relative density is given
   double bolton_phi_difference = kNotGiven; ///< 3 I_R (deg), Bolton (1986) triaxial
   double measured_phi_difference = kNotGiven;  ///< phi_peak - phi_cv (deg) from this test
-  bool steady_state = false;                ///< the end of the test is a steady (critical) state
+  bool steady_state = false;                ///< the end of the test is a steady (critical) state (kSteadyStateRule)
+  std::string steady_reason;                ///< why the end is not a steady state (empty when it is)
   double end_p = kNotGiven, end_q = kNotGiven, end_void_ratio = kNotGiven;
   double skempton_a = kNotGiven;            ///< A_f = du_f / dq_f (undrained)
   // Sand state (issue 17): the state at the start of shear and the state parameter psi = e - e_c(p')

@@ -33,6 +33,13 @@ const char* const kSecantAtDesignRule =
     "sigma'_d, tan phi'_sec = (c' + sigma'_d tan phi') / sigma'_d; it equals the envelope's strength at sigma'_d and "
     "over-predicts it below sigma'_d when c' > 0";
 
+const char* const kSteadyStateRule =
+    "a stage ends in a steady (critical) state when it reached 10 % axial strain and over the last 20 % of its stage strain q "
+    "changes by at most 3 % and the dilation rate d eps_v/d eps_a stays within +-0.05 (drained) or the excess pore pressure "
+    "changes by at most 3 % of p' (undrained) (common practice for critical states from lab curves, no source)";
+const char* const kSandStateRule =
+    "psi = e - e_c(p') at the start of shear (Been & Jefferies 1985); phase transformation: least p' followed by a rise of 2 % "
+    "(and 1 kPa); instability: first peak of q followed by a fall of more than 5 % while p' falls (common practice, no source)";
 const char* const kOriginRegressionRule =
     "common practice, no source: least squares of t on s' with no intercept, tan alpha_0 = sum(s' t) / sum(s'^2), "
     "sin phi'_0 = tan alpha_0, c' = 0; its standard error s_0 / sqrt(sum s'^2) with s_0^2 = SSE / (n - 1)";
@@ -139,6 +146,12 @@ namespace {
 
 bool given(double v) { return !std::isnan(v); }
 std::string fmt(double v) { return format_number(v); }
+/// v with `decimals` decimals (for reasons that quote a measured value).
+std::string fixed(double v, int decimals) {
+  char b[48];
+  std::snprintf(b, sizeof b, "%.*f", decimals, v);
+  return b;
+}
 
 /// Fraction of peak q up to which the initial tangent is fitted (common practice, no source).
 constexpr double kInitialFraction = 0.2;
@@ -533,11 +546,20 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
   r.end_p = c.mean_stress[static_cast<std::size_t>(last)];
   r.end_q = c.deviator_stress[static_cast<std::size_t>(last)];
   r.end_void_ratio = c.void_ratio[static_cast<std::size_t>(last)];
+  if (!effective)
+    r.steady_reason = "no effective stresses";
+  else if (!(v.ea(last) >= kSteadyStrain))
+    r.steady_reason = "the stage ends at " + fmt(100.0 * v.ea(last)) + " % axial strain, below " + fmt(100.0 * kSteadyStrain) + " %";
   if (effective && v.ea(last) >= kSteadyStrain) {
     const double from = (1.0 - kSteadyWindow) * v.ea(last);
     int w = last;
     while (w > first && v.ea(w - 1) >= from) --w;
     const bool q_steady = std::abs(v.qd(last) - v.qd(w)) <= kSteadyQ * std::abs(v.qd(last));
+    if (!q_steady && std::abs(v.qd(last)) > 0.0)
+      r.steady_reason = "q changes by " + fixed(100.0 * std::abs(v.qd(last) - v.qd(w)) / std::abs(v.qd(last)), 1) +
+                        " % over the last 20 % of the stage strain (3 % at most)";
+    else if (!q_steady)
+      r.steady_reason = "q ends at 0";
     bool rate_steady = true;
     if (st.shear == ShearType::cd && v.ea(last) > v.ea(w)) {
       // Least-squares rate over the window, natural strains as for the dilation rate.
@@ -548,11 +570,19 @@ void interpret_stage(const Specimen& sp, int k, const InterpretOptions& o, Stage
       }
       const LineFit f = fit_line(x, y);
       rate_steady = given(f.slope) && std::abs(f.slope) <= kSteadyRate;
+      if (!rate_steady && r.steady_reason.empty())
+        r.steady_reason = given(f.slope) ? "the dilation rate over the last 20 % of the stage strain is " + fixed(f.slope, 3) + " (within +-" +
+                                               fmt(kSteadyRate) + " needed)"
+                                         : "no dilation rate over the last 20 % of the stage strain";
     } else if (st.shear != ShearType::cd) {
       const double du = c.excess_pore_pressure[static_cast<std::size_t>(last)] - c.excess_pore_pressure[static_cast<std::size_t>(w)];
       rate_steady = std::abs(du) <= kSteadyQ * std::max(1.0, r.end_p);
+      if (!rate_steady && r.steady_reason.empty())
+        r.steady_reason = "the excess pore pressure changes by " + fixed(du, 1) + " kPa over the last 20 % of the stage strain (3 % of p' at most)";
     }
     r.steady_state = q_steady && rate_steady && last > w;
+    if (!r.steady_state && r.steady_reason.empty()) r.steady_reason = "too few points over the last 20 % of the stage strain";
+    if (r.steady_state) r.steady_reason.clear();
   }
   // Sand state (issue 17): the start of shear, for the state parameter found once the set's
   // critical-state line is known (interpret(), below).

@@ -126,6 +126,7 @@ std::string interpretation_json(const Interpretation& r) {
     j["bolton_phi_difference"] = q(s.bolton_phi_difference, "deg");
     j["measured_phi_difference"] = q(s.measured_phi_difference, "deg");
     j["steady_state"] = s.steady_state;
+    j["steady_state_reason"] = s.steady_reason;
     j["end_state"] = {{"p", q(s.end_p, "kPa")}, {"q", q(s.end_q, "kPa")}, {"void_ratio", q(s.end_void_ratio, "-")}};
     j["skempton_a"] = q(s.skempton_a, "-");
     auto point = [](const FailurePoint& f, double ratio) {
@@ -214,9 +215,7 @@ std::string interpretation_json(const Interpretation& r) {
       {"state_parameter_reason", r.psi_reason},
       {"peak_friction_angle_vs_psi", trend(r.peak_angle_vs_psi, r.peak_angle_vs_psi_reason, "deg")},
       {"peak_dilation_rate_vs_psi", trend(r.dilation_vs_psi, r.dilation_vs_psi_reason, "-")},
-      {"rules", "psi = e - e_c(p') at the start of shear (Been & Jefferies 1985); phase transformation: least p' followed by a "
-                "rise of 2 % (and 1 kPa); instability: first peak of q followed by a fall of more than 5 % while p' falls "
-                "(common practice, no source)"}};
+      {"rules", kSandStateRule}};
   json comp = json::array();
   for (const auto& c : r.compressibility)
     comp.push_back({{"specimen", c.specimen}, {"stage", c.stage}, {"basis", c.basis}, {"lambda", q(c.lambda, "-", c.lambda_reason)},

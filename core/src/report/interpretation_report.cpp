@@ -16,6 +16,7 @@ namespace {
 using svg::xml_escape;
 constexpr double kDeg = 3.14159265358979323846 / 180.0;
 constexpr std::size_t kMaxPathPoints = 300;  // stress-path vertices a test (evenly thinned)
+constexpr double kAtmosphere = 101.325;      // kPa, p_at of the power-law critical-state line (interpret.cpp)
 
 bool given(double v) { return std::isfinite(v); }
 std::string esc(const std::string& s) { return xml_escape(s); }
@@ -66,7 +67,20 @@ bool effective(const StageInterpretation& s) { return !is_uu(s) && (has_point(s.
 struct Plan {
   bool uu = false, cu_depth = false, strength = false, stiffness = false, dilatancy = false, oedometer = false,
        critical = false, compressibility = false;
+  // Sand state (issue 17): the section shows when the power-law line or a state parameter is
+  // determined, or a CU stage has a phase transformation or an instability.
+  bool sand = false, sand_csl = false, sand_angle = false, sand_dilation = false, sand_cu = false;
   Plan(const Interpretation& in, const TestSeries& series) {
+    sand_csl = in.csl_power_reason.empty();
+    for (const StageInterpretation& s : in.stages) {
+      const bool psi = given(s.state_parameter) && s.left_out.empty();
+      sand_angle = sand_angle || (psi && given(s.peak_friction_angle));
+      sand_dilation = sand_dilation || (psi && s.test == ShearType::cd && s.direction == ShearDirection::compression &&
+                                        given(s.max_dilation_rate));
+      sand_cu = sand_cu || given(s.phase_transformation_ratio) || given(s.instability_ratio);
+      sand = sand || given(s.state_parameter);
+    }
+    sand = sand || sand_csl || sand_cu;
     for (const StageInterpretation& s : in.stages) {
       if (is_uu(s) && given(s.undrained_strength)) {
         uu = true;
@@ -177,6 +191,7 @@ class InterpretationRenderer {
     stiffness();
     dilatancy();
     compressibility();
+    if (plan_.sand) sand();
     left_out();
     rules();
     signoff();
@@ -838,8 +853,286 @@ class InterpretationRenderer {
       p.series.push_back(line("e = " + num(f.intercept, 3) + " - " + num(-f.slope, 4) + " ln p'", {a, b}, {f.intercept + f.slope * f.x_min,
                               f.intercept + f.slope * f.x_max}, 4, svg::Dash::dashed));
     }
+    if (plan_.sand_csl) p.series.push_back(power_line(1.0, "csl-power"));
     o_ << figure(p, "Steady (critical) end states of the compression stages in e - ln p' with the critical-state line where "
-                    "it is determined.");
+                    "it is determined" +
+                        std::string(plan_.sand_csl ? ", and the power-law line e_c = e_Γ - λ_c (p'/p_at)^ξ (solid) over the same states."
+                                                   : "."));
+  }
+
+  /// e_c(p') of the power-law critical-state line (Interpretation::csl_power).
+  double csl_power_at(double p) const {
+    return in_.csl_power.intercept + in_.csl_power.slope * std::pow(p / kAtmosphere, in_.csl_exponent);
+  }
+  /// The power-law line sampled over its fitted p' range widened by `widen` on a log scale each way.
+  svg::Series power_line(double widen, const std::string& css) const {
+    const double xi = in_.csl_exponent, a = kAtmosphere * std::pow(in_.csl_power.x_min, 1.0 / xi) / widen,
+                 b = kAtmosphere * std::pow(in_.csl_power.x_max, 1.0 / xi) * widen;
+    std::vector<double> xs, ys;
+    for (int k = 0; k <= 40; ++k) {
+      const double pk = a * std::pow(b / a, k / 40.0);
+      xs.push_back(pk);
+      ys.push_back(csl_power_at(pk));
+    }
+    return line("e_c = " + num(in_.csl_power.intercept, 4) + " - " + num(-in_.csl_power.slope, 4) + " (p'/p_at)^" + num(xi, 2), xs, ys,
+                4, svg::Dash::solid, css);
+  }
+
+  /// Sand state (issue 17): the power-law critical-state line, the state parameter at the start of
+  /// each shear stage, the peak angle and dilation against it, and the CU phase transformation and
+  /// instability.
+  void sand() {
+    section("sand", "Sand state: critical-state line and state parameter", true);
+    o_ << "<p>Critical-state line in the power form e<sub>c</sub> = e<sub>&#915;</sub> &#8722; &#955;<sub>c</sub> "
+          "(p&#8242;/p<sub>at</sub>)<sup>&#958;</sup>, p<sub>at</sub> = 101.325 kPa, &#958; fixed (the form of Dafalias &amp; "
+          "Manzari 2004, after Li &amp; Wang 1998), fitted by least squares to the steady end states of the compression stages. "
+          "State parameter &#968; = e &#8722; e<sub>c</sub>(p&#8242;) at the start of each shear stage (Been &amp; Jefferies 1985): "
+          "negative is denser than critical (dilates), positive looser (contracts).</p>\n";
+    o_ << "<p class=\"rule\">Critical state: " << esc(kSteadyStateRule) << ". " << esc(kSandStateRule) << ".</p>\n";
+    // The line and the trends.
+    o_ << "<table class=\"report-table\" id=\"table-sand-csl\">\n<thead><tr><th>quantity</th><th>value</th><th>unit</th>"
+          "<th>basis</th></tr></thead>\n<tbody>\n";
+    auto row = [&](const std::string& what, const std::string& value, const char* unit, const std::string& basis, const char* key) {
+      o_ << "<tr data-key=\"" << key << "\"><th>" << what << "</th><td class=\"num\">" << value << "</td><td>" << unit << "</td><td>"
+         << basis << "</td></tr>\n";
+    };
+    const LineFit& cp = in_.csl_power;
+    const std::string csl_basis =
+        std::to_string(cp.n) + " steady end state(s), p&#8242; " + num(kAtmosphere * std::pow(cp.x_min, 1.0 / in_.csl_exponent), 0) +
+        " to " + num(kAtmosphere * std::pow(cp.x_max, 1.0 / in_.csl_exponent), 0) + " kPa, R&#178; = " + num(cp.r2, 4);
+    const std::string csl_not = "not determined: " + esc(in_.csl_power_reason);
+    if (plan_.sand_csl) {
+      row("e<sub>&#915;</sub>, the line at p&#8242; = 0", num(cp.intercept, 4), "-", csl_basis, "e_gamma");
+      row("&#955;<sub>c</sub>, its slope against (p&#8242;/p<sub>at</sub>)<sup>&#958;</sup>", num(-cp.slope, 4), "-", csl_basis, "lambda_c");
+    } else {
+      row("e<sub>&#915;</sub>, &#955;<sub>c</sub>", "&#8212;", "-", csl_not, "e_gamma");
+    }
+    row("&#958;, the exponent", num(in_.csl_exponent, 2), "-", "fixed (interpret --csl-exponent; 0.7 from memory of Li &amp; Wang 1998)", "xi");
+    row("&#915; and &#955; of e = &#915; &#8722; &#955; ln p&#8242; (p&#8242; in kPa)",
+        in_.csl_reason.empty() ? num(in_.csl.intercept, 4) + " / " + num(-in_.csl.slope, 4) : "&#8212;", "-",
+        in_.csl_reason.empty() ? std::to_string(in_.csl.n) + " steady end state(s), R&#178; = " + num(in_.csl.r2, 4)
+                               : "not determined: " + esc(in_.csl_reason),
+        "log_line");
+    row("&#968; taken against", in_.psi_line.empty() ? "&#8212;" : (in_.psi_line == "power" ? "power-law line" : "e &#8722; ln p&#8242; line"),
+        "", in_.psi_line.empty() ? "not determined: " + esc(in_.psi_reason) : std::string("the first determined of the two lines"),
+        "psi_line");
+    auto trend_row = [&](const std::string& what, const LineFit& f, const std::string& reason, const char* unit, const char* key) {
+      if (reason.empty())
+        row(what, "a " + num(f.intercept, 3) + ", b " + num(f.slope, 3), unit,
+            std::to_string(f.n) + " CD compression stage(s), &#968; " + num(f.x_min, 3) + " to " + num(f.x_max, 3) +
+                ", R&#178; = " + num(f.r2, 3) + " (least squares; a roughly linear trend, Been &amp; Jefferies 1985, from memory)",
+            key);
+      else
+        row(what, "&#8212;", unit, "not determined: " + esc(reason), key);
+    };
+    trend_row("&#966;&#8242;<sub>peak</sub> = a + b &#968;", in_.peak_angle_vs_psi, in_.peak_angle_vs_psi_reason, "deg", "peak_angle_trend");
+    trend_row("&#8722;(d&#949;<sub>v</sub>/d&#949;<sub>a</sub>)<sub>max</sub> = a + b &#968;", in_.dilation_vs_psi,
+              in_.dilation_vs_psi_reason, "-", "dilation_trend");
+    o_ << "</tbody>\n</table>\n";
+    // Each shear stage.
+    o_ << "<table class=\"report-table\" id=\"table-sand-state\">\n<thead><tr><th>specimen</th><th>stage</th><th>test</th>"
+          "<th>p&#8242;<sub>0</sub> (kPa)</th><th>e<sub>0</sub> (-)</th><th>&#968;<sub>0</sub> (-)</th><th>end p&#8242; (kPa)</th>"
+          "<th>end e (-)</th><th>critical state at the end</th><th>&#966;&#8242;<sub>peak</sub> (deg)</th>"
+          "<th>&#8722;(d&#949;<sub>v</sub>/d&#949;<sub>a</sub>)<sub>max</sub> (-)</th><th>note</th></tr></thead>\n<tbody>\n";
+    for (const StageInterpretation& s : in_.stages) {
+      if (is_uu(s) || s.failure_values_only) continue;
+      std::string note = s.left_out.empty() ? std::string() : "left out: " + s.left_out;
+      if (!given(s.state_parameter)) {
+        const std::string why = !in_.psi_reason.empty() ? in_.psi_reason
+                                : !given(s.start_void_ratio) ? std::string("no void ratio at the start of shear")
+                                                             : std::string("no p' > 0 at the start of shear");
+        note += (note.empty() ? "" : "; ") + ("psi not determined: " + why);
+      }
+      const bool cs = s.steady_state && s.direction == ShearDirection::compression;
+      std::string crit = cs ? "yes" : "no: " + esc(s.steady_reason.empty() ? std::string("extension stage") : s.steady_reason);
+      o_ << "<tr" << (s.left_out.empty() ? "" : " class=\"unused\"") << " data-test=\"" << esc(label_of(s)) << "\" data-psi=\""
+         << (given(s.state_parameter) ? num(s.state_parameter, 6) : "") << "\"><td>" << esc(s.specimen) << "</td><td class=\"num\">"
+         << s.shear_stage << "</td><td>" << esc(to_string(s.test)) << "</td><td class=\"num\">" << num(s.start_p, 1)
+         << "</td><td class=\"num\">" << num(s.start_void_ratio, 4) << "</td><td class=\"num\">" << num(s.state_parameter, 4)
+         << "</td><td class=\"num\">" << num(s.end_p, 1) << "</td><td class=\"num\">" << num(s.end_void_ratio, 4) << "</td><td>"
+         << crit << "</td><td class=\"num\">" << num(s.peak_friction_angle, 2) << "</td><td class=\"num\">"
+         << num(given(s.max_dilation_rate) ? -s.max_dilation_rate : s.max_dilation_rate, 3) << "</td><td>" << esc(note)
+         << "</td></tr>\n";
+    }
+    o_ << "</tbody>\n</table>\n";
+    // CU stages: phase transformation and instability.
+    bool any_cu = false;
+    for (const StageInterpretation& s : in_.stages) any_cu = any_cu || (s.test == ShearType::cu && !s.failure_values_only);
+    if (any_cu) {
+      o_ << "<h3>Undrained stages: phase transformation and instability</h3>\n";
+      o_ << "<table class=\"report-table\" id=\"table-sand-cu\">\n<thead><tr><th rowspan=\"2\">specimen</th><th rowspan=\"2\">stage</th>"
+            "<th rowspan=\"2\">&#968;<sub>0</sub> (-)</th><th colspan=\"4\">phase transformation (least p&#8242;)</th>"
+            "<th colspan=\"4\">instability (peak q before a drop)</th></tr>\n<tr><th>&#949;<sub>a,st</sub> (%)</th><th>p&#8242; (kPa)</th>"
+            "<th>q (kPa)</th><th>q/p&#8242; (-)</th><th>&#949;<sub>a,st</sub> (%)</th><th>p&#8242; (kPa)</th><th>q (kPa)</th>"
+            "<th>q/p&#8242; (-)</th></tr></thead>\n<tbody>\n";
+      for (const StageInterpretation& s : in_.stages) {
+        if (s.test != ShearType::cu || s.failure_values_only) continue;
+        o_ << "<tr" << (s.left_out.empty() ? "" : " class=\"unused\"") << " data-test=\"" << esc(label_of(s)) << "\"><td>"
+           << esc(s.specimen) << "</td><td class=\"num\">" << s.shear_stage << "</td><td class=\"num\">" << num(s.state_parameter, 4)
+           << "</td>";
+        if (given(s.phase_transformation_ratio))
+          o_ << "<td class=\"num\">" << num(s.phase_transformation.axial_strain * 100.0, 2) << "</td><td class=\"num\">"
+             << num(s.phase_transformation.p, 1) << "</td><td class=\"num\">" << num(s.phase_transformation.q, 1)
+             << "</td><td class=\"num\" data-ratio=\"" << num(s.phase_transformation_ratio, 6) << "\">"
+             << num(s.phase_transformation_ratio, 3) << "</td>";
+        else
+          o_ << "<td colspan=\"4\">none: p&#8242; does not rise again after its least value by 2 % (and 1 kPa)</td>";
+        if (given(s.instability_ratio))
+          o_ << "<td class=\"num\">" << num(s.instability.axial_strain * 100.0, 2) << "</td><td class=\"num\">" << num(s.instability.p, 1)
+             << "</td><td class=\"num\">" << num(s.instability.q, 1) << "</td><td class=\"num\" data-ratio=\""
+             << num(s.instability_ratio, 6) << "\">" << num(s.instability_ratio, 3) << "</td>";
+        else
+          o_ << "<td colspan=\"4\">none: no peak of q followed by a fall of more than 5 % while p&#8242; falls</td>";
+        o_ << "</tr>\n";
+      }
+      o_ << "</tbody>\n</table>\n";
+    }
+    o_ << "<div class=\"plots\">\n";
+    sand_csl_plot();
+    if (plan_.sand_angle) sand_trend_plot(true);
+    if (plan_.sand_dilation) sand_trend_plot(false);
+    if (plan_.sand_cu) sand_cu_plot();
+    o_ << "</div>\n";
+    end_section();
+  }
+
+  void sand_csl_plot() {
+    svg::Plot p;
+    p.id = "plot-sand-csl";
+    p.title = "Critical-state line: e - p'";
+    p.x = {"mean effective stress p'", "kPa"};
+    p.y = {"void ratio e", "-"};
+    p.x.include_zero = true;
+    std::vector<double> cx, cy, sx, sy;
+    double pmax = 0.0;
+    for (const StageInterpretation& s : in_.stages) {
+      if (!s.left_out.empty()) continue;
+      if (s.steady_state && s.direction == ShearDirection::compression && given(s.end_void_ratio) && s.end_p > 0.0) {
+        cx.push_back(s.end_p);
+        cy.push_back(s.end_void_ratio);
+        pmax = std::max(pmax, s.end_p);
+      }
+      if (given(s.state_parameter)) {
+        sx.push_back(s.start_p);
+        sy.push_back(s.start_void_ratio);
+        pmax = std::max(pmax, s.start_p);
+      }
+    }
+    if (!cx.empty()) p.series.push_back(points("steady (critical) end states", cx, cy, 0, svg::Marker::circle, "csl-point"));
+    if (!sx.empty()) p.series.push_back(points("start of shear (ψ0 = e0 - e_c)", sx, sy, 2, svg::Marker::triangle, "start-state"));
+    if (plan_.sand_csl) {
+      p.series.push_back(power_line(1.0, "csl-power"));
+      if (pmax > 0.0) {  // the same line over every plotted p', so that psi0 reads off as a vertical distance
+        std::vector<double> xs, ys;
+        for (int k = 0; k <= 40; ++k) {
+          const double pk = pmax * k / 40.0;
+          xs.push_back(pk);
+          ys.push_back(csl_power_at(pk));
+        }
+        p.series.push_back(line("the same line beyond the end states", xs, ys, 4, svg::Dash::dotted, "csl-power-extended"));
+      }
+    }
+    p.note = "no critical-state line and no state parameter";
+    o_ << figure(p, "Void ratio against p': the steady end states (circles), the power-law critical-state line fitted to them "
+                    "(solid over their p' range, dotted beyond) and the state at the start of each shear stage (triangles); ψ0 "
+                    "is the vertical distance of a triangle from the line.");
+  }
+
+  void sand_trend_plot(bool angle) {
+    svg::Plot p;
+    p.id = angle ? "plot-sand-peak-angle" : "plot-sand-dilation";
+    p.title = angle ? "Peak friction angle against ψ0" : "Peak dilation rate against ψ0";
+    p.x = {"state parameter at the start of shear ψ0", "-"};
+    p.y = angle ? svg::Axis{"peak friction angle φ'peak", "deg"} : svg::Axis{"peak dilation rate -(dεv/dεa)max", "-"};
+    std::vector<double> xs, ys;
+    for (const StageInterpretation& s : in_.stages) {
+      if (!s.left_out.empty() || !given(s.state_parameter)) continue;
+      const double y = angle ? s.peak_friction_angle
+                             : (s.test == ShearType::cd && s.direction == ShearDirection::compression ? -s.max_dilation_rate : kNotGiven);
+      if (!given(y)) continue;
+      xs.push_back(s.state_parameter);
+      ys.push_back(y);
+    }
+    p.series.push_back(points("CD compression stages", xs, ys, 0, svg::Marker::circle, angle ? "peak-angle" : "peak-dilation"));
+    const LineFit& f = angle ? in_.peak_angle_vs_psi : in_.dilation_vs_psi;
+    const std::string& reason = angle ? in_.peak_angle_vs_psi_reason : in_.dilation_vs_psi_reason;
+    if (reason.empty())
+      p.series.push_back(line("regression: " + num(f.intercept, angle ? 2 : 3) + " + (" + num(f.slope, angle ? 1 : 3) + ") ψ0",
+                              {f.x_min, f.x_max}, {f.intercept + f.slope * f.x_min, f.intercept + f.slope * f.x_max}, 4,
+                              svg::Dash::solid, "regression"));
+    o_ << figure(p, std::string(angle ? "φ'peak from the largest σ'1/σ'3 (c' = 0)" : "The peak dilation rate (Dilatancy table)") +
+                        " of each CD compression stage against its state parameter at the start of shear, with the "
+                        "least-squares line" +
+                        (reason.empty() ? std::string(".") : " (not determined: " + reason + ")."));
+  }
+
+  void sand_cu_plot() {
+    svg::Plot p;
+    p.id = "plot-sand-cu-paths";
+    p.title = "Undrained stress paths: phase transformation and instability";
+    p.x = {"mean effective stress p'", "kPa"};
+    p.y = {"deviator stress q", "kPa"};
+    p.x.include_zero = p.y.include_zero = true;
+    p.height = 460.0;
+    int style = 0;
+    double pmax = 0.0, zoom_p = 0.0, zoom_q = 0.0;  // zoom_*: the start states and the marked points
+    std::vector<double> tx, ty, ix, iy;
+    for (const StageInterpretation& s : in_.stages) {
+      if (s.test != ShearType::cu || s.failure_values_only) continue;
+      const Specimen* spc = sp(s.specimen);
+      if (!spc) continue;
+      const auto [first, last] = spc->stage_points(s.stage);
+      const int n = last - first + 1;
+      const int step = std::max(1, (n + static_cast<int>(kMaxPathPoints) - 1) / static_cast<int>(kMaxPathPoints));
+      std::vector<double> xs, ys;
+      for (int i = first; i <= last; i += step) {
+        xs.push_back(spc->curves.mean_stress[static_cast<std::size_t>(i)]);
+        ys.push_back(spc->curves.deviator_stress[static_cast<std::size_t>(i)]);
+      }
+      if ((n - 1) % step != 0) {
+        xs.push_back(spc->curves.mean_stress[static_cast<std::size_t>(last)]);
+        ys.push_back(spc->curves.deviator_stress[static_cast<std::size_t>(last)]);
+      }
+      for (double x : xs)
+        if (given(x)) pmax = std::max(pmax, x);
+      svg::Series path = line(label_of(s) + (s.left_out.empty() ? "" : " (left out)"), xs, ys, test_style(style),
+                              s.left_out.empty() ? test_dash(style) : svg::Dash::dotted, "stress-path");
+      path.width = 1.0;
+      p.series.push_back(std::move(path));
+      ++style;
+      if (given(s.start_p)) zoom_p = std::max(zoom_p, s.start_p);
+      if (given(s.phase_transformation_ratio)) {
+        tx.push_back(s.phase_transformation.p);
+        ty.push_back(s.phase_transformation.q);
+        zoom_p = std::max(zoom_p, s.phase_transformation.p);
+        zoom_q = std::max(zoom_q, s.phase_transformation.q);
+      }
+      if (given(s.instability_ratio)) {
+        ix.push_back(s.instability.p);
+        iy.push_back(s.instability.q);
+        zoom_p = std::max(zoom_p, s.instability.p);
+        zoom_q = std::max(zoom_q, s.instability.q);
+      }
+    }
+    // Dense specimens climb to many times their start stress; the frame shows the region of the
+    // start states and the marked points, where the paths turn (lines are clipped to the frame).
+    const bool zoom = zoom_p > 0.0 && pmax > 2.0 * 1.6 * zoom_p;
+    if (zoom) {
+      p.x.max = 1.6 * zoom_p;
+      p.y.max = std::max(1.6 * zoom_q, 0.8 * zoom_p);
+    }
+    p.series.push_back(points("phase transformation (least p')", tx, ty, 4, svg::Marker::diamond, "phase-transformation"));
+    p.series.push_back(points("instability (peak q before a drop)", ix, iy, 4, svg::Marker::square, "instability"));
+    if (in_.critical_m_reason.empty() && pmax > 0.0)
+      p.series.push_back(line("critical state q = M p', M = " + num(in_.critical_m, 3), {0.0, pmax}, {0.0, in_.critical_m * pmax}, 5,
+                              svg::Dash::dashed, "critical-line"));
+    o_ << figure(p, "Stress paths of the CU stages in p'-q with the phase-transformation points (diamonds: p' stops falling, the "
+                    "excess pore pressure stops rising) and the instability points (squares: the peak of q before a loss of "
+                    "strength), and the critical-state line q = M p' where M is determined" +
+                        std::string(zoom ? "; the frame shows p' up to " + num(p.x.max, 0) +
+                                               " kPa around the start states and the marked points (the paths of the dense "
+                                               "specimens leave it, up to p' = " + num(pmax, 0) + " kPa)."
+                                         : "."));
   }
 
   void left_out() {
@@ -906,6 +1199,12 @@ std::vector<std::string> interpretation_plot_ids(const Interpretation& in, const
   if (plan.dilatancy) ids.push_back("plot-dilatancy");
   if (plan.oedometer) ids.push_back("plot-oedometer");
   if (plan.critical) ids.push_back("plot-critical-state");
+  if (plan.sand) {
+    ids.push_back("plot-sand-csl");
+    if (plan.sand_angle) ids.push_back("plot-sand-peak-angle");
+    if (plan.sand_dilation) ids.push_back("plot-sand-dilation");
+    if (plan.sand_cu) ids.push_back("plot-sand-cu-paths");
+  }
   return ids;
 }
 
@@ -923,6 +1222,13 @@ std::vector<std::string> interpretation_table_ids(const Interpretation& in, cons
   if (plan.compressibility || plan.critical || in.cs_count > 0) {
     if (plan.compressibility) ids.push_back("table-compressibility");
     ids.push_back("table-critical-state");
+  }
+  if (plan.sand) {
+    ids.push_back("table-sand-csl");
+    ids.push_back("table-sand-state");
+    bool any_cu = false;
+    for (const StageInterpretation& s : in.stages) any_cu = any_cu || (s.test == ShearType::cu && !s.failure_values_only);
+    if (any_cu) ids.push_back("table-sand-cu");
   }
   ids.push_back("table-left-out");
   ids.push_back("table-signoff");
