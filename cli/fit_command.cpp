@@ -182,7 +182,7 @@ int run(const FitOptions& o) {
   progress.clear();
 
   if (!o.verbose && !seed_notes.empty())
-    std::printf("%zu bounds/starts taken from the classical interpretation of the series (--verbose lists them)\n",
+    std::printf("%zu bounds/starts/fixed values taken from the classical interpretation of the series (--verbose lists them)\n",
                 seed_notes.size());
   std::printf("%s", summary.brief().c_str());
   if (o.verbose) std::printf("\n%s", summary.full().c_str());

@@ -89,6 +89,9 @@ const char* to_string(ParameterRole role) {
     case ParameterRole::tensile_strength: return "tensile_strength";
     case ParameterRole::undrained_shear_strength: return "undrained_shear_strength";
     case ParameterRole::undrained_youngs_modulus: return "undrained_youngs_modulus";
+    case ParameterRole::csl_void_ratio_ref: return "csl_void_ratio_ref";
+    case ParameterRole::csl_slope: return "csl_slope";
+    case ParameterRole::csl_exponent: return "csl_exponent";
   }
   return "none";
 }

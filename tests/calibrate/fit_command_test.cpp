@@ -214,7 +214,7 @@ TEST_CASE("fit prints a brief account by default: outcome, parameters with inter
   INFO(r.out << r.err);
   REQUIRE(r.exit_code == 0);
   // One line says how many bounds and starts came from the interpretation; --verbose lists them.
-  CHECK(r.out.rfind("3 bounds/starts taken from the classical interpretation of the series (--verbose lists them)\n"
+  CHECK(r.out.rfind("3 bounds/starts/fixed values taken from the classical interpretation of the series (--verbose lists them)\n"
                     "calibration of mohr_coulomb: converged, objective ", 0) == 0);
   CHECK(r.out.find("friction_angle: start ") == std::string::npos);
   CHECK(r.out.find("  friction_angle = ") != std::string::npos);

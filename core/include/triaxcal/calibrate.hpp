@@ -90,10 +90,21 @@ struct ParameterSpec {
   double start = kNotGiven;
   ParameterScale scale = ParameterScale::linear;  ///< free: log needs lower > 0
   std::string expression;    ///< tied: e.g. "3 * secant_stiffness_ref" (+ - * / ^, parentheses, names)
+  /// fixed: at the classical interpretation's value of the parameter's role ("from": "interpretation"
+  /// in a calibration file); seed_from_interpretation sets `value` (calibration_file.hpp).
+  bool from_interpretation = false;
 };
 
 /// Builds a model from values in ModelInfo order; throws InputError for values the model rejects.
 using ModelFactory = std::function<std::unique_ptr<Model>(const ParameterValues&)>;
+
+/// One stage of a staged fit (CalibrationProblem::fit_stages): the free parameters fitted in it. The
+/// problem's other free parameters are held fixed meanwhile: at their start values before their own
+/// stage, at that stage's result after it. Every free parameter is in exactly one stage.
+struct FitStage {
+  std::vector<std::string> free;
+  std::string note;  ///< what the stage is for, shown beside it
+};
 
 struct CalibrationProblem {
   const ModelInfo* model = nullptr;  ///< not owned
@@ -103,6 +114,10 @@ struct CalibrationProblem {
   /// Inequalities between parameters, "lhs <= rhs" or "lhs >= rhs", each side an expression.
   std::vector<std::string> constraints;
   DriverOptions driver;
+  /// Empty: one joint fit of every free parameter. Else the stages in order, each a calibrate() run
+  /// of its parameters with the options given, then the intervals of all free parameters from one
+  /// joint Jacobian at the end point (docs/calibration-format.md, "Staged fit").
+  std::vector<FitStage> fit_stages;
 };
 
 enum class Loss { linear, soft_l1, huber };
@@ -241,6 +256,24 @@ struct HistoryEntry {
   double best = 0.0;
 };
 
+/// How one stage of a staged fit ended (CalibrationSummary::fit_stages).
+struct FitStageSummary {
+  std::vector<std::string> free;   ///< the parameters fitted in the stage
+  std::string note;
+  bool run = false;                ///< false: not run (an earlier stage failed or was stopped)
+  /// The stage's own outcome; its curves are judged with the later stages' parameters still at their starts.
+  CalibrationOutcome outcome = CalibrationOutcome::failed;
+  std::string outcome_reason;
+  CalibrationTermination termination = CalibrationTermination::not_run;
+  double objective = std::numeric_limits<double>::infinity();
+  double start_objective = std::numeric_limits<double>::infinity();
+  long evaluations = 0, jacobian_evaluations = 0;
+  int local_runs = 0, starts_at_best = 0;
+  double wall_time = 0.0;
+  /// "stage k of n (free: a, b): <outcome>, objective ..." for the summaries and the report.
+  std::string line(std::size_t k, std::size_t n) const;
+};
+
 struct CalibrationSummary {
   CalibrationTermination termination = CalibrationTermination::not_run;
   std::string message;
@@ -276,6 +309,11 @@ struct CalibrationSummary {
   std::vector<TestFit> tests;
   std::vector<SimulationResult> simulations;  ///< at the optimum, one a test
   std::vector<HistoryEntry> history;
+  /// A staged fit (CalibrationProblem::fit_stages): each stage in order; empty for a joint fit.
+  std::vector<FitStageSummary> fit_stages;
+  /// Where the intervals come from when that needs saying (a staged fit: one joint Jacobian of all
+  /// free parameters at the end point); empty for a joint fit (the local stage's optimum).
+  std::string uncertainty_basis;
 
   /// A parameter set was found: the outcome is not failed.
   bool usable() const { return outcome != CalibrationOutcome::failed; }

@@ -45,6 +45,7 @@ struct CalibrationFile {
   std::vector<CalibrationTestSpec> tests;
   std::vector<ParameterSpec> parameters;
   std::vector<std::string> constraints;
+  std::vector<FitStage> fit_stages;  ///< "fit_stages": a staged fit; empty: one joint fit
   CalibrationOptions options;  ///< from "options" (defaults otherwise); no progress callback
   /// The classical interpretation the user chose (key "interpretation": criterion, limiting_strain,
   /// stress_range, design_stress); material and reference pressure are set by
@@ -86,10 +87,12 @@ TRIAXCAL_CORE_EXPORT InterpretOptions interpretation_options(const CalibrationFi
 ///   critical_state_ratio, critical_state_friction_angle   critical states, else Rowe's phi_cv
 ///   compression_index, swelling_index   consolidation and oedometer stages
 ///   undrained_shear_strength, undrained_youngs_modulus   mean c_u and initial stiffness of the UU stages
+///   csl_void_ratio_ref, csl_slope       e_Gamma and lambda_c of the power-law critical-state line (xi: the
+///                                       model's fixed csl_exponent, else the interpretation's default)
 /// Bounds not given (either one or both) follow a rule per role: stiffnesses, lambda and kappa
 /// [v/4, 4 v]; friction angles [v - 8, v + 8] deg; dilation_angle [0, max(v + 8, 5)] deg; cohesion
 /// [0, max(3 v, 20)] kPa; stiffness_exponent [max(0.1, v - 0.3), min(1, v + 0.3)];
-/// critical_state_ratio [0.75 v, 1.25 v]; undrained_shear_strength [v/2, 2 v]. v is first taken
+/// critical_state_ratio [0.75 v, 1.25 v]; undrained_shear_strength [v/2, 2 v]; csl_void_ratio_ref [v - 0.1, v + 0.1]. v is first taken
 /// into the model's range (ParameterInfo, open ends moved inward by 1e-4 max(1, |end|)), the
 /// derived bounds are cut to that range and widened to include a start given in the file; a given
 /// bound is kept as given. A start not given is v clamped into the bounds.
@@ -97,7 +100,10 @@ TRIAXCAL_CORE_EXPORT InterpretOptions interpretation_options(const CalibrationFi
 /// of the series gives no value for <name>" (or "lower is needed", "upper is needed") when a bound
 /// is missing and v is not there, and when a derived bound does not leave lower < upper beside a
 /// given one. Parameters the model does not have are left to build_calibration_problem.
-/// Returns one line a derived bound pair and one a seeded start, for the user.
+/// A fixed parameter with from_interpretation ("from": "interpretation") gets v as its value; no v is
+/// an InputError "<source>: parameters.<name>: fixed from the interpretation: the interpretation of the
+/// series gives no value for <name>".
+/// Returns one line a derived bound pair, one a seeded start and one a fixed value, for the user.
 TRIAXCAL_CORE_EXPORT std::vector<std::string> seed_from_interpretation(CalibrationFile& file, const TestSeries& series,
                                                                        const ModelInfo& model);
 

@@ -47,6 +47,11 @@ enum class ParameterRole {
   tensile_strength,               ///< tension cut-off (kPa)
   undrained_shear_strength,       ///< c_u (kPa), total stress
   undrained_youngs_modulus,       ///< E_u (kPa), total stress
+  /// The power-law critical-state line e_c = e_Gamma - lambda_c (p'/p_at)^xi, p_at = 101.325 kPa
+  /// (Li & Wang 1998; the form of Dafalias & Manzari 2004), as the sand interpretation fits it:
+  csl_void_ratio_ref,             ///< e_Gamma, the line's void ratio at p' = 0 (-)
+  csl_slope,                      ///< lambda_c, its slope against (p'/p_at)^xi (-)
+  csl_exponent,                   ///< xi (-): the interpretation takes it as given (InterpretOptions::csl_exponent)
 };
 
 /// The role's name as printed (`triaxcal models NAME`), e.g. "friction_angle"; "none" for none.

@@ -170,6 +170,9 @@ struct ReportData {
   std::vector<Comparison> comparisons;
   Strength strength;
   std::vector<HistoryPoint> history;
+  /// A staged fit: one line a stage (FitStageSummary::line) and where the intervals come from.
+  std::vector<std::string> fit_stages;
+  std::string intervals_from;
   std::vector<std::string> warnings;
   std::vector<Excluded> excluded;
   std::vector<std::pair<std::string, std::string>> provenance;  ///< key, value (hashes, version, settings)

@@ -104,7 +104,10 @@ void CalibrationOptions::validate() const {
   if (!(strain_precision > 0.0 && strain_precision < 0.1)) fail("strain_precision", strain_precision, "must be in (0, 0.1)");
 }
 
-void validate_problem(const CalibrationProblem& problem) { (void)detail::prepare(problem); }
+void validate_problem(const CalibrationProblem& problem) {
+  (void)detail::prepare(problem);
+  if (!problem.fit_stages.empty()) (void)detail::check_fit_stages(problem);
+}
 
 namespace {
 
@@ -745,8 +748,17 @@ void run_local(Run& run, std::mt19937_64& rng, StageEnd& end) {
 
 }  // namespace
 
+namespace detail {
+std::string options_text_of(const CalibrationOptions& options) { return options_text(options); }
+}  // namespace detail
+
 CalibrationSummary calibrate(const CalibrationOptions& options, const CalibrationProblem& problem) {
+  if (!problem.fit_stages.empty()) return detail::calibrate_staged(options, problem);
   options.validate();
+  return detail::calibrate_validated(options, problem);
+}
+
+CalibrationSummary detail::calibrate_validated(const CalibrationOptions& options, const CalibrationProblem& problem) {
   const detail::Prepared prepared = detail::prepare(problem);
   CalibrationSummary summary;
   summary.model = problem.model->name;

@@ -55,8 +55,16 @@ ParameterSpec parse_parameter(const std::string& name, const json& v, const std:
       (path / "status").in(src));
   switch (s.status) {
     case ParameterStatus::fixed:
-      detail::check_keys(v, {"status", "value", "note"}, src, path);
-      if (v.contains("value") && v.at("value").is_string())
+      detail::check_keys(v, {"status", "value", "from", "note"}, src, path);
+      if (v.contains("from")) {
+        // Fixed at the interpretation's value of the parameter's role (seed_from_interpretation).
+        const std::string from = detail::get_string(v, "from", src, path);
+        if (from != "interpretation")
+          throw InputError((path / "from").in(src) + ": expected \"interpretation\", found \"" + from + "\"");
+        if (v.contains("value"))
+          throw InputError(path.in(src) + ": give \"value\" or \"from\": \"interpretation\", not both");
+        s.from_interpretation = true;
+      } else if (v.contains("value") && v.at("value").is_string())
         s.word = v.at("value").get<std::string>();
       else
         s.value = detail::get_number_or(v, "value", kNotGiven, src, path);
@@ -190,7 +198,7 @@ CalibrationFile parse_calibration_file(const std::string& text, const std::strin
   detail::check_format(root, kCalibrationFormat, kCalibrationVersion, source);
   detail::check_keys(root,
                      {"format", "version", "description", "series", "model", "steps_per_shear_stage", "simulation_tolerance",
-                      "fixed_steps", "tests", "parameters", "constraints", "options", "interpretation"},
+                      "fixed_steps", "tests", "parameters", "constraints", "options", "interpretation", "fit_stages"},
                      source, "");
   CalibrationFile f;
   f.source = source;
@@ -259,6 +267,30 @@ CalibrationFile parse_calibration_file(const std::string& text, const std::strin
   detail::require_object(params, source, "parameters");
   for (const auto& item : params.items()) f.parameters.push_back(parse_parameter(item.key(), item.value(), source));
 
+  if (root.contains("fit_stages")) {
+    // A staged fit (docs/calibration-format.md, "Staged fit"); the names are checked against the
+    // model and the free parameters by build_calibration_problem.
+    const json& a = root.at("fit_stages");
+    const detail::KeyPath path("fit_stages");
+    if (!a.is_array() || a.empty())
+      throw InputError(path.in(source) + ": expected a list of one or more stages such as {\"free\": [\"csl_lambda\"]}, found " +
+                       (a.is_array() ? std::string("an empty list") : a.dump().substr(0, 40)));
+    for (std::size_t i = 0; i < a.size(); ++i) {
+      detail::require_object(a[i], source, path[i]);
+      detail::check_keys(a[i], {"free", "note"}, source, path[i]);
+      if (!a[i].contains("free") || !a[i].at("free").is_array())
+        throw InputError((path[i] / "free").in(source) + ": expected a list of free parameter names");
+      FitStage st;
+      const json& names = a[i].at("free");
+      for (std::size_t j = 0; j < names.size(); ++j) {
+        if (!names[j].is_string())
+          throw InputError((path[i] / "free")[j].in(source) + ": expected a parameter name, found " + names[j].dump().substr(0, 40));
+        st.free.push_back(names[j].get<std::string>());
+      }
+      st.note = detail::get_string_or(a[i], "note", "", source, path[i]);
+      f.fit_stages.push_back(std::move(st));
+    }
+  }
   if (root.contains("constraints")) {
     const json& c = root.at("constraints");
     if (!c.is_array()) throw InputError(source + ": constraints: expected a list of strings such as \"dilation_angle <= friction_angle\"");
@@ -339,6 +371,9 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
       continue;  // the engine names the unknown parameter
     }
     const ParameterInfo& pi = model.parameters[static_cast<std::size_t>(index)];
+    if (ps.from_interpretation && std::isnan(ps.value))  // never the model default in its place
+      throw InputError(where + ": fixed from the interpretation, but no value was taken from it (seed_from_interpretation "
+                               "was not called)");
     if (pi.words.empty()) {
       if (!ps.word.empty())
         throw InputError(where + ": expected a number (" + pi.unit + "), found \"" + ps.word + "\"");
@@ -354,6 +389,7 @@ CalibrationProblem build_calibration_problem(const CalibrationFile& file, const 
     ps.value = w;
   }
   p.constraints = file.constraints;
+  p.fit_stages = file.fit_stages;
   p.driver.tolerance = file.simulation_tolerance;
   p.driver.fixed_steps = file.fixed_steps;
   for (std::size_t i = 0; i < file.tests.size(); ++i) {
@@ -497,7 +533,9 @@ class InterpretationSeeds {
       case ParameterRole::compression_index:
       case ParameterRole::swelling_index:
       case ParameterRole::undrained_shear_strength:
-      case ParameterRole::undrained_youngs_modulus: return true;
+      case ParameterRole::undrained_youngs_modulus:
+      case ParameterRole::csl_void_ratio_ref:
+      case ParameterRole::csl_slope: return true;
       default: return false;
     }
   }
@@ -525,6 +563,9 @@ class InterpretationSeeds {
       case ParameterRole::swelling_index: return {kappa_mean_, "consolidation and oedometer stages"};
       case ParameterRole::undrained_shear_strength: return {cu_mean_, "mean undrained strength of the UU stages"};
       case ParameterRole::undrained_youngs_modulus: return {uu_stiffness_mean_, "mean initial stiffness of the UU stages"};
+      case ParameterRole::csl_void_ratio_ref: return {in_.csl_power.intercept, csl()};
+      case ParameterRole::csl_slope:
+        return {std::isfinite(in_.csl_power.slope) ? -in_.csl_power.slope : kNotGiven, csl()};
       default: return {};
     }
   }
@@ -534,6 +575,10 @@ class InterpretationSeeds {
 
  private:
   std::string pressure() const { return "s3' = " + format_number(reference_pressure_) + " kPa"; }
+  std::string csl() const {
+    return "power-law critical-state line of " + std::to_string(in_.csl_power.n) + " steady end states, xi = " +
+           format_number(in_.csl_exponent);
+  }
 
   Interpretation in_;
   bool ok_ = false;
@@ -586,6 +631,8 @@ BoundsRule bounds_rule(ParameterRole role, double v) {
     case ParameterRole::stiffness_exponent:
       return box(std::max(0.1, v - 0.3), std::min(1.0, v + 0.3), "max(0.1, v - 0.3) to min(1, v + 0.3)");
     case ParameterRole::critical_state_ratio: return v > 0.0 ? box(0.75 * v, 1.25 * v, "0.75 v to 1.25 v") : unusable("> 0");
+    case ParameterRole::csl_void_ratio_ref: return box(v - 0.1, v + 0.1, "v +- 0.1");
+    case ParameterRole::csl_slope: return v > 0.0 ? box(v / 4.0, 4.0 * v, "v/4 to 4 v") : unusable("> 0");
     default: return unusable("");  // not reached: seed_for gives no value for other roles
   }
 }
@@ -634,12 +681,26 @@ double reference_pressure_of(const CalibrationFile& file, const ModelInfo& model
   return std::isfinite(value) && value > 0.0 ? value : InterpretOptions{}.reference_pressure;
 }
 
+/// The exponent xi of the power-law critical-state line: the model's csl_exponent where it is fixed
+/// (the line's e_Gamma and lambda_c then belong to the model's xi), else the file's interpretation's.
+double csl_exponent_of(const CalibrationFile& file, const ModelInfo& model) {
+  const int i = parameter_with_role(model, ParameterRole::csl_exponent);
+  if (i < 0) return file.interpretation.csl_exponent;
+  const ParameterInfo& pi = model.parameters[static_cast<std::size_t>(i)];
+  double value = pi.default_value;
+  for (const ParameterSpec& p : file.parameters)
+    if (p.name == pi.name)
+      value = p.status == ParameterStatus::fixed && !p.from_interpretation ? (std::isnan(p.value) ? value : p.value) : kNotGiven;
+  return std::isfinite(value) && value > 0.0 && value <= 2.0 ? value : file.interpretation.csl_exponent;
+}
+
 }  // namespace
 
 InterpretOptions interpretation_options(const CalibrationFile& file, const TestSeries& series, const ModelInfo& model) {
   InterpretOptions options = file.interpretation;
   options.material = material_of_tests(file, series);
   options.reference_pressure = reference_pressure_of(file, model);
+  options.csl_exponent = csl_exponent_of(file, model);
   return options;
 }
 
@@ -647,13 +708,29 @@ std::vector<std::string> seed_from_interpretation(CalibrationFile& file, const T
   std::vector<std::string> notes;
   bool needed = false;
   for (const ParameterSpec& p : file.parameters)
-    needed = needed || (p.status == ParameterStatus::free && (std::isnan(p.start) || std::isnan(p.lower) || std::isnan(p.upper)));
+    needed = needed || (p.status == ParameterStatus::free && (std::isnan(p.start) || std::isnan(p.lower) || std::isnan(p.upper))) ||
+             (p.status == ParameterStatus::fixed && p.from_interpretation);
   if (!needed) return notes;
 
   const InterpretationSeeds seeds(series, interpretation_options(file, series, model));
   const std::string& src = file.source;
 
   for (ParameterSpec& p : file.parameters) {
+    if (p.status == ParameterStatus::fixed && p.from_interpretation) {
+      const int index = parameter_index(model, p.name);
+      if (index < 0) continue;  // build_calibration_problem names the unknown parameter
+      const ParameterInfo& pi = model.parameters[static_cast<std::size_t>(index)];
+      const Seed seed = seeds.seed_for(pi.role);
+      if (!std::isfinite(seed.value)) {
+        std::string why = "the interpretation of the series gives no value for " + p.name;
+        if (!seeds.ok()) why += " (the interpretation failed: " + seeds.failure() + ")";
+        else if (InterpretationSeeds::known(pi.role)) why += " (it would come from the " + seed.basis + ")";
+        throw InputError(src + ": parameters." + p.name + ": fixed from the interpretation: " + why);
+      }
+      p.value = seed.value;  // build_calibration_problem checks it against the model's range
+      notes.push_back(p.name + ": fixed at " + with_unit(format_number(seed.value), pi) + " from the interpretation (" + seed.basis + ")");
+      continue;
+    }
     if (p.status != ParameterStatus::free) continue;
     const int index = parameter_index(model, p.name);
     if (index < 0) continue;  // build_calibration_problem names the unknown parameter

@@ -14,6 +14,21 @@
 
 namespace triaxcal::detail {
 
+/// The stages of problem.fit_stages as model parameter indices; throws InputError
+/// "fit_stages[i].free[j]: ..." for an unknown parameter, one not free, one in two stages, an empty
+/// stage, or a free parameter in no stage (staged.cpp).
+std::vector<std::vector<int>> check_fit_stages(const CalibrationProblem& problem);
+
+/// The options as asked, one "key = value" per line (CalibrationSummary::options_text).
+std::string options_text_of(const CalibrationOptions& options);
+
+/// calibrate() without fit_stages and without options.validate(): a staged fit's end point is
+/// evaluated with no stage at all (global and local none, no design points).
+CalibrationSummary calibrate_validated(const CalibrationOptions& options, const CalibrationProblem& problem);
+
+/// calibrate() of a problem with fit_stages (staged.cpp).
+CalibrationSummary calibrate_staged(const CalibrationOptions& options, const CalibrationProblem& problem);
+
 /// Runs `n` tasks on `threads` threads (the caller is one of them). Which thread runs a task never
 /// changes a result: every task writes only its own slot.
 class TaskPool {

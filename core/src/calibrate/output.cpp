@@ -134,6 +134,27 @@ std::string format_parameter_set(const CalibrationSummary& s, const ModelInfo& m
     if (eq != std::string::npos) options[line.substr(0, eq)] = line.substr(eq + 3);
   }
   fit["options"] = options;
+  if (!s.fit_stages.empty()) {
+    // A staged fit: each stage's own outcome; the outcome above is the worst honest one of them.
+    ordered_json stages = ordered_json::array();
+    for (const FitStageSummary& f : s.fit_stages) {
+      ordered_json sj;
+      sj["free"] = f.free;
+      if (!f.note.empty()) sj["note"] = f.note;
+      sj["run"] = f.run;
+      sj["outcome"] = f.run ? ordered_json(to_string(f.outcome)) : ordered_json(nullptr);
+      sj["outcome_reason"] = f.outcome_reason;
+      sj["termination"] = to_string(f.termination);
+      sj["objective"] = number_or_null(f.objective);
+      sj["start_objective"] = number_or_null(f.start_objective);
+      sj["evaluations"] = f.evaluations;
+      sj["local_runs"] = f.local_runs;
+      sj["local_runs_at_best"] = f.starts_at_best;
+      stages.push_back(sj);
+    }
+    fit["stages"] = stages;
+  }
+  if (!s.uncertainty_basis.empty()) fit["intervals_from"] = s.uncertainty_basis;
   ordered_json tests = ordered_json::array();
   for (const TestFit& t : s.tests) {
     ordered_json tj;

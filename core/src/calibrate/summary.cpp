@@ -93,6 +93,8 @@ std::string CalibrationSummary::brief() const {
     << ", " << evaluations << " evaluations (" << failed_simulations << " failed simulations), "
     << fmt("%.2f", wall_time) << " s on " << threads << (threads == 1 ? " thread\n" : " threads\n");
   if (!outcome_reason.empty()) s << "  " << outcome_reason << "\n";
+  for (std::size_t k = 0; k < fit_stages.size(); ++k) s << "  " << fit_stages[k].line(k, fit_stages.size()) << "\n";
+  if (!uncertainty_basis.empty()) s << "  intervals: " << uncertainty_basis << "\n";
   if (local_runs > 1)
     s << "  " << starts_at_best << " of " << local_runs << " local runs reached the best objective (within "
       << "same_optimum_tolerance)" << starts_text(failed_starts) << "\n";
@@ -119,6 +121,12 @@ std::string CalibrationSummary::full() const {
   s << "Calibration of " << model << "\n";
   s << "  outcome: " << outcome_line() << "\n";
   s << "  termination: " << to_string(termination) << ": " << message << "\n";
+  for (std::size_t k = 0; k < fit_stages.size(); ++k) {
+    const FitStageSummary& f = fit_stages[k];
+    s << "  " << f.line(k, fit_stages.size()) << "\n";
+    if (f.run) s << "      " << to_string(f.outcome) << ": " << f.outcome_reason << "\n";
+  }
+  if (!uncertainty_basis.empty()) s << "  intervals: " << uncertainty_basis << "\n";
   s << "  objective: " << format_number(objective) << " (start " << format_number(start_objective) << ")\n";
   s << "  evaluations: " << evaluations << " (design " << design_evaluations << ", global " << global_evaluations
     << ", local " << local_evaluations << " in " << local_runs << (local_runs == 1 ? " run" : " runs") << "), "

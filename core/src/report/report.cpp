@@ -331,6 +331,13 @@ class Renderer {
     o_ << esc(what) << ".</p>\n";
     if (!d_.outcome_reason.empty())
       o_ << "<p id=\"outcome-reason\">" << esc(d_.outcome_reason) << "</p>\n";
+    if (!d_.fit_stages.empty()) {
+      o_ << "<p>Staged fit: each stage fits its parameters with the others held fixed (at their starts before their own "
+            "stage, at its result after it); the outcome above is the worst honest outcome of the stages.</p>\n<ol id=\"fit-stages\">\n";
+      for (const std::string& line : d_.fit_stages) o_ << "<li>" << esc(line) << "</li>\n";
+      o_ << "</ol>\n";
+    }
+    if (!d_.intervals_from.empty()) o_ << "<p id=\"intervals-from\">Intervals: " << esc(d_.intervals_from) << ".</p>\n";
     o_ << "<p class=\"meta\">Termination: " << esc(d_.termination.empty() ? std::string("-") : d_.termination)
        << (d_.message.empty() ? std::string() : ". " + esc(d_.message)) << "</p>\n";
     if (!failed.empty()) {

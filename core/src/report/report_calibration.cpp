@@ -262,6 +262,8 @@ ReportData report_from_calibration(const CalibrationSummary& s, const Calibratio
 
   d.outcome = s.outcome;
   d.outcome_reason = s.outcome_reason;
+  for (std::size_t k = 0; k < s.fit_stages.size(); ++k) d.fit_stages.push_back(s.fit_stages[k].line(k, s.fit_stages.size()));
+  d.intervals_from = s.uncertainty_basis;
 
   d.provenance.emplace_back("software", "triaxcal " + prov.software_version);
   d.provenance.emplace_back("created", prov.created);

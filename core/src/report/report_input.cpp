@@ -461,6 +461,8 @@ std::string report_input_json(const ReportData& d) {
     hist.push_back(ordered_json::array({h.evaluation, number(h.objective), number(h.best), h.stage}));
   root["history"] = hist;
   root["warnings"] = d.warnings;
+  if (!d.fit_stages.empty()) root["fit_stages"] = d.fit_stages;
+  if (!d.intervals_from.empty()) root["intervals_from"] = d.intervals_from;
   ordered_json ex = ordered_json::array();
   for (const Excluded& e : d.excluded) ex.push_back({{"id", e.id}, {"reason", e.reason}});
   root["excluded"] = ex;
@@ -484,7 +486,8 @@ ReportData parse_report_input(const std::string& text, const std::string& source
            {"format", "version", "title", "project", "model", "model_description", "outcome", "outcome_reason",
             "termination", "message",
             "objective", "start_objective", "evaluations", "wall_time", "tests", "parameters", "correlation",
-            "comparisons", "strength", "history", "warnings", "excluded", "provenance", "caution"});
+            "comparisons", "strength", "history", "warnings", "excluded", "provenance", "caution", "fit_stages",
+            "intervals_from"});
   ReportData d;
   d.title = r.str(root, "title", "", d.title);
   d.project = r.str(root, "project", "");
@@ -637,6 +640,8 @@ ReportData parse_report_input(const std::string& text, const std::string& source
     d.history.push_back(h);
   });
   d.warnings = r.strings(root, "warnings", "");
+  if (root.contains("fit_stages")) d.fit_stages = r.strings(root, "fit_stages", "");
+  d.intervals_from = r.str(root, "intervals_from", "");
   r.each(root, "excluded", "", [&](const json& j, const detail::KeyPath& p) {
     r.object(j, p, {"id", "reason"});
     d.excluded.push_back({r.str(j, "id", p), r.str(j, "reason", p)});
