@@ -103,7 +103,7 @@ std::vector<std::pair<double, double>> polyline(const Element& g) {
   return pts;
 }
 
-std::string write(const std::string& tag, const Interpretation& in, const TestSeries& series) {
+std::string write(const std::string& tag, const Interpretation& in, const TestSeries& series = demo()) {
   const std::string html = "interpretation_" + tag + ".html";
   std::ofstream(html) << report::render_interpretation_report(in, series);
   return html;
