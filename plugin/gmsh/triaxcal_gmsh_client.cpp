@@ -132,10 +132,24 @@ class Session {
   }
 
   /// `triaxcal/Model name` is the project file as Gmsh was given it, relative to Gmsh's working
-  /// folder (which is ours) or to the model's folder.
+  /// folder (which is ours) or to the model's folder. Empty when the client was started from Gmsh's
+  /// Solver menu with no project file open (the way to start a new project: Gmsh 4.8 does not open a
+  /// missing or zero-byte file, so no client runs for one given on the command line): then the
+  /// project is <model folder>/<model name>.txproj, made if missing, and the name is set so that
+  /// the next run (the Run button) finds it.
   fs::path locate_project() {
-    const fs::path given(get_string(root_ + "/Model name"));
-    if (given.empty()) throw InputError(root_ + "/Model name: empty (open a *.txproj project file with Gmsh)");
+    fs::path given(get_string(root_ + "/Model name"));
+    if (given.empty()) {
+      const fs::path model(get_string("Gmsh/Model name"));
+      if (model.empty() || model.stem().empty())
+        throw InputError(root_ + "/Model name: empty (open a model with Gmsh, then a *.txproj project file or Solver > " +
+                         root_ + ")");
+      given = (model.has_parent_path() ? model.parent_path() : fs::path(get_string("Gmsh/Model absolute path"))) /
+              (model.stem().string() + ".txproj");
+      onelab::string name(root_ + "/Model name", given.string());
+      name.setKind("file");
+      c_.set(name);
+    }
     if (given.is_absolute()) return given;
     std::error_code ec;
     if (fs::exists(given, ec)) return fs::absolute(given).lexically_normal();

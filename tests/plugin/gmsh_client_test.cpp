@@ -627,6 +627,26 @@ TEST_CASE("an empty project file starts a new project: every physical surface ge
   CHECK(read_json(dir / "gmsh" / "two_layers.soil-units.json").at("units").empty());
 }
 
+TEST_CASE("Solver > triaxcal with no project file open starts a new project beside the model (Gmsh 4.8 opens no missing "
+          "file)",
+          "[plugin][gmsh]") {
+  const fs::path dir = fresh_case("solver_menu_start");
+  fs::remove(dir / "gmsh" / "two_layers.txproj");
+  // What Gmsh's Solver menu does (checked under xvfb: a click on Solver > triaxcal calls the client
+  // with no model name): OnelabRun starts the client the same way, here from the parser in batch.
+  write(dir / "gmsh" / "start.geo", std::string("OnelabRun(\"triaxcal\", \"") + TRIAXCAL_GMSH_CLIENT + "\");\n");
+  const GmshRun r = run_gmsh(dir, "two_layers.geo start.geo -0");
+  INFO(r.log);
+  CHECK(r.log.find("Error") == std::string::npos);
+  CHECK(r.log.find("does not exist: a new project is started there") != std::string::npos);
+  REQUIRE(fs::exists(dir / "gmsh" / "two_layers.txproj"));
+  const json project = read_json(dir / "gmsh" / "two_layers.txproj");
+  CHECK(project.at("format") == "triaxcal-gmsh-project");
+  REQUIRE(project.at("units").size() == 2);
+  CHECK(project.at("units").at("upper_sand").at("source") == "none");
+  CHECK(project.at("units").at("lower_clay").at("tag") == 21);
+}
+
 TEST_CASE("a missing file is flagged when the tree is filled and checked, before the Run", "[plugin][gmsh]") {
   const fs::path dir = fresh_case("missing_file");
   const fs::path gdir = dir / "gmsh";
