@@ -8,6 +8,7 @@
 #include <atomic>
 #include <chrono>
 #include <cmath>
+#include <condition_variable>
 #include <cstdint>
 #include <memory>
 #include <mutex>
@@ -357,13 +358,84 @@ detail::JobRunner side_jobs(Run& run) {
   };
 }
 
-// Runs them one after the other on the lane's own evaluator (a lane that is itself one of several
-// running side by side).
-detail::JobRunner serial_jobs(Lane& lane) {
-  return [&lane](int jobs, const std::function<void(int, detail::Evaluator&)>& task) {
-    for (int j = 0; j < jobs; ++j) task(j, lane.evaluator);
+// The Jacobian simulations of the local runs of a multi-start, shared: each run posts its batch of
+// jobs and works through it on its own evaluator; a thread whose run has ended while no start is
+// left to take helps with the batches still open, on an evaluator of its own. Each job writes only
+// its own slot and replays the posting run's substeps, so which thread runs it never changes a
+// result; the last runs of a multi-start no longer leave the other threads idle.
+struct SharedJobs {
+  struct Batch {
+    int jobs = 0;
+    const std::function<void(int, detail::Evaluator&)>* task = nullptr;
+    int next = 0, done = 0;
   };
-}
+  std::mutex mutex;
+  std::condition_variable changed;
+  std::vector<Batch*> open;  // batches with jobs not yet taken
+  int count = 0;             // local runs
+  int finished = 0;          // local runs ended
+  std::atomic<int> begun{0};
+  std::atomic<int> helpers{0};
+
+  /// The run's job runner: post the batch, take its jobs until none is left, wait for the helpers'.
+  detail::JobRunner runner(Lane& lane) {
+    return [this, &lane](int jobs, const std::function<void(int, detail::Evaluator&)>& task) {
+      Batch batch;
+      batch.jobs = jobs;
+      batch.task = &task;
+      {
+        std::lock_guard<std::mutex> lock(mutex);
+        open.push_back(&batch);
+      }
+      changed.notify_all();
+      for (;;) {
+        int job;
+        {
+          std::lock_guard<std::mutex> lock(mutex);
+          if (batch.next >= batch.jobs) break;
+          job = batch.next++;
+        }
+        task(job, lane.evaluator);
+        std::lock_guard<std::mutex> lock(mutex);
+        ++batch.done;
+      }
+      std::unique_lock<std::mutex> lock(mutex);
+      open.erase(std::find(open.begin(), open.end(), &batch));
+      changed.wait(lock, [&] { return batch.done == batch.jobs; });
+    };
+  }
+
+  /// Takes jobs of the open batches on `ev` until every local run has ended.
+  void help(detail::Evaluator& ev) {
+    std::unique_lock<std::mutex> lock(mutex);
+    for (;;) {
+      Batch* batch = nullptr;
+      changed.wait(lock, [&] {
+        for (Batch* b : open)
+          if (b->next < b->jobs) {
+            batch = b;
+            return true;
+          }
+        return finished == count;
+      });
+      if (batch == nullptr) return;
+      const int job = batch->next++;
+      lock.unlock();
+      (*batch->task)(job, ev);
+      lock.lock();
+      ++batch->done;
+      changed.notify_all();
+    }
+  }
+
+  void run_ended() {
+    {
+      std::lock_guard<std::mutex> lock(mutex);
+      ++finished;
+    }
+    changed.notify_all();
+  }
+};
 
 // One least-squares local run from x on `lane`. The values are the lane's evaluations (they keep
 // their substeps); the Jacobian is forward differences of options.jacobian_step in the unit box on
@@ -705,12 +777,25 @@ void run_local(Run& run, std::mt19937_64& rng, StageEnd& end) {
   std::vector<double> finals(count, std::numeric_limits<double>::infinity());
   std::vector<char> ran(count, 0);
   if (options.local == LocalAlgorithm::least_squares && count > 1) {
+    // Lanes 0..count-1 run the starts; lanes count.. are the helpers' evaluators (SharedJobs).
+    const int helper_lanes = run.main.evaluator.threads();
+    run.side_lanes(count + static_cast<std::size_t>(helper_lanes));
+    SharedJobs shared;
+    shared.count = static_cast<int>(count);
     run.on_side_lanes(static_cast<int>(count), [&](int i) {
       Lane& lane = *run.side[static_cast<std::size_t>(i)];
-      if (run.halted()) return;
-      std::vector<double> x = starts[static_cast<std::size_t>(i)];
-      ends[static_cast<std::size_t>(i)] = local_end(solve_least_squares(run, lane, x, serial_jobs(lane)));
-      ran[static_cast<std::size_t>(i)] = 1;
+      ++shared.begun;
+      if (!run.halted()) {
+        std::vector<double> x = starts[static_cast<std::size_t>(i)];
+        ends[static_cast<std::size_t>(i)] = local_end(solve_least_squares(run, lane, x, shared.runner(lane)));
+        ran[static_cast<std::size_t>(i)] = 1;
+      }
+      shared.run_ended();
+      // Every start taken: help the runs still going instead of waiting for them.
+      if (shared.begun.load() == shared.count) {
+        const int slot = shared.helpers++;
+        if (slot < helper_lanes) shared.help(run.side[count + static_cast<std::size_t>(slot)]->evaluator);
+      }
     });
     for (std::size_t i = 0; i < count; ++i) {
       finals[i] = run.side[i]->best;
