@@ -97,7 +97,8 @@ CalibrationSummary calibrate_staged(const CalibrationOptions& options, const Cal
 
   std::vector<FitStageSummary> done(stages.size());
   std::vector<HistoryEntry> history;
-  long evaluations = 0, design = 0, global = 0, local = 0, jacobian = 0, failed_simulations = 0;
+  long evaluations = 0, design = 0, global = 0, local = 0, jacobian = 0, failed_simulations = 0, work_limited = 0;
+  int failed_starts = 0;
   double start_objective = std::numeric_limits<double>::infinity();
   int broken = -1;  // the stage that failed or was stopped; later ones are not run
   for (std::size_t s = 0; s < stages.size(); ++s) {
@@ -153,6 +154,8 @@ CalibrationSummary calibrate_staged(const CalibrationOptions& options, const Cal
     local += r.local_evaluations;
     jacobian += r.jacobian_evaluations;
     failed_simulations += r.failed_simulations;
+    work_limited += r.work_limited_simulations;
+    failed_starts += r.failed_starts;
     if (r.usable())
       for (int i : stages[s]) current[static_cast<std::size_t>(i)] = r.values[static_cast<std::size_t>(i)];
     if (!r.usable() || r.termination == CalibrationTermination::stopped || r.termination == CalibrationTermination::time_limit)
@@ -183,6 +186,8 @@ CalibrationSummary calibrate_staged(const CalibrationOptions& options, const Cal
   whole.local_evaluations = local;
   whole.jacobian_evaluations += jacobian;
   whole.failed_simulations += failed_simulations;
+  whole.work_limited_simulations += work_limited;
+  whole.failed_starts += failed_starts;
   whole.local_runs = 0;  // per stage (fit_stages)
   whole.starts_at_best = 0;
   whole.start_objective = start_objective;
