@@ -33,23 +33,28 @@ int run_check(const std::string& path) {
     std::printf("  %-*s %-5s %-4s %-4s %6s %10s %10s %10s %10s %10s %8s\n", id_width, "specimen", "stage", "test", "dir", "points",
                 "eps_a[-]", "p'[kPa]", "q[kPa]", "du[kPa]", "e_v[-]", "e[-]");
     for (const Specimen& sp : s.specimens) {
+      int number = 0;  // the specimen's shear stages 1, 2, 3 (as interpret numbers them)
       for (int k : sp.shear_stages()) {
+        ++number;
         const auto [first, last] = sp.stage_points(k);
         const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
         if (first > last) continue;
         const std::size_t e = static_cast<std::size_t>(last);
         const ReducedCurves& c = sp.curves;
-        std::printf("  %-*s %-5d %-4s %-4s %6d %10s %10s %10s %10s %10s %8s\n", id_width, sp.id.c_str(), k, to_string(st.shear).c_str(),
+        std::printf("  %-*s %-5d %-4s %-4s %6d %10s %10s %10s %10s %10s %8s\n", id_width, sp.id.c_str(), number, to_string(st.shear).c_str(),
                     st.direction == ShearDirection::compression ? "comp" : "ext", last - first + 1,
                     num(c.axial_strain[e], 4).c_str(), num(c.mean_stress[e], 1).c_str(), num(c.deviator_stress[e], 1).c_str(),
                     num(c.excess_pore_pressure[e], 1).c_str(), num(c.volumetric_strain[e], 4).c_str(),
                     num(c.void_ratio[e], 3).c_str());
       }
     }
-    std::printf("  (end state of each shear stage; strains from the data zero; compression positive)\n");
+    std::printf("  (end state of each shear stage; stage: the specimen's shear stages 1, 2, 3; strains from the data zero;\n"
+                "   compression positive)\n");
     bool oedometer_header = false;
-    for (const Specimen& sp : s.specimens)
+    for (const Specimen& sp : s.specimens) {
+      int number = 0;  // the specimen's oedometer stages 1, 2
       for (int k : sp.oedometer_stages()) {
+        ++number;
         const auto [first, last] = sp.stage_points(k);
         if (first > last) continue;
         if (!oedometer_header) {
@@ -61,13 +66,17 @@ int run_check(const std::string& path) {
         const std::size_t e = static_cast<std::size_t>(last);
         double largest = 0.0;
         for (int i = first; i <= last; ++i) largest = std::max(largest, c.axial_stress[static_cast<std::size_t>(i)]);
-        std::printf("  %-*s %-5d %6d %10s %10s %10s %8s\n", id_width, sp.id.c_str(), k, last - first + 1, num(c.axial_strain[e], 4).c_str(),
-                    num(c.axial_stress[e], 1).c_str(), num(largest, 1).c_str(), num(c.void_ratio[e], 3).c_str());
+        std::printf("  %-*s %-5d %6d %10s %10s %10s %8s\n", id_width, sp.id.c_str(), number, last - first + 1,
+                    num(c.axial_strain[e], 4).c_str(), num(c.axial_stress[e], 1).c_str(), num(largest, 1).c_str(),
+                    num(c.void_ratio[e], 3).c_str());
       }
+    }
     if (oedometer_header) std::printf("  (end state of each oedometer stage: effective axial stress, largest reached)\n");
     bool failure_header = false;
-    for (const Specimen& sp : s.specimens)
+    for (const Specimen& sp : s.specimens) {
+      int number = 0;
       for (int k : sp.shear_stages()) {
+        ++number;
         const SpecimenStage& st = sp.stages[static_cast<std::size_t>(k)];
         if (!st.failure.given()) continue;
         if (!failure_header) {
@@ -76,11 +85,12 @@ int run_check(const std::string& path) {
           failure_header = true;
         }
         const ReportedFailure& f = st.failure;
-        std::printf("  %-*s %-5d %-4s %-6s %10s %10s %10s %10s %10s  %s\n", id_width, sp.id.c_str(), k, to_string(st.shear).c_str(),
+        std::printf("  %-*s %-5d %-4s %-6s %10s %10s %10s %10s %10s  %s\n", id_width, sp.id.c_str(), number, to_string(st.shear).c_str(),
                     sp.failure_values_only() ? "no" : "yes", num(st.cell_pressure, 1).c_str(), num(f.deviator_stress, 1).c_str(),
                     num(f.pore_pressure, 1).c_str(), num(f.axial_strain, 4).c_str(),
                     num(st.cell_pressure - f.pore_pressure, 1).c_str(), f.criterion.empty() ? "-" : f.criterion.c_str());
       }
+    }
     if (failure_header) std::printf("  (values at failure as the lab reported them; s3'_f = cell - u_f)\n");
   }
   // The lab's reported failure values against its curves, where a specimen has both.

@@ -239,13 +239,13 @@ TEST_CASE("check and interpret tables widen for AGS-style ids: every row's colum
   const test::CliResult c = test::run_cli("check " + (dir / "series.json").string(), "ags_curves_wide_check");
   REQUIRE(c.exit_code == 0);
   CHECK(c.out.find("\n  specimen       stage test dir  points ") != std::string::npos);
-  CHECK(c.out.find("\n  BH01/5.00/3/1  2     CU   comp     16 ") != std::string::npos);
+  CHECK(c.out.find("\n  BH01/5.00/3/1  1     CU   comp     16 ") != std::string::npos);
   CHECK(c.out.find("\n  oedometer      stage points ") != std::string::npos);
-  CHECK(c.out.find("\n  BH03/3.00/1/1  0          8 ") != std::string::npos);
+  CHECK(c.out.find("\n  BH03/3.00/1/1  1          8 ") != std::string::npos);
   CHECK(c.out.find("\n  reported       stage test curves ") != std::string::npos);
-  CHECK(c.out.find("\n  BH01/5.00/3/3  2     CU   yes         400.0 ") != std::string::npos);
-  CHECK(c.out.find("\n  BH01/4.00/2/1  0     UU   no           80.0 ") != std::string::npos);
-  CHECK(c.out.find("\n  BH02/12.00/3/1 2     CD   no          350.0 ") != std::string::npos);
+  CHECK(c.out.find("\n  BH01/5.00/3/3  1     CU   yes         400.0 ") != std::string::npos);
+  CHECK(c.out.find("\n  BH01/4.00/2/1  1     UU   no           80.0 ") != std::string::npos);
+  CHECK(c.out.find("\n  BH02/12.00/3/1 1     CD   no          350.0 ") != std::string::npos);
   const test::CliResult i =
       test::run_cli("interpret " + (dir / "series.json").string() + " --material \"sand B\"", "ags_curves_wide_interpret");
   REQUIRE(i.exit_code == 0);

@@ -146,4 +146,10 @@ TEST_CASE("check runs on the invented Kestrel Bay example without errors", "[ser
   CHECK(r.exit_code == 0);
   CHECK(r.out.find("13 specimen(s) read") != std::string::npos);
   CHECK(r.out.find("no errors") != std::string::npos);
+  // Stages for people (issue 15): the multi-stage specimen's shear stages are 1, 2, 3 as interpret
+  // numbers them (the file's stages[] index them 2, 4, 6 behind saturation and consolidation stages).
+  for (const char* row : {"C-MS-1     1     CU", "C-MS-1     2     CU", "C-MS-1     3     CU", "C-OED-1    1 "}) {
+    INFO(row);
+    CHECK(r.out.find(row) != std::string::npos);
+  }
 }

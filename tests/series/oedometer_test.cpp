@@ -220,6 +220,6 @@ TEST_CASE("check prints the oedometer end state (strain, stress, largest stress,
   const std::string path = write_series(dir, series_of(json::array({oed_specimen()})), oed_csv());
   const CliResult r = run_cli("check " + path, "oed_check");
   CHECK(r.exit_code == 0);
-  CHECK(r.out.find("  OED-1      0         11     0.0490      160.0      320.0    0.902") != std::string::npos);
+  CHECK(r.out.find("  OED-1      1         11     0.0490      160.0      320.0    0.902") != std::string::npos);
   CHECK(r.out.find("no errors") != std::string::npos);
 }

@@ -389,14 +389,29 @@ std::string interpretation_text(const Interpretation& r) {
   o << "\n  phi_cv (Rowe, mean): " << (r.phi_cv_rowe_reason.empty() ? cell(r.phi_cv_rowe, 2) + " deg" : "not determined: " + r.phi_cv_rowe_reason)
     << "\n";
   auto value = [](double v, int decimals) { return given(v) ? cell(v, decimals) : std::string("not determined"); };
-  for (const auto& c : r.compressibility) {
+  // Stages for people: "oedometer S-1", or "oedometer S-1, loading 2" where the specimen has more
+  // than one stage of that kind (not the 0-based stages[k] of the file).
+  auto label = [&](std::size_t i) {
+    const auto& c = r.compressibility[i];
+    const bool oed = c.basis.rfind("oedometer", 0) == 0;
+    int ordinal = 0, total = 0;
+    for (std::size_t j = 0; j < r.compressibility.size(); ++j) {
+      const auto& d = r.compressibility[j];
+      if (d.specimen != c.specimen || (d.basis.rfind("oedometer", 0) == 0) != oed) continue;
+      ++total;
+      if (j <= i) ++ordinal;
+    }
+    return c.specimen + (total > 1 ? ", stage " + std::to_string(ordinal) + " of " + std::to_string(total) : std::string());
+  };
+  for (std::size_t i = 0; i < r.compressibility.size(); ++i) {
+    const auto& c = r.compressibility[i];
     if (c.basis.rfind("oedometer", 0) == 0)
-      o << "  oedometer " << c.specimen << " stages[" << c.stage << "]: lambda " << value(c.lambda, 4) << ", kappa " << value(c.kappa, 4)
+      o << "  oedometer " << label(i) << ": lambda " << value(c.lambda, 4) << ", kappa " << value(c.kappa, 4)
         << " (e - ln s_a'); C_c " << value(c.compression_index, 3) << ", C_s " << value(c.swelling_index, 3) << "; E_oed "
         << value(c.constrained_modulus, 0) << (given(c.constrained_modulus) ? " kPa" : "") << " at s_a' "
         << cell(c.constrained_modulus_stress, 0) << " kPa\n";
     else
-      o << "  consolidation " << c.specimen << " stages[" << c.stage << "]: lambda " << value(c.lambda, 4) << ", kappa "
+      o << "  consolidation " << label(i) << ": lambda " << value(c.lambda, 4) << ", kappa "
         << value(c.kappa, 4) << "\n";
     o << not_determined("      ", "lambda", c.lambda_reason) << not_determined("      ", "kappa", c.kappa_reason)
       << not_determined("      ", "E_oed", c.constrained_modulus_reason);
