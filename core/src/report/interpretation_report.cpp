@@ -882,7 +882,7 @@ class InterpretationRenderer {
   /// each shear stage, the peak angle and dilation against it, and the CU phase transformation and
   /// instability.
   void sand() {
-    section("sand", "Sand state: critical-state line and state parameter", true);
+    section("sand", "State parameter and power-law critical-state line (sand state)", true);
     o_ << "<p>Critical-state line in the power form e<sub>c</sub> = e<sub>&#915;</sub> &#8722; &#955;<sub>c</sub> "
           "(p&#8242;/p<sub>at</sub>)<sup>&#958;</sup>, p<sub>at</sub> = 101.325 kPa, &#958; fixed (the form of Dafalias &amp; "
           "Manzari 2004, after Li &amp; Wang 1998), fitted by least squares to the steady end states of the compression stages. "
