@@ -79,11 +79,11 @@ std::string CalibrationSummary::outcome_line() const {
 }
 
 namespace {
-// "; 2 of them could not simulate their start" (nothing when none failed).
-std::string starts_text(int failed) {
+// "; 2 of the 11 could not simulate their start and ended there" (nothing when none failed).
+std::string starts_text(int failed, int runs) {
   if (failed == 0) return std::string();
-  return "; " + std::to_string(failed) + (failed == 1 ? " of them could not simulate its start" : " of them could not simulate their start") +
-         " and ended there";
+  return "; " + std::to_string(failed) + " of the " + std::to_string(runs) +
+         (failed == 1 ? " could not simulate its start" : " could not simulate their start") + " and ended there";
 }
 }  // namespace
 
@@ -97,7 +97,7 @@ std::string CalibrationSummary::brief() const {
   if (!uncertainty_basis.empty()) s << "  intervals: " << uncertainty_basis << "\n";
   if (local_runs > 1)
     s << "  " << starts_at_best << " of " << local_runs << " local runs reached the best objective (within "
-      << "same_optimum_tolerance)" << starts_text(failed_starts) << "\n";
+      << "same_optimum_tolerance)" << starts_text(failed_starts, local_runs) << "\n";
   for (const FittedParameter& p : parameters)
     if (p.status != ParameterStatus::fixed) s << parameter_line(p) << "\n";
   double worst = 0.0;
@@ -135,7 +135,7 @@ std::string CalibrationSummary::full() const {
     s << " (" << work_limited_simulations << " ended by the work limit, max_substeps_per_record)";
   s << "\n";
   if (local_runs > 1)
-    s << "  local runs reaching the best objective: " << starts_at_best << " of " << local_runs << starts_text(failed_starts)
+    s << "  local runs reaching the best objective: " << starts_at_best << " of " << local_runs << starts_text(failed_starts, local_runs)
       << "\n";
   s << "  wall time: " << fmt("%.3f", wall_time) << " s on " << threads << " threads ("
     << fmt("%.0f", wall_time > 0.0 ? static_cast<double>(evaluations + jacobian_evaluations) / wall_time : 0.0)
