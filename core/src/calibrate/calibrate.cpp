@@ -843,41 +843,34 @@ CalibrationSummary calibrate(const CalibrationOptions& options, const Calibratio
   return detail::calibrate_validated(options, problem);
 }
 
-CalibrationSummary detail::calibrate_validated(const CalibrationOptions& options, const CalibrationProblem& problem) {
-  const detail::Prepared prepared = detail::prepare(problem);
+namespace {
+
+// The summary's header: model, algorithms, options, threads and the free parameters' names.
+CalibrationSummary begin_summary(const CalibrationOptions& options, const CalibrationProblem& problem,
+                                 const detail::Prepared& prepared) {
   CalibrationSummary summary;
   summary.model = problem.model->name;
   summary.global_algorithm = to_string(options.global);
   summary.local_algorithm = to_string(options.local);
   summary.loss = to_string(options.loss);
   summary.options_text = options_text(options);
-  {
-    // Parallel jobs: the tests of an evaluation, the global runs, the Jacobian columns (2 per free
-    // parameter), the design points.
-    std::size_t jobs = std::max(prepared.tests.size(), 2 * prepared.free.size());
-    if (options.global != GlobalAlgorithm::none) jobs = std::max(jobs, static_cast<std::size_t>(options.global_runs));
-    jobs = std::max(jobs, static_cast<std::size_t>(options.design_points));
-    jobs = std::max(jobs, static_cast<std::size_t>(options.starts > 0 ? options.starts : 1 + static_cast<int>(prepared.free.size())));
-    summary.threads = resolve_threads(options.threads, jobs);
-  }
-  const std::size_t n = prepared.free.size();
+  // Parallel jobs: the tests of an evaluation, the global runs, the Jacobian columns (2 per free
+  // parameter), the design points.
+  std::size_t jobs = std::max(prepared.tests.size(), 2 * prepared.free.size());
+  if (options.global != GlobalAlgorithm::none) jobs = std::max(jobs, static_cast<std::size_t>(options.global_runs));
+  jobs = std::max(jobs, static_cast<std::size_t>(options.design_points));
+  jobs = std::max(jobs, static_cast<std::size_t>(options.starts > 0 ? options.starts : 1 + static_cast<int>(prepared.free.size())));
+  summary.threads = resolve_threads(options.threads, jobs);
   for (int k : prepared.free) summary.free_names.push_back(prepared.names[static_cast<std::size_t>(k)]);
+  return summary;
+}
 
-  Run run(prepared, options, summary.threads, summary);
-  std::mt19937_64 rng(options.seed);
-  evaluate_start(run);
-  run_design(run, rng);
-  StageEnd end;
-  run_global(run, end);
-  run_local(run, rng, end);
-  const Ending ending = ending_of(run, end, summary.evaluations);
-  summary.termination = ending.termination;
-
-  // The fitted set, its curves and fit quality.
+// Every parameter of the model with its status and fitted value; the free ones with start and bounds.
+void record_parameters(const Run& run, const ModelInfo& info, CalibrationSummary& summary) {
+  const detail::Prepared& prepared = run.prepared;
   const ParameterValues best_values = prepared.values(run.best_unit);
   summary.values = best_values;
   summary.objective = run.best;
-  const ModelInfo& info = *problem.model;
   for (std::size_t i = 0; i < info.parameters.size(); ++i) {
     FittedParameter fp;
     fp.name = info.parameters[i].name;
@@ -887,17 +880,23 @@ CalibrationSummary detail::calibrate_validated(const CalibrationOptions& options
     summary.parameters.push_back(fp);
   }
   for (const auto& [i, e] : prepared.ties) summary.parameters[static_cast<std::size_t>(i)].expression = e.text();
-  for (std::size_t k = 0; k < n; ++k) {
+  for (std::size_t k = 0; k < prepared.free.size(); ++k) {
     FittedParameter& fp = summary.parameters[static_cast<std::size_t>(prepared.free[k])];
     fp.start = prepared.start[k];
     fp.lower = prepared.lower[k];
     fp.upper = prepared.upper[k];
     fp.at_bound = run.best_unit[k] < 1e-6 || run.best_unit[k] > 1.0 - 1e-6;
   }
+}
+
+// The fitted set's own simulation of every test: curves, R^2 and the warnings of poor curves and
+// failed tests. Returns whether the simulation could be built.
+bool record_fitted_curves(Run& run, const CalibrationOptions& options, CalibrationSummary& summary) {
+  const detail::Prepared& prepared = run.prepared;
   // The fitted set's own simulation runs without the search's work limit: its messages are the
   // driver's own.
   run.main.evaluator.limit_work(false);
-  const bool built = run.main.evaluator.simulate(best_values, detail::PlanMode::record);
+  const bool built = run.main.evaluator.simulate(summary.values, detail::PlanMode::record);
   std::vector<double> shares;
   run.main.evaluator.objective(built, &shares);
   for (std::size_t t = 0; t < prepared.tests.size(); ++t) {
@@ -938,22 +937,53 @@ CalibrationSummary detail::calibrate_validated(const CalibrationOptions& options
     summary.tests.push_back(std::move(tf));
     summary.simulations.push_back(run.main.evaluator.outcome(static_cast<int>(t)).result);
   }
-  judge_outcome(summary, ending, run, built);
-  for (std::size_t k = 0; k < n; ++k) {
+  return built;
+}
+
+void warn_at_bounds(const Run& run, CalibrationSummary& summary) {
+  const detail::Prepared& prepared = run.prepared;
+  for (std::size_t k = 0; k < prepared.free.size(); ++k) {
     const FittedParameter& fp = summary.parameters[static_cast<std::size_t>(prepared.free[k])];
     if (fp.at_bound)
       summary.warnings.push_back(fp.name + " ended at its " + (run.best_unit[k] < 0.5 ? "lower" : "upper") + " bound " +
                                  format_number(run.best_unit[k] < 0.5 ? fp.lower : fp.upper) + " " + fp.unit +
                                  ": the fit may want a value beyond it; widen the bounds or fix it (its interval is not reliable).");
   }
+}
+
+// Intervals from the Jacobian at the end point (uncertainty.cpp), for a usable fit that was not stopped.
+void estimate_uncertainty(Run& run, const CalibrationOptions& options, CalibrationSummary& summary) {
   Eigen::VectorXd d0;
-  if (options.uncertainty && summary.usable() && summary.termination != CalibrationTermination::stopped &&
-      detail::residuals(prepared, run.main.evaluator, d0)) {
-    const bool same = !run.kept_jac_at.empty() && run.kept_jac_at == run.best_unit;
-    const detail::UncertaintyContext context{prepared,          options, run.best_unit, run.main.evaluator,
-                                             side_jobs(run),    summary, same ? &run.kept_jac : nullptr};
-    detail::uncertainty(context, best_values, d0);
-  }
+  if (!options.uncertainty || !summary.usable() || summary.termination == CalibrationTermination::stopped ||
+      !detail::residuals(run.prepared, run.main.evaluator, d0))
+    return;
+  const bool same = !run.kept_jac_at.empty() && run.kept_jac_at == run.best_unit;
+  const detail::UncertaintyContext context{run.prepared,   options, run.best_unit, run.main.evaluator,
+                                           side_jobs(run), summary, same ? &run.kept_jac : nullptr};
+  detail::uncertainty(context, summary.values, d0);
+}
+
+}  // namespace
+
+CalibrationSummary detail::calibrate_validated(const CalibrationOptions& options, const CalibrationProblem& problem) {
+  const detail::Prepared prepared = detail::prepare(problem);
+  CalibrationSummary summary = begin_summary(options, problem, prepared);
+  Run run(prepared, options, summary.threads, summary);
+  std::mt19937_64 rng(options.seed);
+  // The search: the start point, a design, a global stage (if any), the local runs.
+  evaluate_start(run);
+  run_design(run, rng);
+  StageEnd end;
+  run_global(run, end);
+  run_local(run, rng, end);
+  const Ending ending = ending_of(run, end, summary.evaluations);
+  summary.termination = ending.termination;
+  // The result: parameters, the fitted set's curves, the outcome, warnings, intervals.
+  record_parameters(run, *problem.model, summary);
+  const bool built = record_fitted_curves(run, options, summary);
+  judge_outcome(summary, ending, run, built);
+  warn_at_bounds(run, summary);
+  estimate_uncertainty(run, options, summary);
   summary.message = (summary.outcome == CalibrationOutcome::failed ? "no usable result: " + summary.outcome_reason
                                                                    : ending.message) +
                     "; objective " + format_number(summary.objective) + " (start " +
