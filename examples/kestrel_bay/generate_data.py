@@ -94,7 +94,8 @@ for ea, ev, q in sand_curve(200.0):
     q_meas = q + 4 * E_M * T_M * ea / DR
     rows.append((q_meas * area / 1e6 + noise(2e-4), 5.0 + ea * HR, 40.0 + ev * HR * AR / 1000 + noise(0.002),
                  BACK + 200.0, BACK + noise(0.1)))
-write("cd_200_raw.csv", ["Load kN", "Disp mm", "Gauge cm3", "Cell kPa", "Back kPa"], rows)
+write("cd_200_raw.csv", ["Load kN", "Disp mm", "Gauge cm3", "Cell kPa", "Back kPa"], rows,
+      preamble=("# Kestrel Bay terrace (INVENTED demo data) - sand unit S, CD test, raw load/displacement/volume gauge readings",))
 
 # ---------------- soft silty clay, CU (NC, MCC-like path) ----------------
 M, LAM, KAP = 1.2, 0.12, 0.02
@@ -129,7 +130,8 @@ EV_CU1 = ev_total
 for ea, q, du in clay_cu(100.0):
     rows.append((2, EV_CU1 / 3 + ea, EV_CU1, q + noise(0.2), BACK + du + noise(0.2), BACK + 100))
 # The clay was loaded to 150 and unloaded to 100 (lightly overconsolidated); the demo keeps the NC path.
-write("cu_100.csv", ["stage", "eps_a", "eps_v", "q", "u", "cell"], rows)
+write("cu_100.csv", ["stage", "eps_a", "eps_v", "q", "u", "cell"], rows,
+      preamble=("# Kestrel Bay terrace (INVENTED demo data) - clay unit C, CU test",))
 
 # CU-200: semicolon delimiter and decimal commas, strain in %, stresses in MPa (a lab export).
 rows = []
@@ -145,7 +147,8 @@ for cell, cu, name, bom in ((100.0, 31.0, "uu_100.tsv", False), (200.0, 34.0, "u
         ea = 0.15 * (k / 60) ** 1.3
         q = 2 * cu * ea / (0.008 + ea) * 1.05 if ea > 0 else 0.0
         rows.append((ea, q + noise(0.3)))
-    write(name, ["ea", "q_kPa"], rows, delimiter="\t", bom=bom, crlf=bom)
+    write(name, ["ea", "q_kPa"], rows, delimiter="\t", bom=bom, crlf=bom,
+          preamble=("# Kestrel Bay terrace (INVENTED demo data) - clay unit C, UU test",))
 
 # ---------------- multi-stage CU: 50, 100, 200 kPa, stage column ----------------
 rows = []
@@ -157,5 +160,6 @@ for stage, p0 in ((1, 50.0), (2, 100.0), (3, 200.0)):
     for ea, q, du in path:
         rows.append((stage, ea_acc + ea, q + noise(0.2), du + noise(0.2), BACK + p0))
     ea_acc += path[-1][0]
-write("ms_1.csv", ["stage", "axial strain", "deviator", "excess pwp", "cell"], rows)
+write("ms_1.csv", ["stage", "axial strain", "deviator", "excess pwp", "cell"], rows,
+      preamble=("# Kestrel Bay terrace (INVENTED demo data) - clay unit C, three-stage CU test",))
 print("written")

@@ -41,8 +41,9 @@ def simulate(protocol):
             return list(csv.DictReader(f))
 
 
-def write(path, header, rows):
+def write(path, header, rows, what):
     with open(path, "w", newline="") as f:
+        f.write("# Kestrel Bay terrace (INVENTED demo data) - " + what + "\n")  # the series skips it (skip_rows)
         f.write(",".join(header) + "\n")
         for r in rows:
             f.write(",".join(("%d" % v) if isinstance(v, int) else ("%.6g" % v) for v in r) + "\n")
@@ -59,7 +60,7 @@ for k, r in enumerate(ends):
     ea = float(r["axial_strain[-]"]) + (random.gauss(0.0, 2e-5) if k > 0 else 0.0)
     sa = float(r["axial_stress[kPa]"])
     rows.append((ea, sa, round(E0 - (1 + E0) * ea, 3)))
-write("oed_c1.csv", ["strain", "sigma_v", "e"], rows)
+write("oed_c1.csv", ["strain", "sigma_v", "e"], rows, "clay unit C, oedometer test")
 
 # ---------------- CU tests: consolidated to p_max, unloaded to p_shear, sheared undrained ----------------
 E_SET = 1.0
@@ -85,7 +86,9 @@ def cu_test(name, p_max, p_shear, path):
         q = float(r["q[kPa]"]) + random.gauss(0.0, 0.2)
         u = BACK + float(r["excess_pore_pressure[kPa]"]) + random.gauss(0.0, 0.2)
         rows.append((ea, q, u, BACK + p_shear))
-    write(path, ["eps_a", "q", "u", "cell"], rows)
+    ocr = p_max / p_shear
+    write(path, ["eps_a", "q", "u", "cell"], rows,
+          "clay unit C, CU test" + (", normally consolidated" if ocr == 1 else " at OCR %g" % ocr))
 
 
 cu_test("C-OC2-100", 200, 100, "cu_100_ocr2.csv")   # OCR 2
