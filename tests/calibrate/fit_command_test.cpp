@@ -80,6 +80,15 @@ TEST_CASE("fit of the demo series writes a parameter set that triaxcal simulate 
   CHECK(json["provenance"]["inputs"][0]["sha256"].get<std::string>().size() == 64);
   CHECK(json["caution"].get<std::string>().rfind("Caution:", 0) == 0);
   CHECK(json["fit"]["outcome"] == "converged");
+  // The search's counts beside the outcome (how many local runs reached the best objective is the
+  // sign of a well-posed problem): present, and consistent with each other.
+  const auto& fit = json["fit"];
+  CHECK(fit["local_runs"].get<int>() >= 1);
+  CHECK(fit["local_runs_at_best"].get<int>() >= 1);
+  CHECK(fit["local_runs_at_best"].get<int>() <= fit["local_runs"].get<int>());
+  CHECK(fit["failed_starts"].get<int>() == 0);
+  CHECK(fit["work_limited_simulations"].get<long>() == 0);
+  CHECK(fit["jacobian_evaluations"].get<long>() > 0);
   const auto html = slurp("fit_ok_out/fit_ok.report.html");
   CHECK(html.find("<div class=\"outcome outcome-converged\" id=\"outcome\" data-outcome=\"converged\">") !=
         std::string::npos);

@@ -145,6 +145,10 @@ void write_contents(const Writer& w, hid_t file, const CalibrationSummary& s, co
   w.attribute(summary, "evaluations", s.evaluations);
   w.attribute(summary, "failed_simulations", s.failed_simulations);
   w.attribute(summary, "jacobian_evaluations", s.jacobian_evaluations);
+  w.attribute(summary, "work_limited_simulations", s.work_limited_simulations);
+  w.attribute(summary, "local_runs", static_cast<long>(s.local_runs));
+  w.attribute(summary, "local_runs_at_best", static_cast<long>(s.starts_at_best));
+  w.attribute(summary, "failed_starts", static_cast<long>(s.failed_starts));
   w.attribute(summary, "wall_time_s", s.wall_time);
   w.attribute(summary, "threads", static_cast<long>(s.threads));
   w.attribute(summary, "global_algorithm", s.global_algorithm);

@@ -122,6 +122,11 @@ std::string format_parameter_set(const CalibrationSummary& s, const ModelInfo& m
   fit["objective"] = number_or_null(s.objective);
   fit["evaluations"] = s.evaluations;
   fit["failed_simulations"] = s.failed_simulations;
+  fit["work_limited_simulations"] = s.work_limited_simulations;
+  fit["jacobian_evaluations"] = s.jacobian_evaluations;
+  fit["local_runs"] = s.local_runs;
+  fit["local_runs_at_best"] = s.starts_at_best;
+  fit["failed_starts"] = s.failed_starts;
   fit["wall_time_s"] = s.wall_time;
   fit["threads"] = s.threads;
   fit["global_algorithm"] = s.global_algorithm;
