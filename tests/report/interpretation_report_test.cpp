@@ -393,6 +393,11 @@ TEST_CASE("failure-value stages are drawn in the s'-t and Mohr plots as points w
     CHECK(pixel_error(my, 0.5 * reported[i]->by_max_deviator.q, std::stod(uses[i]->get("y"))) < 1.0);
   }
   CHECK(svg->by_class("stress-path").empty());  // no curve, no path
+  // A criterion's legend entry only where it has points.
+  bool any_ratio = false;
+  for (const StageInterpretation* s : reported) any_ratio = any_ratio || !std::isnan(s->by_max_stress_ratio.s);
+  INFO("points by the maximum stress ratio: " << any_ratio);
+  CHECK((series_of_class(*svg, "failure-max-stress-ratio") != nullptr) == any_ratio);
   const Element* fig = dom->by_id("fig-plot-s-t");
   REQUIRE(fig != nullptr);
   CHECK(fig->by_name("figcaption").front()->text.find("Failure points without a path are the lab's values at failure") !=

@@ -522,10 +522,13 @@ class InterpretationRenderer {
       }
     }
     const bool dev = o.criterion == FailureCriterion::max_deviator, ratio = o.criterion == FailureCriterion::max_stress_ratio;
-    p.series.push_back(points(std::string("failure: maximum deviator stress") + (dev ? " (declared)" : ""), dx, dy, 4,
-                              svg::Marker::circle, "failure-max-deviator"));
-    p.series.push_back(points(std::string("failure: maximum stress ratio") + (ratio ? " (declared)" : ""), rx, ry, 4,
-                              svg::Marker::triangle, "failure-max-stress-ratio"));
+    // A criterion with no point (e.g. failure-value stages only) gets no legend entry.
+    if (!dx.empty())
+      p.series.push_back(points(std::string("failure: maximum deviator stress") + (dev ? " (declared)" : ""), dx, dy, 4,
+                                svg::Marker::circle, "failure-max-deviator"));
+    if (!rx.empty())
+      p.series.push_back(points(std::string("failure: maximum stress ratio") + (ratio ? " (declared)" : ""), rx, ry, 4,
+                                svg::Marker::triangle, "failure-max-stress-ratio"));
     if (!cx.empty())
       p.series.push_back(points("failure: " + to_string(o.criterion) + " (declared)", cx, cy, 4, svg::Marker::square, "failure-criterion"));
     if (!ox.empty()) p.series.push_back(points("declared failure point not used", ox, oy, 1, svg::Marker::cross, "failure-unused"));
