@@ -362,7 +362,7 @@ class Runner {
   enum class GroupOutcome { accepted, rejected, model_failed };
   GroupOutcome group_step(const Control& control, const MaterialState& from, const Mat6& predictor,
                           const Vec6& cs_start, const double* ends, int m, const Vec6& d_acc, const Vec6& stage_offset,
-                          bool check_error, double& err_estimate, double& weight, int& smooth);
+                          double sum_sq, bool check_error, double& err_estimate, double& weight, int& smooth);
   // Pore pressure after the strain increment d (since the pore pressure was u0) reaching `state`.
   double pore_pressure(Drainage drainage, const MaterialState& state, const Vec6& d, double u0) const;
   // Integrates the fraction [s0, s1] of a record step (fixed stepping) or of a stage (error
@@ -741,13 +741,12 @@ double Runner::error_estimate(const Control& c, const MaterialState& one, const 
 
 Runner::GroupOutcome Runner::group_step(const Control& c, const MaterialState& from, const Mat6& predictor,
                                         const Vec6& cs_start, const double* ends, int m, const Vec6& d_acc,
-                                        const Vec6& stage_offset, bool check_error, double& err_estimate,
-                                        double& weight, int& smooth) {
+                                        const Vec6& stage_offset, double sum_sq, bool check_error,
+                                        double& err_estimate, double& weight, int& smooth) {
   const MaterialState* at = &from;
   const Mat6* tangent = &predictor;
   Vec6 sum = Vec6::Zero();
   Vec6 d;
-  double sum_sq = 0.0;
   double linear_gap = 0.0;
   smooth = m;
   for (int j = 0; j < m; ++j) {
@@ -772,8 +771,6 @@ Runner::GroupOutcome Runner::group_step(const Control& c, const MaterialState& f
     g.d = sum;
     at = &g.state;
     tangent = &g.tangent;
-    const double a = ends[j + 1] - ends[j];
-    sum_sq += a * a;
   }
   Vec6 d_one;
   if (!substep(c, from, predictor, cs_start, ends[0], ends[m], d_acc, d_one, *one_state_, *one_tangent_, false))
@@ -846,13 +843,19 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
   bool failed = false; // a substep failed since the last record: no growth
   const int first_counter = counter;
   const bool replay = replay_ != nullptr;
+  // Accepted and rejected substeps (pairs and groups alike) are bounded by max_substeps.
+  auto out_of_substeps = [&](int n) {
+    if (result_.substeps + result_.rejected_substeps < opt_.max_substeps) return false;
+    fail(stage, n, "the error control used all " + std::to_string(opt_.max_substeps) +
+                       " substeps of max_substeps at tolerance " + format_number(opt_.tolerance));
+    return true;
+  };
   while (next <= per_phase) {
     const double limit = fraction(next);
     const double h = proposed;
     const double remaining = limit - s0;
     // A record group over the next m records, or (m = 0) a pair.
     int m = 0;
-    double group_sq = 0.0;
     double ends[kMaxGroup + 1];
     ends[0] = s0;
     if (replay) {
@@ -869,30 +872,23 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
         sum_sq += a * a;
         if (2.0 * sum_sq > reach * reach) break;
         const double span = fraction(next + j - 1) - s0;
-        if (j >= 2 && sum_sq <= kMaxGroupShare * span * span) {
-          m = j;
-          group_sq = sum_sq;
-        }
+        if (j >= 2 && sum_sq <= kMaxGroupShare * span * span) m = j;
       }
     }
     if (m >= 2) {
       const int n = first_counter + next;
-      if (result_.substeps + result_.rejected_substeps >= opt_.max_substeps) {
-        fail(stage, n, "the error control used all " + std::to_string(opt_.max_substeps) +
-                           " substeps of max_substeps at tolerance " + format_number(opt_.tolerance));
-        return false;
-      }
-      for (int j = 1; j <= m; ++j) ends[j] = fraction(next + j - 1);
-      if (replay) {
-        double sum_sq = 0.0;
-        for (int j = 1; j <= m; ++j) sum_sq += (ends[j] - ends[j - 1]) * (ends[j] - ends[j - 1]);
-        group_sq = sum_sq;
+      if (out_of_substeps(n)) return false;
+      double group_sq = 0.0;  // sum a_i^2 of the chain's substeps
+      for (int j = 1; j <= m; ++j) {
+        ends[j] = fraction(next + j - 1);
+        group_sq += (ends[j] - ends[j - 1]) * (ends[j] - ends[j - 1]);
       }
       double err = 0.0;
       double weight = 1.0;
       int smooth = m;
       const GroupOutcome outcome =
-          group_step(c, *state_, *tangent_, cs_start, ends, m, d_acc, stage_offset, !replay, err, weight, smooth);
+          group_step(c, *state_, *tangent_, cs_start, ends, m, d_acc, stage_offset, group_sq, !replay, err, weight,
+                     smooth);
       if (outcome == GroupOutcome::model_failed) {
         if (replay) {
           fail(stage, n, "the model failed on a replayed substep");
@@ -965,11 +961,7 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
     const double sm = 0.5 * (s0 + s1);
     const double size = s1 - s0;
     const int n = first_counter + next;
-    if (result_.substeps + result_.rejected_substeps >= opt_.max_substeps) {
-      fail(stage, n, "the error control used all " + std::to_string(opt_.max_substeps) +
-                         " substeps of max_substeps at tolerance " + format_number(opt_.tolerance));
-      return false;
-    }
+    if (out_of_substeps(n)) return false;
     bool ok = substep(c, *state_, *tangent_, cs_start, s0, s1, d_acc, d_one, *one_state_, *one_tangent_, failed) &&
               substep(c, *state_, *tangent_, cs_start, s0, sm, d_acc, d_first, *half_state_, *half_tangent_, failed);
     if (ok) {
@@ -981,8 +973,8 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
       fail(stage, n, "the model failed on a replayed substep");
       return false;
     }
-    if (!ok) capacity = 0.0;
     if (!ok) {
+      capacity = 0.0;
       // Cuts of a substep within one record step count against max_cuts; a substep across records
       // is halved freely down to the record spacing.
       if (s1 <= fraction(next)) ++cuts;
