@@ -13,6 +13,7 @@
 
 #include <nlohmann/json.hpp>
 
+#include "calibration_file_checks.hpp"
 #include "cli_run.hpp"
 #include "triaxcal/calibration_file.hpp"
 #include "triaxcal/error.hpp"
@@ -97,19 +98,6 @@ Values values_of(const Interpretation& in) {
 }
 
 const ModelInfo& model(const std::string& name) { return find_model(name).info(); }
-
-const ParameterSpec& spec_of(const CalibrationFile& f, const std::string& name) {
-  for (const ParameterSpec& p : f.parameters)
-    if (p.name == name) return p;
-  FAIL("no parameter " << name);
-  return f.parameters.front();
-}
-
-bool has_line(const std::vector<std::string>& notes, const std::string& line) {
-  for (const std::string& n : notes)
-    if (n == line) return true;
-  return false;
-}
 
 std::string message_of(CalibrationFile& f, const TestSeries& series, const ModelInfo& info) {
   try {

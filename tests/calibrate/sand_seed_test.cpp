@@ -13,6 +13,7 @@
 #include <string>
 
 #include "../series/series_fixture.hpp"
+#include "calibration_file_checks.hpp"
 #include "cli_run.hpp"
 #include "triaxcal/calibration_file.hpp"
 #include "triaxcal/error.hpp"
@@ -45,19 +46,6 @@ const TestSeries& series() {
 const ModelInfo& sand() { return find_model("sand_state_bounding").info(); }
 ModelFactory factory() {
   return [](const ParameterValues& v) { return find_model("sand_state_bounding").create(v, "cal.json"); };
-}
-
-const ParameterSpec& spec_of(const CalibrationFile& f, const std::string& name) {
-  for (const ParameterSpec& p : f.parameters)
-    if (p.name == name) return p;
-  FAIL("no parameter " << name);
-  return f.parameters.front();
-}
-
-bool has_line(const std::vector<std::string>& notes, const std::string& line) {
-  for (const std::string& n : notes)
-    if (n == line) return true;
-  return false;
 }
 
 std::string message_of(const json& calibration) {

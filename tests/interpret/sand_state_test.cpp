@@ -13,30 +13,9 @@
 
 using namespace triaxcal;
 using namespace triaxcal::test;
+using namespace triaxcal::test::sand_hand;
 
 namespace {
-
-constexpr double kPat = 101.325;  // kPa
-constexpr double kEg = 0.90, kLc = 0.03, kXi = 0.7, kM = 1.2;
-double csl(double p) { return kEg - kLc * std::pow(p / kPat, kXi); }
-
-/// A CD compression specimen at s3' (du = 0) with its start void ratio e0: q rises to the peak of
-/// stress ratio R = (1 + sin phi_pk)/(1 - sin phi_pk) at 4 % axial strain, falls to the critical state
-/// q = M p' at 12 % (p' = s3'/(1 - M/3)) and stays there to 20 %; e goes from e0 to e_c(p'_end) by 12 %
-/// and stays; e_v rises 1 % then dilates at a steady rate, constant from 12 %.
-Specimen cd(const std::string& id, double s3, double e0, double phi_pk) {
-  const double s = std::sin(phi_pk * M_PI / 180.0), r = (1.0 + s) / (1.0 - s);
-  const double qpk = s3 * (r - 1.0), pend = s3 / (1.0 - kM / 3.0), qend = kM * pend, eend = csl(pend);
-  std::vector<double> ea, q, ev, e;
-  for (int i = 0; i <= 40; ++i) {
-    const double x = 0.005 * i;
-    ea.push_back(x);
-    q.push_back(x <= 0.04 ? qpk * x / 0.04 : x <= 0.12 ? qpk + (qend - qpk) * (x - 0.04) / 0.08 : qend);
-    ev.push_back(x <= 0.02 ? 0.5 * x : x <= 0.12 ? 0.01 - 0.2 * (x - 0.02) : 0.01 - 0.02);
-    e.push_back(x <= 0.12 ? e0 + (eend - e0) * x / 0.12 : eend);
-  }
-  return make_specimen(id, ShearType::cd, s3, ea, q, ev, {}, e);
-}
 
 /// A CU specimen from its paths q(e_a) and p'(e_a): du = s3 + q/3 - p'.
 Specimen cu(const std::string& id, double s3, const std::vector<double>& ea, const std::vector<double>& q,

@@ -96,4 +96,33 @@ inline Specimen drained_specimen(const std::string& id, double s3, const Drained
   return make_specimen(id, ShearType::cd, s3, ea, q, ev, {}, {}, s3n);
 }
 
+// Invented sand specimens whose expected sand-state values are hand calculations (issue 17; used by
+// tests/interpret/sand_state_test.cpp and tests/report/interpretation_report_test.cpp): the steady end
+// states lie on the power-law critical-state line e_c = 0.90 - 0.03 (p'/p_at)^0.7, M = 1.2.
+namespace sand_hand {
+
+constexpr double kPat = 101.325;  // kPa
+constexpr double kEg = 0.90, kLc = 0.03, kXi = 0.7, kM = 1.2;
+inline double csl(double p) { return kEg - kLc * std::pow(p / kPat, kXi); }
+
+/// A CD compression specimen at s3' (du = 0) with its start void ratio e0: q rises to the peak of
+/// stress ratio R = (1 + sin phi_pk)/(1 - sin phi_pk) at 4 % axial strain, falls to the critical state
+/// q = M p' at 12 % (p' = s3'/(1 - M/3)) and stays there to 20 %; e goes from e0 to e_c(p'_end) by 12 %
+/// and stays; e_v rises 1 % then dilates at a steady rate, constant from 12 %.
+inline Specimen cd(const std::string& id, double s3, double e0, double phi_pk) {
+  const double s = std::sin(phi_pk * M_PI / 180.0), r = (1.0 + s) / (1.0 - s);
+  const double qpk = s3 * (r - 1.0), pend = s3 / (1.0 - kM / 3.0), qend = kM * pend, eend = csl(pend);
+  std::vector<double> ea, q, ev, e;
+  for (int i = 0; i <= 40; ++i) {
+    const double x = 0.005 * i;
+    ea.push_back(x);
+    q.push_back(x <= 0.04 ? qpk * x / 0.04 : x <= 0.12 ? qpk + (qend - qpk) * (x - 0.04) / 0.08 : qend);
+    ev.push_back(x <= 0.02 ? 0.5 * x : x <= 0.12 ? 0.01 - 0.2 * (x - 0.02) : 0.01 - 0.02);
+    e.push_back(x <= 0.12 ? e0 + (eend - e0) * x / 0.12 : eend);
+  }
+  return make_specimen(id, ShearType::cd, s3, ea, q, ev, {}, e);
+}
+
+}  // namespace sand_hand
+
 }  // namespace triaxcal::test

@@ -451,25 +451,11 @@ std::string cells(const Element& tr) {
   return out;
 }
 
-// Hand values (the specimens of tests/interpret/sand_state_test.cpp): CD compression specimens whose
-// steady end states lie on e_c = 0.90 - 0.03 (p'/p_at)^0.7 and whose start states have psi_0 = -0.10,
-// -0.05, -0.02, with phi'_peak = 33 - 40 psi_0 (37, 35, 33.8 deg), M = 1.2.
-constexpr double kPat = 101.325, kEg = 0.90, kLc = 0.03, kXi = 0.7, kM = 1.2;
-double csl(double p) { return kEg - kLc * std::pow(p / kPat, kXi); }
-
-Specimen hand_cd(const std::string& id, double s3, double e0, double phi_pk) {
-  const double sn = std::sin(phi_pk * M_PI / 180.0), r = (1.0 + sn) / (1.0 - sn);
-  const double qpk = s3 * (r - 1.0), pend = s3 / (1.0 - kM / 3.0), qend = kM * pend, eend = csl(pend);
-  std::vector<double> ea, q, ev, e;
-  for (int i = 0; i <= 40; ++i) {
-    const double x = 0.005 * i;
-    ea.push_back(x);
-    q.push_back(x <= 0.04 ? qpk * x / 0.04 : x <= 0.12 ? qpk + (qend - qpk) * (x - 0.04) / 0.08 : qend);
-    ev.push_back(x <= 0.02 ? 0.5 * x : x <= 0.12 ? 0.01 - 0.2 * (x - 0.02) : 0.01 - 0.02);
-    e.push_back(x <= 0.12 ? e0 + (eend - e0) * x / 0.12 : eend);
-  }
-  return make_specimen(id, ShearType::cd, s3, ea, q, ev, {}, e);
-}
+// Hand values (the specimens of tests/interpret/sand_state_test.cpp, sand_hand in
+// tests/interpret/synthetic_specimen.hpp): CD compression specimens whose steady end states lie on
+// e_c = 0.90 - 0.03 (p'/p_at)^0.7 and whose start states have psi_0 = -0.10, -0.05, -0.02, with
+// phi'_peak = 33 - 40 psi_0 (37, 35, 33.8 deg), M = 1.2.
+using sand_hand::csl;
 
 /// A dense CU specimen: p' falls from 100 to 70 kPa at 2 % axial strain, then rises to 190 kPa at 15 %;
 /// q = 2000 e_a to 2 %, then 40 + 900 (e_a - 0.02): phase transformation at 2 %, q/p' = 40/70.
@@ -490,7 +476,7 @@ TestSeries hand_series() {
   TestSeries series;
   series.source = "invented_sand.json";
   const double s3[] = {60.0, 120.0, 240.0}, psi[] = {-0.10, -0.05, -0.02};
-  for (int k = 0; k < 3; ++k) series.specimens.push_back(hand_cd("D" + std::to_string(k), s3[k], csl(s3[k]) + psi[k], 33.0 - 40.0 * psi[k]));
+  for (int k = 0; k < 3; ++k) series.specimens.push_back(sand_hand::cd("D" + std::to_string(k), s3[k], csl(s3[k]) + psi[k], 33.0 - 40.0 * psi[k]));
   series.specimens.push_back(hand_cu(0.70));
   return series;
 }
@@ -628,7 +614,7 @@ TEST_CASE("the sand section says 'not determined' with the reason where one stea
           "[report][interpret][sand]") {
   TestSeries series;
   series.source = "invented_sand.json";
-  series.specimens.push_back(hand_cd("D0", 100.0, 0.80, 36.0));
+  series.specimens.push_back(sand_hand::cd("D0", 100.0, 0.80, 36.0));
   series.specimens.push_back(hand_cu(0.70));
   const Interpretation in = interpret(series, InterpretOptions{});
   const auto tables = report::interpretation_table_ids(in, series);
