@@ -19,6 +19,14 @@ namespace triaxcal {
 /// Most internal variables any model keeps; fixed so that a state never allocates.
 inline constexpr int kMaxStateVariables = 16;
 
+/// Directions one forward-mode derivative pass carries (sensitivity.hpp): a calibration with more
+/// free parameters takes several passes. Four: a pass costs about 1 + lanes model evaluations, so 4
+/// lanes cost 5/4 of their share where 8 would cost 9/8 but leave half of them idle for the common
+/// 4-6 free parameters.
+inline constexpr int kDualLanes = 4;
+
+class DualModel;  // sensitivity.hpp
+
 inline constexpr double kNotGiven = std::numeric_limits<double>::quiet_NaN();
 
 /// What a parameter means to the rest of triaxcal. Calibration seeds and bounds a free parameter
@@ -149,6 +157,13 @@ class TRIAXCAL_CORE_EXPORT Model {
   /// Must not allocate.
   virtual IntegrationResult integrate(const MaterialState& in, const Vec6& strain_increment,
                                       MaterialState& out, Mat6& tangent) const = 0;
+
+  /// The same model with parameters that carry derivatives, for exact sensitivities
+  /// (sensitivity.hpp): `seeds` holds kDualLanes numbers a parameter in ModelInfo order,
+  /// seeds[i * kDualLanes + k] = d(parameter i) / d(t_k) (row-major, parameters().size() rows).
+  /// nullptr (the default): the model has no derivative version (the calibration then takes
+  /// finite differences). Callers include triaxcal/sensitivity.hpp.
+  virtual std::unique_ptr<DualModel> with_derivatives(std::span<const double> seeds) const;
 };
 
 }  // namespace triaxcal
