@@ -10,6 +10,7 @@
 // deviatoric, D a = 2G a and the returns are closed-form (de Souza Neto, Peric & Owen 2008,
 // "Computational Methods for Plasticity", section 8.1, the Tresca return in principal stresses).
 
+#include <array>
 #include <memory>
 #include <string>
 
@@ -21,6 +22,21 @@ class UndrainedTresca final : public Model {
  public:
   enum Parameter { undrained_shear_strength, undrained_youngs_modulus, undrained_poissons_ratio };
   enum StateVariable { accumulated_plastic_multiplier, active_surfaces };
+  static constexpr std::size_t kParameters = 3;
+
+  /// The constants of the return on a scalar T: double for the model, Dual (sensitivity.hpp) for
+  /// its derivative version; one integrate for both (undrained_tresca.cpp).
+  template <class T>
+  struct Constants {
+    Constants() = default;
+    explicit Constants(const std::array<T, kParameters>& p);
+    T cu{};
+    T bulk{};
+    T shear{};
+    T lame{};
+    Mat3 elastic_principal = Mat3::Zero();  // values
+    Mat6 elastic = Mat6::Zero();            // values
+  };
 
   static const ModelInfo& model_info();
   static std::unique_ptr<Model> create(const ParameterValues& values, const std::string& where);
@@ -33,15 +49,14 @@ class UndrainedTresca final : public Model {
   IntegrationResult integrate(const MaterialState& in, const Vec6& strain_increment, MaterialState& out,
                               Mat6& tangent) const override;
 
-  double shear_modulus() const { return shear_; }  ///< G = E_u / (2 (1 + nu_u)) (kPa)
+  /// Parameters as dual numbers: the same integrate on Constants<Dual>.
+  std::unique_ptr<DualModel> with_derivatives(std::span<const double> seeds) const override;
+
+  double shear_modulus() const { return constants_.shear; }  ///< G = E_u / (2 (1 + nu_u)) (kPa)
 
  private:
-  double cu_ = 0.0;
-  double bulk_ = 0.0;
-  double shear_ = 0.0;
-  double lame_ = 0.0;
-  Mat3 elastic_principal_ = Mat3::Zero();
-  Mat6 elastic_ = Mat6::Zero();
+  std::array<double, kParameters> values_{};
+  Constants<double> constants_;
 };
 
 }  // namespace triaxcal
