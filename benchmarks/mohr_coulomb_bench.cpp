@@ -1,14 +1,17 @@
 // Nanoseconds per increment of the general driver with Mohr-Coulomb: drained (Newton on the radial
 // stress) and undrained (strain-controlled) shear of 1000 increments to 20 % axial strain, with the
-// error against the closed-form q_f = (2 s3' sin phi + 2 c cos phi)/(1 - sin phi) beside each figure.
+// error against the closed-form q_f = (2 s3' sin phi + 2 c cos phi)/(1 - sin phi) beside each figure;
+// and one plastic increment of the model against one of its derivative version (issue 14).
 #include <benchmark/benchmark.h>
 
 #include <cmath>
+#include <vector>
 
 #include "protocols.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/models/registry.hpp"
 #include "triaxcal/parameters.hpp"
+#include "triaxcal/sensitivity.hpp"
 
 using namespace triaxcal;
 
@@ -59,8 +62,62 @@ void run(benchmark::State& state, Drainage d, double psi) {
 void BM_MohrCoulombDrainedShear(benchmark::State& s) { run(s, Drainage::drained, kPsi); }
 void BM_MohrCoulombUndrainedShear(benchmark::State& s) { run(s, Drainage::undrained, 0.0); }
 
+// One increment, the model against its derivative version (all four lanes seeded): range(0) = 0 a
+// main-plane return from distinct principal stresses, 1 the triaxial compression edge.
+struct Increment {
+  MaterialState in;
+  Vec6 de;
+};
+Increment increment(int which) {
+  Increment c;
+  Vec6 s, de;
+  if (which == 0) {
+    s << 150, 100, 60, 0, 0, 0;
+    de << 2e-2, 0, -5e-3, 0, 0, 0;
+  } else {
+    s << 100, 50, 50, 0, 0, 0;
+    de << 2e-2, -4e-3, -4e-3, 0, 0, 0;
+  }
+  c.in.stress = s;
+  c.de = de;
+  return c;
+}
+
+void BM_MohrCoulombIncrement(benchmark::State& state) {
+  const auto m = model(kPsi);
+  const Increment c = increment(static_cast<int>(state.range(0)));
+  MaterialState out;
+  Mat6 t;
+  for (auto _ : state) {
+    benchmark::DoNotOptimize(m->integrate(c.in, c.de, out, t));
+    benchmark::ClobberMemory();
+  }
+}
+
+void BM_MohrCoulombDualIncrement(benchmark::State& state) {
+  const auto m = model(kPsi);
+  std::vector<double> seeds(m->info().parameters.size() * kDualLanes, 0.0);
+  for (int k = 0; k < kDualLanes; ++k) seeds[static_cast<std::size_t>(k) * kDualLanes + k] = 1.0;
+  const auto dual = m->with_derivatives(seeds);
+  const Increment c = increment(static_cast<int>(state.range(0)));
+  DualState in;
+  DualVec6 de;
+  for (int i = 0; i < 6; ++i) {
+    in.stress[i] = Dual(c.in.stress[i]);
+    de[i] = Dual(c.de[i]);
+  }
+  DualState out;
+  Mat6 t;
+  for (auto _ : state) {
+    benchmark::DoNotOptimize(dual->integrate(in, de, out, t));
+    benchmark::ClobberMemory();
+  }
+}
+
 }  // namespace
 
+BENCHMARK(BM_MohrCoulombIncrement)->Arg(0)->Arg(1);
+BENCHMARK(BM_MohrCoulombDualIncrement)->Arg(0)->Arg(1);
 // Fixed 200 steps (the old default accuracy) against the error control with 50, 100 and 200 records.
 BENCHMARK(BM_MohrCoulombDrainedShear)->Args({1000, 1})->Args({200, 1})->Args({50, 0})->Args({100, 0})->Args({200, 0})->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_MohrCoulombUndrainedShear)->Args({1000, 1})->Args({200, 1})->Args({50, 0})->Args({100, 0})->Args({200, 0})->Unit(benchmark::kMicrosecond);
