@@ -5,18 +5,21 @@
 // (DriverOptions::fixed_steps: the model's cost, not the driver's error control), and the same runs
 // under the default error control with 50 records (time per record and model calls). Beside each
 // timing the end q relative to a 16000-increment reference (first order: halves as increments
-// double). One plastic integrate call (undrained-like increment on the cone) without the driver.
+// double). One plastic integrate call (undrained-like increment on the cone) without the driver, and
+// the same on the derivative version.
 // Parameters: the Toyoura set of the paper's table, from memory (see the model's tests).
 #include <benchmark/benchmark.h>
 
 #include <cmath>
 #include <map>
 #include <string>
+#include <vector>
 
 #include "protocols.hpp"
 #include "sand_state_bounding/sand_state_bounding.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/parameters.hpp"
+#include "triaxcal/sensitivity.hpp"
 
 using namespace triaxcal;
 
@@ -94,6 +97,33 @@ void BM_SandIntegrate(benchmark::State& state) {
   }
 }
 
+// The same increment on the derivative version (issue 14; four parameters seeded, one a lane): the
+// double integrate for the tangent plus the increment on dual numbers.
+void BM_SandDualIntegrate(benchmark::State& state) {
+  const auto m = model();
+  DriverOptions fixed;
+  fixed.fixed_steps = true;
+  TestProtocol p = test::isotropic_shear(100.0, Drainage::undrained, 0.005, 5);
+  p.initial.void_ratio = 0.83;
+  const auto r = simulate(fixed, *m, p);
+  std::vector<double> seeds(m->info().parameters.size() * kDualLanes, 0.0);
+  for (int k = 0; k < kDualLanes; ++k) seeds[static_cast<std::size_t>(k) * kDualLanes + k] = 1.0;
+  const auto dual = m->with_derivatives(seeds);
+  DualState in;
+  const Vec6 stress = triaxial_stress(r.steps.back().axial_stress, r.steps.back().radial_stress);
+  for (int i = 0; i < 6; ++i) in.stress[i] = Dual(stress[i]);
+  for (std::size_t j = 0; j < in.internal.size(); ++j) in.internal[j] = Dual(r.steps.back().state[j]);
+  DualVec6 de;
+  const double values[6] = {2e-4, -1e-4, -1e-4, 0, 0, 0};
+  for (int i = 0; i < 6; ++i) de[i] = Dual(values[i]);
+  DualState out;
+  Mat6 tangent;
+  for (auto _ : state) {
+    benchmark::DoNotOptimize(dual->integrate(in, de, out, tangent));
+    benchmark::DoNotOptimize(tangent.data());
+  }
+}
+
 }  // namespace
 
 BENCHMARK(BM_SandDrainedFixed)->Arg(1000)->Arg(2000)->Arg(4000)->Unit(benchmark::kMicrosecond);
@@ -101,4 +131,5 @@ BENCHMARK(BM_SandUndrainedFixed)->Arg(1000)->Arg(2000)->Arg(4000)->Unit(benchmar
 BENCHMARK(BM_SandDrainedErrorControl)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_SandUndrainedErrorControl)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_SandIntegrate);
+BENCHMARK(BM_SandDualIntegrate);
 BENCHMARK_MAIN();

@@ -4,8 +4,10 @@
 #include <array>
 #include <cmath>
 #include <limits>
+#include <type_traits>
 
 #include "hyperbolic_hardening/dual.hpp"
+#include "seeded_parameters.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/parameters.hpp"
 
@@ -13,9 +15,24 @@ namespace triaxcal {
 
 namespace {
 
-using hyperbolic::Dual;
 using hyperbolic::value;
-using D6 = Dual<6>;
+using D6 = hyperbolic::Dual<6>;  // six partials: d / d (strain increment), for the tangent
+using Jet = triaxcal::Dual;     // the derivative version's dual numbers (sensitivity.hpp)
+
+inline double value(const Jet& x) { return x.a; }
+
+// The code below is templated on R, the scalar of the parameters and the state (double for the
+// model, Jet for its derivative version), and A, the scalar of the quantities differentiated for the
+// tangent: D6 for the model (its tangent by forward-mode differentiation over the strain
+// increment), Jet for the derivative version (whose tangent is the double model's). `outer` is the R
+// part of an A: the value of a D6, the Jet itself.
+template <class A>
+auto outer(const A& x) {
+  if constexpr (std::is_same_v<A, D6>)
+    return x.v;
+  else
+    return x;
+}
 
 constexpr double inf = std::numeric_limits<double>::infinity();
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
@@ -60,11 +77,14 @@ T sqrt_of(const T& x) {
 }
 
 // Deviatoric tensors of the state: components 11, 22, 12, 23, 31 from `base`.
-V6<double> unpack(const MaterialState& s, int base) {
-  const double a11 = s.internal[base], a22 = s.internal[base + 1];
-  return {a11, a22, -a11 - a22, s.internal[base + 2], s.internal[base + 3], s.internal[base + 4]};
+template <class State>
+auto unpack(const State& s, int base) {
+  using R = std::remove_cvref_t<decltype(s.internal[0])>;
+  const R a11 = s.internal[base], a22 = s.internal[base + 1];
+  return V6<R>{a11, a22, -a11 - a22, s.internal[base + 2], s.internal[base + 3], s.internal[base + 4]};
 }
-void pack(const V6<double>& a, MaterialState& s, int base) {
+template <class R, class State>
+void pack(const V6<R>& a, State& s, int base) {
   s.internal[base] = a[0];
   s.internal[base + 1] = a[1];
   s.internal[base + 2] = a[3];
@@ -107,10 +127,10 @@ struct PlasticStep {
 // elastic trial state, see integrate) (Dafalias & Manzari 2004; equation numbers from memory).
 // S: the type of the start stress (double where the step starts on the cone, else differentiated
 // like T, the type of n and of the strain increment).
-template <class S, class T>
-Status plastic_step(const SandStateBounding::Constants& k, const V6<S>& sigma, const V6<T>& n,
-                    const V6<double>& alpha, const V6<double>& z, const V6<double>& alpha_in, double e,
-                    const V6<T>& de, PlasticStep<T>& o) {
+template <class R, class S, class T>
+Status plastic_step(const SandStateBounding::ConstantsOf<R>& k, const V6<S>& sigma, const V6<T>& n,
+                    const V6<R>& alpha, const V6<R>& z, const V6<R>& alpha_in, const R& e, const V6<T>& de,
+                    PlasticStep<T>& o) {
   using std::exp;
   using std::pow;
   const S p = (sigma[0] + sigma[1] + sigma[2]) / 3.0;
@@ -118,7 +138,7 @@ Status plastic_step(const SandStateBounding::Constants& k, const V6<S>& sigma, c
   const V6<S> r = stress_ratio(sigma, p);
   // Elasticity (eq. 2, from memory): G = G0 p_at (2.97 - e)^2/(1 + e) (p'/p_at)^0.5, K from nu.
   const S root = sqrt_of(p / kPat);
-  const double density = (2.97 - e) * (2.97 - e) / (1.0 + e);
+  const R density = (2.97 - e) * (2.97 - e) / (1.0 + e);
   const S shear = (k.g0 * kPat * density) * root;
   const S bulk = k.bulk_factor * shear;
   // State parameter psi = e - e_c with e_c = e_0 - lambda_c (p'/p_at)^xi (eq. 3, from memory).
@@ -145,7 +165,7 @@ Status plastic_step(const SandStateBounding::Constants& k, const V6<S>& sigma, c
   T x = an - ddot(alpha_in, n);
   o.reversed = value(x) < 0.0;
   if (value(x) < kReversalFloor) x = T(kReversalFloor);
-  const double density_factor = 1.0 - k.c_h * e;
+  const R density_factor = 1.0 - k.c_h * e;
   if (!(density_factor > 0.0)) return Status::invalid_input;
   const S b0 = (k.g0 * k.h0 * density_factor) / root;
   const T h = b0 / x;
@@ -157,7 +177,7 @@ Status plastic_step(const SandStateBounding::Constants& k, const V6<S>& sigma, c
   const T dil = k.a0 * (1.0 + zn) * dn;
   // Deviatoric flow R' = B n - C (n^2 - I/3), B = 1 + (3/2)(1 - c)/c g cos 3theta,
   // C = 3 sqrt(3/2) (1 - c)/c g (eq. 13, from memory; R' = n in triaxial compression and extension).
-  const double lode = (1.0 - k.c) / k.c;
+  const R lode = (1.0 - k.c) / k.c;
   const T bb = 1.0 + 1.5 * lode * g * cos3;
   const T cc = (3.0 * kSqrt32 * lode) * g;
   V6<T> rdev;
@@ -197,28 +217,100 @@ Status plastic_step(const SandStateBounding::Constants& k, const V6<S>& sigma, c
   return Status::ok;
 }
 
+template <class R>
+using Stress = Eigen::Matrix<R, 6, 1>;
+
+template <class R>
+R mean_of(const Stress<R>& s) {
+  return (s[0] + s[1] + s[2]) / 3.0;  // mean_stress (conventions.hpp) on R
+}
+
 // Moves alpha radially in the deviatoric ratio plane so that the stress lies on the cone:
 // alpha = r - sqrt(2/3) m (r - alpha)/||r - alpha||.
-void onto_cone(const Vec6& stress, double radius, V6<double>& alpha) {
-  const double p = mean_stress(stress);
-  const V6<double> sigma{stress[0], stress[1], stress[2], stress[3], stress[4], stress[5]};
-  const V6<double> r = stress_ratio(sigma, p);
-  V6<double> d;
+template <class R>
+void onto_cone(const Stress<R>& stress, const R& radius, V6<R>& alpha) {
+  const R p = mean_of(stress);
+  const V6<R> sigma{stress[0], stress[1], stress[2], stress[3], stress[4], stress[5]};
+  const V6<R> r = stress_ratio(sigma, p);
+  V6<R> d;
   for (int i = 0; i < 6; ++i) d[i] = r[i] - alpha[i];
-  const double norm = std::sqrt(ddot(d, d));
+  const R norm = sqrt_of(ddot(d, d));
   if (!(norm > 0.0)) return;
   for (int i = 0; i < 6; ++i) alpha[i] = r[i] - radius * d[i] / norm;
 }
 
 // f/p' = ||r - alpha|| - sqrt(2/3) m.
-double cone_function(const Vec6& stress, double radius, const V6<double>& alpha) {
-  const double p = mean_stress(stress);
-  const V6<double> sigma{stress[0], stress[1], stress[2], stress[3], stress[4], stress[5]};
-  const V6<double> r = stress_ratio(sigma, p);
-  V6<double> d;
+template <class R>
+R cone_function(const Stress<R>& stress, const R& radius, const V6<R>& alpha) {
+  const R p = mean_of(stress);
+  const V6<R> sigma{stress[0], stress[1], stress[2], stress[3], stress[4], stress[5]};
+  const V6<R> r = stress_ratio(sigma, p);
+  V6<R> d;
   for (int i = 0; i < 6; ++i) d[i] = r[i] - alpha[i];
-  return std::sqrt(ddot(d, d)) - radius;
+  return sqrt_of(ddot(d, d)) - radius;
 }
+
+// The elastic stiffness on R (isotropic_elastic_stiffness, conventions.hpp).
+template <class R>
+Eigen::Matrix<R, 6, 6> elastic_stiffness(const R& bulk, const R& shear) {
+  if constexpr (std::is_same_v<R, double>) {
+    return isotropic_elastic_stiffness(bulk, shear);
+  } else {
+    Eigen::Matrix<R, 6, 6> d;
+    for (int i = 0; i < 6; ++i)
+      for (int j = 0; j < 6; ++j) d(i, j) = R(0.0);
+    const R a = bulk + 4.0 * shear / 3.0;
+    const R b = bulk - 2.0 * shear / 3.0;
+    for (int i = 0; i < 3; ++i)
+      for (int j = 0; j < 3; ++j) d(i, j) = (i == j) ? a : b;
+    for (int i = 3; i < 6; ++i) d(i, i) = shear;
+    return d;
+  }
+}
+
+template <class R>
+bool all_finite(const Stress<R>& s) {
+  for (int i = 0; i < 6; ++i)
+    if (!std::isfinite(value(s[i]))) return false;
+  return true;
+}
+
+// The constants in the paper's symbols from the parameters in ModelInfo order.
+template <class R>
+SandStateBounding::ConstantsOf<R> constants_of(const std::array<R, SandStateBounding::kParameters>& v) {
+  using P = SandStateBounding::Parameter;
+  SandStateBounding::ConstantsOf<R> k;
+  k.m_c = v[P::critical_state_ratio];
+  k.c = v[P::extension_ratio];
+  k.e0 = v[P::csl_void_ratio_ref];
+  k.lambda_c = v[P::csl_lambda];
+  k.xi = v[P::csl_exponent];
+  k.g0 = v[P::shear_modulus_constant];
+  k.nu = v[P::poissons_ratio];
+  k.m = v[P::yield_cone_size];
+  k.h0 = v[P::hardening_constant];
+  k.c_h = v[P::hardening_density_factor];
+  k.n_b = v[P::bounding_exponent];
+  k.a0 = v[P::dilatancy_constant];
+  k.n_d = v[P::dilatancy_exponent];
+  k.z_max = v[P::fabric_max];
+  k.c_z = v[P::fabric_rate];
+  k.bulk_factor = 2.0 * (1.0 + k.nu) / (3.0 * (1.0 - 2.0 * k.nu));
+  k.radius = kSqrt23 * k.m;
+  return k;
+}
+
+// G = G0 p_at (2.97 - e)^2/(1 + e) (p'/p_at)^0.5.
+template <class R>
+R shear_modulus_of(const SandStateBounding::ConstantsOf<R>& k, const R& e, const R& p) {
+  return k.g0 * kPat * (2.97 - e) * (2.97 - e) / (1.0 + e) * sqrt_of(p / kPat);
+}
+
+// One increment (SandStateBounding::integrate) on R; A as above. `tangent` is filled where given
+// (A = D6 only).
+template <class R, class A>
+IntegrationResult integrate_sand(const SandStateBounding::ConstantsOf<R>& k, const StateOf<R>& in,
+                                 const Stress<R>& de, StateOf<R>& out, Mat6* tangent);
 
 }  // namespace
 
@@ -316,23 +408,8 @@ std::unique_ptr<Model> SandStateBounding::create(const ParameterValues& v, const
 }
 
 SandStateBounding::SandStateBounding(const ParameterValues& v) {
-  k_.m_c = v[critical_state_ratio];
-  k_.c = v[extension_ratio];
-  k_.e0 = v[csl_void_ratio_ref];
-  k_.lambda_c = v[csl_lambda];
-  k_.xi = v[csl_exponent];
-  k_.g0 = v[shear_modulus_constant];
-  k_.nu = v[poissons_ratio];
-  k_.m = v[yield_cone_size];
-  k_.h0 = v[hardening_constant];
-  k_.c_h = v[hardening_density_factor];
-  k_.n_b = v[bounding_exponent];
-  k_.a0 = v[dilatancy_constant];
-  k_.n_d = v[dilatancy_exponent];
-  k_.z_max = v[fabric_max];
-  k_.c_z = v[fabric_rate];
-  k_.bulk_factor = 2.0 * (1.0 + k_.nu) / (3.0 * (1.0 - 2.0 * k_.nu));
-  k_.radius = kSqrt23 * k_.m;
+  for (std::size_t i = 0; i < kParameters; ++i) values_[i] = v[i];
+  k_ = constants_of(values_);
 }
 
 double SandStateBounding::critical_void_ratio(double p) const {
@@ -340,7 +417,7 @@ double SandStateBounding::critical_void_ratio(double p) const {
 }
 
 double SandStateBounding::shear_modulus(double e, double p) const {
-  return k_.g0 * kPat * (2.97 - e) * (2.97 - e) / (1.0 + e) * std::sqrt(p / kPat);
+  return shear_modulus_of(k_, e, p);
 }
 
 void SandStateBounding::initialise(const InitialConditions& c, MaterialState& state) const {
@@ -368,26 +445,31 @@ void SandStateBounding::initialise(const InitialConditions& c, MaterialState& st
   pack(r, state, reversal_back_stress_ratio);
 }
 
-IntegrationResult SandStateBounding::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
-                                               Mat6& tangent) const {
+namespace {
+
+template <class R, class A>
+IntegrationResult integrate_sand(const SandStateBounding::ConstantsOf<R>& k_, const StateOf<R>& in,
+                                 const Stress<R>& de, StateOf<R>& out, Mat6* tangent) {
+  using std::exp;
+  using Sand = SandStateBounding;
   out = in;
-  const double e = in.internal[void_ratio];
-  const double p = mean_stress(in.stress);
-  if (!(p >= kLiquefiedPressure) || !(e > 0.0) || !de.allFinite() || !in.stress.allFinite())
+  const R e = in.internal[Sand::void_ratio];
+  const R p = mean_of<R>(in.stress);
+  if (!(p >= kLiquefiedPressure) || !(e > 0.0) || !all_finite(de) || !all_finite<R>(in.stress))
     return {Status::invalid_input, 0};
   // Void ratio after the increment of natural volumetric strain (the driver's measure).
-  const double dev = de[0] + de[1] + de[2];
-  const double e_new = (1.0 + e) * std::exp(-dev) - 1.0;
+  const R dev = de[0] + de[1] + de[2];
+  const R e_new = (1.0 + e) * exp(-dev) - 1.0;
   if (!(e_new > 0.0)) return {Status::invalid_input, 0};
 
-  V6<double> alpha = unpack(in, back_stress_ratio);
-  V6<double> z = unpack(in, fabric);
-  V6<double> alpha_in = unpack(in, reversal_back_stress_ratio);
-  const double shear = shear_modulus(e, p);
-  const double bulk = k_.bulk_factor * shear;
-  const Mat6 elastic = isotropic_elastic_stiffness(bulk, shear);
-  const Vec6 trial = in.stress + elastic * de;
-  const double p_trial = mean_stress(trial);
+  V6<R> alpha = unpack(in, Sand::back_stress_ratio);
+  V6<R> z = unpack(in, Sand::fabric);
+  V6<R> alpha_in = unpack(in, Sand::reversal_back_stress_ratio);
+  const R shear = shear_modulus_of(k_, e, p);
+  const R bulk = k_.bulk_factor * shear;
+  const Eigen::Matrix<R, 6, 6> elastic = elastic_stiffness(bulk, shear);
+  const Stress<R> trial = in.stress + elastic * de;
+  const R p_trial = mean_of(trial);
   if (!(p_trial >= kLiquefiedPressure)) return {Status::invalid_input, 0};
 
   // Plastic where the elastic trial stress lies outside the cone. The loading direction over the
@@ -397,88 +479,135 @@ IntegrationResult SandStateBounding::integrate(const MaterialState& in, const Ve
   // start of the step) is unstable for larger steps (measured: the 22-33 asymmetry of a triaxial
   // test grew tenfold a step at 3e-4 axial strain a step).
   bool plastic = false;
-  V6<double> direction{};
+  V6<R> direction{};
   if (cone_function(trial, k_.radius, alpha) > 0.0) {
-    V6<D6> d;
-    for (int i = 0; i < 6; ++i) d[i] = D6::variable(de[i], i);
-    const V6<D6> ds = elastic_increment(D6(shear), D6(bulk), d);
-    const V6<double> sigma{in.stress[0], in.stress[1], in.stress[2], in.stress[3], in.stress[4], in.stress[5]};
-    V6<D6> sigma_trial;
+    V6<A> d;
+    for (int i = 0; i < 6; ++i) {
+      if constexpr (std::is_same_v<A, D6>)
+        d[i] = D6::variable(de[i], i);
+      else
+        d[i] = de[i];
+    }
+    const V6<A> ds = elastic_increment(A(shear), A(bulk), d);
+    const V6<R> sigma{in.stress[0], in.stress[1], in.stress[2], in.stress[3], in.stress[4], in.stress[5]};
+    V6<A> sigma_trial;
     for (int i = 0; i < 6; ++i) sigma_trial[i] = sigma[i] + ds[i];
-    const D6 pt = (sigma_trial[0] + sigma_trial[1] + sigma_trial[2]) / 3.0;
-    const V6<D6> rt = stress_ratio(sigma_trial, pt);
-    V6<D6> n;
+    const A pt = (sigma_trial[0] + sigma_trial[1] + sigma_trial[2]) / 3.0;
+    const V6<A> rt = stress_ratio(sigma_trial, pt);
+    V6<A> n;
     for (int i = 0; i < 6; ++i) n[i] = rt[i] - alpha[i];
-    const D6 norm = sqrt_of(ddot(n, n));
+    const A norm = sqrt_of(ddot(n, n));
     for (int i = 0; i < 6; ++i) n[i] = n[i] / norm;
     // From inside the cone: elastic up to the crossing, at the fraction t of the increment where
-    // ||u + t w|| = k (p' + t dp), u = s - p' alpha, w = ds - dp alpha (a quadratic in t).
-    D6 t(0.0);
+    // ||u + t w|| = k (p' + t dp), u = s - p' alpha, w = ds - dp alpha (a quadratic in t; closed
+    // form, so the derivative version differentiates it as it stands).
+    A t(0.0);
     const bool from_inside = cone_function(in.stress, k_.radius, alpha) < -kOnCone;
     if (from_inside) {
-      const D6 dp = (ds[0] + ds[1] + ds[2]) / 3.0;
-      V6<D6> u;
-      V6<D6> w;
+      const A dp = (ds[0] + ds[1] + ds[2]) / 3.0;
+      V6<A> u;
+      V6<A> w;
       for (int i = 0; i < 6; ++i) {
         const double unit = i < 3 ? 1.0 : 0.0;
         u[i] = sigma[i] - p * unit - p * alpha[i];
         w[i] = ds[i] - dp * unit - dp * alpha[i];
       }
-      const double k2 = k_.radius * k_.radius;
-      const D6 qa = ddot(w, w) - k2 * dp * dp;
-      const D6 qb = 2.0 * (ddot(u, w) - k2 * p * dp);
-      const double qc = value(ddot(u, u)) - k2 * p * p;  // < 0: inside
-      const D6 disc = qb * qb - 4.0 * qa * qc;
+      const R k2 = k_.radius * k_.radius;
+      const A qa = ddot(w, w) - k2 * dp * dp;
+      const A qb = 2.0 * (ddot(u, w) - k2 * p * dp);
+      const R qc = outer(ddot(u, u)) - k2 * p * p;  // < 0: inside
+      const A disc = qb * qb - 4.0 * qa * qc;
       if (!(value(disc) >= 0.0)) return {Status::numerical_issue, 0};
       t = 2.0 * qc / (-1.0 * qb - sqrt_of(disc));
       if (!(value(t) >= 0.0 && value(t) <= 1.0)) return {Status::numerical_issue, 0};
     }
-    PlasticStep<D6> o;
+    PlasticStep<A> o;
     Status s;
     if (from_inside) {
-      V6<D6> start;
-      V6<D6> rest;
+      V6<A> start;
+      V6<A> rest;
       for (int i = 0; i < 6; ++i) {
         start[i] = sigma[i] + t * ds[i];
         rest[i] = (1.0 - t) * d[i];
       }
       s = plastic_step(k_, start, n, alpha, z, alpha_in, e, rest, o);
     } else {
-      s = plastic_step(k_, sigma, n, alpha, z, alpha_in, e, d, o);  // the start stress is not differentiated
+      s = plastic_step(k_, sigma, n, alpha, z, alpha_in, e, d, o);  // the start stress is not differentiated for the tangent
     }
     if (s != Status::ok) return {s, 0};
     if (o.loading) {
       plastic = true;
       if (o.reversed) alpha_in = alpha;
       for (int i = 0; i < 6; ++i) {
-        out.stress[i] = o.stress[i].v;
-        z[i] = o.fabric[i].v;
-        direction[i] = n[i].v;
-        for (int j = 0; j < 6; ++j) tangent(i, j) = o.stress[i].d[j];
+        out.stress[i] = outer(o.stress[i]);
+        z[i] = outer(o.fabric[i]);
+        direction[i] = outer(n[i]);
+      }
+      if constexpr (std::is_same_v<A, D6>) {
+        for (int i = 0; i < 6; ++i)
+          for (int j = 0; j < 6; ++j) (*tangent)(i, j) = o.stress[i].d[j];
       }
     }
   }
   if (!plastic) {
     out.stress = trial;
-    tangent = elastic;
+    if constexpr (std::is_same_v<R, double>) *tangent = elastic;
   }
-  if (!(mean_stress(out.stress) >= kLiquefiedPressure) || !out.stress.allFinite())
+  if (!(mean_of<R>(out.stress) >= kLiquefiedPressure) || !all_finite<R>(out.stress))
     return {Status::invalid_input, plastic ? 1 : 0};
   // The back-stress ratio: after a plastic step alpha = r - k n with the step's n (the cone through
   // the new stress; along n this is the hardening law's increment by the consistency condition);
   // after an elastic step that ends outside the cone (L <= 0 there), moved radially onto it.
   if (plastic) {
-    const V6<double> sigma{out.stress[0], out.stress[1], out.stress[2], out.stress[3], out.stress[4], out.stress[5]};
-    const V6<double> r = stress_ratio(sigma, mean_stress(out.stress));
+    const V6<R> sigma{out.stress[0], out.stress[1], out.stress[2], out.stress[3], out.stress[4], out.stress[5]};
+    const V6<R> r = stress_ratio(sigma, mean_of<R>(out.stress));
     for (int i = 0; i < 6; ++i) alpha[i] = r[i] - k_.radius * direction[i];
-  } else if (cone_function(out.stress, k_.radius, alpha) > 0.0) {
-    onto_cone(out.stress, k_.radius, alpha);
+  } else if (cone_function<R>(out.stress, k_.radius, alpha) > 0.0) {
+    onto_cone<R>(out.stress, k_.radius, alpha);
   }
-  out.internal[void_ratio] = e_new;
-  pack(alpha, out, back_stress_ratio);
-  pack(z, out, fabric);
-  pack(alpha_in, out, reversal_back_stress_ratio);
+  out.internal[Sand::void_ratio] = e_new;
+  pack(alpha, out, Sand::back_stress_ratio);
+  pack(z, out, Sand::fabric);
+  pack(alpha_in, out, Sand::reversal_back_stress_ratio);
   return {Status::ok, plastic ? 1 : 0};
+}
+
+/// The derivative version: the same increment on Jets (constants with the seeds' derivatives); the
+/// tangent and the status are the double model's, whose integrate runs on the values alongside.
+class SandStateBoundingDual final : public DualModel {
+ public:
+  SandStateBoundingDual(const SandStateBounding& model, const std::array<Jet, SandStateBounding::kParameters>& p)
+      : model_(model), k_(constants_of(p)) {}  // a copy of the model: independent of its lifetime
+  /// The double model's initial state: it depends on the conditions only (the stress, its ratio as
+  /// the back-stress ratio, the void ratio), not on the parameters, so its derivatives are zero.
+  void initialise(const InitialConditions& conditions, DualState& state) const override {
+    MaterialState m;
+    model_.initialise(conditions, m);
+    state = DualState{};
+    for (int i = 0; i < 6; ++i) state.stress[i] = Jet(m.stress[i]);
+    for (std::size_t j = 0; j < m.internal.size(); ++j) state.internal[j] = Jet(m.internal[j]);
+  }
+  IntegrationResult integrate(const DualState& in, const DualVec6& de, DualState& out, Mat6& tangent) const override {
+    MaterialState values;
+    const IntegrationResult r = model_.integrate(value_of(in), values_of(de), values, tangent);
+    if (r.status != Status::ok) return r;
+    return integrate_sand<Jet, Jet>(k_, in, de, out, nullptr);
+  }
+
+ private:
+  SandStateBounding model_;
+  SandStateBounding::ConstantsOf<Jet> k_;
+};
+
+}  // namespace
+
+IntegrationResult SandStateBounding::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
+                                               Mat6& tangent) const {
+  return integrate_sand<double, D6>(k_, in, de, out, &tangent);
+}
+
+std::unique_ptr<DualModel> SandStateBounding::with_derivatives(std::span<const double> seeds) const {
+  return std::make_unique<SandStateBoundingDual>(*this, seeded_parameters(kName, values_, seeds));
 }
 
 }  // namespace triaxcal

@@ -28,6 +28,7 @@
 // back-stress ratio alpha, fabric z and alpha_in (alpha at the last load reversal), each deviatoric
 // tensor stored as its components 11, 22, 12, 23, 31 (the 33 component is minus the sum of 11 and 22).
 
+#include <array>
 #include <memory>
 #include <string>
 
@@ -54,6 +55,7 @@ class SandStateBounding final : public Model {
     fabric_max,
     fabric_rate,
   };
+  static constexpr std::size_t kParameters = 15;
   /// First index of each deviatoric tensor in MaterialState::internal (components 11, 22, 12, 23, 31).
   enum StateVariable {
     void_ratio = 0,
@@ -78,6 +80,9 @@ class SandStateBounding final : public Model {
   void initialise(const InitialConditions& conditions, MaterialState& state) const override;
   IntegrationResult integrate(const MaterialState& in, const Vec6& strain_increment, MaterialState& out,
                               Mat6& tangent) const override;
+  /// Parameters as dual numbers: the same increment on ConstantsOf<Dual> (one code, templated on the
+  /// scalar); the tangent is the double model's.
+  std::unique_ptr<DualModel> with_derivatives(std::span<const double> seeds) const override;
 
   /// e_c(p') on the critical state line.
   double critical_void_ratio(double p) const;
@@ -86,29 +91,33 @@ class SandStateBounding final : public Model {
   /// Bulk modulus over shear modulus, 2 (1 + nu) / (3 (1 - 2 nu)).
   double bulk_over_shear() const { return k_.bulk_factor; }
 
-  /// Model constants in the paper's symbols (public for tests and benchmarks).
-  struct Constants {
-    double m_c = 0.0;        ///< M
-    double c = 0.0;          ///< c
-    double e0 = 0.0;         ///< e_0 of the CSL
-    double lambda_c = 0.0;   ///< lambda_c
-    double xi = 0.0;         ///< xi
-    double g0 = 0.0;         ///< G0
-    double nu = 0.0;         ///< nu
-    double m = 0.0;          ///< m
-    double h0 = 0.0;         ///< h0
-    double c_h = 0.0;        ///< c_h
-    double n_b = 0.0;        ///< n_b
-    double a0 = 0.0;         ///< A0
-    double n_d = 0.0;        ///< n_d
-    double z_max = 0.0;      ///< z_max
-    double c_z = 0.0;        ///< c_z
-    double bulk_factor = 0.0;  ///< K / G
-    double radius = 0.0;       ///< sqrt(2/3) m
+  /// Model constants in the paper's symbols (public for tests and benchmarks), on a scalar R
+  /// (double for the model, the dual numbers of sensitivity.hpp for its derivative version).
+  template <class R>
+  struct ConstantsOf {
+    R m_c{};        ///< M
+    R c{};          ///< c
+    R e0{};         ///< e_0 of the CSL
+    R lambda_c{};   ///< lambda_c
+    R xi{};         ///< xi
+    R g0{};         ///< G0
+    R nu{};         ///< nu
+    R m{};          ///< m
+    R h0{};         ///< h0
+    R c_h{};        ///< c_h
+    R n_b{};        ///< n_b
+    R a0{};         ///< A0
+    R n_d{};        ///< n_d
+    R z_max{};      ///< z_max
+    R c_z{};        ///< c_z
+    R bulk_factor{};  ///< K / G
+    R radius{};       ///< sqrt(2/3) m
   };
+  using Constants = ConstantsOf<double>;
   const Constants& constants() const { return k_; }
 
  private:
+  std::array<double, kParameters> values_{};
   Constants k_;
 };
 
