@@ -13,6 +13,11 @@
 //     same curve, and what the hand-written Jacobian saves.
 //   create: the model's constructor, which calibrates the cap (alpha, H) from the oedometer
 //     stiffness and K0_nc; a calibration calls it once per objective evaluation.
+//   increment / increment_dual: one integrate from each of the 200 recorded states of a drained
+//     compression from OCR 1.1 (elastic, shear, cap and both surfaces, failure), triaxial strain
+//     increment 2e-4: the double integrate, and the derivative version (with_derivatives, four
+//     parameters seeded); time per integrate.
+//   create_dual: with_derivatives (the constants and the cap calibration on dual numbers).
 // Material: the model's defaults (invented round numbers), s3' = 200 kPa.
 #include <benchmark/benchmark.h>
 
@@ -24,6 +29,7 @@
 #include "protocols.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/parameters.hpp"
+#include "triaxcal/sensitivity.hpp"
 
 using namespace triaxcal;
 
@@ -141,6 +147,84 @@ void BM_create(benchmark::State& state) {
   }
 }
 
+// The states of one drained compression (200 records) and the strain increment integrated from each.
+const std::vector<MaterialState>& increment_states() {
+  static const std::vector<MaterialState> states = [] {
+    const HyperbolicHardening model(parameters({{"cohesion", 5.0}}), "bench");
+    TestProtocol p = shear(Drainage::drained, 200, 1.1 * kS3);
+    const SimulationResult r = simulate(DriverOptions{}, model, p);
+    std::vector<MaterialState> s;
+    for (const StepRecord& x : r.steps) {
+      MaterialState m;
+      m.stress = triaxial_stress(x.axial_stress, x.radial_stress);
+      m.internal = x.state;
+      s.push_back(m);
+    }
+    return s;
+  }();
+  return states;
+}
+
+Vec6 increment() {
+  Vec6 de;
+  de << 2e-4, -0.6e-4, -0.6e-4, 0.0, 0.0, 0.0;
+  return de;
+}
+
+void BM_increment(benchmark::State& state) {
+  const HyperbolicHardening model(parameters({{"cohesion", 5.0}}), "bench");
+  const std::vector<MaterialState>& states = increment_states();
+  const Vec6 de = increment();
+  MaterialState out;
+  Mat6 t;
+  for (auto _ : state)
+    for (const MaterialState& in : states) {
+      benchmark::DoNotOptimize(model.integrate(in, de, out, t));
+      benchmark::ClobberMemory();
+    }
+  state.counters["time_per_integrate"] =
+      benchmark::Counter(static_cast<double>(states.size()),
+                         benchmark::Counter::kIsIterationInvariantRate | benchmark::Counter::kInvert);
+}
+
+std::vector<double> four_seeds() {
+  std::vector<double> seeds(HyperbolicHardening::parameter_count * kDualLanes, 0.0);
+  const int seeded[kDualLanes] = {HyperbolicHardening::friction_angle, HyperbolicHardening::secant_stiffness_ref,
+                                  HyperbolicHardening::stress_exponent, HyperbolicHardening::oedometer_stiffness_ref};
+  for (int k = 0; k < kDualLanes; ++k) seeds[static_cast<std::size_t>(seeded[k] * kDualLanes + k)] = 1.0;
+  return seeds;
+}
+
+void BM_increment_dual(benchmark::State& state) {
+  const HyperbolicHardening model(parameters({{"cohesion", 5.0}}), "bench");
+  const auto dual = model.with_derivatives(four_seeds());
+  std::vector<DualState> states;
+  for (const MaterialState& m : increment_states()) {
+    DualState d;
+    for (int i = 0; i < 6; ++i) d.stress[i] = Dual(m.stress[i]);
+    for (std::size_t i = 0; i < m.internal.size(); ++i) d.internal[i] = Dual(m.internal[i]);
+    states.push_back(d);
+  }
+  DualVec6 de;
+  for (int i = 0; i < 6; ++i) de[i] = Dual(increment()[i]);
+  DualState out;
+  Mat6 t;
+  for (auto _ : state)
+    for (const DualState& in : states) {
+      benchmark::DoNotOptimize(dual->integrate(in, de, out, t));
+      benchmark::ClobberMemory();
+    }
+  state.counters["time_per_integrate"] =
+      benchmark::Counter(static_cast<double>(states.size()),
+                         benchmark::Counter::kIsIterationInvariantRate | benchmark::Counter::kInvert);
+}
+
+void BM_create_dual(benchmark::State& state) {
+  const HyperbolicHardening model(parameters({}), "bench");
+  const std::vector<double> seeds = four_seeds();
+  for (auto _ : state) benchmark::DoNotOptimize(model.with_derivatives(seeds));
+}
+
 }  // namespace
 
 BENCHMARK(BM_drained)->Arg(1000)->Arg(2000)->Arg(4000)->Arg(8000)->Unit(benchmark::kMicrosecond);
@@ -148,5 +232,8 @@ BENCHMARK(BM_undrained)->Arg(1000)->Arg(2000)->Arg(4000)->Arg(8000)->Unit(benchm
 BENCHMARK(BM_drained_automatic)->Arg(1000)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_hyperbola)->Arg(1000)->Arg(2000)->Arg(4000)->Arg(8000)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_create)->Unit(benchmark::kNanosecond);
+BENCHMARK(BM_increment)->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_increment_dual)->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_create_dual)->Unit(benchmark::kNanosecond);
 
 BENCHMARK_MAIN();

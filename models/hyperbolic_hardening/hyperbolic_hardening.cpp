@@ -5,10 +5,14 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <numbers>
+#include <type_traits>
 
 #include "hyperbolic_hardening/dual.hpp"
+#include "seeded_parameters.hpp"
 #include "triaxcal/error.hpp"
 #include "triaxcal/parameters.hpp"
+#include "triaxcal/sensitivity.hpp"
 
 namespace triaxcal {
 
@@ -28,12 +32,31 @@ constexpr int kMaxLocalIterations = 40;
 // A trial stress violates a surface when f > kYieldTolerance * scale.
 constexpr double kYieldTolerance = 1e-10;
 
-using hyperbolic::Dual;
-using hyperbolic::larger;
-using hyperbolic::smaller;
 using hyperbolic::value;
 constexpr int kUnknowns = 5;  // three principal stresses and at most two multipliers
-using D5 = Dual<kUnknowns>;
+using D5 = hyperbolic::Dual<kUnknowns>;
+template <class S>
+using Constants = HyperbolicHardening::Constants<S>;
+template <class T>
+using Vec6Of = Eigen::Matrix<T, 6, 1>;
+template <class T>
+using InternalOf = std::array<T, kMaxStateVariables>;
+
+// The larger of two values as std::max(a, b) picks it (a unless a < b), derivative of the one chosen.
+template <class T>
+T max_of(const T& a, const T& b) {
+  return value(a) < value(b) ? b : a;
+}
+
+// Degrees of an angle in radians, as radians_to_degrees; and the reverse.
+template <class T>
+T degrees(const T& rad) {
+  return rad * 180.0 / std::numbers::pi;
+}
+template <class T>
+T radians(const T& deg) {
+  return deg * std::numbers::pi / 180.0;
+}
 
 // Everything the return mapping needs at one principal stress and set of multipliers.
 template <class T>
@@ -47,51 +70,86 @@ struct Point {
   T sin_psi_m;
 };
 
-// Hardening state at the start of the increment.
-struct History {
-  double gamma;   // gamma_p
-  double pp;      // p_p (kPa)
-  double pp_pow;  // (p_p / p_ref)^(1 - m)
-  History(const HyperbolicHardening::Constants& k, double gamma_n, double pp_n)
-      : gamma(gamma_n), pp(pp_n), pp_pow(k.m == 0.5 ? std::sqrt(pp_n / k.p_ref) : std::pow(pp_n / k.p_ref, 1.0 - k.m)) {}
+// The discrete choices of one evaluation of the surfaces (evaluate, evaluate_derivatives), in the
+// order they are met. The derivative version replays the choices the value Jacobian made at the
+// converged point, so that its residual is differentiated on the same branch as that Jacobian
+// (at the Mohr-Coulomb limit sin phi_m = sin phi' holds to round-off, and which side of the cap on
+// sin phi_m the rounding lands on must not differ between the two).
+enum Branch { anisotropic, above_floor, failure_positive, on_hyperbola, denominator_positive, capped, cut, floored,
+              branch_count };
+
+// Choices taken on the values (the double path; the compiler keeps nothing of the policy).
+struct OnValues {
+  bool operator()(Branch, bool on_values) const { return on_values; }
+};
+// Choices taken on the values and recorded.
+struct Branches {
+  bool taken[branch_count]{};
+  bool operator()(Branch b, bool on_values) {
+    taken[b] = on_values;
+    return on_values;
+  }
+};
+// Choices replayed from a record.
+struct Replay {
+  const Branches& record;
+  bool operator()(Branch b, bool) const { return record.taken[b]; }
 };
 
-// x^m, with the common m = 0.5 as a square root.
-template <class T>
-T power(const T& x, double m) {
+// x^y. With a constant exponent (double), the common y = 0.5 as a square root; an exponent that
+// carries derivatives always goes through pow, whose derivative has the term x^y ln x dy.
+template <class T, class Y>
+T power(const T& x, const Y& y) {
   using std::pow;
   using std::sqrt;
-  return m == 0.5 ? sqrt(x) : pow(x, m);
+  if constexpr (std::is_same_v<Y, double>)
+    return y == 0.5 ? sqrt(x) : pow(x, y);
+  else
+    return pow(x, y);
 }
 
+// Hardening state at the start of the increment.
+template <class S>
+struct History {
+  S gamma;   // gamma_p
+  S pp;      // p_p (kPa)
+  S pp_pow;  // (p_p / p_ref)^(1 - m)
+  History(const Constants<S>& k, const S& gamma_n, const S& pp_n)
+      : gamma(gamma_n), pp(pp_n), pp_pow(power(pp_n / k.p_ref, 1.0 - k.m)) {}
+};
+
 // p_p after a cap plastic volumetric strain eps: d p_p = H_ref (p_p/p_ref)^m d eps, integrated exactly.
-template <class T>
-T hardened_cap(const HyperbolicHardening::Constants& k, const History& h, const T& eps) {
+template <class T, class S, class Decide>
+T hardened_cap(const Constants<S>& k, const History<S>& h, const T& eps, Decide& decide) {
   using std::exp;
   using std::pow;
-  const double e = 1.0 - k.m;
-  if (e < 1e-9) return h.pp * exp(eps * (k.h_ref / k.p_ref));
-  const T base = larger(h.pp_pow + eps * (e * k.h_ref / k.p_ref), T(1e-300));
-  if (e == 0.5) return k.p_ref * (base * base);
+  const S e = 1.0 - k.m;
+  if (value(e) < 1e-9) return h.pp * exp(eps * (k.h_ref / k.p_ref));
+  const T raw = h.pp_pow + eps * (e * k.h_ref / k.p_ref);
+  const T base = decide(floored, !(value(raw) >= 1e-300)) ? T(1e-300) : raw;
+  if constexpr (std::is_same_v<S, double>)
+    if (e == 0.5) return k.p_ref * (base * base);
   return k.p_ref * pow(base, 1.0 / e);
 }
 
 // Evaluate the surfaces at principal stress `sig` with multipliers dl (shear, cap, tension) from
 // hardening state (gamma_n, pp_n). Symmetric in the three principal values: no ordering needed.
-template <class T>
-void evaluate(const HyperbolicHardening::Constants& k, const T sig[3], const T dl[3], bool cap_active,
-              const History& h, Point<T>& o) {
-  using std::pow;
+// T: the scalar of the unknowns (double, D5 for the local Jacobian, Dual); S: that of the
+// constants and the history (double, or Dual in the derivative version); Decide: where the
+// discrete choices come from (OnValues, Branches, Replay).
+template <class T, class S, class Decide = const OnValues>
+void evaluate(const Constants<S>& k, const T sig[3], const T dl[3], bool cap_active, const History<S>& h,
+              Point<T>& o, Decide&& decide = OnValues{}) {
   using std::sqrt;
   const T p = (sig[0] + sig[1] + sig[2]) / 3.0;
   const T s[3] = {sig[0] - p, sig[1] - p, sig[2] - p};
   const T j2 = 0.5 * (s[0] * s[0] + s[1] * s[1] + s[2] * s[2]);
   const double pv = value(p);
-  const double c1 = 0.5 * (1.0 + k.delta);
-  const double c2 = 2.25 * (k.delta - 1.0);
+  const S c1 = 0.5 * (1.0 + k.delta);
+  const S c2 = 2.25 * (k.delta - 1.0);
   T q(0.0), x(0.0), qt2(0.0);
   T dq[3], dx[3], qt_dqt[3];
-  if (value(j2) > kIsotropic * (pv * pv + 1.0)) {
+  if (decide(anisotropic, value(j2) > kIsotropic * (pv * pv + 1.0))) {
     const T j3 = s[0] * s[1] * s[2];
     q = sqrt(3.0 * j2);
     const T inv_j2 = 1.0 / j2;
@@ -120,28 +178,29 @@ void evaluate(const HyperbolicHardening::Constants& k, const T sig[3], const T d
   const T shifted = s3 + k.c_cot;  // s3 + c cot phi
 
   // Shear hardening surface.
-  const T ratio = power(larger(shifted, T(k.floor)) / (k.p_ref + k.c_cot), k.m);
+  const T ratio =
+      power((decide(above_floor, value(shifted) >= value(k.floor)) ? shifted : T(k.floor)) / (k.p_ref + k.c_cot), k.m);
   const T a = 2.0 / ((2.0 * k.e50_ref / (2.0 - k.rf)) * ratio);  // 2 / E_i
   const T b = 2.0 / (k.eur_ref * ratio);                          // 2 / E_ur
   const T qf = k.kf * shifted;
   o.gamma = h.gamma + dl[0];
   T qy = qf;
-  if (value(qf) > 0.0) {
+  if (decide(failure_positive, value(qf) > 0.0)) {
     const T qa = qf / k.rf;
     const T bb = a - b + o.gamma / qa;
     const T qh = 2.0 * o.gamma / (bb + sqrt(bb * bb + 4.0 * b * o.gamma / qa));
-    qy = smaller(qf, qh);
+    if (decide(on_hyperbola, !(value(qf) <= value(qh)))) qy = qh;
   }
   o.f[0] = q - qy;
 
   // Mobilised friction and Rowe's dilatancy.
   const T denom = 2.0 * shifted + q;  // s1 + s3 + 2 c cot phi
-  T sphm = value(denom) > 0.0 ? q / denom : T(k.sin_phi);
-  sphm = smaller(sphm, T(k.sin_phi));
+  T sphm = decide(denominator_positive, value(denom) > 0.0) ? q / denom : T(k.sin_phi);
+  if (decide(capped, !(value(sphm) <= value(k.sin_phi)))) sphm = T(k.sin_phi);
   T spsi(0.0);
   if (k.rule != 2) {
     spsi = (sphm - k.sin_cv) / (1.0 - sphm * k.sin_cv);
-    if (k.rule == 1) spsi = larger(spsi, T(0.0));
+    if (k.rule == 1 && decide(cut, !(value(spsi) >= 0.0))) spsi = T(0.0);
   }
   o.sin_phi_m = sphm;
   o.sin_psi_m = spsi;
@@ -152,7 +211,7 @@ void evaluate(const HyperbolicHardening::Constants& k, const T sig[3], const T d
   const T inv_f = 1.0 / big_f;
   for (int i = 0; i < 3; ++i) o.n[1][i] = (qt_dqt[i] * (1.0 / k.alpha2) + p * (1.0 / 3.0)) * inv_f;
   o.cap_strain = dl[1] * p * inv_f;
-  o.pp = cap_active ? hardened_cap(k, h, o.cap_strain) : T(h.pp);
+  o.pp = cap_active ? hardened_cap(k, h, o.cap_strain, decide) : T(h.pp);
   o.f[1] = big_f - o.pp;
 
   // Tension cut-off.
@@ -161,35 +220,96 @@ void evaluate(const HyperbolicHardening::Constants& k, const T sig[3], const T d
 }
 
 // Smooth stress measures of a general stress vector (see the header).
+template <class T>
 struct Measures {
-  double p, q, x, s3, qt;
+  T p, q, x, s3, qt;
 };
 
-Measures measures(const Vec6& stress, double delta) {
-  Measures m{};
-  m.p = mean_stress(stress);
-  const double j2 = j2_invariant(stress);
-  if (j2 > kIsotropic * (m.p * m.p + 1.0)) {
-    m.q = std::sqrt(3.0 * j2);
-    m.x = j3_invariant(stress) / j2;
+// As mean_stress, j2_invariant and j3_invariant (conventions.hpp), operation for operation.
+template <class T>
+Measures<T> measures(const Vec6Of<T>& stress, const T& delta) {
+  using std::sqrt;
+  Measures<T> m{T(0.0), T(0.0), T(0.0), T(0.0), T(0.0)};
+  m.p = (stress[0] + stress[1] + stress[2]) / 3.0;
+  const T d0 = stress[0] - m.p, d1 = stress[1] - m.p, d2 = stress[2] - m.p;
+  const T& d3 = stress[3];
+  const T& d4 = stress[4];
+  const T& d5 = stress[5];
+  const T j2 = 0.5 * (d0 * d0 + d1 * d1 + d2 * d2) + d3 * d3 + d4 * d4 + d5 * d5;
+  const double pv = value(m.p);
+  if (value(j2) > kIsotropic * (pv * pv + 1.0)) {
+    const T j3 = d0 * d1 * d2 + 2.0 * d3 * d4 * d5 - d0 * d4 * d4 - d1 * d5 * d5 - d2 * d3 * d3;
+    m.q = sqrt(3.0 * j2);
+    m.x = j3 / j2;
   }
   m.s3 = m.p - 0.5 * m.q + 0.75 * m.x;
   m.qt = 0.5 * (1.0 + delta) * m.q - 2.25 * (delta - 1.0) * m.x;
   return m;
 }
 
-double stiffness_ratio(const HyperbolicHardening::Constants& k, double s3) {
-  return power(std::max(s3 + k.c_cot, k.floor) / (k.p_ref + k.c_cot), k.m);
+template <class T, class S>
+T stiffness_ratio(const Constants<S>& k, const T& s3) {
+  return power(max_of(s3 + k.c_cot, T(k.floor)) / (k.p_ref + k.c_cot), k.m);
 }
 
 // f_bar of the paper (eq. 8) without gamma_p: the plastic shear strain that puts the shear
 // locus through a stress with deviator q and minor stress s3 (q < q_f).
-double shear_locus(const HyperbolicHardening::Constants& k, double q, double s3) {
-  const double ratio = stiffness_ratio(k, s3);
-  const double ei = 2.0 * k.e50_ref / (2.0 - k.rf) * ratio;
-  const double eur = k.eur_ref * ratio;
-  const double qa = k.kf * (s3 + k.c_cot) / k.rf;
+template <class S>
+S shear_locus(const Constants<S>& k, const S& q, const S& s3) {
+  const S ratio = stiffness_ratio(k, s3);
+  const S ei = 2.0 * k.e50_ref / (2.0 - k.rf) * ratio;
+  const S eur = k.eur_ref * ratio;
+  const S qa = k.kf * (s3 + k.c_cot) / k.rf;
   return 2.0 * q / (ei * (1.0 - q / qa)) - 2.0 * q / eur;
+}
+
+// Isotropic elasticity with E_ur at the stress at the start of the increment.
+template <class T>
+struct Elasticity {
+  T bulk, shear, lame, diag;
+};
+
+template <class T>
+Elasticity<T> elasticity(const Constants<T>& k, const Vec6Of<T>& stress) {
+  const Measures<T> m0 = measures(stress, k.delta);
+  const T eur = k.eur_ref * stiffness_ratio(k, m0.s3);
+  Elasticity<T> e{eur / (3.0 * (1.0 - 2.0 * k.nu)), eur / (2.0 * (1.0 + k.nu)), T(0.0), T(0.0)};
+  e.lame = e.bulk - 2.0 * e.shear / 3.0;
+  e.diag = e.bulk + 4.0 * e.shear / 3.0;  // as isotropic_elastic_stiffness
+  return e;
+}
+
+// The elastic trial stress (engineering shear strains).
+template <class T>
+Vec6Of<T> elastic_trial(const Vec6Of<T>& stress, const Vec6Of<T>& de, const Elasticity<T>& e) {
+  Vec6Of<T> trial;
+  for (int i = 0; i < 3; ++i) trial[i] = stress[i] + e.diag * de[i] + e.lame * (de[(i + 1) % 3] + de[(i + 2) % 3]);
+  for (int i = 3; i < 6; ++i) trial[i] = stress[i] + e.shear * de[i];
+  return trial;
+}
+
+// The internal variables after an elastic step (the others stay as they were).
+template <class T>
+void elastic_state(const Point<T>& at_trial, InternalOf<T>& out) {
+  using std::asin;
+  out[HyperbolicHardening::mobilised_friction] = degrees(asin(at_trial.sin_phi_m));
+  out[HyperbolicHardening::mobilised_dilation] = degrees(asin(at_trial.sin_psi_m));
+  out[HyperbolicHardening::active_surfaces] = T(0.0);
+}
+
+// The internal variables after a plastic step at the converged point `pt` with multipliers dl.
+template <class T>
+void plastic_state(const InternalOf<T>& in, const Point<T>& pt, const T dl[3], int accepted, const T& inv_norm,
+                   InternalOf<T>& out) {
+  using std::asin;
+  out[HyperbolicHardening::shear_hardening] = pt.gamma;
+  out[HyperbolicHardening::cap_pressure] = pt.pp;
+  out[HyperbolicHardening::cap_volumetric_strain] = in[HyperbolicHardening::cap_volumetric_strain] + pt.cap_strain;
+  out[HyperbolicHardening::mobilised_friction] = degrees(asin(pt.sin_phi_m));
+  out[HyperbolicHardening::mobilised_dilation] = degrees(asin(pt.sin_psi_m));
+  out[HyperbolicHardening::active_surfaces] = T(static_cast<double>(accepted));
+  out[HyperbolicHardening::shear_rate] = dl[HyperbolicHardening::shear] * inv_norm;
+  out[HyperbolicHardening::cap_rate] = dl[HyperbolicHardening::cap] * inv_norm;
 }
 
 }  // namespace
@@ -272,6 +392,152 @@ const ModelInfo& HyperbolicHardening::model_info() {
   return info;
 }
 
+
+namespace {
+
+// The model's constants from its parameters (values in ModelInfo order), with the cap's shape
+// alpha and modulus H_ref; throws InputError (prefixed `head`) where the cap cannot match the
+// oedometer stiffness. S: double, or Dual for the derivative version (then the cap calibration's
+// derivatives in sigma and the shear multiplier are hyperbolic::Dual<5, Dual>: first derivatives
+// that carry their own derivatives with respect to the parameters).
+template <class S>
+Constants<S> make_constants(const std::array<S, HyperbolicHardening::parameter_count>& v, const std::string& head,
+                            S& alpha, S& cap_h_ref) {
+  using H = HyperbolicHardening;
+  using std::pow;
+  using std::sin;
+  using std::sqrt;
+  using std::tan;
+  Constants<S> k{};
+  const S phi = radians(v[H::friction_angle]);
+  k.e50_ref = v[H::secant_stiffness_ref];
+  k.eur_ref = v[H::unloading_stiffness_ref];
+  k.m = v[H::stress_exponent];
+  k.p_ref = v[H::reference_pressure];
+  k.nu = v[H::poissons_ratio_ur];
+  k.rf = v[H::failure_ratio];
+  k.c_cot = v[H::cohesion] / tan(phi);
+  k.sin_phi = sin(phi);
+  k.sin_cv = sin(radians(v[H::critical_state_friction_angle]));
+  k.kf = 2.0 * k.sin_phi / (1.0 - k.sin_phi);
+  k.tension = value(k.c_cot) < value(v[H::tensile_strength]) ? k.c_cot : v[H::tensile_strength];  // std::min
+  k.rule = static_cast<int>(value(v[H::dilatancy_rule]));
+  k.delta = (3.0 + k.sin_phi) / (3.0 - k.sin_phi);
+  k.floor = kStiffnessFloor * (k.p_ref + k.c_cot);
+
+  // The cap from one element in oedometer loading on the normally consolidated line, at
+  // s1' = p_ref, s3' = K0 p_ref, ds = (1, K0, K0) ds1 (Schanz et al. 1999 find alpha and beta by
+  // simulating this test; here the element's rate equations are solved directly):
+  //   radial:  e_r + dl_s n_s,r + dl_c n_c,r = 0           e = D^-1 ds (elastic, E_ur at s3')
+  //   axial:   e_1 + dl_s n_s,1 + dl_c n_c,1 = 1 / E_oed   E_oed = oedometer_stiffness_ref here
+  //   shear consistency: df_s/ds . ds + df_s/dgamma dl_s = 0   (alpha-independent)
+  //   cap consistency:   n_c . ds = H dl_c tr(n_c)
+  // With n_c ~ u (1, -1/2, -1/2) + p'/3 (1, 1, 1), u = q/alpha^2, the first two fix u and dl_c,
+  // the last fixes H. With c' = 0 the whole response is homogeneous of degree m in stress, so the
+  // match holds at every s1' on the K0 line; with c' > 0 it holds at s1' = p_ref.
+  const S kk = v[H::k0_normally_consolidated];
+  const S s1 = k.p_ref;
+  const S s3 = kk * s1;
+  const S q = s1 - s3;
+  const S p = (s1 + 2.0 * s3) / 3.0;
+  const S qf = k.kf * (s3 + k.c_cot);
+  if (!(value(q) < value(qf)))
+    throw InputError(head + "k0_normally_consolidated = " + format_number(value(kk)) +
+                     " puts the normally consolidated state at or beyond "
+                     "failure (deviator " + format_number(value(q)) + " kPa >= q_f = " + format_number(value(qf)) +
+                     " kPa at s1' = reference_pressure); it must exceed " +
+                     format_number(value((1.0 - k.sin_phi) / (1.0 + k.sin_phi))) + " for c' = 0");
+  k.alpha2 = S(1.0);  // not used by the shear surface
+  k.h_ref = S(1.0);
+  const S gamma0 = shear_locus(k, q, s3);
+  using DS = hyperbolic::Dual<kUnknowns, S>;
+  DS sig[3] = {DS::variable(s1, 0), DS::variable(s3, 1), DS::variable(s3, 2)};
+  DS dl[3] = {DS::variable(S(0.0), 3), DS(0.0), DS(0.0)};
+  Point<DS> pt;
+  evaluate(k, sig, dl, false, History<S>(k, gamma0, p), pt);
+  const S dfs_ds = pt.f[0].d[0] + kk * (pt.f[0].d[1] + pt.f[0].d[2]);
+  const S dfs_dg = pt.f[0].d[3];
+  S dl_s(0.0);
+  if (value(dfs_dg) < 0.0) {
+    const S ratio = -dfs_ds / dfs_dg;
+    if (0.0 < value(ratio)) dl_s = ratio;  // std::max(0.0, ratio)
+  }
+  const S eur = k.eur_ref * stiffness_ratio(k, s3);
+  const S e1 = (1.0 - 2.0 * k.nu * kk) / eur;
+  const S er = (kk - k.nu * (1.0 + kk)) / eur;
+  const S eoed = v[H::oedometer_stiffness_ref];
+  const S axial = 1.0 / eoed - e1 - dl_s * pt.n[0][0].v;  // cap plastic strain needed, axial
+  const S radial = -(er + dl_s * pt.n[0][1].v);           // and each radial
+  if (!(value(axial) > 0.0))
+    throw InputError(head + "oedometer_stiffness_ref = " + format_number(value(eoed)) +
+                     " kPa is too stiff for k0_normally_consolidated = " + format_number(value(kk)) +
+                     ": elastic and shear-hardening strains alone give a tangent of " +
+                     format_number(value(1.0 / (e1 + dl_s * pt.n[0][0].v))) +
+                     " kPa at s1' = reference_pressure; give a smaller value");
+  if (!(value(axial) > value(radial)) || !(value(axial + 2.0 * radial) > 0.0))
+    throw InputError(head + "k0_normally_consolidated = " + format_number(value(kk)) +
+                     " and oedometer_stiffness_ref = " + format_number(value(eoed)) +
+                     " kPa cannot both be matched by the cap (it would need a negative "
+                     "alpha^2); try a smaller k0_normally_consolidated or a smaller oedometer_stiffness_ref");
+  const S u = (axial - radial) * p / (3.0 * (0.5 * axial + radial));
+  k.alpha2 = q / u;
+  const S big_f = sqrt(q * u + p * p);
+  const S nc1 = (u + p / 3.0) / big_f;
+  const S dl_c = axial / nc1;
+  const S nc_ds = (u * (1.0 - kk) + p / 3.0 * (1.0 + 2.0 * kk)) / big_f;
+  const S h = nc_ds / (dl_c * p / big_f);
+  k.h_ref = h / pow(big_f / k.p_ref, k.m);
+  alpha = sqrt(k.alpha2);
+  cap_h_ref = k.h_ref;
+  return k;
+}
+
+// The initial state from the conditions (HyperbolicHardening::initialise), in the scalar S of the
+// constants: stress from the conditions, cap through the preconsolidation state, shear locus
+// through the initial stress.
+template <class S>
+void initial_state(const Constants<S>& k, const InitialConditions& c, Vec6Of<S>& stress, InternalOf<S>& internal) {
+  using H = HyperbolicHardening;
+  using std::asin;
+  using std::sqrt;
+  for (int i = 0; i < 6; ++i) stress[i] = S(c.stress[i]);
+  internal.fill(S(0.0));
+  const Measures<S> m = measures(stress, k.delta);
+  const std::string head = std::string(kName) + ": ";
+  if (!(value(m.s3 + k.c_cot) > 0.0))
+    throw InputError(head + "the initial effective stress must be compressive: minor principal stress + c' cot phi' = " +
+                     format_number(value(m.s3 + k.c_cot)) + " kPa, expected > 0");
+  const double p = value(m.p);  // of the given stress alone: no derivatives
+  double ocr = 1.0;
+  if (!std::isnan(c.preconsolidation_pressure)) {
+    if (!(c.preconsolidation_pressure >= p * (1.0 - 1e-12)))
+      throw InputError(head + "preconsolidation_pressure = " + format_number(c.preconsolidation_pressure) +
+                       " kPa is below the initial mean effective stress p' = " + format_number(p) + " kPa");
+    ocr = std::max(1.0, c.preconsolidation_pressure / p);
+  } else if (!std::isnan(c.overconsolidation_ratio)) {
+    if (!(c.overconsolidation_ratio >= 1.0))
+      throw InputError(head + "ocr = " + format_number(c.overconsolidation_ratio) + " must be at least 1");
+    ocr = c.overconsolidation_ratio;
+  }
+  const S qf = k.kf * (m.s3 + k.c_cot);
+  if (!(value(m.q) < value(qf)))
+    throw InputError(head + "the initial deviator stress q = " + format_number(value(m.q)) +
+                     " kPa is at or beyond failure (q_f = " + format_number(value(qf)) + " kPa)");
+  if (value(m.q) > 0.0) {
+    const S locus = shear_locus(k, m.q, m.s3);
+    if (0.0 < value(locus)) internal[H::shear_hardening] = locus;  // std::max(0.0, locus)
+  }
+  internal[H::cap_pressure] = ocr * sqrt(m.qt * m.qt / k.alpha2 + m.p * m.p);
+  internal[H::cap_volumetric_strain] = S(0.0);
+  const S ratio = m.q / (2.0 * (m.s3 + k.c_cot) + m.q);
+  const S sphm = value(ratio) < value(k.sin_phi) ? ratio : k.sin_phi;  // std::min(sin_phi, ratio)
+  internal[H::mobilised_friction] = degrees(asin(sphm));
+  internal[H::mobilised_dilation] = S(0.0);
+  internal[H::active_surfaces] = S(0.0);
+}
+
+}  // namespace
+
 std::unique_ptr<Model> HyperbolicHardening::create(const ParameterValues& v, const std::string& where) {
   return std::make_unique<HyperbolicHardening>(v, where);
 }
@@ -294,111 +560,13 @@ HyperbolicHardening::HyperbolicHardening(const ParameterValues& v, const std::st
     throw InputError(head + "unloading_stiffness_ref = " + format_number(v[unloading_stiffness_ref]) +
                      " kPa must exceed the initial stiffness 2 secant_stiffness_ref / (2 - failure_ratio) = " +
                      format_number(ei_ref) + " kPa");
-
-  const double phi = degrees_to_radians(v[friction_angle]);
-  k_.e50_ref = v[secant_stiffness_ref];
-  k_.eur_ref = v[unloading_stiffness_ref];
-  k_.m = v[stress_exponent];
-  k_.p_ref = v[reference_pressure];
-  k_.nu = v[poissons_ratio_ur];
-  k_.rf = v[failure_ratio];
-  k_.c_cot = v[cohesion] / std::tan(phi);
-  k_.sin_phi = std::sin(phi);
-  k_.sin_cv = std::sin(degrees_to_radians(v[critical_state_friction_angle]));
-  k_.kf = 2.0 * k_.sin_phi / (1.0 - k_.sin_phi);
-  k_.tension = std::min(v[tensile_strength], k_.c_cot);
-  k_.rule = static_cast<int>(v[dilatancy_rule]);
-  k_.delta = (3.0 + k_.sin_phi) / (3.0 - k_.sin_phi);
-  k_.floor = kStiffnessFloor * (k_.p_ref + k_.c_cot);
-
-  // The cap from one element in oedometer loading on the normally consolidated line, at
-  // s1' = p_ref, s3' = K0 p_ref, ds = (1, K0, K0) ds1 (Schanz et al. 1999 find alpha and beta by
-  // simulating this test; here the element's rate equations are solved directly):
-  //   radial:  e_r + dl_s n_s,r + dl_c n_c,r = 0           e = D^-1 ds (elastic, E_ur at s3')
-  //   axial:   e_1 + dl_s n_s,1 + dl_c n_c,1 = 1 / E_oed   E_oed = oedometer_stiffness_ref here
-  //   shear consistency: df_s/ds . ds + df_s/dgamma dl_s = 0   (alpha-independent)
-  //   cap consistency:   n_c . ds = H dl_c tr(n_c)
-  // With n_c ~ u (1, -1/2, -1/2) + p'/3 (1, 1, 1), u = q/alpha^2, the first two fix u and dl_c,
-  // the last fixes H. With c' = 0 the whole response is homogeneous of degree m in stress, so the
-  // match holds at every s1' on the K0 line; with c' > 0 it holds at s1' = p_ref.
-  const double kk = v[k0_normally_consolidated];
-  const double s1 = k_.p_ref;
-  const double s3 = kk * s1;
-  const double q = s1 - s3;
-  const double p = (s1 + 2.0 * s3) / 3.0;
-  const double qf = k_.kf * (s3 + k_.c_cot);
-  if (!(q < qf))
-    throw InputError(head + "k0_normally_consolidated = " + format_number(kk) + " puts the normally consolidated state at or beyond "
-                     "failure (deviator " + format_number(q) + " kPa >= q_f = " + format_number(qf) +
-                     " kPa at s1' = reference_pressure); it must exceed " +
-                     format_number((1.0 - k_.sin_phi) / (1.0 + k_.sin_phi)) + " for c' = 0");
-  k_.alpha2 = 1.0;  // not used by the shear surface
-  k_.h_ref = 1.0;
-  const double gamma0 = shear_locus(k_, q, s3);
-  D5 sig[3] = {D5::variable(s1, 0), D5::variable(s3, 1), D5::variable(s3, 2)};
-  D5 dl[3] = {D5::variable(0.0, 3), D5(0.0), D5(0.0)};
-  Point<D5> pt;
-  evaluate(k_, sig, dl, false, History(k_, gamma0, p), pt);
-  const double dfs_ds = pt.f[0].d[0] + kk * (pt.f[0].d[1] + pt.f[0].d[2]);
-  const double dfs_dg = pt.f[0].d[3];
-  const double dl_s = dfs_dg < 0.0 ? std::max(0.0, -dfs_ds / dfs_dg) : 0.0;
-  const double eur = k_.eur_ref * stiffness_ratio(k_, s3);
-  const double e1 = (1.0 - 2.0 * k_.nu * kk) / eur;
-  const double er = (kk - k_.nu * (1.0 + kk)) / eur;
-  const double eoed = v[oedometer_stiffness_ref];
-  const double axial = 1.0 / eoed - e1 - dl_s * pt.n[0][0].v;  // cap plastic strain needed, axial
-  const double radial = -(er + dl_s * pt.n[0][1].v);           // and each radial
-  if (!(axial > 0.0))
-    throw InputError(head + "oedometer_stiffness_ref = " + format_number(eoed) + " kPa is too stiff for k0_normally_consolidated = " +
-                     format_number(kk) + ": elastic and shear-hardening strains alone give a tangent of " +
-                     format_number(1.0 / (e1 + dl_s * pt.n[0][0].v)) +
-                     " kPa at s1' = reference_pressure; give a smaller value");
-  if (!(axial > radial) || !(axial + 2.0 * radial > 0.0))
-    throw InputError(head + "k0_normally_consolidated = " + format_number(kk) + " and oedometer_stiffness_ref = " +
-                     format_number(eoed) + " kPa cannot both be matched by the cap (it would need a negative "
-                     "alpha^2); try a smaller k0_normally_consolidated or a smaller oedometer_stiffness_ref");
-  const double u = (axial - radial) * p / (3.0 * (0.5 * axial + radial));
-  k_.alpha2 = q / u;
-  const double big_f = std::sqrt(q * u + p * p);
-  const double nc1 = (u + p / 3.0) / big_f;
-  const double dl_c = axial / nc1;
-  const double nc_ds = (u * (1.0 - kk) + p / 3.0 * (1.0 + 2.0 * kk)) / big_f;
-  const double h = nc_ds / (dl_c * p / big_f);
-  k_.h_ref = h / std::pow(big_f / k_.p_ref, k_.m);
-  alpha_ = std::sqrt(k_.alpha2);
-  cap_h_ref_ = k_.h_ref;
+  std::copy(v.begin(), v.end(), values_.begin());
+  k_ = make_constants(values_, head, alpha_, cap_h_ref_);
 }
 
 void HyperbolicHardening::initialise(const InitialConditions& c, MaterialState& state) const {
   state = MaterialState{};
-  state.stress = c.stress;
-  const Measures m = measures(c.stress, k_.delta);
-  const std::string head = std::string(kName) + ": ";
-  if (!(m.s3 + k_.c_cot > 0.0))
-    throw InputError(head + "the initial effective stress must be compressive: minor principal stress + c' cot phi' = " +
-                     format_number(m.s3 + k_.c_cot) + " kPa, expected > 0");
-  double ocr = 1.0;
-  if (!std::isnan(c.preconsolidation_pressure)) {
-    if (!(c.preconsolidation_pressure >= m.p * (1.0 - 1e-12)))
-      throw InputError(head + "preconsolidation_pressure = " + format_number(c.preconsolidation_pressure) +
-                       " kPa is below the initial mean effective stress p' = " + format_number(m.p) + " kPa");
-    ocr = std::max(1.0, c.preconsolidation_pressure / m.p);
-  } else if (!std::isnan(c.overconsolidation_ratio)) {
-    if (!(c.overconsolidation_ratio >= 1.0))
-      throw InputError(head + "ocr = " + format_number(c.overconsolidation_ratio) + " must be at least 1");
-    ocr = c.overconsolidation_ratio;
-  }
-  const double qf = k_.kf * (m.s3 + k_.c_cot);
-  if (!(m.q < qf))
-    throw InputError(head + "the initial deviator stress q = " + format_number(m.q) +
-                     " kPa is at or beyond failure (q_f = " + format_number(qf) + " kPa)");
-  state.internal[shear_hardening] = m.q > 0.0 ? std::max(0.0, shear_locus(k_, m.q, m.s3)) : 0.0;
-  state.internal[cap_pressure] = ocr * std::sqrt(m.qt * m.qt / k_.alpha2 + m.p * m.p);
-  state.internal[cap_volumetric_strain] = 0.0;
-  const double sphm = std::min(k_.sin_phi, m.q / (2.0 * (m.s3 + k_.c_cot) + m.q));
-  state.internal[mobilised_friction] = radians_to_degrees(std::asin(sphm));
-  state.internal[mobilised_dilation] = 0.0;
-  state.internal[active_surfaces] = 0.0;
+  initial_state(k_, c, state.stress, state.internal);
 }
 
 namespace {
@@ -425,7 +593,9 @@ struct LocalDerivatives {
 };
 
 // p_p(eps) as hardened_cap, and d p_p / d eps.
-double hardened_cap_slope(const HyperbolicHardening::Constants& k, const History& h, double eps, double& slope) {
+template <class Record>
+double hardened_cap_slope(const Constants<double>& k, const History<double>& h, double eps, double& slope,
+                          Record& record) {
   const double e = 1.0 - k.m;
   if (e < 1e-9) {
     const double pp = h.pp * std::exp(eps * (k.h_ref / k.p_ref));
@@ -435,7 +605,7 @@ double hardened_cap_slope(const HyperbolicHardening::Constants& k, const History
   const double rate = e * k.h_ref / k.p_ref;
   double base = h.pp_pow + eps * rate;
   double base_slope = rate;
-  if (!(base >= 1e-300)) {
+  if (record(floored, !(base >= 1e-300))) {
     base = 1e-300;
     base_slope = 0.0;
   }
@@ -450,8 +620,10 @@ double hardened_cap_slope(const HyperbolicHardening::Constants& k, const History
 
 // Values of all three surfaces at (sig, dl) into `o` (as evaluate<double>), and the derivatives of
 // the surfaces in `mask` into `d`.
-void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double sig[3], const double dl[3], int mask,
-                          const History& h, Point<double>& o, LocalDerivatives& d) {
+// Record: OnValues, or Branches to keep the choices (the derivative version replays them).
+template <class Record>
+void evaluate_derivatives(const Constants<double>& k, const double sig[3], const double dl[3], int mask,
+                          const History<double>& h, Point<double>& o, LocalDerivatives& d, Record& record) {
   constexpr double third = 1.0 / 3.0;
   const double p = (sig[0] + sig[1] + sig[2]) / 3.0;
   const double s[3] = {sig[0] - p, sig[1] - p, sig[2] - p};
@@ -461,7 +633,7 @@ void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double 
   double q = 0.0, x = 0.0, qt2 = 0.0;
   double dq[3], dx[3], qt_dqt[3];
   double hq[3][3], hx[3][3], hqt[3][3];  // d2q, d2X, d(qt_dqt_i)/d sigma_k
-  if (j2 > kIsotropic * (p * p + 1.0)) {
+  if (record(anisotropic, j2 > kIsotropic * (p * p + 1.0))) {
     q = std::sqrt(3.0 * j2);
     const double inv_j2 = 1.0 / j2;
     const double inv_q = 1.0 / q;
@@ -503,9 +675,9 @@ void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double 
   // Shear hardening surface: q_y(shifted, gamma) and its two partial derivatives. (Reciprocals
   // are formed once: fewer divisions on the dependency chain than evaluate<T>, same values to
   // round-off.)
-  const bool above_floor = shifted >= k.floor;
-  const double ratio = power((above_floor ? shifted : k.floor) * (1.0 / (k.p_ref + k.c_cot)), k.m);
-  const double dlog_ratio = above_floor ? k.m / shifted : 0.0;  // d ln(ratio) / d shifted
+  const bool over_floor = record(above_floor, shifted >= k.floor);
+  const double ratio = power((over_floor ? shifted : k.floor) * (1.0 / (k.p_ref + k.c_cot)), k.m);
+  const double dlog_ratio = over_floor ? k.m / shifted : 0.0;  // d ln(ratio) / d shifted
   const double inv_ratio = 1.0 / ratio;
   const double a = ((2.0 - k.rf) / k.e50_ref) * inv_ratio;  // 2 / E_i
   const double b = (2.0 / k.eur_ref) * inv_ratio;           // 2 / E_ur
@@ -513,7 +685,7 @@ void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double 
   const double qf = k.kf * shifted;
   o.gamma = h.gamma + dl[0];
   double qy = qf, qy_s = k.kf, qy_g = 0.0;
-  if (qf > 0.0) {
+  if (record(failure_positive, qf > 0.0)) {
     const double inv_qf = 1.0 / qf;
     const double u_g = k.rf * inv_qf;  // 1 / q_a
     const double u = o.gamma * u_g;    // gamma / q_a
@@ -523,7 +695,7 @@ void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double 
     const double den = bb + disc;
     const double inv_den = 1.0 / den;
     const double qh = 2.0 * o.gamma * inv_den;
-    if (!(qf <= qh)) {
+    if (record(on_hyperbola, !(qf <= qh))) {
       const double inv_disc = 1.0 / disc;
       const double bb_s = a_s - b_s + u_s;
       const double den_s = bb_s + (bb * bb_s + 2.0 * (b_s * u + b * u_s)) * inv_disc;
@@ -539,13 +711,13 @@ void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double 
   const double denom = 2.0 * shifted + q;
   double sphm = k.sin_phi;
   double dsphm[3] = {0.0, 0.0, 0.0};
-  if (denom > 0.0) {
+  if (record(denominator_positive, denom > 0.0)) {
     const double inv_denom = 1.0 / denom;
     sphm = q * inv_denom;
     const double c = 2.0 * inv_denom * inv_denom;
     for (int i = 0; i < 3; ++i) dsphm[i] = c * (shifted * dq[i] - q * ds3[i]);
   }
-  if (!(sphm <= k.sin_phi)) {
+  if (record(capped, !(sphm <= k.sin_phi))) {
     sphm = k.sin_phi;
     dsphm[0] = dsphm[1] = dsphm[2] = 0.0;
   }
@@ -556,7 +728,7 @@ void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double 
     spsi = (sphm - k.sin_cv) * inv_den;
     const double slope = (1.0 - k.sin_cv * k.sin_cv) * inv_den * inv_den;
     for (int i = 0; i < 3; ++i) dspsi[i] = slope * dsphm[i];
-    if (k.rule == 1 && !(spsi >= 0.0)) {
+    if (k.rule == 1 && record(cut, !(spsi >= 0.0))) {
       spsi = 0.0;
       dspsi[0] = dspsi[1] = dspsi[2] = 0.0;
     }
@@ -583,7 +755,7 @@ void evaluate_derivatives(const HyperbolicHardening::Constants& k, const double 
   o.cap_strain = dl[1] * p * inv_f;
   if (mask & 2) {
     double slope = 0.0;
-    o.pp = hardened_cap_slope(k, h, o.cap_strain, slope);
+    o.pp = hardened_cap_slope(k, h, o.cap_strain, slope, record);
     for (int i = 0; i < 3; ++i) {
       const double deps = dl[1] * (third - p * o.n[1][i] * inv_f) * inv_f;  // d eps_v^pc / d sigma_i
       d.df[1][i] = o.n[1][i] - slope * deps;
@@ -642,6 +814,15 @@ struct SmallLu {
     if (b) back_substitute<N>(b);
     return true;
   }
+  /// b := m^-1 b with the factors of m.
+  template <int N>
+  void solve(double* b) const {
+    for (int c = 0; c < N; ++c)
+      if (piv[c] != c) std::swap(b[c], b[piv[c]]);
+    for (int c = 0; c < N; ++c)
+      for (int r = c + 1; r < N; ++r) b[r] -= a[r][c] * b[c];
+    back_substitute<N>(b);
+  }
   template <int N>
   void back_substitute(double* b) const {
     for (int r = N - 1; r >= 0; --r) {
@@ -684,7 +865,7 @@ struct LocalSolve {
 };
 
 template <int N>
-void copy_values(const Point<Dual<N>>& a, Point<double>& b) {
+void copy_values(const Point<hyperbolic::Dual<N>>& a, Point<double>& b) {
   for (int s = 0; s < 3; ++s) {
     b.f[s] = a.f[s].v;
     for (int i = 0; i < 3; ++i) b.n[s][i] = a.n[s][i].v;
@@ -697,9 +878,10 @@ void copy_values(const Point<Dual<N>>& a, Point<double>& b) {
 }
 
 // Residual R = [sigma - trial + D_p sum dl_k n_k ; f_k (active)] at a point already evaluated.
-template <class T>
-void residual(const Point<T>& pt, const T sig[3], const T dl[3], const double trial[3], const int active[2], int na,
-              double lame, double two_g, T res[kUnknowns]) {
+// T: the scalar of the unknowns; U: that of the trial stress and the elastic constants.
+template <class T, class U>
+void residual(const Point<T>& pt, const T sig[3], const T dl[3], const U trial[3], const int active[2], int na,
+              const U& lame, const U& two_g, T res[kUnknowns]) {
   for (int i = 0; i < 3; ++i) res[i] = sig[i] - trial[i];
   for (int j = 0; j < na; ++j) {
     const int s = active[j];
@@ -712,24 +894,25 @@ void residual(const Point<T>& pt, const T sig[3], const T dl[3], const double tr
 // The local equations at x = (sigma, multipliers of the active surfaces): the point's values into
 // `pt`, R into `rv`, dR/dx into the leading (3 + na) block of `jac`.
 struct LocalEquations {
-  const HyperbolicHardening::Constants& k;
+  const Constants<double>& k;
   const double* trial;
-  const History& h;
+  const History<double>& h;
   double lame, two_g;
   int active[2];
   int na;
   int mask;
 
-  LocalEquations(const HyperbolicHardening::Constants& kk, const double* tr, const History& hh, double l, double g2,
+  LocalEquations(const Constants<double>& kk, const double* tr, const History<double>& hh, double l, double g2,
                  int m)
       : k(kk), trial(tr), h(hh), lame(l), two_g(g2), active{0, 0}, na(0), mask(m) {
     for (int s = 0; s < 3; ++s)
       if (mask & (1 << s)) active[na++] = s;
   }
 
-  template <Method method, int N>
-  void system(const double x[kUnknowns], Point<double>& pt, double rv[kUnknowns],
-              double (&jac)[kUnknowns][kUnknowns]) const {
+  // Record: OnValues, or Branches to keep the discrete choices made at x.
+  template <Method method, int N, class Record = const OnValues>
+  void system(const double x[kUnknowns], Point<double>& pt, double rv[kUnknowns], double (&jac)[kUnknowns][kUnknowns],
+              Record&& record = OnValues{}) const {
     constexpr int n = N;
     if constexpr (method == Method::automatic) {
       D5 sig[3];
@@ -737,7 +920,7 @@ struct LocalEquations {
       D5 dl[3] = {D5(0.0), D5(0.0), D5(0.0)};
       for (int j = 0; j < na; ++j) dl[active[j]] = D5::variable(x[3 + j], 3 + j);
       Point<D5> ad;
-      evaluate(k, sig, dl, (mask & 2) != 0, h, ad);
+      evaluate(k, sig, dl, (mask & 2) != 0, h, ad, record);
       D5 res[kUnknowns];
       residual(ad, sig, dl, trial, active, na, lame, two_g, res);
       for (int i = 0; i < n; ++i) {
@@ -750,7 +933,7 @@ struct LocalEquations {
       double dl[3] = {0.0, 0.0, 0.0};
       for (int j = 0; j < na; ++j) dl[active[j]] = x[3 + j];
       LocalDerivatives d;
-      evaluate_derivatives(k, sig, dl, mask, h, pt, d);
+      evaluate_derivatives(k, sig, dl, mask, h, pt, d, record);
       residual(pt, sig, dl, trial, active, na, lame, two_g, rv);
       // Stress rows: delta_ik + sum_s dl_s (lame tr(dn_s/dsigma_k) + 2G dn_{s,i}/dsigma_k); then
       // the column of each multiplier, lame tr(n_s) + 2G n_s,i.
@@ -839,20 +1022,20 @@ bool solve_local(const LocalEquations& eq, const Point<double>& at_trial, const 
 
 IntegrationResult HyperbolicHardening::integrate(const MaterialState& in, const Vec6& de, MaterialState& out,
                                                  Mat6& tangent) const {
-  return integrate_impl<LocalJacobian::hand_written>(in, de, out, tangent);
+  return integrate_impl<LocalJacobian::hand_written>(in, de, out, tangent, nullptr);
 }
 
 IntegrationResult HyperbolicHardening::integrate_with(LocalJacobian method, const MaterialState& in, const Vec6& de,
                                                       MaterialState& out, Mat6& tangent) const {
-  if (method == LocalJacobian::automatic) return integrate_impl<LocalJacobian::automatic>(in, de, out, tangent);
-  return integrate_impl<LocalJacobian::hand_written>(in, de, out, tangent);
+  if (method == LocalJacobian::automatic) return integrate_impl<LocalJacobian::automatic>(in, de, out, tangent, nullptr);
+  return integrate_impl<LocalJacobian::hand_written>(in, de, out, tangent, nullptr);
 }
 
 HyperbolicHardening::LocalSystem HyperbolicHardening::local_system(LocalJacobian method, const double principal[3],
                                                                    const double multipliers[3], int mask,
                                                                    double gamma_n, double pp_n, double eur,
                                                                    const double trial[3]) const {
-  const History history(k_, gamma_n, pp_n);
+  const History<double> history(k_, gamma_n, pp_n);
   const double bulk = eur / (3.0 * (1.0 - 2.0 * k_.nu));
   const double shear_mod = eur / (2.0 * (1.0 + k_.nu));
   const LocalEquations eq(k_, trial, history, bulk - 2.0 * shear_mod / 3.0, 2.0 * shear_mod, mask & 7);
@@ -875,20 +1058,24 @@ HyperbolicHardening::LocalSystem HyperbolicHardening::local_system(LocalJacobian
   return s;
 }
 
+struct HyperbolicHardening::Decision {
+  int accepted = 0;              // active set (bits 1 shear, 2 cap, 4 tension); 0 = elastic
+  double x[kUnknowns]{};         // converged principal stresses, then the multipliers of the active set
+  double principal[3]{};         // principal trial stresses (kPa)
+  Mat3 axes = Mat3::Identity();  // their directions (columns)
+  double scale = 1.0;            // largest trial stress magnitude, floor 1 kPa
+};
+
 template <HyperbolicHardening::LocalJacobian method>
 IntegrationResult HyperbolicHardening::integrate_impl(const MaterialState& in, const Vec6& de, MaterialState& out,
-                                                      Mat6& tangent) const {
+                                                      Mat6& tangent, Decision* decision) const {
   out = in;
   // Elasticity with E_ur at the stress at the start of the increment.
-  const Measures m0 = measures(in.stress, k_.delta);
-  const double eur = k_.eur_ref * stiffness_ratio(k_, m0.s3);
-  const double bulk = eur / (3.0 * (1.0 - 2.0 * k_.nu));
-  const double shear_mod = eur / (2.0 * (1.0 + k_.nu));
-  const double lame = bulk - 2.0 * shear_mod / 3.0;
-  const double diag = bulk + 4.0 * shear_mod / 3.0;  // as isotropic_elastic_stiffness
-  Vec6 trial;
-  for (int i = 0; i < 3; ++i) trial[i] = in.stress[i] + diag * de[i] + lame * (de[(i + 1) % 3] + de[(i + 2) % 3]);
-  for (int i = 3; i < 6; ++i) trial[i] = in.stress[i] + shear_mod * de[i];
+  const Elasticity<double> elastic = elasticity(k_, in.stress);
+  const double bulk = elastic.bulk;
+  const double shear_mod = elastic.shear;
+  const double lame = elastic.lame;
+  const Vec6 trial = elastic_trial(in.stress, de, elastic);
   if (!trial.allFinite()) return {Status::numerical_issue, 0};
   const double gamma_n = in.internal[shear_hardening];
   const double pp_n = in.internal[cap_pressure];
@@ -908,10 +1095,16 @@ IntegrationResult HyperbolicHardening::integrate_impl(const MaterialState& in, c
     for (int i = 0; i < 3; ++i) principal[i] = es.eigenvalues()[i];
     axes = es.eigenvectors();
   }
+  if (decision) {
+    decision->accepted = 0;
+    for (int i = 0; i < 3; ++i) decision->principal[i] = principal[i];
+    decision->axes = axes;
+    decision->scale = scale;
+  }
 
   const double zero[3] = {0.0, 0.0, 0.0};
   Point<double> at_trial;
-  const History history(k_, gamma_n, pp_n);
+  const History<double> history(k_, gamma_n, pp_n);
   evaluate(k_, principal, zero, false, history, at_trial);
   const double ytol = kYieldTolerance * scale;
   int violated = 0;
@@ -920,9 +1113,7 @@ IntegrationResult HyperbolicHardening::integrate_impl(const MaterialState& in, c
   if (violated == 0) {
     out.stress = trial;
     tangent = isotropic_elastic_stiffness(bulk, shear_mod);
-    out.internal[mobilised_friction] = radians_to_degrees(std::asin(at_trial.sin_phi_m));
-    out.internal[mobilised_dilation] = radians_to_degrees(std::asin(at_trial.sin_psi_m));
-    out.internal[active_surfaces] = 0.0;
+    elastic_state(at_trial, out.internal);
     return {Status::ok, 0};
   }
 
@@ -1024,16 +1215,207 @@ IntegrationResult HyperbolicHardening::integrate_impl(const MaterialState& in, c
       tangent.noalias() += 2.0 * coef[k] * sv * sv.transpose();
     }
   }
-  out.internal[shear_hardening] = r.point.gamma;
-  out.internal[cap_pressure] = r.point.pp;
-  out.internal[cap_volumetric_strain] = in.internal[cap_volumetric_strain] + r.point.cap_strain;
-  out.internal[mobilised_friction] = radians_to_degrees(std::asin(r.point.sin_phi_m));
-  out.internal[mobilised_dilation] = radians_to_degrees(std::asin(r.point.sin_psi_m));
-  out.internal[active_surfaces] = accepted;
   const double inv_norm = strain_norm > 0.0 ? 1.0 / strain_norm : 0.0;
-  out.internal[shear_rate] = r.dl[shear] * inv_norm;
-  out.internal[cap_rate] = r.dl[cap] * inv_norm;
+  plastic_state(in.internal, r.point, r.dl, accepted, inv_norm, out.internal);
+  if (decision) {
+    decision->accepted = accepted;
+    for (int i = 0; i < 3; ++i) decision->x[i] = r.sig[i];
+    int j = 3;
+    for (int s = 0; s < 3; ++s)
+      if (accepted & (1 << s)) decision->x[j++] = r.dl[s];
+  }
   return {Status::ok, std::max(1, iterations)};
+}
+
+// ---------------------------------------------------------------------------------------------
+// The derivative version. Its integrate runs in two passes over the same code:
+// 1. values: the double integrate itself (the decisions - elastic or plastic, the active set -,
+//    the local Newton solve to convergence, the consistent tangent), so that the values and the
+//    tangent are exactly those of the double model;
+// 2. derivatives: the increment's arithmetic again on Dual (elastic constants, trial stress,
+//    principal trial stresses, surfaces, residual, state update: the same templates as pass 1).
+//    The local solution x = (principal stresses, multipliers) solves R(x; inputs) = 0. Its
+//    derivatives follow from the implicit function theorem at the converged x: one Newton
+//    correction dx = -J^-1 R(x; inputs) with R evaluated on Dual at the converged x (held
+//    constant) and J = dR/dx the value Jacobian there (the hand-written one, refactored at x):
+//    the value part of the correction is the converged residual (below the local tolerance, and
+//    not applied: x keeps the values of pass 1), its derivative part is exactly
+//    -J^-1 dR/d(inputs), whatever the iterations that led to x. The quantities of the converged
+//    point (gamma_p, p_p, eps_v^pc, mobilised angles) are then evaluated on Dual at x with these
+//    derivatives.
+// The stress in the general frame is sum_a sigma_a n_a n_a; its derivative has, besides
+// sum_a d sigma_a n_a n_a, the rotation of the principal axes with the trial stress A:
+//   sum_{a<b} 2 c_ab (n_a . dA . n_b) sym(n_a n_b),  c_ab = (sigma_a - sigma_b) / (lambda_a - lambda_b)
+// (the same coefficients as the consistent tangent, de Souza Neto, Peric & Owen 2008, eq. A.46,
+// with the same limit for coincident trial values), and d lambda_a = n_a . dA . n_a.
+// ---------------------------------------------------------------------------------------------
+
+namespace {
+
+// u . A . v for a stress-type Voigt vector A (tensor shear components) and unit vectors u, v.
+template <class T>
+T contract(const Vec6Of<T>& a, const Vec3& u, const Vec3& v) {
+  const Vec6 s = symmetric_dyad(u, v);
+  return s[0] * a[0] + s[1] * a[1] + s[2] * a[2] + 2.0 * (s[3] * a[3] + s[4] * a[4] + s[5] * a[5]);
+}
+
+// Sets the value of x, keeping its derivatives.
+void set_value(Dual& x, double v) { x.a = v; }
+
+}  // namespace
+
+class HyperbolicHardeningDual final : public DualModel {
+ public:
+  HyperbolicHardeningDual(const HyperbolicHardening& model,
+                          const std::array<Dual, HyperbolicHardening::parameter_count>& parameters)
+      : model_(model) {
+    Dual alpha, cap_h_ref;
+    k_ = make_constants(parameters, std::string(kName) + ": ", alpha, cap_h_ref);
+  }
+
+  void initialise(const InitialConditions& conditions, DualState& state) const override {
+    state = DualState{};
+    initial_state(k_, conditions, state.stress, state.internal);
+    MaterialState values;
+    model_.initialise(conditions, values);
+    for (int i = 0; i < 6; ++i) set_value(state.stress[i], values.stress[i]);
+    for (std::size_t i = 0; i < state.internal.size(); ++i) set_value(state.internal[i], values.internal[i]);
+  }
+
+  IntegrationResult integrate(const DualState& in, const DualVec6& de, DualState& out, Mat6& tangent) const override {
+    using H = HyperbolicHardening;
+    using std::sqrt;
+    // Pass 1: values, decisions and tangent.
+    const MaterialState in_values = value_of(in);
+    Vec6 de_values;
+    for (int i = 0; i < 6; ++i) de_values[i] = de[i].a;
+    MaterialState out_values;
+    H::Decision d;
+    const IntegrationResult result =
+        model_.integrate_impl<H::LocalJacobian::hand_written>(in_values, de_values, out_values, tangent, &d);
+    if (result.status != Status::ok) return result;
+
+    // Pass 2: derivatives.
+    out = in;
+    const Elasticity<Dual> elastic = elasticity(k_, in.stress);
+    const DualVec6 trial = elastic_trial(in.stress, de, elastic);
+    Dual principal[3];
+    for (int a = 0; a < 3; ++a) {
+      principal[a] = contract(trial, d.axes.col(a), d.axes.col(a));
+      set_value(principal[a], d.principal[a]);
+    }
+    const History<Dual> history(k_, in.internal[H::shear_hardening], in.internal[H::cap_pressure]);
+    if (d.accepted == 0) {
+      out.stress = trial;
+      // The choices of the value pass at the trial stress, replayed.
+      const double zero_values[3] = {0.0, 0.0, 0.0};
+      const History<double> hv(model_.k_, in_values.internal[H::shear_hardening], in_values.internal[H::cap_pressure]);
+      Point<double> pv;
+      Branches branches;
+      evaluate(model_.k_, d.principal, zero_values, false, hv, pv, branches);
+      const Dual zero[3] = {Dual(0.0), Dual(0.0), Dual(0.0)};
+      Point<Dual> at_trial;
+      evaluate(k_, principal, zero, false, history, at_trial, Replay{branches});
+      elastic_state(at_trial, out.internal);
+    } else {
+      const Status s = plastic_derivatives(in, de, elastic, trial, principal, history, in_values, d, out);
+      if (s != Status::ok) return {s, result.iterations};
+    }
+    for (int i = 0; i < 6; ++i) set_value(out.stress[i], out_values.stress[i]);
+    for (std::size_t i = 0; i < out.internal.size(); ++i) set_value(out.internal[i], out_values.internal[i]);
+    return result;
+  }
+
+ private:
+  Status plastic_derivatives(const DualState& in, const DualVec6& de, const Elasticity<Dual>& elastic,
+                             const DualVec6& trial, const Dual principal[3], const History<Dual>& history,
+                             const MaterialState& in_values, const HyperbolicHardening::Decision& d,
+                             DualState& out) const {
+    using H = HyperbolicHardening;
+    using std::sqrt;
+    const Constants<double>& kv = model_.k_;
+    const int mask = d.accepted;
+    const bool cap_active = (mask & 2) != 0;
+    // The value Jacobian at the converged point, as pass 1 builds it.
+    const Elasticity<double> ev = elasticity(kv, in_values.stress);
+    const History<double> hv(kv, in_values.internal[H::shear_hardening], in_values.internal[H::cap_pressure]);
+    const LocalEquations eq(kv, d.principal, hv, ev.lame, 2.0 * ev.shear, mask);
+    const int n = 3 + eq.na;
+    Point<double> pv;
+    double rv[kUnknowns];
+    double jac[kUnknowns][kUnknowns];
+    SmallLu lu;
+    Branches branches;  // the Jacobian's discrete choices, replayed below
+    if (n == 4) {
+      eq.system<Method::hand_written, 4>(d.x, pv, rv, jac, branches);
+      if (!lu.factor<4>(jac)) return Status::numerical_issue;
+    } else {
+      eq.system<Method::hand_written, 5>(d.x, pv, rv, jac, branches);
+      if (!lu.factor<5>(jac)) return Status::numerical_issue;
+    }
+    // R on Dual at the converged x (held constant): its derivatives are dR/d(inputs).
+    Dual sig[3], dl[3] = {Dual(0.0), Dual(0.0), Dual(0.0)};
+    for (int i = 0; i < 3; ++i) sig[i] = Dual(d.x[i]);
+    for (int j = 0; j < eq.na; ++j) dl[eq.active[j]] = Dual(d.x[3 + j]);
+    Point<Dual> pt;
+    evaluate(k_, sig, dl, cap_active, history, pt, Replay{branches});
+    const Dual two_g = 2.0 * elastic.shear;
+    Dual res[kUnknowns];
+    residual(pt, sig, dl, principal, eq.active, eq.na, elastic.lame, two_g, res);
+    // dx = -J^-1 dR/d(inputs), lane by lane.
+    for (int lane = 0; lane < kDualLanes; ++lane) {
+      double b[kUnknowns];
+      for (int i = 0; i < n; ++i) b[i] = -res[i].v[lane];
+      if (n == 4)
+        lu.solve<4>(b);
+      else
+        lu.solve<5>(b);
+      for (int i = 0; i < 3; ++i) sig[i].v[lane] = b[i];
+      for (int j = 0; j < eq.na; ++j) dl[eq.active[j]].v[lane] = b[3 + j];
+    }
+    for (int i = 0; i < n; ++i)
+      if (!std::isfinite(i < 3 ? sig[i].v.sum() : dl[eq.active[i - 3]].v.sum())) return Status::numerical_issue;
+    // The converged point's quantities with these derivatives.
+    evaluate(k_, sig, dl, cap_active, history, pt, Replay{branches});
+
+    // Stress: principal values along the fixed axes, then the rotation of the axes.
+    for (int i = 0; i < 6; ++i) out.stress[i] = Dual(0.0);
+    for (int a = 0; a < 3; ++a) {
+      const Vec6 nv = symmetric_dyad(d.axes.col(a), d.axes.col(a));
+      for (int i = 0; i < 6; ++i) out.stress[i] += sig[a] * nv[i];
+    }
+    double dsig[3][3];
+    if (n == 4)
+      lu.inverse_block<4>(dsig);
+    else
+      lu.inverse_block<5>(dsig);
+    const int pair_a[3] = {0, 1, 0};
+    const int pair_b[3] = {1, 2, 2};
+    for (int k = 0; k < 3; ++k) {
+      const int a = pair_a[k];
+      const int b = pair_b[k];
+      const double gap = d.principal[a] - d.principal[b];
+      const double c = std::abs(gap) > 1e-9 * d.scale ? (d.x[a] - d.x[b]) / gap
+                                                       : 0.5 * (dsig[a][a] - dsig[a][b] + dsig[b][b] - dsig[b][a]);
+      const Vec6 sv = symmetric_dyad(d.axes.col(a), d.axes.col(b));
+      const Dual w = contract(trial, d.axes.col(a), d.axes.col(b));
+      for (int i = 0; i < 6; ++i) out.stress[i].v += (2.0 * c * sv[i]) * w.v;
+    }
+
+    // Internal variables.
+    Dual norm2(0.0);
+    for (int i = 0; i < 6; ++i) norm2 += de[i] * de[i];
+    const Dual inv_norm = norm2.a > 0.0 ? 1.0 / sqrt(norm2) : Dual(0.0);
+    plastic_state(in.internal, pt, dl, mask, inv_norm, out.internal);
+    return Status::ok;
+  }
+
+  HyperbolicHardening model_;
+  Constants<Dual> k_{};
+};
+
+std::unique_ptr<DualModel> HyperbolicHardening::with_derivatives(std::span<const double> seeds) const {
+  return std::make_unique<HyperbolicHardeningDual>(*this, seeded_parameters(kName, values_, seeds));
 }
 
 }  // namespace triaxcal

@@ -38,8 +38,17 @@
 // residual is kept as the reference (LocalJacobian::automatic), and the tests compare the two.
 // The consistent tangent is formed from the LU factors of the Jacobian at the last iterate (those
 // of the last Newton step when the plain check after it has converged).
+//
+// Derivative version (with_derivatives, sensitivity.hpp): the model's arithmetic is written once,
+// templated on the scalar (Constants<S>, the stress measures, the elastic predictor, the surfaces,
+// the residual, the state update), and runs on doubles for integrate and on triaxcal::Dual for the
+// derivatives. The decisions (elastic or plastic, active set) and the local Newton solve are those
+// of the double integrate; the derivatives of its converged point follow from the implicit function
+// theorem (see HyperbolicHardeningDual in the .cpp).
 
+#include <array>
 #include <memory>
+#include <span>
 #include <string>
 
 #include "triaxcal/model.hpp"
@@ -91,6 +100,10 @@ class HyperbolicHardening final : public Model {
   void initialise(const InitialConditions& conditions, MaterialState& state) const override;
   IntegrationResult integrate(const MaterialState& in, const Vec6& strain_increment, MaterialState& out,
                               Mat6& tangent) const override;
+  /// The derivative version (sensitivity.hpp); throws InputError when `seeds` does not hold
+  /// kDualLanes numbers for each of the parameter_count parameters (dilatancy_rule, a word, takes
+  /// no derivative).
+  std::unique_ptr<DualModel> with_derivatives(std::span<const double> seeds) const override;
 
   /// How the local Newton solve gets its Jacobian: written out by hand (what integrate uses) or by
   /// forward automatic differentiation of the residual (the reference, slower).
@@ -116,20 +129,28 @@ class HyperbolicHardening final : public Model {
   double cap_alpha() const { return alpha_; }          ///< cap shape alpha (-)
   double cap_modulus_ref() const { return cap_h_ref_; } ///< H_ref = p_ref / beta (kPa)
 
-  /// Constants shared with the local solver (public so that the .cpp's helpers can read them).
+  /// Constants shared with the local solver (public so that the .cpp's helpers can read them), in
+  /// the scalar S: double, or triaxcal::Dual for the derivative version.
+  template <class S>
   struct Constants {
-    double e50_ref, eur_ref, m, p_ref, nu, rf, c_cot, sin_phi, sin_cv, kf, tension;
+    S e50_ref, eur_ref, m, p_ref, nu, rf, c_cot, sin_phi, sin_cv, kf, tension;
     int rule;
-    double alpha2, h_ref, delta;
-    double floor;  ///< stiffness stress term floor (kPa)
+    S alpha2, h_ref, delta;
+    S floor;  ///< stiffness stress term floor (kPa)
   };
 
+  /// What integrate decided for one increment (active set, converged local solution, principal
+  /// axes of the trial stress), for the derivative version's second pass (.cpp).
+  struct Decision;
+
  private:
+  friend class HyperbolicHardeningDual;
   template <LocalJacobian method>
   IntegrationResult integrate_impl(const MaterialState& in, const Vec6& strain_increment, MaterialState& out,
-                                   Mat6& tangent) const;
+                                   Mat6& tangent, Decision* decision) const;
 
-  Constants k_{};
+  std::array<double, parameter_count> values_{};
+  Constants<double> k_{};
   double alpha_ = 0.0;
   double cap_h_ref_ = 0.0;
 };
