@@ -13,12 +13,14 @@
 
 #include <algorithm>
 #include <cmath>
+#include <vector>
 
 #include "modified_cam_clay/closed_form.hpp"
 #include "protocols.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/models/registry.hpp"
 #include "triaxcal/parameters.hpp"
+#include "triaxcal/sensitivity.hpp"
 
 using namespace triaxcal;
 
@@ -110,9 +112,34 @@ void BM_ModifiedCamClayIntegrate(benchmark::State& state) {
   }
 }
 
+// The same return on the derivative version (Model::with_derivatives), four lanes seeded with
+// lambda, kappa, M and nu': the cost of the exact sensitivities of one increment against
+// BM_ModifiedCamClayIntegrate.
+void BM_ModifiedCamClayIntegrateDual(benchmark::State& state) {
+  const auto m = model();
+  std::vector<double> seeds(m->info().parameters.size() * kDualLanes, 0.0);
+  for (std::size_t k = 0; k < 4; ++k) seeds[(k == 3 ? 4 : k) * kDualLanes + k] = 1.0;
+  const auto dual = m->with_derivatives(seeds);
+  DualState in;
+  InitialConditions c;
+  c.stress = triaxial_stress(kP0, kP0);
+  c.void_ratio = 1.1;
+  dual->initialise(c, in);
+  DualVec6 de;
+  const double d[6] = {2e-4, -1e-4, -1e-4, 0, 0, 0};
+  for (int i = 0; i < 6; ++i) de[i] = Dual(d[i]);
+  DualState out;
+  Mat6 tangent;
+  for (auto _ : state) {
+    benchmark::DoNotOptimize(dual->integrate(in, de, out, tangent));
+    benchmark::DoNotOptimize(tangent.data());
+  }
+}
+
 }  // namespace
 
 BENCHMARK(BM_ModifiedCamClayDrainedShear)->Arg(1000)->Arg(2000)->Arg(4000)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_ModifiedCamClayUndrainedShear)->Arg(1000)->Arg(2000)->Arg(4000)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_ModifiedCamClayIntegrate);
+BENCHMARK(BM_ModifiedCamClayIntegrateDual);
 BENCHMARK_MAIN();

@@ -52,9 +52,12 @@
 // flow stays radial in the deviatoric plane (M(theta) is not differentiated in the flow rule);
 // on triaxial compression and extension paths that equals associated flow, since dg/dtheta = 0 there.
 
+#include <array>
 #include <memory>
+#include <span>
 #include <string>
 
+#include "modified_cam_clay/cam_clay_core.hpp"
 #include "triaxcal/model.hpp"
 
 namespace triaxcal {
@@ -70,6 +73,7 @@ class ModifiedCamClay final : public Model {
     shear_modulus,
     lode_dependence,
   };
+  static_assert(static_cast<std::size_t>(lode_dependence) + 1 == kCamClayParameters);
   enum StateVariable {
     preconsolidation_pressure,  ///< p'_c (kPa)
     void_ratio,                 ///< current e (-); the driver's (1 + e0) exp(-eps_v) - 1
@@ -86,24 +90,21 @@ class ModifiedCamClay final : public Model {
   void initialise(const InitialConditions& conditions, MaterialState& state) const override;
   IntegrationResult integrate(const MaterialState& in, const Vec6& strain_increment, MaterialState& out,
                               Mat6& tangent) const override;
+  /// The derivative version (sensitivity.hpp): the same arithmetic (cam_clay_core.hpp) on dual
+  /// numbers. Every parameter may carry derivatives except lode_dependence (a switch; its seeds
+  /// are ignored); M or phi_cs, whichever is not given (0), and poissons_ratio or shear_modulus,
+  /// whichever is not used, take no part, so their derivatives vanish.
+  std::unique_ptr<DualModel> with_derivatives(std::span<const double> seeds) const override;
 
   /// M at a stress state (the compression value when Lode dependence is off or q = 0).
   double critical_state_ratio_at(const Vec6& stress) const;
   /// M in triaxial compression and in triaxial extension.
-  double compression_ratio() const { return m_compression_; }
+  double compression_ratio() const { return core_.compression_ratio(); }
   double extension_ratio() const;
 
  private:
-  // M and dM/d(sin 3theta) at a deviatoric state.
-  double ratio_and_slope(double sin3theta, double& slope) const;
-
-  double inv_kappa_ = 0.0;    // 1 / kappa
-  double inv_plastic_ = 0.0;  // 1 / (lambda - kappa)
-  double m_compression_ = 0.0;
-  double alpha4_ = 1.0;     // a^4 of the Lode shape (1 = circle)
-  double nu_ = 0.3;
-  double shear_ = 0.0;      // constant G (kPa), 0 = from Poisson's ratio
-  bool lode_ = false;
+  std::array<double, kCamClayParameters> values_{};
+  CamClayCore<double> core_;
 };
 
 }  // namespace triaxcal
