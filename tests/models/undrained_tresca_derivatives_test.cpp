@@ -7,6 +7,8 @@
 #include "sensitivity_checks.hpp"
 #include "triaxcal/error.hpp"
 
+#include "allocation_counter.hpp"
+
 using namespace triaxcal;
 using test::vec;
 
@@ -84,4 +86,27 @@ TEST_CASE("undrained Tresca derivative version: a wrong number of seeds is an er
   const std::vector<double> seeds(16, 0.0);
   CHECK_THROWS_MATCHES(m->with_derivatives(seeds), InputError,
                        Catch::Message("undrained_tresca: with_derivatives: expected 12 seeds (3 parameters x 4 lanes), found 16"));
+}
+
+TEST_CASE("undrained Tresca derivative version: integrate allocates nothing") {
+  const auto m = test::create_model("undrained_tresca", {40.0, 30000.0, 0.495});
+  const std::vector<double> seeds(m->info().parameters.size() * kDualLanes, 1.0);
+  const auto dual = m->with_derivatives(seeds);
+  const std::vector<test::DerivativeCase> cases = {tresca_case(vec(150, 110, 80), vec(2e-3, 0, -1.5e-3)),
+                                                    tresca_case(triaxial_stress(160, 100), vec(2e-3, -1e-3, -1e-3)),
+                                                    tresca_case(vec(140, 100, 90, 20, -10, 15), vec(1.5e-3, -4e-4, -6e-4, 1e-3, 5e-4, -8e-4))};
+  std::vector<DualState> in;
+  std::vector<DualVec6> de;
+  for (const auto& c : cases) {
+    in.push_back(test::dual_of(c.in));
+    de.push_back(test::dual_of(c.de));
+  }
+  DualState out;
+  Mat6 t;
+  const long before = test::g_allocations.load();
+  int ok = 0;
+  for (int i = 0; i < 100; ++i)
+    for (std::size_t k = 0; k < cases.size(); ++k) ok += dual->integrate(in[k], de[k], out, t).status == Status::ok;
+  CHECK(ok == 100 * static_cast<int>(cases.size()));
+  if (test::kCountingAllocations) CHECK(test::g_allocations.load() == before);
 }
