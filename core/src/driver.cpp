@@ -46,11 +46,12 @@ void DriverOptions::validate() const {
   if (max_substeps < 1) fail("max_substeps", static_cast<double>(max_substeps), "must be at least 1");
 }
 
-void SimulationResult::clear() {
+template <class T>
+void BasicSimulationResult<T>::clear() {
   std::string kept_message = std::move(message);
-  std::vector<StepRecord> kept_steps = std::move(steps);
+  std::vector<BasicStepRecord<T>> kept_steps = std::move(steps);
   std::vector<StageSummary> kept_stages = std::move(stages);
-  *this = SimulationResult{};
+  *this = BasicSimulationResult{};
   kept_message.clear();
   kept_steps.clear();
   kept_stages.clear();
@@ -59,7 +60,8 @@ void SimulationResult::clear() {
   stages = std::move(kept_stages);
 }
 
-std::string SimulationResult::brief() const {
+template <class T>
+std::string BasicSimulationResult<T>::brief() const {
   std::ostringstream out;
   if (termination == Termination::completed) {
     out << "completed: " << (steps.empty() ? 0 : steps.size() - 1) << " steps in " << stages.size()
@@ -69,6 +71,9 @@ std::string SimulationResult::brief() const {
   }
   return out.str();
 }
+
+template struct BasicSimulationResult<double>;
+template struct BasicSimulationResult<Dual>;
 
 namespace {
 
@@ -163,10 +168,14 @@ namespace {
 // One step under mixed control: row i reads a_i . d_eps + c_i . sigma_new = b_i, with d_eps the
 // strain increment of the step. Rows with `pure[i]` prescribe d_eps_i = b_i; the others are solved
 // by Newton on the strain components of the same index.
-struct Control {
+// T: double, or Dual for a simulation with derivatives (targets taken from the stage start carry
+// the derivatives of that state).
+template <class T>
+struct ControlT {
+  using V = Eigen::Matrix<T, 6, 1>;
   Mat6 a = Mat6::Zero();
   Mat6 c = Mat6::Zero();
-  Vec6 b = Vec6::Zero();
+  V b = V::Zero();
   std::array<bool, 6> pure{};
   std::array<int, 6> free{};
   int nfree = 0;
@@ -174,9 +183,9 @@ struct Control {
   // the fraction of the stage at the end of the step and u the pore pressure at its start. Pure
   // rows hold their increment of one equal step in from = to (total / steps) and the stage's total
   // natural strain in `total` (record steps of other widths: set_pure_increments).
-  Vec6 from = Vec6::Zero();
-  Vec6 to = Vec6::Zero();
-  Vec6 total = Vec6::Zero();
+  V from = V::Zero();
+  V to = V::Zero();
+  V total = V::Zero();
   std::array<bool, 6> pore{};
   // The nonzero entries of the free rows, in the order of `free` (set by finish()): the hot loop
   // reads two or three coefficients a row instead of twelve.
@@ -202,20 +211,20 @@ struct Control {
     a.row(i).setZero();
     c.row(i).setZero();
     a(i, i) = 1.0;
-    from[i] = to[i] = stage_total / steps;
-    total[i] = stage_total;
+    from[i] = to[i] = T(stage_total / steps);
+    total[i] = T(stage_total);
     pure[i] = true;
   }
-  void mixed(int i, const Vec6& arow, const Vec6& crow, double b_from, double b_to, bool minus_pore = false) {
+  void mixed(int i, const Vec6& arow, const Vec6& crow, const T& b_from, const T& b_to, bool minus_pore = false) {
     a.row(i) = arow.transpose();
     c.row(i) = crow.transpose();
     from[i] = b_from;
     to[i] = b_to;
     pure[i] = false;
     pore[i] = minus_pore;
-    total[i] = 0.0;
+    total[i] = T(0.0);
   }
-  void effective_stress(int i, double b_from, double b_to) { mixed(i, Vec6::Zero(), Vec6::Unit(i), b_from, b_to); }
+  void effective_stress(int i, const T& b_from, const T& b_to) { mixed(i, Vec6::Zero(), Vec6::Unit(i), b_from, b_to); }
   void finish() {
     nfree = 0;
     for (int i = 0; i < 6; ++i)
@@ -241,7 +250,7 @@ struct Control {
   // 1 on the rows that are pure / subtract the pore pressure, else 0 (set by finish()).
   Vec6 pure_mask = Vec6::Zero();
   Vec6 pore_mask = Vec6::Zero();
-  void set_targets(double f, double u) { b = from + f * (to - from) - u * pore_mask; }
+  void set_targets(double f, const T& u) { b = from + f * (to - from) - pore_mask.template cast<T>() * u; }
   // A record step of `width` (fraction of the stage): the pure rows' increments (after set_targets).
   void set_pure_increments(double width) {
     for (int i = 0; i < 6; ++i)
@@ -249,13 +258,36 @@ struct Control {
   }
 };
 
+// Two unknowns (every drained triaxial stage): Cramer's rule with one division instead of three
+// in a dependent chain, and the same singularity test as the elimination (first pivot the larger
+// of the first column, second pivot det / first).
+template <class R>
+bool solve_two(double (&a)[6][6], R (&b)[6]) {
+  const double largest = std::max(std::max(std::abs(a[0][0]), std::abs(a[0][1])),
+                                  std::max(std::abs(a[1][0]), std::abs(a[1][1])));
+  if (!(largest > 0.0) || !std::isfinite(largest)) return false;
+  const double tiny = 1e-13 * largest;
+  const double first = std::max(std::abs(a[0][0]), std::abs(a[1][0]));
+  const double det = a[0][0] * a[1][1] - a[0][1] * a[1][0];
+  if (!(first > tiny) || !(std::abs(det) > tiny * first)) return false;
+  const double inv = 1.0 / det;
+  const R x0 = (b[0] * a[1][1] - a[0][1] * b[1]) * inv;
+  const R x1 = (a[0][0] * b[1] - b[0] * a[1][0]) * inv;
+  b[0] = x0;
+  b[1] = x1;
+  return true;
+}
+
 // Gaussian elimination with partial pivoting on the K x K leading block (K <= 6), solving in place
 // into b. Written out because the systems are 1 to 3 unknowns in the hot loop, where Eigen's
 // dynamic-size LU cost a third of a drained increment; K is a template argument so that the loops
 // unroll (solve_small dispatches). Returns false when a pivot falls below 1e-13 of the largest
 // entry (singular for this control).
-template <int K>
-bool solve_fixed(double (&a)[6][6], double (&b)[6]) {
+template <int K, class R>
+bool solve_fixed(double (&a)[6][6], R (&b)[6]) {
+  if constexpr (K == 2) {
+    return solve_two(a, b);
+  } else {
   double largest = 0.0;
   for (int i = 0; i < K; ++i)
     for (int j = 0; j < K; ++j) largest = std::max(largest, std::abs(a[i][j]));
@@ -277,34 +309,16 @@ bool solve_fixed(double (&a)[6][6], double (&b)[6]) {
     }
   }
   for (int i = K - 1; i >= 0; --i) {
-    double sum = b[i];
+    R sum = b[i];
     for (int j = i + 1; j < K; ++j) sum -= a[i][j] * b[j];
     b[i] = sum / a[i][i];
   }
   return true;
+  }
 }
 
-// Two unknowns (every drained triaxial stage): Cramer's rule with one division instead of three
-// in a dependent chain, and the same singularity test as the elimination (first pivot the larger
-// of the first column, second pivot det / first).
-template <>
-bool solve_fixed<2>(double (&a)[6][6], double (&b)[6]) {
-  const double largest = std::max(std::max(std::abs(a[0][0]), std::abs(a[0][1])),
-                                  std::max(std::abs(a[1][0]), std::abs(a[1][1])));
-  if (!(largest > 0.0) || !std::isfinite(largest)) return false;
-  const double tiny = 1e-13 * largest;
-  const double first = std::max(std::abs(a[0][0]), std::abs(a[1][0]));
-  const double det = a[0][0] * a[1][1] - a[0][1] * a[1][0];
-  if (!(first > tiny) || !(std::abs(det) > tiny * first)) return false;
-  const double inv = 1.0 / det;
-  const double x0 = (b[0] * a[1][1] - a[0][1] * b[1]) * inv;
-  const double x1 = (a[0][0] * b[1] - b[0] * a[1][0]) * inv;
-  b[0] = x0;
-  b[1] = x1;
-  return true;
-}
-
-bool solve_small(double (&a)[6][6], double (&b)[6], int k) {
+template <class R>
+bool solve_small(double (&a)[6][6], R (&b)[6], int k) {
   switch (k) {
     case 1: return solve_fixed<1>(a, b);
     case 2: return solve_fixed<2>(a, b);
@@ -316,9 +330,85 @@ bool solve_small(double (&a)[6][6], double (&b)[6], int k) {
   return false;
 }
 
+// Scalar of a state for the driver (no derivatives of the decisions: those are taken on values).
+template <class V>
+double max_abs(const V& v) {
+  double m = 0.0;
+  for (int i = 0; i < v.size(); ++i) m = std::max(m, std::abs(value_of(v[i])));
+  return m;
+}
+
+template <class T> struct ScalarTypes;
+template <> struct ScalarTypes<double> {
+  using State = MaterialState;
+  using ModelType = Model;
+};
+template <> struct ScalarTypes<Dual> {
+  using State = DualState;
+  using ModelType = DualModel;
+};
+
+template <class T>
+struct Invariants {
+  T axial, radial, p, q;
+};
+template <class T>
+Invariants<T> invariants_of(const Eigen::Matrix<T, 6, 1>& s) {
+  const T radial = 0.5 * (s[1] + s[2]);
+  return {s[0], radial, (s[0] + 2.0 * radial) / 3.0, s[0] - radial};
+}
+template <class T>
+T volumetric(const Eigen::Matrix<T, 6, 1>& e) {
+  return e[0] + e[1] + e[2];
+}
+template <class T>
+T engineering(const T& natural) {
+  using std::expm1;
+  return -expm1(-natural);
+}
+
+// C sigma of the free rows at `state` (the only rows substep reads from cs_start).
+template <class T, class S>
+Eigen::Matrix<T, 6, 1> free_row_stress(const ControlT<T>& c, const S& state) {
+  Eigen::Matrix<T, 6, 1> cs = Eigen::Matrix<T, 6, 1>::Zero();
+  for (int ii = 0; ii < c.nfree; ++ii) {
+    const typename ControlT<T>::SparseRow& cr = c.c_rows[ii];
+    T v(0.0);
+    for (int m = 0; m < cr.n; ++m) v += cr.value[m] * state.stress[cr.index[m]];
+    cs[c.free[ii]] = v;
+  }
+  return cs;
+}
+
+// The Newton matrix of the free rows: a_ij + c_i . D_:j over the free rows and columns.
+template <class T>
+void fill_jacobian(const ControlT<T>& c, const Mat6& dmat, int k, double (&jac)[6][6]) {
+  for (int ii = 0; ii < k; ++ii) {
+    const int i = c.free[ii];
+    const typename ControlT<T>::SparseRow& cr = c.c_rows[ii];
+    for (int jj = 0; jj < k; ++jj) {
+      const int j = c.free[jj];
+      double v = c.a(i, j);
+      for (int m = 0; m < cr.n; ++m) v += cr.value[m] * dmat(cr.index[m], j);
+      jac[ii][jj] = v;
+    }
+  }
+}
+
+// The driver on scalar T: double (values), or Dual (values with derivatives: the same substeps and
+// decisions, taken on the values).
+template <class T>
 class Runner {
  public:
-  Runner(const DriverOptions& options, const Model& model, const TestProtocol& protocol, SimulationResult& result,
+  using State = typename ScalarTypes<T>::State;
+  using ModelType = typename ScalarTypes<T>::ModelType;
+  using V6 = Eigen::Matrix<T, 6, 1>;
+  using Control = ControlT<T>;
+  using Record = BasicStepRecord<T>;
+  using Result = BasicSimulationResult<T>;
+  static constexpr bool kDual = !std::is_same_v<T, double>;
+
+  Runner(const DriverOptions& options, const ModelType& model, const TestProtocol& protocol, Result& result,
          SubstepPlan* record, const SubstepPlan* replay)
       : opt_(options), model_(model), protocol_(protocol), result_(result), record_(record), replay_(replay) {}
   Runner(const Runner&) = delete;  // holds pointers into itself
@@ -329,11 +419,11 @@ class Runner {
  private:
   // Stage constants, fixed at the start of a stage.
   struct StageStart {
-    Vec6 stress;         // effective
-    double u = 0.0;      // absolute pore pressure
-    Vec6 cell;           // total stress on the boundary (effective + u) at stage start
-    double p = 0.0;
-    double q = 0.0;
+    V6 stress;         // effective
+    T u = T(0.0);      // absolute pore pressure
+    V6 cell;           // total stress on the boundary (effective + u) at stage start
+    T p = T(0.0);
+    T q = T(0.0);
   };
 
   // What run_stage does after each record: peaks and stop criteria of the stage.
@@ -345,7 +435,7 @@ class Runner {
     double best_q = -std::numeric_limits<double>::infinity();
     double best_ratio = -std::numeric_limits<double>::infinity();
     // true: the stage stops at the record just written (n = its index within the loop half).
-    bool stop_after(const StepRecord& r, int n, double axial_now);
+    bool stop_after(const Record& r, int n, double axial_now);
   };
 
   bool run_stage(int index);
@@ -355,35 +445,35 @@ class Runner {
   // on the way; `counter` = records of the stage written so far; `stopped` = a stop criterion fired.
   bool adaptive_phase(int stage, const Control& control, int per_phase, int& counter, RecordWatch& watch,
                       bool& stopped);
-  double error_estimate(const Control& control, const MaterialState& one, const Vec6& d_one, const MaterialState& two,
-                        const Vec6& d_two, const Vec6& stage_strain) const;
+  double error_estimate(const Control& control, const State& one, const V6& d_one, const State& two,
+                        const V6& d_two, const V6& stage_strain) const;
   // A record group: one substep over the next m records (2 <= m <= kMaxGroup) and the chain of m
   // substeps ending on each of them, compared (see adaptive_phase). Fills group_ on success.
   enum class GroupOutcome { accepted, rejected, model_failed };
-  GroupOutcome group_step(const Control& control, const MaterialState& from, const Mat6& predictor,
-                          const Vec6& cs_start, const double* ends, int m, const Vec6& d_acc, const Vec6& stage_offset,
+  GroupOutcome group_step(const Control& control, const State& from, const Mat6& predictor,
+                          const V6& cs_start, const double* ends, int m, const V6& d_acc, const V6& stage_offset,
                           double sum_sq, bool check_error, double& err_estimate, double& weight, int& smooth);
   // Pore pressure after the strain increment d (since the pore pressure was u0) reaching `state`.
-  double pore_pressure(Drainage drainage, const MaterialState& state, const Vec6& d, double u0) const;
+  T pore_pressure(Drainage drainage, const State& state, const V6& d, const T& u0) const;
   // Integrates the fraction [s0, s1] of a record step (fixed stepping) or of a stage (error
   // control) from `from` (the state at s0, reached with the strain increment d_acc since the start
   // of that step or stage); `predictor` = the tangent at `from`.
-  bool substep(const Control& control, const MaterialState& from, const Mat6& predictor, const Vec6& cs_start,
-               double s0, double s1, const Vec6& d_acc, Vec6& d_eps, MaterialState& out, Mat6& tangent,
+  bool substep(const Control& control, const State& from, const Mat6& predictor, const V6& cs_start,
+               double s0, double s1, const V6& d_acc, V6& d_eps, State& out, Mat6& tangent,
                bool elastic_predictor);
   template <int K>
-  bool newton(const Control& control, const MaterialState& from, const Mat6& predictor, const Vec6& cs_start,
-              double s0, double s1, const Vec6& d_acc, Vec6& d, MaterialState& out, Mat6& tangent,
+  bool newton(const Control& control, const State& from, const Mat6& predictor, const V6& cs_start,
+              double s0, double s1, const V6& d_acc, V6& d, State& out, Mat6& tangent,
               bool elastic_predictor);
   void record(int stage, int step, int cuts) { record(stage, step, cuts, *state_, strain_, u_); }
-  void record(int stage, int step, int cuts, const MaterialState& state, const Vec6& strain, double u);
+  void record(int stage, int step, int cuts, const State& state, const V6& strain, const T& u);
   void fail(int stage, int step, const std::string& why);
   void build_control(const Stage& stage, const StageStart& start, int phase, Control& control) const;
 
   const DriverOptions& opt_;
-  const Model& model_;
+  const ModelType& model_;
   const TestProtocol& protocol_;
-  SimulationResult& result_;
+  Result& result_;
   SubstepPlan* record_ = nullptr;        // accepted substeps go here
   const SubstepPlan* replay_ = nullptr;  // or the substeps come from here
   std::size_t plan_cursor_ = 0;          // replay: the next entry of replay_->ends
@@ -392,12 +482,12 @@ class Runner {
   // copied (the pair is 400 bytes, a tenth of a drained Mohr-Coulomb increment). Step doubling
   // writes the one-substep result into `one_` and the half-way state of the two halves into `half_`;
   // the two-halves result goes into the spare pair.
-  MaterialState states_[4];
+  State states_[4];
   Mat6 tangents_[4] = {Mat6::Zero(), Mat6::Zero(), Mat6::Zero(), Mat6::Zero()};
-  MaterialState* state_ = &states_[0];
-  MaterialState* spare_state_ = &states_[1];
-  MaterialState* one_state_ = &states_[2];
-  MaterialState* half_state_ = &states_[3];
+  State* state_ = &states_[0];
+  State* spare_state_ = &states_[1];
+  State* one_state_ = &states_[2];
+  State* half_state_ = &states_[3];
   Mat6* tangent_ = &tangents_[0];  // last converged tangent (predictor)
   Mat6* spare_tangent_ = &tangents_[1];
   Mat6* one_tangent_ = &tangents_[2];
@@ -405,38 +495,43 @@ class Runner {
   // The chain of a record group: the state, tangent and strain since the group start at each record.
   static constexpr int kMaxGroup = 16;
   struct GroupPoint {
-    MaterialState state;
+    State state;
     Mat6 tangent = Mat6::Zero();
-    Vec6 d = Vec6::Zero();
+    V6 d = V6::Zero();
   };
   GroupPoint group_[kMaxGroup];
   int record_steps_ = 0;        // record steps of the current stage (for messages)
-  Vec6 strain_ = Vec6::Zero();  // total strain since the start of the protocol
-  Vec6 stage_strain_start_ = Vec6::Zero();  // strain_ at the start of the current stage
+  V6 strain_ = V6::Zero();  // total strain since the start of the protocol
+  V6 stage_strain_start_ = V6::Zero();  // strain_ at the start of the current stage
   Mat6 restart_tangent_ = Mat6::Zero();  // tangent of a zero increment (fallback predictor)
-  double u_ = 0.0;              // absolute pore pressure
+  T u_ = T(0.0);              // absolute pore pressure
   double e0_ = kNotGiven;
   bool incompressible_ = true;
   StageStart start_;
 };
 
-void Runner::record(int stage, int step_in_stage, int cuts, const MaterialState& state, const Vec6& strain, double u) {
+template <class T>
+void Runner<T>::record(int stage, int step_in_stage, int cuts, const State& state, const V6& strain, const T& u) {
+  using std::exp;
   // Built in place from every member, in declaration order: an emplace_back() without arguments
   // would value-initialise the 160-byte record before it is filled.
-  const double eps_v = volumetric_strain(strain);
-  const TriaxialInvariants t = triaxial_invariants(state.stress);
+  const T eps_v = volumetric(strain);
+  const Invariants<T> t = invariants_of(state.stress);
+  std::array<double, kMaxStateVariables> internal;
+  for (std::size_t i = 0; i < internal.size(); ++i) internal[i] = value_of(state.internal[i]);
   result_.steps.emplace_back(stage, step_in_stage, strain[0], 0.5 * (strain[1] + strain[2]), eps_v,
-                             engineering_strain(strain[0] - stage_strain_start_[0]),
-                             engineering_strain(eps_v - volumetric_strain(stage_strain_start_)), t.axial,
+                             engineering(T(strain[0] - stage_strain_start_[0])),
+                             engineering(T(eps_v - volumetric(stage_strain_start_))), t.axial,
                              t.radial, t.p, t.q, u - protocol_.back_pressure,
-                             given(e0_) ? (1.0 + e0_) * std::exp(-eps_v) - 1.0 : kNotGiven,
-                             t.radial != 0.0 ? t.axial / t.radial : kNotGiven, cuts, state.internal);
+                             given(e0_) ? T((1.0 + e0_) * exp(-eps_v) - 1.0) : T(kNotGiven),
+                             value_of(t.radial) != 0.0 ? T(t.axial / t.radial) : T(kNotGiven), cuts, internal);
 }
 
-void Runner::fail(int stage, int step_in_stage, const std::string& why) {
+template <class T>
+void Runner<T>::fail(int stage, int step_in_stage, const std::string& why) {
   std::ostringstream m;
   m << "stage " << stage << " (" << to_string(protocol_.stages[stage].type) << "), step " << step_in_stage
-    << " of " << record_steps_ << ", axial strain " << format_number(strain_[0]) << ": " << why;
+    << " of " << record_steps_ << ", axial strain " << format_number(value_of(strain_[0])) << ": " << why;
   result_.termination = Termination::failed;
   result_.message = m.str();
   result_.failed_stage = stage;
@@ -445,7 +540,8 @@ void Runner::fail(int stage, int step_in_stage, const std::string& why) {
 
 // Control of a stage (phase 1: the reload half of a loop); targets run from the stage start
 // (f = 0) to the stage end (f = 1), see Control::set_targets.
-void Runner::build_control(const Stage& stage, const StageStart& s, int phase, Control& c) const {
+template <class T>
+void Runner<T>::build_control(const Stage& stage, const StageStart& s, int phase, Control& c) const {
   c.reset();  // all rows: zero strain increment
   const Vec6 m = identity_voigt();
   const double kf = protocol_.pore_fluid_stiffness;
@@ -456,9 +552,9 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int phase, C
   Vec6 radial_mean = Vec6::Zero();
   radial_mean[1] = radial_mean[2] = 0.5;
   const Vec6 radial_split = Vec6::Unit(1) - Vec6::Unit(2);
-  const double cell_radial = 0.5 * (s.cell[1] + s.cell[2]);
-  auto equal_radial_strains = [&] { c.mixed(2, radial_split, Vec6::Zero(), 0.0, 0.0); };
-  auto drained_radial = [&](double from, double to) {
+  const T cell_radial = 0.5 * (s.cell[1] + s.cell[2]);
+  auto equal_radial_strains = [&] { c.mixed(2, radial_split, Vec6::Zero(), T(0.0), T(0.0)); };
+  auto drained_radial = [&](const T& from, const T& to) {
     c.mixed(1, Vec6::Zero(), radial_mean, from, to);
     equal_radial_strains();
   };
@@ -468,20 +564,20 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int phase, C
     c.mixed(1, kf * m, radial_mean, cell_radial, cell_radial, true);
     equal_radial_strains();
   };
-  const double radial0 = 0.5 * (s.stress[1] + s.stress[2]);
+  const T radial0 = 0.5 * (s.stress[1] + s.stress[2]);
   switch (stage.type) {
     case StageType::isotropic_consolidation:
-      c.effective_stress(0, s.stress[0], stage.target_p);
-      drained_radial(radial0, stage.target_p);
+      c.effective_stress(0, s.stress[0], T(stage.target_p));
+      drained_radial(radial0, T(stage.target_p));
       break;
     case StageType::anisotropic_consolidation:
-      c.effective_stress(0, s.stress[0], stage.target_axial);
-      drained_radial(radial0, stage.target_radial);
+      c.effective_stress(0, s.stress[0], T(stage.target_axial));
+      drained_radial(radial0, T(stage.target_radial));
       break;
     case StageType::k0_consolidation:
     case StageType::oedometer:
       if (given(stage.target_axial))
-        c.effective_stress(0, s.stress[0], stage.target_axial);
+        c.effective_stress(0, s.stress[0], T(stage.target_axial));
       else
         c.strain(0, natural_strain(stage.axial_strain), stage.steps);
       break;
@@ -508,8 +604,8 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int phase, C
       break;
     }
     case StageType::unload_reload: {
-      const double q_from = phase == 0 ? s.q : stage.target_deviator;
-      const double q_to = phase == 0 ? stage.target_deviator : s.q;
+      const T q_from = phase == 0 ? s.q : T(stage.target_deviator);
+      const T q_to = phase == 0 ? T(stage.target_deviator) : s.q;
       Vec6 qrow = Vec6::Zero();
       qrow << 1.0, -0.5, -0.5, 0.0, 0.0, 0.0;
       if (stage.drainage == Drainage::drained) {
@@ -517,7 +613,7 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int phase, C
         drained_radial(radial0, radial0);
       } else if (incompressible_) {
         c.mixed(0, Vec6::Zero(), qrow, q_from, q_to);
-        c.mixed(1, m, Vec6::Zero(), 0.0, 0.0);
+        c.mixed(1, m, Vec6::Zero(), T(0.0), T(0.0));
         equal_radial_strains();
       } else {
         // Total axial stress = cell radial + q, total radial stress = cell.
@@ -530,12 +626,13 @@ void Runner::build_control(const Stage& stage, const StageStart& s, int phase, C
   c.finish();
 }
 
-bool Runner::substep(const Control& c, const MaterialState& from, const Mat6& predictor, const Vec6& cs_start,
-                     double s0, double s1, const Vec6& d_acc, Vec6& d, MaterialState& out, Mat6& tangent,
+template <class T>
+bool Runner<T>::substep(const Control& c, const State& from, const Mat6& predictor, const V6& cs_start,
+                     double s0, double s1, const V6& d_acc, V6& d, State& out, Mat6& tangent,
                      bool elastic_predictor) {
   // Targets move linearly over the step: b(s) = C sigma_step_start + s (b - C sigma_step_start).
   const double ds = s1 - s0;
-  d = (ds * c.b).cwiseProduct(c.pure_mask);
+  d = (ds * c.b).cwiseProduct(c.pure_mask.template cast<T>());
   if (c.nfree == 0) {
     ++result_.model_calls;
     return model_.integrate(from, d, out, tangent).status == Status::ok;
@@ -550,16 +647,17 @@ bool Runner::substep(const Control& c, const MaterialState& from, const Mat6& pr
 
 // Newton on the K free rows (K = 0: c.nfree, not known at compile time; a template argument so
 // that the loops over the rows unroll). d holds the pure rows' increments on entry.
+template <class T>
 template <int K>
-bool Runner::newton(const Control& c, const MaterialState& from, const Mat6& predictor, const Vec6& cs_start,
-                    double s0, double s1, const Vec6& d_acc, Vec6& d, MaterialState& out, Mat6& tangent,
+bool Runner<T>::newton(const Control& c, const State& from, const Mat6& predictor, const V6& cs_start,
+                    double s0, double s1, const V6& d_acc, V6& d, State& out, Mat6& tangent,
                     bool elastic_predictor) {
   const int k = K > 0 ? K : c.nfree;
   double jac[6][6];
-  double r[6];
+  T r[6];
   double tol[6];
-  double target[6];
-  const double scale = std::max(1.0, from.stress.cwiseAbs().maxCoeff());
+  T target[6];
+  const double scale = std::max(1.0, max_abs(from.stress));
   for (int ii = 0; ii < k; ++ii) {
     const int i = c.free[ii];
     target[ii] = cs_start[i] + s1 * (c.b[i] - cs_start[i]);
@@ -571,7 +669,7 @@ bool Runner::newton(const Control& c, const MaterialState& from, const Mat6& pre
   const Mat6* dmat = &predictor;
   if (elastic_predictor) {
     ++result_.model_calls;
-    if (model_.integrate(from, Vec6::Zero(), out, restart_tangent_).status != Status::ok) return false;
+    if (model_.integrate(from, V6::Zero(), out, restart_tangent_).status != Status::ok) return false;
     dmat = &restart_tangent_;
   }
   bool have_stress = false;
@@ -580,30 +678,40 @@ bool Runner::newton(const Control& c, const MaterialState& from, const Mat6& pre
     // predicted stress (state + D d) before the first model call, the model's after.
     bool converged = true;
     for (int ii = 0; ii < k; ++ii) {
-      const Control::SparseRow& ar = c.a_rows[ii];
-      const Control::SparseRow& cr = c.c_rows[ii];
-      double v = -target[ii];
+      const typename Control::SparseRow& ar = c.a_rows[ii];
+      const typename Control::SparseRow& cr = c.c_rows[ii];
+      T v = -target[ii];
       for (int m = 0; m < ar.n; ++m) v += ar.value[m] * (d_acc[ar.index[m]] + d[ar.index[m]]);
       for (int m = 0; m < cr.n; ++m) {
         const int j = cr.index[m];
-        const double sig = have_stress ? out.stress[j] : from.stress[j] + dmat->row(j).dot(d);
+        const T sig = have_stress ? out.stress[j] : T(from.stress[j] + dmat->row(j).template cast<T>().dot(d));
         v += cr.value[m] * sig;
       }
       r[ii] = v;
-      converged = converged && std::abs(v) <= tol[ii];
+      converged = converged && std::abs(value_of(v)) <= tol[ii];
     }
-    if (have_stress && converged) return true;
-    if (iter == opt_.max_newton_iterations) break;
-    for (int ii = 0; ii < k; ++ii) {
-      const int i = c.free[ii];
-      const Control::SparseRow& cr = c.c_rows[ii];
-      for (int jj = 0; jj < k; ++jj) {
-        const int j = c.free[jj];
-        double v = c.a(i, j);
-        for (int m = 0; m < cr.n; ++m) v += cr.value[m] * (*dmat)(cr.index[m], j);
-        jac[ii][jj] = v;
+    if (have_stress && converged) {
+      if constexpr (kDual) {
+        // The derivatives of the converged strain components by the implicit function theorem: one
+        // more Newton correction with the tangent at the converged point, on the derivatives only
+        // (the values stay those of the double run), then the model once more at the same values.
+        // The residual's derivatives r' = J d' + dr/d(inputs), so d' - J^-1 r' = -J^-1 dr/d(inputs)
+        // exactly, whatever derivatives the iterations left in d.
+        fill_jacobian(c, tangent, k, jac);
+        bool solved;
+        if constexpr (K > 0)
+          solved = solve_fixed<K>(jac, r);
+        else
+          solved = solve_small(jac, r, k);
+        if (!solved) return false;
+        for (int ii = 0; ii < k; ++ii) d[c.free[ii]].v -= r[ii].v;
+        ++result_.model_calls;
+        if (model_.integrate(from, d, out, tangent).status != Status::ok) return false;
       }
+      return true;
     }
+    if (iter == opt_.max_newton_iterations) break;
+    fill_jacobian(c, *dmat, k, jac);
     bool solved;
     if constexpr (K > 0)
       solved = solve_fixed<K>(jac, r);
@@ -624,30 +732,20 @@ bool Runner::newton(const Control& c, const MaterialState& from, const Mat6& pre
   return false;
 }
 
-double Runner::pore_pressure(Drainage drainage, const MaterialState& state, const Vec6& d, double u0) const {
-  if (drainage == Drainage::drained) return protocol_.back_pressure;
+template <class T>
+T Runner<T>::pore_pressure(Drainage drainage, const State& state, const V6& d, const T& u0) const {
+  if (drainage == Drainage::drained) return T(protocol_.back_pressure);
   if (incompressible_) return 0.5 * (start_.cell[1] + start_.cell[2]) - 0.5 * (state.stress[1] + state.stress[2]);
-  return u0 + protocol_.pore_fluid_stiffness * volumetric_strain(d);
+  return u0 + protocol_.pore_fluid_stiffness * volumetric(d);
 }
 
-// C sigma of the free rows at `state` (the only rows substep reads from cs_start).
-Vec6 free_row_stress(const Control& c, const MaterialState& state) {
-  Vec6 cs = Vec6::Zero();
-  for (int ii = 0; ii < c.nfree; ++ii) {
-    const Control::SparseRow& cr = c.c_rows[ii];
-    double v = 0.0;
-    for (int m = 0; m < cr.n; ++m) v += cr.value[m] * state.stress[cr.index[m]];
-    cs[c.free[ii]] = v;
-  }
-  return cs;
-}
-
-bool Runner::fixed_step(int stage, int n, const Control& c, Drainage drainage) {
-  const Vec6 cs_start = free_row_stress(c, *state_);
-  const Vec6 strain_start = strain_;
-  const double u_start = u_;
-  Vec6 d_acc = Vec6::Zero();
-  Vec6 d;
+template <class T>
+bool Runner<T>::fixed_step(int stage, int n, const Control& c, Drainage drainage) {
+  const V6 cs_start = free_row_stress(c, *state_);
+  const V6 strain_start = strain_;
+  const T u_start = u_;
+  V6 d_acc = V6::Zero();
+  V6 d;
   double s0 = 0.0;
   double ds = 1.0;
   int cuts = 0;
@@ -714,39 +812,42 @@ constexpr double kInfinity = std::numeric_limits<double>::infinity();
 // no flag takes a value between its states. The stress then differs from a state consistent with
 // those variables by at most w |sigma_one - sigma_fine|, which the error control keeps below the
 // tolerance, and the next increment's return removes it.
-void extrapolate(const MaterialState& start, const MaterialState& one, MaterialState& two, double w = 1.0) {
+template <class S>
+void extrapolate(const S& start, const S& one, S& two, double w = 1.0) {
   two.stress += w * (two.stress - one.stress);
   for (int i = 0; i < kMaxStateVariables; ++i) {
-    const double d_one = one.internal[i] - start.internal[i];
-    const double d_two = two.internal[i] - start.internal[i];
+    const double d_one = value_of(one.internal[i] - start.internal[i]);
+    const double d_two = value_of(two.internal[i] - start.internal[i]);
     if (d_one == d_two || !(d_one * d_two > 0.0)) continue;
     const double r = d_one / d_two;
     if (r >= 0.5 && r <= 1.5) two.internal[i] += w * (two.internal[i] - one.internal[i]);
   }
 }
 
-double Runner::error_estimate(const Control& c, const MaterialState& one, const Vec6& d_one, const MaterialState& two,
-                              const Vec6& d_two, const Vec6& stage_strain) const {
-  const double stress_scale = std::max(kStressScaleFloor, two.stress.cwiseAbs().maxCoeff());
-  double err = (one.stress - two.stress).cwiseAbs().maxCoeff() / stress_scale;
+template <class T>
+double Runner<T>::error_estimate(const Control& c, const State& one, const V6& d_one, const State& two,
+                              const V6& d_two, const V6& stage_strain) const {
+  const double stress_scale = std::max(kStressScaleFloor, max_abs(two.stress));
+  double err = max_abs(V6(one.stress - two.stress)) / stress_scale;
   if (c.nfree > 0) {
-    const double strain_scale = std::max(kStrainScaleFloor, stage_strain.cwiseAbs().maxCoeff());
+    const double strain_scale = std::max(kStrainScaleFloor, max_abs(stage_strain));
     for (int ii = 0; ii < c.nfree; ++ii) {
       const int i = c.free[ii];
-      err = std::max(err, std::abs(d_one[i] - d_two[i]) / strain_scale);
+      err = std::max(err, std::abs(value_of(d_one[i] - d_two[i])) / strain_scale);
     }
   }
   return err;
 }
 
-Runner::GroupOutcome Runner::group_step(const Control& c, const MaterialState& from, const Mat6& predictor,
-                                        const Vec6& cs_start, const double* ends, int m, const Vec6& d_acc,
-                                        const Vec6& stage_offset, double sum_sq, bool check_error,
+template <class T>
+typename Runner<T>::GroupOutcome Runner<T>::group_step(const Control& c, const State& from, const Mat6& predictor,
+                                        const V6& cs_start, const double* ends, int m, const V6& d_acc,
+                                        const V6& stage_offset, double sum_sq, bool check_error,
                                         double& err_estimate, double& weight, int& smooth) {
-  const MaterialState* at = &from;
+  const State* at = &from;
   const Mat6* tangent = &predictor;
-  Vec6 sum = Vec6::Zero();
-  Vec6 d;
+  V6 sum = V6::Zero();
+  V6 d;
   double linear_gap = 0.0;
   smooth = m;
   for (int j = 0; j < m; ++j) {
@@ -760,8 +861,8 @@ Runner::GroupOutcome Runner::group_step(const Control& c, const MaterialState& f
     // happens to end. Not an estimate on its own: the consistent tangent of the previous backward
     // Euler substep already contains most of the curvature term, so on smooth hardening the gap can
     // be small while the error is not; the comparison with one substep below covers that.
-    const double scale = std::max(kStressScaleFloor, g.state.stress.cwiseAbs().maxCoeff());
-    linear_gap += (g.state.stress - at->stress - (*tangent) * d).cwiseAbs().maxCoeff() / scale;
+    const double scale = std::max(kStressScaleFloor, max_abs(g.state.stress));
+    linear_gap += max_abs(V6(g.state.stress - at->stress - tangent->template cast<T>() * d)) / scale;
     if (check_error && 0.5 * linear_gap > opt_.tolerance) {
       smooth = j;  // substeps before j were smooth
       err_estimate = 0.5 * linear_gap;
@@ -772,7 +873,7 @@ Runner::GroupOutcome Runner::group_step(const Control& c, const MaterialState& f
     at = &g.state;
     tangent = &g.tangent;
   }
-  Vec6 d_one;
+  V6 d_one;
   if (!substep(c, from, predictor, cs_start, ends[0], ends[m], d_acc, d_one, *one_state_, *one_tangent_, false))
     return GroupOutcome::model_failed;
   const double span = ends[m] - ends[0];
@@ -819,18 +920,19 @@ Runner::GroupOutcome Runner::group_step(const Control& c, const MaterialState& f
 // by one (sum a_i^2 <= kMaxGroupShare H^2, so that w stays near or below 1). The end state is
 // extrapolated as above; the records inside are the chain's states. A turn of the response inside
 // the chain (group_step's linearisation gap) cuts the group before it.
-bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& counter, RecordWatch& watch, bool& stopped) {
+template <class T>
+bool Runner<T>::adaptive_phase(int stage, const Control& c, int per_phase, int& counter, RecordWatch& watch, bool& stopped) {
   const Stage& st = protocol_.stages[static_cast<std::size_t>(stage)];
   const bool equal = st.record_at.empty();
   auto fraction = [&](int k) {
     return equal ? static_cast<double>(k) / st.steps : st.record_at[static_cast<std::size_t>(k - 1)];
   };
-  const Vec6 cs_start = free_row_stress(c, *state_);
-  const Vec6 phase_start = strain_;
-  const Vec6 stage_offset = strain_ - stage_strain_start_;
-  const double u_start = u_;
-  Vec6 d_acc = Vec6::Zero();  // strain since the phase start
-  Vec6 d_one, d_first, d_second, d_mid, d_record;
+  const V6 cs_start = free_row_stress(c, *state_);
+  const V6 phase_start = strain_;
+  const V6 stage_offset = strain_ - stage_strain_start_;
+  const T u_start = u_;
+  V6 d_acc = V6::Zero();  // strain since the phase start
+  V6 d_one, d_first, d_second, d_mid, d_record;
   double s0 = 0.0;
   double proposed = fraction(1);
   int next = 1;        // the next record to write (1-based within the phase)
@@ -919,10 +1021,10 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
       for (int j = 1; j <= m; ++j) {
         const GroupPoint& g = group_[j - 1];
         d_record = d_acc + g.d;
-        const Vec6 strain = phase_start + d_record;
+        const V6 strain = phase_start + d_record;
         record(stage, ++counter, 0, g.state, strain, pore_pressure(st.drainage, g.state, d_record, u_start));
         ++next;
-        if (watch.stop_after(result_.steps.back(), next - 1, strain[0])) {
+        if (watch.stop_after(result_.steps.back(), next - 1, value_of(strain[0]))) {
           stopped = true;
           last = j;
           break;
@@ -1016,15 +1118,15 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
     }
     // The record this substep ends on (substeps never cross a record).
     while (next <= per_phase && fraction(next) <= s1) {
-      const MaterialState* rec = spare_state_;
+      const State* rec = spare_state_;
       d_record = d_acc + d_second;
-      const Vec6* d_rec = &d_record;
-      const Vec6 strain = phase_start + *d_rec;
+      const V6* d_rec = &d_record;
+      const V6 strain = phase_start + *d_rec;
       record(stage, ++counter, cuts, *rec, strain, pore_pressure(st.drainage, *rec, *d_rec, u_start));
       ++next;
       cuts = 0;
       failed = false;
-      if (watch.stop_after(result_.steps.back(), next - 1, strain[0])) {
+      if (watch.stop_after(result_.steps.back(), next - 1, value_of(strain[0]))) {
         stopped = true;
         break;
       }
@@ -1045,10 +1147,13 @@ bool Runner::adaptive_phase(int stage, const Control& c, int per_phase, int& cou
   return true;
 }
 
-bool Runner::RecordWatch::stop_after(const StepRecord& r, int n, double axial_now) {
-  if (std::abs(r.q) > std::abs(summary->peak_q)) summary->peak_q = r.q;
-  const double q_dir = sign * r.q;
-  const double ratio = sign > 0 ? r.stress_ratio : 1.0 / r.stress_ratio;
+template <class T>
+bool Runner<T>::RecordWatch::stop_after(const Record& r, int n, double axial_now) {
+  const double rq = value_of(r.q);
+  const double stress_ratio = value_of(r.stress_ratio);
+  if (std::abs(rq) > std::abs(summary->peak_q)) summary->peak_q = rq;
+  const double q_dir = sign * rq;
+  const double ratio = sign > 0 ? stress_ratio : 1.0 / stress_ratio;
   bool stop = false;
   switch (stage->stop) {
     case StopCriterion::none: break;
@@ -1067,16 +1172,17 @@ bool Runner::RecordWatch::stop_after(const StepRecord& r, int n, double axial_no
   return stop;
 }
 
-bool Runner::run_stage(int index) {
+template <class T>
+bool Runner<T>::run_stage(int index) {
   const Stage& stage = protocol_.stages[index];
   // A drained stage starts with the excess pore pressure dissipated.
-  if (stage.drainage == Drainage::drained) u_ = protocol_.back_pressure;
+  if (stage.drainage == Drainage::drained) u_ = T(protocol_.back_pressure);
   start_.stress = state_->stress;
   stage_strain_start_ = strain_;
   start_.u = u_;
   start_.cell = state_->stress;
   for (int i = 0; i < 3; ++i) start_.cell[i] += u_;
-  const TriaxialInvariants t = triaxial_invariants(state_->stress);
+  const Invariants<T> t = invariants_of(state_->stress);
   start_.p = t.p;
   start_.q = t.q;
 
@@ -1086,7 +1192,7 @@ bool Runner::run_stage(int index) {
   RecordWatch watch;
   watch.stage = &stage;
   watch.summary = &summary;
-  watch.axial_start = strain_[0];
+  watch.axial_start = value_of(strain_[0]);
   watch.sign = (stage.type == StageType::shear || stage.type == StageType::constant_p_shear) && stage.axial_strain < 0 ? -1.0 : 1.0;
   const int phases = stage.type == StageType::unload_reload ? 2 : 1;
   // Record steps: `steps` equal ones, or ending at the fractions of record_at (each half of a loop).
@@ -1125,7 +1231,7 @@ bool Runner::run_stage(int index) {
       f_prev = f;
       ++counter;
       if (!fixed_step(index, counter, control, stage.drainage)) return false;
-      stop = watch.stop_after(result_.steps.back(), n, strain_[0]);
+      stop = watch.stop_after(result_.steps.back(), n, value_of(strain_[0]));
       if (stop) {
         summary.stopped_early = n < per_phase;
         break;
@@ -1133,20 +1239,21 @@ bool Runner::run_stage(int index) {
     }
   }
   summary.last = static_cast<int>(result_.steps.size()) - 1;
-  summary.end_q = result_.steps.back().q;
+  summary.end_q = value_of(result_.steps.back().q);
   result_.stages.push_back(summary);
   return true;
 }
 
-void Runner::run() {
+template <class T>
+void Runner<T>::run() {
   e0_ = protocol_.initial.void_ratio;
   incompressible_ = std::isinf(protocol_.pore_fluid_stiffness);
-  u_ = protocol_.back_pressure;
+  u_ = T(protocol_.back_pressure);
   model_.initialise(protocol_.initial, *state_);
   {
-    MaterialState probe;
+    State probe;
     ++result_.model_calls;
-    if (model_.integrate(*state_, Vec6::Zero(), probe, *tangent_).status != Status::ok) {
+    if (model_.integrate(*state_, V6::Zero(), probe, *tangent_).status != Status::ok) {
       result_.termination = Termination::failed;
       result_.message = "the model could not evaluate its tangent at the initial state";
       return;
@@ -1183,7 +1290,7 @@ void simulate(const DriverOptions& options, const Model& model, const TestProtoc
     validate_protocol(protocol);
   }
   result.clear();
-  Runner(options, model, protocol, result, nullptr, nullptr).run();
+  Runner<double>(options, model, protocol, result, nullptr, nullptr).run();
 }
 
 void simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol, SimulationResult& result,
@@ -1194,7 +1301,17 @@ void simulate(const DriverOptions& options, const Model& model, const TestProtoc
   }
   result.clear();
   if (record != nullptr) record->ends.clear();
-  Runner(options, model, protocol, result, record, replay).run();
+  Runner<double>(options, model, protocol, result, record, replay).run();
+}
+
+void simulate(const DriverOptions& options, const DualModel& model, const TestProtocol& protocol,
+              DualSimulationResult& result, bool checked, const SubstepPlan* replay) {
+  if (!checked) {
+    options.validate();
+    validate_protocol(protocol);
+  }
+  result.clear();
+  Runner<Dual>(options, model, protocol, result, nullptr, replay).run();
 }
 
 }  // namespace triaxcal

@@ -7,6 +7,7 @@
 #include "triaxcal/core_export.hpp"
 #include "triaxcal/model.hpp"
 #include "triaxcal/protocol.hpp"
+#include "triaxcal/sensitivity.hpp"
 
 namespace triaxcal {
 
@@ -39,27 +40,32 @@ struct DriverOptions {
   void validate() const;
 };
 
-/// One converged step, in the units of conventions.hpp.
-struct StepRecord {
+/// One converged step, in the units of conventions.hpp. T = double (StepRecord), or Dual
+/// (DualStepRecord: every value with its derivatives, from a simulation on dual numbers).
+template <class T>
+struct BasicStepRecord {
   int stage = 0;                   ///< index into TestProtocol::stages
   int step = 0;                    ///< 1-based within the stage (0 = initial state)
   // Natural (logarithmic) strains since the start of the protocol, additive (conventions.hpp).
-  double axial_strain = 0.0;       ///< eps_11 = ln(L0/L)
-  double radial_strain = 0.0;      ///< (eps_22 + eps_33) / 2
-  double volumetric_strain = 0.0;  ///< eps_11 + eps_22 + eps_33 = ln(V0/V)
+  T axial_strain = T(0.0);       ///< eps_11 = ln(L0/L)
+  T radial_strain = T(0.0);      ///< (eps_22 + eps_33) / 2
+  T volumetric_strain = T(0.0);  ///< eps_11 + eps_22 + eps_33 = ln(V0/V)
   // Engineering strains relative to the specimen at the start of this record's stage (lab convention).
-  double stage_axial_strain = 0.0;       ///< dL / L_stage_start
-  double stage_volumetric_strain = 0.0;  ///< dV / V_stage_start
-  double axial_stress = 0.0;       ///< s_a' (kPa)
-  double radial_stress = 0.0;      ///< s_r' (kPa)
-  double p = 0.0;                  ///< p' (kPa)
-  double q = 0.0;                  ///< s_a' - s_r' (kPa, signed)
-  double excess_pore_pressure = 0.0;  ///< u - back pressure (kPa)
-  double void_ratio = kNotGiven;   ///< (1 + e0) exp(-eps_v) - 1, NaN when e0 is unknown
-  double stress_ratio = 0.0;       ///< s_a' / s_r'
+  T stage_axial_strain = T(0.0);       ///< dL / L_stage_start
+  T stage_volumetric_strain = T(0.0);  ///< dV / V_stage_start
+  T axial_stress = T(0.0);       ///< s_a' (kPa)
+  T radial_stress = T(0.0);      ///< s_r' (kPa)
+  T p = T(0.0);                  ///< p' (kPa)
+  T q = T(0.0);                  ///< s_a' - s_r' (kPa, signed)
+  T excess_pore_pressure = T(0.0);  ///< u - back pressure (kPa)
+  T void_ratio = T(kNotGiven);   ///< (1 + e0) exp(-eps_v) - 1, NaN when e0 is unknown
+  T stress_ratio = T(0.0);       ///< s_a' / s_r'
   int cuts = 0;                    ///< bisections needed by this step
   std::array<double, kMaxStateVariables> state{};  ///< model internal variables
 };
+
+using StepRecord = BasicStepRecord<double>;
+using DualStepRecord = BasicStepRecord<Dual>;
 
 struct StageSummary {
   int stage = 0;
@@ -72,10 +78,13 @@ struct StageSummary {
 
 enum class Termination { completed, failed, not_run };
 
-struct SimulationResult {
+/// What a simulation returns: T = double (SimulationResult) or Dual (DualSimulationResult, records
+/// with derivatives; counts and summaries as for double).
+template <class T>
+struct BasicSimulationResult {
   Termination termination = Termination::not_run;
   std::string message;             ///< where and why it stopped, with the numbers
-  std::vector<StepRecord> steps;   ///< record 0 is the initial state
+  std::vector<BasicStepRecord<T>> steps;   ///< record 0 is the initial state
   std::vector<StageSummary> stages;
   int total_cuts = 0;
   long substeps = 0;               ///< accepted substeps (error-controlled) or increments (fixed)
@@ -88,8 +97,11 @@ struct SimulationResult {
   bool ok() const { return termination == Termination::completed; }
   /// Back to a default (not run) result; the vectors and the message keep their capacity.
   TRIAXCAL_CORE_EXPORT void clear();
-  std::string brief() const;
+  TRIAXCAL_CORE_EXPORT std::string brief() const;
 };
+
+using SimulationResult = BasicSimulationResult<double>;
+using DualSimulationResult = BasicSimulationResult<Dual>;
 
 /// The accepted substeps of an error-controlled run, so that another run (other parameters) can
 /// take exactly the same ones: finite differences on this frozen sequence are smooth in the
@@ -119,6 +131,16 @@ TRIAXCAL_CORE_EXPORT void simulate(const DriverOptions& options, const Model& mo
 TRIAXCAL_CORE_EXPORT void simulate(const DriverOptions& options, const Model& model, const TestProtocol& protocol,
                                    SimulationResult& result, bool checked, SubstepPlan* record,
                                    const SubstepPlan* replay);
+
+/// The simulation on dual numbers (exact sensitivities, sensitivity.hpp): the same stages, substeps
+/// and decisions as simulate() with `model`'s double version, every value carrying its derivatives
+/// along the directions seeded into `model` (Model::with_derivatives). With `replay` the substeps of
+/// that plan (what the calibration uses: the plan of the double run at the same parameters), else
+/// error control on the values. Where the driver solves for strain components (stress-controlled
+/// rows) the converged solution's derivatives follow from the implicit function theorem (one more
+/// model call a converged solve). `checked` as for simulate().
+TRIAXCAL_CORE_EXPORT void simulate(const DriverOptions& options, const DualModel& model, const TestProtocol& protocol,
+                                   DualSimulationResult& result, bool checked, const SubstepPlan* replay);
 
 /// For a strain-controlled stage (shear, constant_p_shear, oedometer by axial_strain): the fraction
 /// of the stage's control path at which its engineering stage axial strain equals
