@@ -126,8 +126,15 @@ enum class GlobalAlgorithm { none, crs2, isres, direct_l };
 /// per-point residuals, with their Jacobian by finite differences; the others are NLopt's
 /// derivative-free methods (they minimise the objective as a number).
 enum class LocalAlgorithm { none, least_squares, bobyqa, cobyla, sbplx, nelder_mead };
+/// How the Jacobian of the residuals is taken (least-squares stage and intervals). exact: the model's
+/// derivative version (Model::with_derivatives) on the substeps of the run at the point, forward-mode
+/// through the model and the driver (sensitivity.hpp); finite differences where a model has none or
+/// a derivative run fails. finite_differences: always differences on the frozen substeps
+/// (jacobian_step).
+enum class Sensitivities { exact, finite_differences };
 
 TRIAXCAL_CORE_EXPORT std::string to_string(Loss loss);
+TRIAXCAL_CORE_EXPORT std::string to_string(Sensitivities sensitivities);
 TRIAXCAL_CORE_EXPORT std::string to_string(GlobalAlgorithm algorithm);
 TRIAXCAL_CORE_EXPORT std::string to_string(LocalAlgorithm algorithm);
 
@@ -168,7 +175,8 @@ struct CalibrationOptions {
   double loss_scale = 0.05;            ///< robust loss: error (fraction of the range) where it bends
   double failure_penalty = 10.0;       ///< per failed test, times its weights
   bool uncertainty = true;             ///< Jacobian, covariance and intervals at the optimum
-  double jacobian_step = 1e-4;         ///< difference step of the Jacobian, fraction of each box width
+  Sensitivities sensitivities = Sensitivities::exact;  ///< how Jacobians are taken (see Sensitivities)
+  double jacobian_step = 1e-4;         ///< difference step of finite-difference Jacobians, fraction of each box width
   /// Work limit of the search: a simulation of an evaluation that takes more accepted + rejected
   /// substeps than this many a record (at least 5000 in all; scaled by sqrt(1e-4 / tolerance) for a
   /// driver tolerance tighter than the default, never above DriverOptions::max_substeps) fails like
@@ -290,7 +298,13 @@ struct CalibrationSummary {
   long work_limited_simulations = 0;
   /// Local runs whose start could not be simulated (their first evaluation failed): they end there.
   int failed_starts = 0;
+  /// jacobian_evaluations: simulations of all tests made for Jacobians: one a finite-difference column
+  /// (central: two), one a pass of an exact Jacobian (kDualLanes columns on dual numbers, about
+  /// 1 + kDualLanes simulations' work).
   long design_evaluations = 0, global_evaluations = 0, local_evaluations = 0, jacobian_evaluations = 0;
+  /// Jacobians taken exactly (model's derivative version) and by finite differences (no derivative
+  /// version, finite_differences asked, or an exact one that failed).
+  long exact_jacobians = 0, difference_jacobians = 0;
   int local_runs = 0;
   /// Local runs that ended within same_optimum_tolerance of the best objective: all of them (or
   /// most) is a sign of a well-posed problem; few is a sign of several minima or a flat valley.

@@ -35,6 +35,14 @@ std::string to_string(Loss loss) {
   return "unknown";
 }
 
+std::string to_string(Sensitivities s) {
+  switch (s) {
+    case Sensitivities::exact: return "exact";
+    case Sensitivities::finite_differences: return "finite_differences";
+  }
+  return "unknown";
+}
+
 std::string to_string(GlobalAlgorithm a) {
   switch (a) {
     case GlobalAlgorithm::none: return "none";
@@ -150,6 +158,7 @@ using NloptHandle = std::unique_ptr<nlopt_opt_s, decltype(&nlopt_destroy)>;
 struct Lane {
   detail::Evaluator evaluator;
   long evaluations = 0, failed = 0, design = 0, global = 0, local = 0, jacobian = 0;
+  long exact_jacobians = 0, difference_jacobians = 0;
   long work_limited = 0;  // failed simulations ended by the work limit
   int failed_starts = 0;  // least-squares runs whose start could not be simulated
   bool record_plans = false;    // evaluations keep their substeps (the least-squares Jacobian replays them)
@@ -282,6 +291,8 @@ struct Run {
     summary.global_evaluations += lane.global;
     summary.local_evaluations += lane.local;
     summary.jacobian_evaluations += lane.jacobian;
+    summary.exact_jacobians += lane.exact_jacobians;
+    summary.difference_jacobians += lane.difference_jacobians;
     summary.work_limited_simulations += lane.work_limited;
     summary.failed_starts += lane.failed_starts;
     for (HistoryEntry h : lane.history) {
@@ -295,6 +306,7 @@ struct Run {
       best_penalised = lane.best_penalised;
     }
     lane.evaluations = lane.failed = lane.design = lane.global = lane.local = lane.jacobian = lane.work_limited = 0;
+    lane.exact_jacobians = lane.difference_jacobians = 0;
     lane.failed_starts = 0;
     lane.history.clear();
     lane.best = std::numeric_limits<double>::infinity();
@@ -438,9 +450,10 @@ struct SharedJobs {
 };
 
 // One least-squares local run from x on `lane`. The values are the lane's evaluations (they keep
-// their substeps); the Jacobian is forward differences of options.jacobian_step in the unit box on
-// those frozen substeps (n simulations; central ones cost 2n and moved no fit measurably), its
-// simulations run by `jobs`.
+// their substeps); the Jacobian is exact (the model's derivative version on those substeps,
+// ceil(n / kDualLanes) dual passes) or, where the model has none, forward differences of
+// options.jacobian_step in the unit box on those frozen substeps (n simulations; central ones cost
+// 2n and moved no fit measurably); its simulations run by `jobs`.
 detail::LocalResult solve_least_squares(Run& run, Lane& lane, std::vector<double>& x, const detail::JobRunner& jobs) {
   const CalibrationOptions& o = run.options;
   const long used_before = lane.local;
@@ -452,8 +465,18 @@ detail::LocalResult solve_least_squares(Run& run, Lane& lane, std::vector<double
   };
   calls.jacobian = [&](const std::vector<double>& u, const Eigen::VectorXd& d, Eigen::MatrixXd& J) {
     std::vector<bool> have;
-    lane.jacobian += detail::jacobian(run.prepared, u, d, o.jacobian_step, detail::Differences::forward,
-                                      &lane.evaluator.plans(), jobs, J, have);
+    const int passes = o.sensitivities == Sensitivities::exact
+                           ? detail::exact_jacobian(run.prepared, u, d, &lane.evaluator.plans(), jobs, J)
+                           : -1;
+    if (passes >= 0) {
+      lane.jacobian += passes;
+      ++lane.exact_jacobians;
+      have.assign(u.size(), true);
+    } else {
+      lane.jacobian += detail::jacobian(run.prepared, u, d, o.jacobian_step, detail::Differences::forward,
+                                        &lane.evaluator.plans(), jobs, J, have);
+      ++lane.difference_jacobians;
+    }
     lane.jac = J;
     lane.jac_at = u;
     lane.jac_complete = std::all_of(have.begin(), have.end(), [](bool b) { return b; });
@@ -495,6 +518,7 @@ std::string options_text(const CalibrationOptions& o) {
     << "\ndesign_points = " << o.design_points << "\nrelative_tolerance = " << format_number(o.relative_tolerance)
     << "\nx_tolerance = " << format_number(o.x_tolerance) << "\nmax_seconds = " << format_number(o.max_seconds)
     << "\nseed = " << o.seed << "\nthreads = " << o.threads << "\nloss = " << to_string(o.loss)
+    << "\nsensitivities = " << to_string(o.sensitivities)
     << "\nloss_scale = " << format_number(o.loss_scale) << "\nfailure_penalty = " << format_number(o.failure_penalty)
     << "\nuncertainty = " << (o.uncertainty ? "true" : "false") << "\njacobian_step = " << format_number(o.jacobian_step)
     << "\nmax_substeps_per_record = " << o.max_substeps_per_record

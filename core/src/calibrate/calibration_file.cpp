@@ -92,7 +92,7 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
   const detail::KeyPath path = "options";
   detail::check_keys(o,
                      {"global", "global_evaluations", "global_runs", "local", "local_evaluations", "starts", "design_points",
-                      "relative_tolerance", "x_tolerance", "max_seconds", "seed", "threads", "loss", "loss_scale",
+                      "relative_tolerance", "x_tolerance", "max_seconds", "seed", "threads", "loss", "loss_scale", "sensitivities",
                       "failure_penalty", "uncertainty", "jacobian_step", "correlation_warning", "min_r_squared",
                       "stress_precision", "strain_precision", "noise_from_residuals", "same_optimum_tolerance"},
                      src, path);
@@ -111,6 +111,10 @@ CalibrationOptions parse_options(const json& o, const std::string& src) {
                                     {"sbplx", LocalAlgorithm::sbplx},
                                     {"nelder_mead", LocalAlgorithm::nelder_mead}},
                                    src + ": options.local");
+  c.sensitivities = choose<Sensitivities>(detail::get_string_or(o, "sensitivities", "exact", src, path),
+                                         {{"exact", Sensitivities::exact},
+                                          {"finite_differences", Sensitivities::finite_differences}},
+                                         src + ": options.sensitivities");
   c.loss = choose<Loss>(detail::get_string_or(o, "loss", "linear", src, path),
                         {{"linear", Loss::linear}, {"soft_l1", Loss::soft_l1}, {"huber", Loss::huber}},
                         src + ": options.loss");

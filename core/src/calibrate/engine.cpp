@@ -73,20 +73,22 @@ double value_of(const StepRecord& r, Quantity quantity) {
 
 namespace {
 // The record member a quantity reads (value_of without the switch, for the hot loops).
-const double StepRecord::*member_of(Quantity quantity) {
+template <class T>
+const T BasicStepRecord<T>::*member_of(Quantity quantity) {
+  using R = BasicStepRecord<T>;
   switch (quantity) {
-    case Quantity::axial_strain: return &StepRecord::axial_strain;
-    case Quantity::radial_strain: return &StepRecord::radial_strain;
-    case Quantity::volumetric_strain: return &StepRecord::volumetric_strain;
-    case Quantity::axial_stress: return &StepRecord::axial_stress;
-    case Quantity::radial_stress: return &StepRecord::radial_stress;
-    case Quantity::mean_stress: return &StepRecord::p;
-    case Quantity::deviator_stress: return &StepRecord::q;
-    case Quantity::excess_pore_pressure: return &StepRecord::excess_pore_pressure;
-    case Quantity::void_ratio: return &StepRecord::void_ratio;
-    case Quantity::stress_ratio: return &StepRecord::stress_ratio;
+    case Quantity::axial_strain: return &R::axial_strain;
+    case Quantity::radial_strain: return &R::radial_strain;
+    case Quantity::volumetric_strain: return &R::volumetric_strain;
+    case Quantity::axial_stress: return &R::axial_stress;
+    case Quantity::radial_stress: return &R::radial_stress;
+    case Quantity::mean_stress: return &R::p;
+    case Quantity::deviator_stress: return &R::q;
+    case Quantity::excess_pore_pressure: return &R::excess_pore_pressure;
+    case Quantity::void_ratio: return &R::void_ratio;
+    case Quantity::stress_ratio: return &R::stress_ratio;
   }
-  return &StepRecord::q;
+  return &R::q;
 }
 }  // namespace
 
@@ -181,7 +183,7 @@ void split_runs(std::size_t begin, std::size_t end, F x, double tol, std::vector
   int dir = 0;
   std::size_t extreme = begin;
   for (std::size_t j = begin + 1; j <= end; ++j) {
-    const double d = x(j) - x(extreme);
+    const double d = value_of(x(j)) - value_of(x(extreme));
     if (dir == 0) {
       if (std::abs(d) > tol) {
         dir = d > 0 ? 1 : -1;
@@ -198,14 +200,16 @@ void split_runs(std::size_t begin, std::size_t end, F x, double tol, std::vector
 }
 
 // Interpolates y at xi on the records [a, b] from `cursor` on; false when no segment contains xi.
-template <typename FX, typename FY>
-bool bracket(std::size_t& cursor, std::size_t b, double xi, FX X, FY Y, double& out) {
-  double xa = X(cursor);
+// T: double, or Dual (the segment is chosen on the values; the interpolation carries derivatives).
+template <typename T, typename FX, typename FY>
+bool bracket(std::size_t& cursor, std::size_t b, double xi, FX X, FY Y, T& out) {
+  T xa = X(cursor);
   for (std::size_t j = cursor; j < b; ++j) {
-    const double xb = X(j + 1);
-    if ((xa <= xi && xi <= xb) || (xb <= xi && xi <= xa)) {
-      const double t = xb == xa ? 0.0 : (xi - xa) / (xb - xa);
-      const double ya = Y(j);
+    const T xb = X(j + 1);
+    const double va = value_of(xa), vb = value_of(xb);
+    if ((va <= xi && xi <= vb) || (vb <= xi && xi <= va)) {
+      const T t = vb == va ? T(0.0) : T((xi - xa) / (xb - xa));
+      const T ya = Y(j);
       out = ya + t * (Y(j + 1) - ya);
       cursor = j;
       return true;
@@ -216,11 +220,11 @@ bool bracket(std::size_t& cursor, std::size_t b, double xi, FX X, FY Y, double& 
 }
 
 template <typename FX, typename FY>
-double nearest(std::size_t a, std::size_t b, double xi, FX X, FY Y) {
+auto nearest(std::size_t a, std::size_t b, double xi, FX X, FY Y) {
   std::size_t best = a;
   double distance = std::numeric_limits<double>::infinity();
   for (std::size_t j = a; j <= b; ++j) {
-    const double d = std::abs(X(j) - xi);
+    const double d = std::abs(value_of(X(j)) - xi);
     if (d < distance) {
       distance = d;
       best = j;
@@ -480,7 +484,11 @@ Prepared prepare(const CalibrationProblem& problem) {
 // or wider than the measured one; a point beyond its simulated run takes the run's nearest value.
 // Otherwise each point (in time order) is matched on the first simulated segment, from the previous
 // match onward, that contains it, or else on the nearest simulated point in x.
-void interpolate_curve(const SimulationResult& result, const PreparedCurve& curve, double* out) {
+namespace {
+
+template <class T>
+void interpolate_records(const BasicSimulationResult<T>& result, const PreparedCurve& curve, T* out) {
+  using std::expm1;
   const auto& steps = result.steps;
   // Record at the start of stage s: the last record of the stage before (record 0 for stage 0).
   auto stage_start = [&](int s) -> std::size_t {
@@ -495,32 +503,32 @@ void interpolate_curve(const SimulationResult& result, const PreparedCurve& curv
   // Records carry natural strains since the protocol start; measured strains are engineering
   // strains relative to the curve's origin (the start of zero_stage, or of the protocol), so a
   // strain column becomes 1 - exp(-(eps - eps_origin)) (conventions.hpp).
-  const StepRecord& base = steps[stage_start(curve.zero_stage)];
+  const BasicStepRecord<T>& base = steps[stage_start(curve.zero_stage)];
   const bool strain_x = is_strain(curve.x), strain_y = is_strain(curve.y);
   const bool shift = curve.zero_stage >= 0;
-  const double x0 = strain_x && shift ? value_of(base, curve.x) : 0.0;
-  const double y0 = strain_y && shift ? value_of(base, curve.y) : 0.0;
+  const T BasicStepRecord<T>::*mx = member_of<T>(curve.x);
+  const T BasicStepRecord<T>::*my = member_of<T>(curve.y);
+  const T x0 = strain_x && shift ? base.*mx : T(0.0);
+  const T y0 = strain_y && shift ? base.*my : T(0.0);
   // The compared columns of the records, copied once into contiguous arrays (indices relative to
-  // `first`): the searches below then read plain doubles.
-  thread_local std::vector<double> xs_sim, ys_sim;
+  // `first`): the searches below then read plain numbers.
+  thread_local std::vector<T> xs_sim, ys_sim;
   const std::size_t count = last - first + 1;
   xs_sim.resize(count);
   ys_sim.resize(count);
-  const double StepRecord::*mx = member_of(curve.x);
-  const double StepRecord::*my = member_of(curve.y);
   for (std::size_t j = 0; j < count; ++j) {
-    const double x = steps[first + j].*mx - x0, y = steps[first + j].*my - y0;
-    xs_sim[j] = strain_x ? engineering_strain(x) : x;
-    ys_sim[j] = strain_y ? engineering_strain(y) : y;
+    const T x = steps[first + j].*mx - x0, y = steps[first + j].*my - y0;
+    xs_sim[j] = strain_x ? T(-expm1(-x)) : x;  // engineering_strain (conventions.hpp)
+    ys_sim[j] = strain_y ? T(-expm1(-y)) : y;
   }
-  const double* xv = xs_sim.data();
-  const double* yv = ys_sim.data();
+  const T* xv = xs_sim.data();
+  const T* yv = ys_sim.data();
   auto X = [xv](std::size_t j) { return xv[j]; };
   auto Y = [yv](std::size_t j) { return yv[j]; };
   const std::size_t end = count - 1;
   const std::size_t n = curve.xs.size();
   thread_local std::vector<std::size_t> runs;
-  const double sim_range = std::abs(X(end) - X(0)) + 1e-300;
+  const double sim_range = std::abs(value_of(X(end)) - value_of(X(0))) + 1e-300;
   split_runs(0, end, X, 1e-9 * std::max(sim_range, curve.x_span), runs);
   if (runs.size() == curve.runs.size() && runs.size() > 1) {
     for (std::size_t k = 0; k < runs.size(); ++k) {
@@ -535,6 +543,16 @@ void interpolate_curve(const SimulationResult& result, const PreparedCurve& curv
   std::size_t cursor = 0;
   for (std::size_t i = 0; i < n; ++i)
     if (!bracket(cursor, end, curve.xs[i], X, Y, out[i])) out[i] = nearest(cursor, end, curve.xs[i], X, Y);
+}
+
+}  // namespace
+
+void interpolate_curve(const SimulationResult& result, const PreparedCurve& curve, double* out) {
+  interpolate_records(result, curve, out);
+}
+
+void interpolate_curve(const DualSimulationResult& result, const PreparedCurve& curve, Dual* out) {
+  interpolate_records(result, curve, out);
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -180,5 +180,9 @@ void place_records(TestProtocol& protocol, const std::vector<PreparedCurve>& cur
 
 /// The compared value of a simulated curve at each x (forward-moving search, see the .cpp).
 void interpolate_curve(const SimulationResult& result, const PreparedCurve& curve, double* out);
+/// The same on a simulation with derivatives: the segments are chosen on the values, the
+/// interpolated values carry the records' derivatives (and the x columns', where records do not
+/// fall on the measured x).
+void interpolate_curve(const DualSimulationResult& result, const PreparedCurve& curve, Dual* out);
 
 }  // namespace triaxcal::detail

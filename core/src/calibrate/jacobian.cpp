@@ -1,6 +1,10 @@
 #include "jacobian.hpp"
 
 #include <algorithm>
+#include <atomic>
+#include <cmath>
+
+#include "triaxcal/sensitivity.hpp"
 
 namespace triaxcal::detail {
 
@@ -69,6 +73,96 @@ int jacobian(const Prepared& p, const std::vector<double>& unit, const Eigen::Ve
     have[k] = false;
   }
   return jobs;
+}
+
+int exact_jacobian(const Prepared& p, const std::vector<double>& unit, const Eigen::VectorXd& d0,
+                   const std::vector<SubstepPlan>* plans, const JobRunner& run, Eigen::MatrixXd& J) {
+  const std::size_t n = p.free.size();
+  const ParameterValues values = p.values(unit);
+  std::unique_ptr<Model> model;
+  try {
+    model = p.problem->create(values);
+  } catch (const std::exception&) {
+    return -1;
+  }
+  const std::size_t np = values.size();
+  const int passes = static_cast<int>((n + kDualLanes - 1) / kDualLanes);
+  // Seeds of each pass: d(parameter i) / d(u_k) for the pass's free parameters k, one a lane.
+  std::vector<std::unique_ptr<DualModel>> duals(static_cast<std::size_t>(passes));
+  for (int pass = 0; pass < passes; ++pass) {
+    std::vector<double> seeds(np * kDualLanes, 0.0);
+    for (int lane = 0; lane < kDualLanes; ++lane) {
+      const std::size_t k = static_cast<std::size_t>(pass * kDualLanes + lane);
+      if (k >= n) break;
+      const auto free_index = static_cast<std::size_t>(p.free[k]);
+      seeds[free_index * kDualLanes + static_cast<std::size_t>(lane)] = p.slope(static_cast<int>(k), values[free_index]);
+      if (p.ties.empty()) continue;
+      std::vector<double> up = unit, down = unit;
+      up[k] = std::min(1.0, unit[k] + 1e-6);
+      down[k] = std::max(0.0, unit[k] - 1e-6);
+      const ParameterValues vu = p.values(up), vd = p.values(down);
+      for (const auto& [index, expression] : p.ties) {
+        (void)expression;
+        const auto i = static_cast<std::size_t>(index);
+        seeds[i * kDualLanes + static_cast<std::size_t>(lane)] = (vu[i] - vd[i]) / (up[k] - down[k]);
+      }
+    }
+    try {
+      duals[static_cast<std::size_t>(pass)] = model->with_derivatives(seeds);
+    } catch (const std::exception&) {
+      return -1;
+    }
+    if (duals[static_cast<std::size_t>(pass)] == nullptr) return -1;
+  }
+  // Row offset of each test's first compared point.
+  const std::size_t tests = p.tests.size();
+  std::vector<Eigen::Index> first(tests + 1, 0);
+  for (std::size_t t = 0; t < tests; ++t) first[t + 1] = first[t] + p.tests[t].points;
+  J.setZero(p.points, static_cast<Eigen::Index>(n));
+  std::atomic<bool> ok{true};
+  const int jobs = passes * static_cast<int>(tests);
+  run(jobs, [&](int job, Evaluator&) {
+    const int pass = job / static_cast<int>(tests);
+    const auto t = static_cast<std::size_t>(job % static_cast<int>(tests));
+    const PreparedTest& pt = p.tests[t];
+    thread_local DualSimulationResult result;
+    thread_local std::vector<Dual> simulated;
+    try {
+      simulate(p.problem->driver, *duals[static_cast<std::size_t>(pass)], pt.protocol, result, true,
+               plans != nullptr && !p.problem->driver.fixed_steps ? &(*plans)[t] : nullptr);
+    } catch (const std::exception&) {
+      ok = false;
+      return;
+    }
+    if (!result.ok()) {
+      ok = false;
+      return;
+    }
+    simulated.resize(static_cast<std::size_t>(pt.points));
+    Dual* out = simulated.data();
+    for (const PreparedCurve& c : pt.curves) {
+      interpolate_curve(result, c, out);
+      out += c.xs.size();
+    }
+    std::size_t i = 0;
+    for (const PreparedCurve& c : pt.curves)
+      for (std::size_t j = 0; j < c.xs.size(); ++j, ++i) {
+        const Eigen::Index row = first[t] + static_cast<Eigen::Index>(i);
+        // The dual run's value is the double run's residual plus the measured value (to rounding:
+        // the same substeps and decisions); anything else is a run that left the plan's path.
+        const double value = simulated[i].a - c.ys[j];
+        if (!std::isfinite(value) || std::abs(value - d0[row]) > 1e-9 * (std::abs(c.ys[j]) + c.range)) {
+          ok = false;
+          return;
+        }
+        for (int lane = 0; lane < kDualLanes; ++lane) {
+          const std::size_t k = static_cast<std::size_t>(pass * kDualLanes + lane);
+          if (k < n) J(row, static_cast<Eigen::Index>(k)) = simulated[i].v[lane];
+        }
+      }
+  });
+  if (!ok) return -1;
+  return passes;
 }
 
 }  // namespace triaxcal::detail

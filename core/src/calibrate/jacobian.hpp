@@ -31,4 +31,15 @@ int jacobian(const Prepared& p, const std::vector<double>& unit, const Eigen::Ve
              Differences scheme, const std::vector<SubstepPlan>* plans, const JobRunner& run, Eigen::MatrixXd& J,
              std::vector<bool>& have);
 
+/// J(i, k) = d d_i / d u_k exactly: the model's derivative version (Model::with_derivatives) runs
+/// every test on dual numbers along the substeps `plans` recorded at `unit` (driver.hpp), ceil(n /
+/// kDualLanes) passes of all tests, and the curves are interpolated with their derivatives. Tied
+/// parameters take the derivatives of their expressions by central differences of the expression
+/// (step 1e-6 of the unit box; the one part that is not exact). `d0` = the residuals at `unit`,
+/// against which the dual runs' values are checked. Returns the number of passes (each about
+/// 1 + kDualLanes simulations' work), or -1 where the model has no derivative version, a dual run
+/// failed or its values left d0 (the caller then takes finite differences).
+int exact_jacobian(const Prepared& p, const std::vector<double>& unit, const Eigen::VectorXd& d0,
+                   const std::vector<SubstepPlan>* plans, const JobRunner& run, Eigen::MatrixXd& J);
+
 }  // namespace triaxcal::detail

@@ -147,15 +147,25 @@ void uncertainty(const UncertaintyContext& run, const ParameterValues& best_valu
   const std::size_t n = p.free.size();
   const Eigen::Index N = p.points;
   // Sensitivities in unit coordinates: the least-squares stage's own Jacobian when it has one at
-  // the optimum, else central differences on the substeps of the run at the optimum (frozen: smooth
-  // in the parameters); then per physical unit: d/dtheta = d/du / (dtheta/du).
+  // the optimum, else the exact one on the substeps of the run at the optimum (the model's derivative
+  // version), or central differences on those frozen substeps (smooth in the parameters) where
+  // there is none; then per physical unit: d/dtheta = d/du / (dtheta/du).
   Eigen::MatrixXd jac;
   std::vector<bool> have(n, true);
   if (run.unit_jacobian != nullptr) {
     jac = *run.unit_jacobian;
   } else {
-    s.jacobian_evaluations += jacobian(p, run.best_unit, d0, run.options.jacobian_step, Differences::central,
-                                       &run.at_optimum.plans(), run.on_lanes, jac, have);
+    const int passes = run.options.sensitivities == Sensitivities::exact
+                           ? exact_jacobian(p, run.best_unit, d0, &run.at_optimum.plans(), run.on_lanes, jac)
+                           : -1;
+    if (passes >= 0) {
+      s.jacobian_evaluations += passes;
+      ++s.exact_jacobians;
+    } else {
+      s.jacobian_evaluations += jacobian(p, run.best_unit, d0, run.options.jacobian_step, Differences::central,
+                                         &run.at_optimum.plans(), run.on_lanes, jac, have);
+      ++s.difference_jacobians;
+    }
   }
   for (std::size_t k = 0; k < n; ++k) {
     const int free_index = static_cast<int>(k);
