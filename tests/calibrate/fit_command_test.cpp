@@ -139,7 +139,7 @@ TEST_CASE("bad calibration files exit 2 with exact messages and write nothing", 
     CHECK(error_of(f) == "triaxcal: error: " + f + ": options.globl: unknown key 'globl' (expected one of: global, "
                                                    "global_evaluations, global_runs, local, local_evaluations, starts, design_points, "
                                                    "relative_tolerance, x_tolerance, max_seconds, seed, threads, loss, "
-                                                   "loss_scale, failure_penalty, uncertainty, jacobian_step, correlation_warning, "
+                                                   "loss_scale, sensitivities, failure_penalty, uncertainty, jacobian_step, correlation_warning, "
                                                    "min_r_squared, stress_precision, strain_precision, noise_from_residuals, "
                                                    "same_optimum_tolerance)\n");
   }
