@@ -7,7 +7,8 @@
 // the wrong number of seeds; and the derivatives along a whole undrained path by fixed increments,
 // against central differences of the same double path and against the derivative of the
 // closed-form undrained p'-q relation (Wood 1990, ch. 7; models/modified_cam_clay/closed_form.hpp),
-// which every step end of the discrete path satisfies whatever the parameters.
+// which every step end of the discrete path satisfies whatever the parameters; and along a chain of
+// volume-changing, Lode-dependent increments from initialise, against central differences of the chain.
 //
 // Material constants are invented round numbers (lambda = 0.2, kappa = 0.04, M = 0.9, nu' = 0.25,
 // e0 = 1.1), not from any real soil. Set TRIAXCAL_PRINT_DERIVATIVE_ERRORS=1 to print the largest
@@ -616,4 +617,63 @@ TEST_CASE("MCC derivatives along an undrained path: central differences of the p
     std::printf("undrained path (OCR %.1f, %d steps): largest difference %.2e against central differences of the path, "
                 "%.2e against the closed-form relation, %.2e against d q_cs at %.0f %% axial strain\n",
                 kPathOcr, kPathSteps, worst_path, worst_closed, worst_end, 100.0 * kPathStrain);
+}
+
+TEST_CASE("MCC derivatives along a chain of volume-changing increments: central differences of the chain") {
+  // 100 strain-controlled increments that compress and shear (e, p'_c and the warm start change
+  // each step), from a K0-like normally consolidated state with p'_c on the surface through it
+  // (initialise's derivative through M enters), Lode dependence on and the radial strains unequal:
+  // the derivatives of the end state in lambda, kappa, M and nu' against central differences of
+  // the same chain of double increments.
+  ParameterValues v = base_values();
+  v[P::lode_dependence] = 1.0;
+  InitialConditions c;
+  c.stress = vec(150.0, 90.0, 80.0);
+  c.void_ratio = 1.2;
+  const Vec6 de = vec(1e-3, -1e-4, -2e-4, 5e-5);
+  constexpr int kSteps = 100;
+  const int lanes[kDualLanes] = {P::lambda, P::kappa, P::critical_state_ratio, P::poissons_ratio};
+  std::vector<double> seeds(static_cast<std::size_t>(kParameters * kDualLanes), 0.0);
+  for (int k = 0; k < kDualLanes; ++k) seeds[static_cast<std::size_t>(lanes[k] * kDualLanes + k)] = 1.0;
+  const auto dual = create(v)->with_derivatives(seeds);
+  DualState s, next;
+  dual->initialise(c, s);
+  DualVec6 dde;
+  for (int i = 0; i < 6; ++i) dde[i] = Dual(de[i]);
+  Mat6 tangent;
+  for (int step = 0; step < kSteps; ++step) {
+    REQUIRE(dual->integrate(s, dde, next, tangent).status == Status::ok);
+    s = next;
+  }
+  const auto chain = [&](const ParameterValues& w) {
+    const auto model = create(w);
+    MaterialState m, n;
+    model->initialise(c, m);
+    Mat6 t;
+    for (int step = 0; step < kSteps; ++step) {
+      REQUIRE(model->integrate(m, de, n, t).status == Status::ok);
+      m = n;
+    }
+    return outputs_of(m);
+  };
+  const Outputs end = chain(v);
+  REQUIRE(end[6] > 1.5 * 150.0);  // p'_c grew: the chain hardened
+  double worst = 0.0;
+  for (int k = 0; k < kDualLanes; ++k) {
+    const std::size_t i = static_cast<std::size_t>(lanes[k]);
+    const double h = kRelativeStep * v[i];
+    ParameterValues vp = v, vm = v;
+    vp[i] += h;
+    vm[i] -= h;
+    const Outputs numeric = (chain(vp) - chain(vm)) / (2.0 * h);
+    for (int o = 0; o < 6 + 2; ++o) {  // stress, p'_c, e
+      const double exact = dual_output(s, o, k);
+      const double difference = std::abs(exact - numeric[o]) * v[i] / output_scale(end, o);
+      INFO("d " << output_name(o) << " / d " << input_name(lanes[k]) << ": dual " << exact << ", central differences "
+                << numeric[o]);
+      CHECK(difference <= kDerivativeTolerance);
+      worst = std::max(worst, difference);
+    }
+  }
+  if (report()) std::printf("chain of %d volume-changing increments: largest difference %.2e\n", kSteps, worst);
 }
