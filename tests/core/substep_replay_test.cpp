@@ -5,8 +5,10 @@
 // through phase transformation): the replayed central differences against central
 // differences of a fine fixed-step run (4000 increments a stage, the same step), which is smooth in
 // the parameters; and a replay at the same parameters reproduces the recorded run bit for bit.
-// These are finite differences on a frozen sequence, not exact derivatives (common practice, no
-// source). Material constants are invented round numbers, not from any real soil.
+// These are finite differences on a frozen sequence (common practice, no source). The exact
+// derivatives of every model's derivative version (issue 14) are checked in the same cases: against
+// the replayed central differences, and against central differences of runs at the same fixed step
+// count. Material constants are invented round numbers, not from any real soil.
 #include <catch2/catch.hpp>
 
 #include <algorithm>
@@ -68,6 +70,26 @@ std::vector<double> columns(const SimulationResult& r, std::size_t every) {
   return y;
 }
 
+// Seeds of the derivative version: parameter `name` on lane 0.
+std::vector<double> seed_of(const Model& m, const std::string& name) {
+  const auto& ps = m.info().parameters;
+  std::vector<double> seeds(ps.size() * kDualLanes, 0.0);
+  for (std::size_t i = 0; i < ps.size(); ++i)
+    if (ps[i].name == name) seeds[i * kDualLanes] = 1.0;
+  return seeds;
+}
+
+// Lane 0 of the compared columns of a simulation with derivatives (as `columns`, every record).
+std::vector<double> lane0(const DualSimulationResult& r) {
+  std::vector<double> y;
+  for (std::size_t j = 1; j < r.steps.size(); ++j) {
+    y.push_back(r.steps[j].q.v[0]);
+    y.push_back(1e4 * r.steps[j].volumetric_strain.v[0]);
+    y.push_back(r.steps[j].excess_pore_pressure.v[0]);
+  }
+  return y;
+}
+
 struct Case {
   const char* what;
   const char* model;
@@ -124,6 +146,35 @@ void compare(const Case& c) {
     // default tolerance; the fine fixed-step run by about as much): their sensitivities agree
     // within 2 % of the column's largest entry.
     CHECK(worst <= 0.02 * scale);
+
+    // Exact derivatives (the model's derivative version, issue 14): on the same plan they are the
+    // limit of the replayed central differences (which differ by O(h^2) and rounding), and with
+    // fixed steps the limit of central differences of fixed-step runs of the same step count.
+    const std::vector<double> seeds = seed_of(*model, name);
+    const std::unique_ptr<DualModel> dual = model->with_derivatives(seeds);
+    REQUIRE(dual != nullptr);
+    DualSimulationResult exact, exact_fixed;
+    simulate(adaptive, *dual, c.protocol, exact, false, &plan);
+    REQUIRE(exact.ok());
+    const std::vector<double> e = lane0(exact);
+    REQUIRE(e.size() == a.size());
+    double exact_worst = 0.0;
+    for (std::size_t i = 0; i < a.size(); ++i) exact_worst = std::max(exact_worst, std::abs(e[i] - (a[i] - b[i]) / (2.0 * h)));
+    INFO("exact against replayed central differences: largest difference " << exact_worst);
+    CHECK(exact_worst <= 1e-5 * scale);
+    simulate(fixed, *dual, c.protocol, exact_fixed, false, nullptr);
+    SimulationResult cu, cd;
+    simulate(fixed, *mu, c.protocol, cu, false, nullptr, nullptr);
+    simulate(fixed, *md, c.protocol, cd, false, nullptr, nullptr);
+    REQUIRE(exact_fixed.ok());
+    REQUIRE(cu.ok());
+    REQUIRE(cd.ok());
+    const std::vector<double> ef = lane0(exact_fixed), ca = columns(cu, 1), cb = columns(cd, 1);
+    REQUIRE(ef.size() == ca.size());
+    double fixed_worst = 0.0;
+    for (std::size_t i = 0; i < ca.size(); ++i) fixed_worst = std::max(fixed_worst, std::abs(ef[i] - (ca[i] - cb[i]) / (2.0 * h)));
+    INFO("exact against central differences at the same fixed steps: largest difference " << fixed_worst);
+    CHECK(fixed_worst <= 1e-5 * scale);
   }
 }
 
