@@ -89,6 +89,9 @@ TEST_CASE("fit of the demo series writes a parameter set that triaxcal simulate 
   CHECK(fit["failed_starts"].get<int>() == 0);
   CHECK(fit["work_limited_simulations"].get<long>() == 0);
   CHECK(fit["jacobian_evaluations"].get<long>() > 0);
+  // Mohr-Coulomb has a derivative version: every Jacobian exact.
+  CHECK(fit["exact_jacobians"].get<long>() > 0);
+  CHECK(fit["difference_jacobians"].get<long>() == 0);
   const auto html = slurp("fit_ok_out/fit_ok.report.html");
   CHECK(html.find("<div class=\"outcome outcome-converged\" id=\"outcome\" data-outcome=\"converged\">") !=
         std::string::npos);

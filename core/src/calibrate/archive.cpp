@@ -145,6 +145,8 @@ void write_contents(const Writer& w, hid_t file, const CalibrationSummary& s, co
   w.attribute(summary, "evaluations", s.evaluations);
   w.attribute(summary, "failed_simulations", s.failed_simulations);
   w.attribute(summary, "jacobian_evaluations", s.jacobian_evaluations);
+  w.attribute(summary, "exact_jacobians", s.exact_jacobians);
+  w.attribute(summary, "difference_jacobians", s.difference_jacobians);
   w.attribute(summary, "work_limited_simulations", s.work_limited_simulations);
   w.attribute(summary, "local_runs", static_cast<long>(s.local_runs));
   w.attribute(summary, "local_runs_at_best", static_cast<long>(s.starts_at_best));

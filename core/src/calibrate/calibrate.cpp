@@ -518,9 +518,9 @@ std::string options_text(const CalibrationOptions& o) {
     << "\ndesign_points = " << o.design_points << "\nrelative_tolerance = " << format_number(o.relative_tolerance)
     << "\nx_tolerance = " << format_number(o.x_tolerance) << "\nmax_seconds = " << format_number(o.max_seconds)
     << "\nseed = " << o.seed << "\nthreads = " << o.threads << "\nloss = " << to_string(o.loss)
-    << "\nsensitivities = " << to_string(o.sensitivities)
     << "\nloss_scale = " << format_number(o.loss_scale) << "\nfailure_penalty = " << format_number(o.failure_penalty)
-    << "\nuncertainty = " << (o.uncertainty ? "true" : "false") << "\njacobian_step = " << format_number(o.jacobian_step)
+    << "\nuncertainty = " << (o.uncertainty ? "true" : "false") << "\nsensitivities = " << to_string(o.sensitivities)
+    << "\njacobian_step = " << format_number(o.jacobian_step)
     << "\nmax_substeps_per_record = " << o.max_substeps_per_record
     << "\nsame_optimum_tolerance = " << format_number(o.same_optimum_tolerance)
     << "\ncorrelation_warning = " << format_number(o.correlation_warning)

@@ -124,6 +124,8 @@ std::string format_parameter_set(const CalibrationSummary& s, const ModelInfo& m
   fit["failed_simulations"] = s.failed_simulations;
   fit["work_limited_simulations"] = s.work_limited_simulations;
   fit["jacobian_evaluations"] = s.jacobian_evaluations;
+  fit["exact_jacobians"] = s.exact_jacobians;
+  fit["difference_jacobians"] = s.difference_jacobians;
   fit["local_runs"] = s.local_runs;
   fit["local_runs_at_best"] = s.starts_at_best;
   fit["failed_starts"] = s.failed_starts;

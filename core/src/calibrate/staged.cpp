@@ -98,6 +98,7 @@ CalibrationSummary calibrate_staged(const CalibrationOptions& options, const Cal
   std::vector<FitStageSummary> done(stages.size());
   std::vector<HistoryEntry> history;
   long evaluations = 0, design = 0, global = 0, local = 0, jacobian = 0, failed_simulations = 0, work_limited = 0;
+  long exact_jacobians = 0, difference_jacobians = 0;
   int failed_starts = 0;
   double start_objective = std::numeric_limits<double>::infinity();
   int broken = -1;  // the stage that failed or was stopped; later ones are not run
@@ -153,6 +154,8 @@ CalibrationSummary calibrate_staged(const CalibrationOptions& options, const Cal
     global += r.global_evaluations;
     local += r.local_evaluations;
     jacobian += r.jacobian_evaluations;
+    exact_jacobians += r.exact_jacobians;
+    difference_jacobians += r.difference_jacobians;
     failed_simulations += r.failed_simulations;
     work_limited += r.work_limited_simulations;
     failed_starts += r.failed_starts;
@@ -185,6 +188,8 @@ CalibrationSummary calibrate_staged(const CalibrationOptions& options, const Cal
   whole.global_evaluations = global;
   whole.local_evaluations = local;
   whole.jacobian_evaluations += jacobian;
+  whole.exact_jacobians += exact_jacobians;
+  whole.difference_jacobians += difference_jacobians;
   whole.failed_simulations += failed_simulations;
   whole.work_limited_simulations += work_limited;
   whole.failed_starts += failed_starts;

@@ -134,6 +134,11 @@ std::string CalibrationSummary::full() const {
   if (work_limited_simulations > 0)
     s << " (" << work_limited_simulations << " ended by the work limit, max_substeps_per_record)";
   s << "\n";
+  if (exact_jacobians + difference_jacobians > 0) {
+    s << "  Jacobians: " << exact_jacobians << " exact (the model's derivative version along the substeps)";
+    if (difference_jacobians > 0) s << ", " << difference_jacobians << " by finite differences on frozen substeps";
+    s << "\n";
+  }
   if (local_runs > 1)
     s << "  local runs reaching the best objective: " << starts_at_best << " of " << local_runs << starts_text(failed_starts, local_runs)
       << "\n";
