@@ -148,10 +148,12 @@ int exact_jacobian(const Prepared& p, const std::vector<double>& unit, const Eig
     for (const PreparedCurve& c : pt.curves)
       for (std::size_t j = 0; j < c.xs.size(); ++j, ++i) {
         const Eigen::Index row = first[t] + static_cast<Eigen::Index>(i);
-        // The dual run's value is the double run's residual plus the measured value (to rounding:
-        // the same substeps and decisions); anything else is a run that left the plan's path.
+        // The dual run's value is the double run's residual plus the measured value, to rounding
+        // (the same substeps and decisions; the operations' order differs in places, and a path
+        // through liquefaction amplifies that to about 1e-8 of the range, seen on the Gannet Reach
+        // sand tests); more than 1e-6 of the range is a run that left the plan's path.
         const double value = simulated[i].a - c.ys[j];
-        if (!std::isfinite(value) || std::abs(value - d0[row]) > 1e-9 * (std::abs(c.ys[j]) + c.range)) {
+        if (!std::isfinite(value) || std::abs(value - d0[row]) > 1e-6 * (std::abs(c.ys[j]) + c.range)) {
           ok = false;
           return;
         }
