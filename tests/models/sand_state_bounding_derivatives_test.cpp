@@ -208,22 +208,7 @@ TEST_CASE("sand derivative version: a wrong number of seeds is an error naming b
 
 TEST_CASE("sand derivative version: integrate allocates nothing") {
   const auto m = sand();
-  const std::vector<double> seeds(m->info().parameters.size() * kDualLanes, 1.0);
-  const auto dual = m->with_derivatives(seeds);
-  const std::vector<test::DerivativeCase> cases = {sand_case(centred(0.83), vec(2e-4, -1e-4, -1.2e-4, 3e-5, -2e-5, 1e-5)),
-                                                    sand_case(state_of(run(0.93, Drainage::undrained, 0.005, 5).steps.back()), vec(2e-4, -1e-4, -1e-4))};
-  std::vector<DualState> in;
-  std::vector<DualVec6> de;
-  for (const auto& c : cases) {
-    in.push_back(test::dual_of(c.in));
-    de.push_back(test::dual_of(c.de));
-  }
-  DualState out;
-  Mat6 t;
-  const long before = test::g_allocations.load();
-  int ok = 0;
-  for (int i = 0; i < 100; ++i)
-    for (std::size_t k = 0; k < cases.size(); ++k) ok += dual->integrate(in[k], de[k], out, t).status == Status::ok;
-  CHECK(ok == 100 * static_cast<int>(cases.size()));
-  if (test::kCountingAllocations) CHECK(test::g_allocations.load() == before);
+  test::check_dual_integrate_allocates_nothing(*m, {sand_case(centred(0.83), vec(2e-4, -1e-4, -1.2e-4, 3e-5, -2e-5, 1e-5)),
+                                                    sand_case(state_of(run(0.93, Drainage::undrained, 0.005, 5).steps.back()), vec(2e-4, -1e-4, -1e-4))},
+                                               test::g_allocations, test::kCountingAllocations);
 }

@@ -210,4 +210,50 @@ inline void print_errors(const char* what, const DerivativeErrors& e, double val
               e.strain);
 }
 
+/// The number of active surfaces the double integrate of `c` reports in internal variable `index`
+/// (Mohr-Coulomb and Tresca keep it in internal[1]).
+inline int active_surfaces(const DerivativeCase& c, int index = 1) {
+  const auto m = create_model(c.model, c.parameters);
+  MaterialState out;
+  Mat6 t;
+  REQUIRE(m->integrate(c.in, c.de, out, t).status == Status::ok);
+  return static_cast<int>(out.internal[static_cast<std::size_t>(index)]);
+}
+
+/// The case returns on `active` surfaces, its values equal the double integrate's and its
+/// derivatives central differences (relative 1e-6).
+inline void check_case(const char* what, const DerivativeCase& c, int active) {
+  CHECK(active_surfaces(c) == active);
+  const double values = value_difference(c);
+  CHECK(values < 1e-12);
+  const DerivativeErrors e = derivative_errors(c);
+  CHECK(e.worst() < 1e-6);
+  print_errors(what, e, values);
+}
+
+/// The derivative version of `m` (every seed 1) integrates each case 100 times, every time with
+/// status ok, and allocates nothing (where `counting` says the test counts allocations; `allocations`
+/// reads the counter of tests/support/allocation_counter.hpp).
+template <class Counter>
+void check_dual_integrate_allocates_nothing(const Model& m, const std::vector<DerivativeCase>& cases,
+                                            const Counter& allocations, bool counting) {
+  const std::vector<double> seeds(m.info().parameters.size() * kDualLanes, 1.0);
+  const auto dual = m.with_derivatives(seeds);
+  REQUIRE(dual != nullptr);
+  std::vector<DualState> in;
+  std::vector<DualVec6> de;
+  for (const auto& c : cases) {
+    in.push_back(dual_of(c.in));
+    de.push_back(dual_of(c.de));
+  }
+  DualState out;
+  Mat6 t;
+  const long before = allocations.load();
+  int ok = 0;
+  for (int i = 0; i < 100; ++i)
+    for (std::size_t k = 0; k < cases.size(); ++k) ok += dual->integrate(in[k], de[k], out, t).status == Status::ok;
+  CHECK(ok == 100 * static_cast<int>(cases.size()));
+  if (counting) CHECK(allocations.load() == before);
+}
+
 }  // namespace triaxcal::test

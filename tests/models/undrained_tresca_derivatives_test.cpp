@@ -27,22 +27,7 @@ test::DerivativeCase tresca_case(const Vec6& stress, const Vec6& de) {
   return c;
 }
 
-int active_surfaces(const test::DerivativeCase& c) {
-  const auto m = test::create_model(c.model, c.parameters);
-  MaterialState out;
-  Mat6 t;
-  REQUIRE(m->integrate(c.in, c.de, out, t).status == Status::ok);
-  return static_cast<int>(out.internal[1]);
-}
-
-void check(const char* what, const test::DerivativeCase& c, int active) {
-  CHECK(active_surfaces(c) == active);
-  const double values = test::value_difference(c);
-  CHECK(values < 1e-12);
-  const test::DerivativeErrors e = test::derivative_errors(c);
-  CHECK(e.worst() < 1e-6);
-  test::print_errors(what, e, values);
-}
+void check(const char* what, const test::DerivativeCase& c, int active) { test::check_case(what, c, active); }
 
 }  // namespace
 
@@ -90,23 +75,8 @@ TEST_CASE("undrained Tresca derivative version: a wrong number of seeds is an er
 
 TEST_CASE("undrained Tresca derivative version: integrate allocates nothing") {
   const auto m = test::create_model("undrained_tresca", {40.0, 30000.0, 0.495});
-  const std::vector<double> seeds(m->info().parameters.size() * kDualLanes, 1.0);
-  const auto dual = m->with_derivatives(seeds);
-  const std::vector<test::DerivativeCase> cases = {tresca_case(vec(150, 110, 80), vec(2e-3, 0, -1.5e-3)),
+  test::check_dual_integrate_allocates_nothing(*m, {tresca_case(vec(150, 110, 80), vec(2e-3, 0, -1.5e-3)),
                                                     tresca_case(triaxial_stress(160, 100), vec(2e-3, -1e-3, -1e-3)),
-                                                    tresca_case(vec(140, 100, 90, 20, -10, 15), vec(1.5e-3, -4e-4, -6e-4, 1e-3, 5e-4, -8e-4))};
-  std::vector<DualState> in;
-  std::vector<DualVec6> de;
-  for (const auto& c : cases) {
-    in.push_back(test::dual_of(c.in));
-    de.push_back(test::dual_of(c.de));
-  }
-  DualState out;
-  Mat6 t;
-  const long before = test::g_allocations.load();
-  int ok = 0;
-  for (int i = 0; i < 100; ++i)
-    for (std::size_t k = 0; k < cases.size(); ++k) ok += dual->integrate(in[k], de[k], out, t).status == Status::ok;
-  CHECK(ok == 100 * static_cast<int>(cases.size()));
-  if (test::kCountingAllocations) CHECK(test::g_allocations.load() == before);
+                                                    tresca_case(vec(140, 100, 90, 20, -10, 15), vec(1.5e-3, -4e-4, -6e-4, 1e-3, 5e-4, -8e-4))},
+                                               test::g_allocations, test::kCountingAllocations);
 }
