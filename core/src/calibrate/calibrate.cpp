@@ -465,18 +465,11 @@ detail::LocalResult solve_least_squares(Run& run, Lane& lane, std::vector<double
   };
   calls.jacobian = [&](const std::vector<double>& u, const Eigen::VectorXd& d, Eigen::MatrixXd& J) {
     std::vector<bool> have;
-    const int passes = o.sensitivities == Sensitivities::exact
-                           ? detail::exact_jacobian(run.prepared, u, d, &lane.evaluator.plans(), jobs, J)
-                           : -1;
-    if (passes >= 0) {
-      lane.jacobian += passes;
-      ++lane.exact_jacobians;
-      have.assign(u.size(), true);
-    } else {
-      lane.jacobian += detail::jacobian(run.prepared, u, d, o.jacobian_step, detail::Differences::forward,
-                                        &lane.evaluator.plans(), jobs, J, have);
-      ++lane.difference_jacobians;
-    }
+    const detail::JacobianTaken taken =
+        detail::take_jacobian(run.prepared, o.sensitivities, u, d, o.jacobian_step, detail::Differences::forward,
+                              &lane.evaluator.plans(), jobs, J, have);
+    lane.jacobian += taken.simulations;
+    ++(taken.exact ? lane.exact_jacobians : lane.difference_jacobians);
     lane.jac = J;
     lane.jac_at = u;
     lane.jac_complete = std::all_of(have.begin(), have.end(), [](bool b) { return b; });

@@ -167,4 +167,16 @@ int exact_jacobian(const Prepared& p, const std::vector<double>& unit, const Eig
   return passes;
 }
 
+JacobianTaken take_jacobian(const Prepared& p, Sensitivities sensitivities, const std::vector<double>& unit,
+                            const Eigen::VectorXd& d0, double h, Differences scheme,
+                            const std::vector<SubstepPlan>* plans, const JobRunner& run, Eigen::MatrixXd& J,
+                            std::vector<bool>& have) {
+  const int passes = sensitivities == Sensitivities::exact ? exact_jacobian(p, unit, d0, plans, run, J) : -1;
+  if (passes >= 0) {
+    have.assign(p.free.size(), true);
+    return {passes, true};
+  }
+  return {jacobian(p, unit, d0, h, scheme, plans, run, J, have), false};
+}
+
 }  // namespace triaxcal::detail

@@ -42,4 +42,18 @@ int jacobian(const Prepared& p, const std::vector<double>& unit, const Eigen::Ve
 int exact_jacobian(const Prepared& p, const std::vector<double>& unit, const Eigen::VectorXd& d0,
                    const std::vector<SubstepPlan>* plans, const JobRunner& run, Eigen::MatrixXd& J);
 
+/// What take_jacobian did: the simulations it made (a dual pass counts as one) and whether the
+/// Jacobian is exact.
+struct JacobianTaken {
+  int simulations = 0;
+  bool exact = false;
+};
+
+/// The Jacobian as `sensitivities` asks: exact_jacobian where it can be taken, else jacobian()
+/// (finite differences of `scheme`, step h, on the same plans); `have` all true for an exact one.
+JacobianTaken take_jacobian(const Prepared& p, Sensitivities sensitivities, const std::vector<double>& unit,
+                            const Eigen::VectorXd& d0, double h, Differences scheme,
+                            const std::vector<SubstepPlan>* plans, const JobRunner& run, Eigen::MatrixXd& J,
+                            std::vector<bool>& have);
+
 }  // namespace triaxcal::detail

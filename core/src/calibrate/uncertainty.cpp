@@ -155,17 +155,11 @@ void uncertainty(const UncertaintyContext& run, const ParameterValues& best_valu
   if (run.unit_jacobian != nullptr) {
     jac = *run.unit_jacobian;
   } else {
-    const int passes = run.options.sensitivities == Sensitivities::exact
-                           ? exact_jacobian(p, run.best_unit, d0, &run.at_optimum.plans(), run.on_lanes, jac)
-                           : -1;
-    if (passes >= 0) {
-      s.jacobian_evaluations += passes;
-      ++s.exact_jacobians;
-    } else {
-      s.jacobian_evaluations += jacobian(p, run.best_unit, d0, run.options.jacobian_step, Differences::central,
-                                         &run.at_optimum.plans(), run.on_lanes, jac, have);
-      ++s.difference_jacobians;
-    }
+    const JacobianTaken taken =
+        take_jacobian(p, run.options.sensitivities, run.best_unit, d0, run.options.jacobian_step, Differences::central,
+                      &run.at_optimum.plans(), run.on_lanes, jac, have);
+    s.jacobian_evaluations += taken.simulations;
+    ++(taken.exact ? s.exact_jacobians : s.difference_jacobians);
   }
   for (std::size_t k = 0; k < n; ++k) {
     const int free_index = static_cast<int>(k);
