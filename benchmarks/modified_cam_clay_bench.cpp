@@ -16,6 +16,7 @@
 #include <vector>
 
 #include "modified_cam_clay/closed_form.hpp"
+#include "dual_increment.hpp"
 #include "protocols.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/models/registry.hpp"
@@ -117,23 +118,13 @@ void BM_ModifiedCamClayIntegrate(benchmark::State& state) {
 // BM_ModifiedCamClayIntegrate.
 void BM_ModifiedCamClayIntegrateDual(benchmark::State& state) {
   const auto m = model();
-  std::vector<double> seeds(m->info().parameters.size() * kDualLanes, 0.0);
-  for (std::size_t k = 0; k < 4; ++k) seeds[(k == 3 ? 4 : k) * kDualLanes + k] = 1.0;
-  const auto dual = m->with_derivatives(seeds);
+  const auto dual = m->with_derivatives(bench::lane_seeds(*m, {0, 1, 2, 4}));
   DualState in;
   InitialConditions c;
   c.stress = triaxial_stress(kP0, kP0);
   c.void_ratio = 1.1;
   dual->initialise(c, in);
-  DualVec6 de;
-  const double d[6] = {2e-4, -1e-4, -1e-4, 0, 0, 0};
-  for (int i = 0; i < 6; ++i) de[i] = Dual(d[i]);
-  DualState out;
-  Mat6 tangent;
-  for (auto _ : state) {
-    benchmark::DoNotOptimize(dual->integrate(in, de, out, tangent));
-    benchmark::DoNotOptimize(tangent.data());
-  }
+  bench::time_dual_increment(state, *dual, in, test::vec(2e-4, -1e-4, -1e-4));
 }
 
 }  // namespace

@@ -7,6 +7,7 @@
 #include <cmath>
 #include <vector>
 
+#include "dual_increment.hpp"
 #include "protocols.hpp"
 #include "triaxcal/driver.hpp"
 #include "triaxcal/models/registry.hpp"
@@ -96,22 +97,9 @@ void BM_MohrCoulombIncrement(benchmark::State& state) {
 
 void BM_MohrCoulombDualIncrement(benchmark::State& state) {
   const auto m = model(kPsi);
-  std::vector<double> seeds(m->info().parameters.size() * kDualLanes, 0.0);
-  for (int k = 0; k < kDualLanes; ++k) seeds[static_cast<std::size_t>(k) * kDualLanes + k] = 1.0;
-  const auto dual = m->with_derivatives(seeds);
+  const auto dual = m->with_derivatives(bench::lane_seeds(*m, {0, 1, 2, 3}));
   const Increment c = increment(static_cast<int>(state.range(0)));
-  DualState in;
-  DualVec6 de;
-  for (int i = 0; i < 6; ++i) {
-    in.stress[i] = Dual(c.in.stress[i]);
-    de[i] = Dual(c.de[i]);
-  }
-  DualState out;
-  Mat6 t;
-  for (auto _ : state) {
-    benchmark::DoNotOptimize(dual->integrate(in, de, out, t));
-    benchmark::ClobberMemory();
-  }
+  bench::time_dual_increment(state, *dual, bench::dual_state(c.in), c.de);
 }
 
 }  // namespace

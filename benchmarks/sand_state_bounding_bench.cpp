@@ -15,6 +15,7 @@
 #include <string>
 #include <vector>
 
+#include "dual_increment.hpp"
 #include "protocols.hpp"
 #include "sand_state_bounding/sand_state_bounding.hpp"
 #include "triaxcal/driver.hpp"
@@ -106,22 +107,11 @@ void BM_SandDualIntegrate(benchmark::State& state) {
   TestProtocol p = test::isotropic_shear(100.0, Drainage::undrained, 0.005, 5);
   p.initial.void_ratio = 0.83;
   const auto r = simulate(fixed, *m, p);
-  std::vector<double> seeds(m->info().parameters.size() * kDualLanes, 0.0);
-  for (int k = 0; k < kDualLanes; ++k) seeds[static_cast<std::size_t>(k) * kDualLanes + k] = 1.0;
-  const auto dual = m->with_derivatives(seeds);
-  DualState in;
-  const Vec6 stress = triaxial_stress(r.steps.back().axial_stress, r.steps.back().radial_stress);
-  for (int i = 0; i < 6; ++i) in.stress[i] = Dual(stress[i]);
-  for (std::size_t j = 0; j < in.internal.size(); ++j) in.internal[j] = Dual(r.steps.back().state[j]);
-  DualVec6 de;
-  const double values[6] = {2e-4, -1e-4, -1e-4, 0, 0, 0};
-  for (int i = 0; i < 6; ++i) de[i] = Dual(values[i]);
-  DualState out;
-  Mat6 tangent;
-  for (auto _ : state) {
-    benchmark::DoNotOptimize(dual->integrate(in, de, out, tangent));
-    benchmark::DoNotOptimize(tangent.data());
-  }
+  const auto dual = m->with_derivatives(bench::lane_seeds(*m, {0, 1, 2, 3}));
+  MaterialState in;
+  in.stress = triaxial_stress(r.steps.back().axial_stress, r.steps.back().radial_stress);
+  in.internal = r.steps.back().state;
+  bench::time_dual_increment(state, *dual, bench::dual_state(in), test::vec(2e-4, -1e-4, -1e-4));
 }
 
 }  // namespace
